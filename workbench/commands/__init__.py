@@ -1,0 +1,1 @@
+"""Command groups of the ``workbench`` command line, one module each."""
