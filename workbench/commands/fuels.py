@@ -1,0 +1,156 @@
+"""``workbench fuels``: the library, fuel sheets, blends and side-by-side comparison."""
+
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import tempfile
+from pathlib import Path
+
+from workbench.errors import InputError
+from workbench.fuels import BASES, blend, list_fuels, load_fuel
+from workbench.sheets import SHEET_FIELDS, format_table, fuel_record
+
+
+def register(sub: argparse._SubParsersAction) -> None:
+    """Add the ``fuels`` command group to the top-level parser."""
+    group = sub.add_parser("fuels", help="fuel library, sheets, blends and comparisons")
+    fsub = group.add_subparsers(dest="fuels_command", required=True,
+                                parser_class=type(group))
+
+    p = fsub.add_parser("list", help="list the fuels in the library")
+    p.add_argument("--json", action="store_true", help="print JSON")
+    p.set_defaults(func=_list)
+
+    p = fsub.add_parser("show", help="the property sheet of one fuel")
+    p.add_argument("fuel", help="library id or path to a fuel .toml file")
+    _flame_options(p)
+    p.set_defaults(func=_show)
+
+    p = fsub.add_parser("compare", help="the sheets of several fuels side by side")
+    p.add_argument("fuels", nargs="+", metavar="FUEL", help="library ids or .toml paths")
+    _flame_options(p)
+    p.set_defaults(func=_compare)
+
+    p = fsub.add_parser("blend", help="the sheet of a blend; optionally write it as a fuel file")
+    p.add_argument("parts", nargs="+", metavar="FUEL=FRACTION",
+                   help="parts of the blend, e.g. propane=0.6 n-butane=0.4")
+    p.add_argument("--basis", choices=[b.replace("_", "-") for b in BASES], default="mole",
+                   help="what the fractions measure (default: mole)")
+    p.add_argument("--id", dest="blend_id", help="id of the blend (the file stem when written)")
+    p.add_argument("--name", help="name of the blend")
+    p.add_argument("--write", metavar="PATH", help="write the blend as a fuel .toml file")
+    _flame_options(p)
+    p.set_defaults(func=_blend)
+
+
+def _flame_options(p: argparse.ArgumentParser) -> None:
+    p.add_argument("--phi", type=float, default=1.0,
+                   help="fuel-air equivalence ratio of the flame (default 1)")
+    p.add_argument("--t-unburnt", type=float, default=25.0, metavar="C",
+                   help="unburnt mixture temperature in °C (default 25)")
+    p.add_argument("--pressure", type=float, default=1.01325, metavar="BAR",
+                   help="flame pressure in bar absolute (default 1.01325)")
+    p.add_argument("--air", choices=["21/79", "dry"], default="21/79",
+                   help="air model: 21/79 O2/N2 (default) or standard dry air")
+    p.add_argument("--json", action="store_true", help="print JSON")
+
+
+def _records(fuels: list, args: argparse.Namespace) -> list[dict]:
+    if args.pressure <= 0:
+        raise InputError("--pressure", f"must be above zero bar, got {args.pressure:g}")
+    return [
+        fuel_record(f, phi=args.phi, t_unburnt=args.t_unburnt + 273.15,
+                    p=args.pressure * 1e5, air=args.air)
+        for f in fuels
+    ]
+
+
+def _emit(records: list[dict], args: argparse.Namespace, *, many: bool) -> None:
+    from workbench.cli import print_json
+
+    if args.json:
+        print_json(records if many else records[0])
+    else:
+        print(format_table(records, SHEET_FIELDS))
+
+
+def _list(args: argparse.Namespace) -> None:
+    from workbench.cli import print_json
+
+    rows = []
+    for fid in list_fuels():
+        fuel = load_fuel(fid)
+        rows.append({"id": fid, "name": fuel.name, "state": "gas" if fuel.is_gas else "liquid",
+                     "storage": fuel.storage.kind if fuel.storage else None})
+    if args.json:
+        print_json(rows)
+        return
+    w = max(len(r["id"]) for r in rows)
+    for r in rows:
+        print(f"{r['id'].ljust(w)}  {r['state']:<6}  {r['storage'] or '—':<10}  {r['name']}")
+
+
+def _show(args: argparse.Namespace) -> None:
+    _emit(_records([load_fuel(args.fuel)], args), args, many=False)
+
+
+def _compare(args: argparse.Namespace) -> None:
+    _emit(_records([load_fuel(f) for f in args.fuels], args), args, many=True)
+
+
+def _blend(args: argparse.Namespace) -> None:
+    parts: dict[str, float] = {}
+    for text in args.parts:
+        ref, sep, frac = text.rpartition("=")
+        if not sep or not ref:
+            raise InputError(text, "write each part as FUEL=FRACTION, e.g. propane=0.6")
+        try:
+            parts[ref] = float(frac)
+        except ValueError:
+            raise InputError(text, f"fraction {frac!r} is not a number") from None
+    basis = args.basis.replace("-", "_")
+    fuel = blend(parts, basis, id=args.blend_id, name=args.name, where="blend")
+    records = _records([fuel], args)
+    if args.write:
+        write_blend_file(Path(args.write), parts, basis, name=fuel.name)
+    _emit(records, args, many=False)
+
+
+def write_blend_file(path: Path, parts: dict[str, float], basis: str, *, name: str) -> None:
+    """Write a ``[blend]`` fuel file, whole or not at all.
+
+    Parameters
+    ----------
+    path : pathlib.Path
+        Destination ``.toml`` file; its stem becomes the fuel id.
+    parts : dict of str to float
+        Library ids (or paths) and fractions [-].
+    basis : str
+        ``"mole"``, ``"mass"`` or ``"liquid_volume"``.
+    name : str
+        Name written into the file.
+    """
+    if path.suffix != ".toml":
+        raise InputError("--write", "the fuel file name must end in .toml")
+    if not path.parent.is_dir():
+        raise InputError("--write", f"folder {path.parent} does not exist")
+    state = "gas" if load_fuel(next(iter(parts))).is_gas else "liquid"
+    lines = [
+        f"name = {json.dumps(name, ensure_ascii=False)}",
+        f'state = "{state}"',
+        "",
+        "[blend]",
+        f'basis = "{basis}"',
+        'source = "user blend written by workbench fuels blend"',
+    ]
+    lines += [f"{json.dumps(ref, ensure_ascii=False)} = {frac!r}" for ref, frac in parts.items()]
+    fd, tmp = tempfile.mkstemp(dir=path.parent, suffix=".tmp")
+    try:
+        with os.fdopen(fd, "w", encoding="utf-8") as fh:
+            fh.write("\n".join(lines) + "\n")
+        os.replace(tmp, path)
+    except BaseException:
+        Path(tmp).unlink(missing_ok=True)
+        raise
