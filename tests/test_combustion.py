@@ -165,6 +165,16 @@ def test_flame_inputs_are_checked():
         exhaust("propane", -1)
 
 
+def test_fuel_mass_fraction_counts_only_the_fuel():
+    # Natural gas carries N2 and CO2 of its own; the fuel share of the charge is
+    # 1 / (1 + AFR_st / phi) whatever species the fuel contains.
+    sheet = fuel_sheet("natural-gas")
+    state = flame_state("natural-gas", 0.9)
+    assert_allclose(state.fuel_mass_fraction, 1 / (1 + sheet.stoich_afr_mass / 0.9), rtol=1e-12)
+    diluted = flame_state("natural-gas", 0.9, dilution=0.2)
+    assert_allclose(diluted.fuel_mass_fraction, 0.8 * state.fuel_mass_fraction, rtol=1e-12)
+
+
 def test_fuel_object_is_hashable_and_caches():
     fuel = load_fuel("lpg")
     assert fuel_sheet(fuel) is fuel_sheet(fuel)

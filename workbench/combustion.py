@@ -516,8 +516,9 @@ def _flame(fuel: Fuel, phi: float, t_unburnt: float, p: float, air: str,
     gas = fuel.gas_phase()
     fresh = unburnt_mole_fractions(fuel, phi, air)
     gas.TPX = t_unburnt, p, fresh
-    fuel_names = [n for n, _ in fuel.composition]
-    y_fuel = float(sum(gas.Y[gas.species_index(n)] for n in fuel_names))
+    # The fuel's own N2 or CO2 must not be told apart from air's, so take the fuel share
+    # from the air requirement: 1 / (1 + AFR_st / phi).
+    y_fuel = 1.0 / (1.0 + _sheet(fuel, air).stoich_afr_mass / phi)
     if dilution > 0:
         y_fresh = gas.Y.copy()
         burnt = _flame(fuel, phi, t_unburnt, p, air, 0.0)
