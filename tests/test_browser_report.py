@@ -1,0 +1,84 @@
+"""The HTML report in a real browser (Debian chromium via Playwright), network off.
+
+Uses the INVENTED fixture of tests/study_fixture.py. Saves a full-page screenshot to
+artifacts/report.png for a person to look at.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+from study_fixture import XSS_NAME, make_map_grid, make_result
+
+from workbench.charts import all_figures
+from workbench.report import SAFETY_CAUTION, write_report
+
+CHROMIUM = Path("/usr/bin/chromium")
+ARTIFACTS = Path(__file__).resolve().parents[1] / "artifacts"
+
+pytestmark = [
+    pytest.mark.browser,
+    pytest.mark.skipif(not CHROMIUM.exists(),
+                       reason="needs Debian chromium at /usr/bin/chromium (apt install chromium)"),
+]
+
+
+def test_report_renders_offline_in_chromium(tmp_path):
+    from playwright.sync_api import sync_playwright
+
+    result = make_result()
+    grid = make_map_grid()
+    n_charts = len(all_figures(result, map_grid=grid))
+    path = write_report(result, tmp_path / "report.html", study_text="title = 'x'\n",
+                        map_grid=grid)
+
+    errors: list[str] = []
+    dialogs: list[str] = []
+    requests: list[str] = []
+    with sync_playwright() as p:
+        browser = p.chromium.launch(
+            executable_path=str(CHROMIUM),
+            args=["--no-sandbox", "--disable-gpu", "--disable-background-networking",
+                  "--disable-component-update", "--disable-sync"])
+        try:
+            context = browser.new_context(viewport={"width": 1280, "height": 900})
+
+            def route(r):
+                requests.append(r.request.url)
+                if r.request.url.startswith("file://"):
+                    r.continue_()
+                else:
+                    r.abort()
+
+            context.route("**/*", route)
+            page = context.new_page()
+            page.on("console", lambda m: errors.append(m.text) if m.type == "error" else None)
+            page.on("pageerror", lambda e: errors.append(str(e)))
+
+            def on_dialog(d):
+                dialogs.append(d.message)
+                d.dismiss()
+
+            page.on("dialog", on_dialog)
+            page.goto(path.as_uri())
+            for i in range(n_charts):
+                page.wait_for_selector(f"#chart-{i}.js-plotly-plot .main-svg", timeout=20_000)
+            rendered = page.locator(".js-plotly-plot").count()
+            text = page.inner_text("body")
+            svg_text = page.eval_on_selector_all(
+                ".js-plotly-plot .legendtext", "els => els.map(e => e.textContent)")
+            ARTIFACTS.mkdir(exist_ok=True)
+            page.screenshot(path=str(ARTIFACTS / "report.png"), full_page=True)
+        finally:
+            browser.close()
+
+    assert rendered == n_charts
+    assert errors == []
+    assert dialogs == []
+    # Nothing but the file itself was requested: plotly.js is embedded, not fetched.
+    assert all(u.startswith("file://") for u in requests), requests
+    # The markup in the name shows as text, in the page tables and in the chart legends.
+    assert XSS_NAME in text
+    assert XSS_NAME in svg_text
+    assert SAFETY_CAUTION in text

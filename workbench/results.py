@@ -1,0 +1,131 @@
+"""The study's results: tidy pandas tables with fixed columns.
+
+Charts, the report, CSV export, the JSON output and the tests all read these tables, so each
+column name is a glossary name with its unit in it. Money columns are in the study's currency
+(its code is :attr:`StudyResult.currency`); "vs baseline" means candidate minus baseline, so a
+positive NPV means the candidate saves money.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field, fields
+
+import pandas as pd
+
+#: Columns of each table, in order. Every table is long ("tidy"): one row per candidate and
+#: whatever else the row is about.
+COLUMNS: dict[str, tuple[str, ...]] = {
+    # one row per candidate (the baseline included, with is_baseline true)
+    "candidates": (
+        "candidate", "name", "fuel", "is_baseline", "colour",
+        "fuel_energy_mj_per_km", "co2_ttw_g_per_km", "co2e_wtw_g_per_km", "nox_g_per_km",
+        "cost_per_km", "levelised_cost_per_km", "npv_vs_baseline", "payback_years",
+        "discounted_payback_years", "cost_per_t_co2e_avoided", "cost_per_kg_nox_avoided",
+        "p_npv_positive", "p_payback_within_horizon", "npv_p10", "npv_p50", "npv_p90",
+    ),
+    # one row per candidate x vehicle class: the duty-level figures
+    "per_km": (
+        "candidate", "vehicle_class", "fuel", "fuel_energy_mj_per_km", "fuel_l_per_100km",
+        "fuel_kg_per_100km", "co2_ttw_g_per_km", "co2e_wtw_g_per_km", "nox_engine_out_g_per_km",
+        "nox_g_per_km", "cost_fuel_per_km", "cost_upkeep_per_km", "cost_capital_per_km",
+        "cost_per_km", "share_out_of_map", "share_full_load",
+    ),
+    # one row per candidate x year of the programme (year 0 = conversion year)
+    "cash_flows": (
+        "candidate", "year", "cash_flow", "cash_flow_vs_baseline", "discounted_vs_baseline",
+        "cumulative_discounted_vs_baseline",
+    ),
+    # one row per candidate x year: fleet totals
+    "fleet_years": (
+        "candidate", "year", "fuel_energy_gj", "co2_ttw_t", "co2e_wtw_t", "nox_t",
+        "catalyst_replacements", "cost_total",
+    ),
+    # one row per candidate x vehicle class x month: tailpipe NOx as catalysts age
+    "nox_monthly": (
+        "candidate", "vehicle_class", "month", "catalyst_efficiency", "nox_g_per_km",
+        "replaced",
+    ),
+    # one row per candidate x vehicle class: storage and range of its fuel
+    "storage": (
+        "candidate", "vehicle_class", "fuel", "energy_density_mj_per_kg", "energy_density_mj_per_l",
+        "system_energy_density_mj_per_kg", "system_energy_density_mj_per_l",
+        "tank_volume_l", "tank_system_mass_kg", "range_km",
+    ),
+    # one row per candidate x Monte Carlo draw
+    "monte_carlo": ("candidate", "draw", "npv_vs_baseline"),
+    # one row per candidate x uncertain input: one-at-a-time sensitivity of NPV
+    "tornado": (
+        "candidate", "input", "low_value", "high_value", "npv_at_low", "npv_at_high", "swing",
+    ),
+    # one row per candidate x vehicle class x operating point (time-weighted)
+    "operating_points": (
+        "candidate", "vehicle_class", "engine_speed_rpm", "torque_nm", "hours",
+        "brake_efficiency",
+    ),
+    # one row per fuel x phi: flame temperature and thermal NO at the candidate's engine
+    "flame": ("candidate", "fuel", "phi", "flame_temperature_k", "no_ppm"),
+    # one row per candidate x vehicle class: the catalyst's programme and best interval
+    "catalyst": (
+        "candidate", "vehicle_class", "device", "replacements", "replacement_cost",
+        "reductant_cost", "best_interval_months", "best_total_cost",
+    ),
+}
+
+
+@dataclass(frozen=True)
+class StudyResult:
+    """What a study run returns.
+
+    Attributes
+    ----------
+    title : str
+        Study title.
+    currency : str
+        Currency code or label of every money column.
+    candidates, per_km, cash_flows, fleet_years, nox_monthly, storage, monte_carlo, tornado,
+    operating_points, flame, catalyst : pandas.DataFrame
+        The tables of :data:`COLUMNS`.
+    assumptions : dict
+        Flat record of the inputs that shaped the result (for the report), values as text.
+    sources : dict
+        Where reference data came from, by item.
+    """
+
+    title: str
+    currency: str
+    candidates: pd.DataFrame
+    per_km: pd.DataFrame
+    cash_flows: pd.DataFrame
+    fleet_years: pd.DataFrame
+    nox_monthly: pd.DataFrame
+    storage: pd.DataFrame
+    monte_carlo: pd.DataFrame
+    tornado: pd.DataFrame
+    operating_points: pd.DataFrame
+    flame: pd.DataFrame
+    catalyst: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
+        columns=list(COLUMNS["catalyst"])))
+    assumptions: dict[str, str] = field(default_factory=dict)
+    sources: dict[str, str] = field(default_factory=dict)
+
+    def tables(self) -> dict[str, pd.DataFrame]:
+        """The tables by name, in :data:`COLUMNS` order."""
+        return {f.name: getattr(self, f.name) for f in fields(self) if f.name in COLUMNS}
+
+    def colours(self) -> dict[str, str]:
+        """Colour of each candidate, the same in every chart."""
+        return dict(zip(self.candidates["candidate"], self.candidates["colour"], strict=True))
+
+
+def check_columns(result: StudyResult) -> None:
+    """Raise AssertionError when a table's columns differ from :data:`COLUMNS`."""
+    for name, table in result.tables().items():
+        got = tuple(table.columns)
+        if got != COLUMNS[name]:
+            raise AssertionError(f"table {name}: columns {got} != {COLUMNS[name]}")
+
+
+#: Colour-blind-safe palette (Okabe & Ito, 2008, "Color Universal Design"), baseline first in
+#: neutral grey; candidates take the next colours in order.
+PALETTE = ("#666666", "#0072B2", "#E69F00", "#009E73", "#CC79A7", "#D55E00", "#56B4E9",
+           "#F0E442", "#000000")
