@@ -17,7 +17,7 @@ from typing import Any
 from workbench.errors import InputError
 
 #: Command modules, in the order their groups appear in ``workbench --help``.
-COMMAND_MODULES = ("fuels", "nox", "duty")
+COMMAND_MODULES = ("fuels", "nox", "duty", "study")
 
 
 class _Parser(argparse.ArgumentParser):

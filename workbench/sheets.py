@@ -143,7 +143,9 @@ def _cell(value: object) -> str:
     if isinstance(value, bool):
         return "yes" if value else "no"
     if isinstance(value, float):
-        if value == 0 or 1e-3 <= abs(value) < 1e6:
+        if 1e4 <= abs(value) < 1e15:
+            return f"{value:,.0f}"
+        if value == 0 or 1e-3 <= abs(value) < 1e4:
             return f"{value:.4g}" if abs(value) < 10 else f"{value:.5g}"
         return f"{value:.3e}"
     return str(value)

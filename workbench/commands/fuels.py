@@ -19,6 +19,10 @@ def register(sub: argparse._SubParsersAction) -> None:
     fsub = group.add_subparsers(dest="fuels_command", required=True,
                                 parser_class=type(group))
 
+    from workbench.commands.storage import register_storage
+
+    register_storage(fsub)
+
     p = fsub.add_parser("list", help="list the fuels in the library")
     p.add_argument("--json", action="store_true", help="print JSON")
     p.set_defaults(func=_list)
@@ -57,14 +61,35 @@ def _flame_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--json", action="store_true", help="print JSON")
 
 
+#: Storage figures added to a sheet: record key -> key of ``storage.storage_summary``.
+STORED_FIELDS = {
+    "storage_kind": "storage_kind",
+    "storage_pressure_bar": "pressure_bar",
+    "stored_density_kg_per_l": "density_kg_per_l",
+    "energy_density_mj_per_l": "energy_density_mj_per_l",
+    "vapour_pressure_bar": "vapour_pressure_bar",
+    "compressibility_factor": "compressibility_factor",
+}
+STORED_UNITS = {
+    "storage_kind": "", "storage_pressure_bar": "bar abs", "stored_density_kg_per_l": "kg/L",
+    "energy_density_mj_per_l": "MJ/L as stored (LHV)", "vapour_pressure_bar": "bar abs",
+    "compressibility_factor": "-",
+}
+
+
 def _records(fuels: list, args: argparse.Namespace) -> list[dict]:
+    from workbench.storage import storage_summary
+
     if args.pressure <= 0:
         raise InputError("--pressure", f"must be above zero bar, got {args.pressure:g}")
-    return [
-        fuel_record(f, phi=args.phi, t_unburnt=args.t_unburnt + 273.15,
-                    p=args.pressure * 1e5, air=args.air)
-        for f in fuels
-    ]
+    records = []
+    for f in fuels:
+        record = fuel_record(f, phi=args.phi, t_unburnt=args.t_unburnt + 273.15,
+                             p=args.pressure * 1e5, air=args.air)
+        stored = storage_summary(f)
+        record.update({k: stored.get(src) for k, src in STORED_FIELDS.items()})
+        records.append(record)
+    return records
 
 
 def _emit(records: list[dict], args: argparse.Namespace, *, many: bool) -> None:
@@ -73,7 +98,7 @@ def _emit(records: list[dict], args: argparse.Namespace, *, many: bool) -> None:
     if args.json:
         print_json(records if many else records[0])
     else:
-        print(format_table(records, SHEET_FIELDS))
+        print(format_table(records, SHEET_FIELDS | STORED_UNITS))
 
 
 def _list(args: argparse.Namespace) -> None:

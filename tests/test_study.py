@@ -1,0 +1,157 @@
+"""The study: file checks, round trip, money against a reference library, Monte Carlo."""
+
+from __future__ import annotations
+
+import tomllib
+
+import numpy as np
+import numpy_financial as npf
+import pytest
+from numpy.testing import assert_allclose
+
+from workbench.errors import InputError
+from workbench.results import check_columns
+from workbench.study import class_physics, run
+from workbench.studyfile import DEMO_STUDY, Study, read_study
+
+pytestmark = pytest.mark.slow
+
+
+@pytest.fixture(scope="module")
+def demo():
+    return read_study("demo")
+
+
+@pytest.fixture(scope="module")
+def result(demo):
+    return run(demo, draws=2000)
+
+
+def test_demo_round_trips_losslessly(demo):
+    text = demo.to_toml()
+    again = Study(tomllib.loads(text), base_dir=DEMO_STUDY.parent)
+    assert again == demo
+    assert again.to_toml() == text
+    assert demo.data == tomllib.loads(DEMO_STUDY.read_text(encoding="utf-8"))
+
+
+def test_tables_have_their_columns(result):
+    check_columns(result)
+    assert list(result.candidates["candidate"]) == ["today", "lpg-taxis", "cng-fleet"]
+
+
+def test_npv_and_payback_against_numpy_financial(result):
+    # Reference library numpy-financial (PyPI): NPV of year-0..H flows at the nominal rate
+    # (uniform 5-9 %, mean 7 %); the study's deterministic run uses that mean.
+    rate = 0.07
+    flows = result.cash_flows
+    for cand in ("lpg-taxis", "cng-fleet"):
+        diff = flows.loc[flows["candidate"] == cand, "cash_flow_vs_baseline"].to_numpy()
+        row = result.candidates.set_index("candidate").loc[cand]
+        assert_allclose(row["npv_vs_baseline"], npf.npv(rate, diff), rtol=1e-10)
+        cum = np.cumsum(diff)
+        first = int(np.argmax(cum >= 0))  # payback falls inside year `first`
+        assert first - 1 <= row["payback_years"] <= first
+
+
+def test_cumulative_discounted_flow_ends_at_the_npv(result):
+    flows = result.cash_flows
+    last = flows.groupby("candidate")["cumulative_discounted_vs_baseline"].last()
+    npv = result.candidates.set_index("candidate")["npv_vs_baseline"]
+    assert_allclose(last["lpg-taxis"], npv["lpg-taxis"], rtol=1e-10)
+
+
+def test_monte_carlo_with_zero_spread_reproduces_the_deterministic_run(demo):
+    # Every distribution collapsed to its nominal value: every draw equals the deterministic NPV.
+    fixed = demo
+    for path in demo.inputs.uncertain:
+        fixed = fixed.with_value(path, _nominal_text(fixed, path))
+    res = run(fixed, draws=50)
+    det = res.candidates.set_index("candidate")["npv_vs_baseline"]
+    for cand, draws in res.monte_carlo.groupby("candidate")["npv_vs_baseline"]:
+        assert_allclose(draws.to_numpy(), det[cand], rtol=1e-12)
+
+
+def _nominal_text(study: Study, path: str):
+    raw = study.get(path)
+    return raw.get("mode", raw.get("mean", raw.get("low")))
+
+
+def test_monte_carlo_mean_converges_for_a_linear_input(demo):
+    # Only the LPG price uncertain (uniform): NPV is linear in it, so the Monte Carlo mean must
+    # approach the NPV at the mean price within a few standard errors (central limit theorem).
+    s = demo
+    for path in demo.inputs.uncertain:
+        s = s.with_value(path, _nominal_text(s, path))
+    s = s.with_value("prices.lpg", {"kind": "uniform", "low": "0.70 per L", "high": "0.94 per L"})
+    res = run(s, draws=4000)
+    draws = res.monte_carlo.query("candidate == 'lpg-taxis'")["npv_vs_baseline"].to_numpy()
+    at_mean = run(s.with_value("prices.lpg", "0.82 per L"), draws=0)
+    expected = at_mean.candidates.set_index("candidate").at["lpg-taxis", "npv_vs_baseline"]
+    stderr = draws.std(ddof=1) / np.sqrt(len(draws))
+    assert abs(draws.mean() - expected) < 4 * stderr
+    assert draws.std() > 0
+
+
+def test_price_change_reuses_the_physics(demo):
+    run(demo, draws=0)
+    before = class_physics.cache_info()
+    cheaper = demo.with_value("prices.lpg", "0.60 per L")
+    res = run(cheaper, draws=0)
+    after = class_physics.cache_info()
+    assert after.misses == before.misses  # nothing recomputed
+    assert after.hits > before.hits
+    base = run(demo, draws=0).candidates.set_index("candidate")
+    assert res.candidates.set_index("candidate").at["lpg-taxis", "npv_vs_baseline"] > \
+        base.at["lpg-taxis", "npv_vs_baseline"]
+
+
+def test_lower_fuel_carbon_lowers_co2(result):
+    # Common practice, no source: burning LPG or natural gas instead of gasoline/diesel emits
+    # less tank-to-wheel CO2 per km for similar engine efficiency (lower carbon per MJ).
+    c = result.candidates.set_index("candidate")["co2_ttw_g_per_km"]
+    assert c["cng-fleet"] < c["today"] and c["lpg-taxis"] < c["today"]
+
+
+def test_catalyst_replacements_show_in_the_nox_months(result):
+    months = result.nox_monthly
+    taxi = months.query("candidate == 'lpg-taxis' and vehicle_class == 'taxi'")
+    assert taxi["replaced"].any()
+    eff = taxi["catalyst_efficiency"].to_numpy()
+    assert (np.diff(eff) > 0).any() and (np.diff(eff) < 0).any()  # ageing, then renewal
+
+
+def test_classes_that_do_not_convert_cancel_out(result):
+    per_km = result.per_km.set_index(["candidate", "vehicle_class"])
+    assert_allclose(per_km.loc[("lpg-taxis", "van"), "cost_per_km"],
+                    per_km.loc[("today", "van"), "cost_per_km"])
+
+
+BAD = [
+    ("candidates[0].fuel", "kerosene-x", "candidates[0].fuel"),
+    ("classes[0].profile", "no-such-profile", "classes[0].profile"),
+    ("prices.diesel", "1.2 per Sm3", "prices.diesel"),
+    ("prices.natural-gas", "1.2 per L", "prices.natural-gas"),
+    ("classes[1].count", -3, "classes[1].count"),
+    ("programme.discount_rate", "-100 %", "programme.discount_rate"),
+    ("programme.horizon_years", 0, "programme.horizon_years"),
+    ("classes[0].km_per_year", {"kind": "uniform", "low": "90000 km", "high": "80000 km"},
+     "classes[0].km_per_year"),
+    ("candidates[0].derate", {"kind": "uniform", "low": "1 %", "high": "5 %"},
+     "candidates[0].derate"),
+    ("candidates[1].aftertreatment.preset", "magic", "candidates[1].aftertreatment.preset"),
+    ("baseline.engine_out_nox.taxi", "1.6 g/mile", "baseline.engine_out_nox.taxi"),
+]
+
+
+@pytest.mark.parametrize(("path", "value", "named"), BAD, ids=[b[0] for b in BAD])
+def test_bad_inputs_name_their_key_path(demo, path, value, named):
+    with pytest.raises(InputError) as err:
+        demo.with_value(path, value)
+    assert named in str(err.value)
+    assert "\n" not in str(err.value)
+
+
+def test_unknown_keys_are_refused(demo):
+    with pytest.raises(InputError, match="unknown key"):
+        demo.with_value("candidates[0].conversoin_cost", 100)
