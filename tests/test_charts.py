@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import math
 import re
+from dataclasses import replace
 
 import numpy as np
 import pandas as pd
@@ -140,6 +141,16 @@ def test_cash_flow_lines_and_payback_star(result):
             assert stars == []
     # the fixture has one candidate that pays back and one that does not
     assert cands["discounted_payback_years"].notna().sum() == 1
+
+
+def test_payback_star_sits_on_calendar_years(result):
+    # Study tables count years from the start year; payback counts from the conversion year.
+    flows = result.cash_flows.assign(year=result.cash_flows["year"] + 2027)
+    fig = charts.cash_flow_chart(replace(result, cash_flows=flows))
+    cands = result.candidates.set_index("candidate")
+    cand = cands.index[cands["discounted_payback_years"].notna()][0]
+    star = next(t for t in candidate_traces(fig, cand) if t.mode == "markers")
+    assert_allclose(star.x, [2027 + cands.at[cand, "discounted_payback_years"]], rtol=1e-12)
 
 
 def test_tornado_bars_span_base_to_npv(result):

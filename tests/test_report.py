@@ -120,3 +120,16 @@ def test_failed_write_leaves_the_old_file_and_no_temp_file(tmp_path, monkeypatch
         report.write_report(make_result(), target, study_text="")
     assert target.read_text(encoding="utf-8") == "old report"
     assert [p.name for p in tmp_path.iterdir()] == ["r.html"]
+
+
+def test_long_tables_are_cut_with_a_pointer_to_the_csv():
+    from dataclasses import replace
+
+    import pandas as pd
+
+    result = make_result()
+    draws = pd.DataFrame({"candidate": "x", "draw": range(5000), "npv_vs_baseline": 1.0})
+    html = report.html_report(replace(result, monte_carlo=draws), study_text="x")
+    assert f"First {report.MAX_TABLE_ROWS} of 5000 rows" in html
+    section = html.split('id="table-monte_carlo"')[1].split("</details>")[0]
+    assert section.count("<tr") == report.MAX_TABLE_ROWS + 1  # header row + rows shown

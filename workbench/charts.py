@@ -141,8 +141,10 @@ def _legend_key(name: str, *, pattern: str | None = None,
             color="white", line=dict(color="black", width=1),
             pattern=dict(shape=pattern, fgcolor="black", fillmode="overlay", solidity=0.3)),
             **common)
+    # an open symbol is drawn in its marker colour: black, or it would vanish on white
+    fill = "black" if symbol and symbol.endswith("-open") else "white"
     return go.Scatter(x=[None], y=[None], mode="markers", marker=dict(
-        symbol=symbol, size=11, color="white", line=dict(color="black", width=1.5)), **common)
+        symbol=symbol, size=11, color=fill, line=dict(color="black", width=1.5)), **common)
 
 
 def _pattern(shape: str) -> dict[str, object]:
@@ -338,23 +340,31 @@ def energy_density_chart(result: StudyResult) -> go.Figure:
     st = _style(result)
     fig = go.Figure()
     for cand in st.order(table):
-        row = table[table["candidate"] == cand].iloc[0]
-        fuel = escape(row["fuel"])
-        fig.add_trace(go.Scatter(
-            x=[row["energy_density_mj_per_kg"], row["system_energy_density_mj_per_kg"]],
-            y=[row["energy_density_mj_per_l"], row["system_energy_density_mj_per_l"]],
-            mode="lines+markers", name=st.name(cand), legendgroup=_group(cand),
-            line=dict(color=st.colour(cand), dash="dot", width=1.5),
-            marker=dict(symbol=["circle", "diamond-open"], size=13, color=st.colour(cand),
-                        line=dict(width=2, color=st.colour(cand))),
-            customdata=[f"{fuel}, fuel alone", f"{fuel}, tank system"],
-            hovertemplate="%{customdata}<br>%{x:.2f} MJ/kg, %{y:.2f} MJ/L",
-        ))
+        # one line per fuel the candidate uses (the tank system depends on the class only
+        # through its range, so the first class using the fuel stands for it)
+        rows = table[table["candidate"] == cand].drop_duplicates("fuel")
+        for i, (_, row) in enumerate(rows.iterrows()):
+            fig.add_trace(_density_trace(st, cand, row, first=i == 0))
     fig.add_trace(_legend_key("fuel alone", symbol="circle"))
     fig.add_trace(_legend_key("tank system", symbol="diamond-open"))
     fig.update_xaxes(title_text="energy per mass, LHV [MJ/kg]", rangemode="tozero")
     fig.update_yaxes(title_text="energy per volume, LHV [MJ/L]", rangemode="tozero")
     return _finish(fig, title, height=480)
+
+
+def _density_trace(st: _Style, cand: str, row: pd.Series, *, first: bool) -> go.Scatter:
+    fuel = escape(row["fuel"])
+    return go.Scatter(
+            x=[row["energy_density_mj_per_kg"], row["system_energy_density_mj_per_kg"]],
+            y=[row["energy_density_mj_per_l"], row["system_energy_density_mj_per_l"]],
+            mode="lines+markers", name=st.name(cand), legendgroup=_group(cand),
+            showlegend=first,
+            line=dict(color=st.colour(cand), dash="dot", width=1.5),
+            marker=dict(symbol=["circle", "diamond-open"], size=13, color=st.colour(cand),
+                        line=dict(width=2, color=st.colour(cand))),
+            customdata=[f"{fuel}, fuel alone", f"{fuel}, tank system"],
+            hovertemplate="%{customdata}<br>%{x:.2f} MJ/kg, %{y:.2f} MJ/L",
+        )
 
 
 # ----------------------------------------------------------------------------- money
@@ -392,12 +402,13 @@ def cash_flow_chart(result: StudyResult) -> go.Figure:
             line=dict(color=st.colour(cand), width=2), marker=dict(size=5),
             hovertemplate=f"year %{{x}}: %{{y:,.0f}} {st.currency}", **common))
         payback = cands.loc[cand, "discounted_payback_years"] if cand in cands.index else np.nan
-        if np.isfinite(payback):
+        if np.isfinite(payback):  # counted from the conversion year, the table's first
             fig.add_trace(go.Scatter(
-                x=[payback], y=[0.0], mode="markers", showlegend=False,
+                x=[d["year"].iloc[0] + payback], y=[0.0], mode="markers", showlegend=False,
                 marker=dict(symbol="star", size=16, color=st.colour(cand),
                             line=dict(color="black", width=1)),
-                hovertemplate="discounted payback after %{x:.1f} years", **common))
+                customdata=[payback],
+                hovertemplate="discounted payback after %{customdata:.1f} years", **common))
     fig.add_hline(y=0.0, line=dict(color="black", width=1))
     fig.add_trace(_legend_key("discounted payback", symbol="star"))
     fig.update_xaxes(title_text="year of the programme [year]")
@@ -603,17 +614,23 @@ def flame_chart(result: StudyResult) -> go.Figure:
         return _no_data(title, "flame")
     st = _style(result)
     fig = make_subplots(rows=2, cols=1, shared_xaxes=True, vertical_spacing=0.08)
+    dashes = ("solid", "dash", "dot", "dashdot")
     for cand in st.order(table):
-        d = table[table["candidate"] == cand].sort_values("phi")
-        fuel = escape(d["fuel"].iloc[0])
-        common = dict(name=st.name(cand), legendgroup=_group(cand), mode="lines+markers",
-                      line=dict(color=st.colour(cand), width=2), marker=dict(size=5))
-        fig.add_trace(go.Scatter(
-            x=d["phi"], y=d["flame_temperature_k"],
-            hovertemplate=f"{fuel}, phi %{{x:.2f}}: %{{y:.0f}} K", **common), row=1, col=1)
-        fig.add_trace(go.Scatter(
-            x=d["phi"], y=d["no_ppm"], showlegend=False,
-            hovertemplate=f"{fuel}, phi %{{x:.2f}}: NO %{{y:.0f}} ppm", **common), row=2, col=1)
+        rows = table[table["candidate"] == cand]
+        for i, fuel_id in enumerate(dict.fromkeys(rows["fuel"])):
+            d = rows[rows["fuel"] == fuel_id].sort_values("phi")
+            fuel = escape(fuel_id)
+            common = dict(name=f"{st.name(cand)}: {fuel}", legendgroup=_group(cand),
+                          mode="lines+markers", marker=dict(size=5),
+                          line=dict(color=st.colour(cand), width=2,
+                                    dash=dashes[i % len(dashes)]))
+            fig.add_trace(go.Scatter(
+                x=d["phi"], y=d["flame_temperature_k"],
+                hovertemplate=f"{fuel}, phi %{{x:.2f}}: %{{y:.0f}} K", **common), row=1, col=1)
+            fig.add_trace(go.Scatter(
+                x=d["phi"], y=d["no_ppm"], showlegend=False,
+                hovertemplate=f"{fuel}, phi %{{x:.2f}}: NO %{{y:.0f}} ppm", **common),
+                row=2, col=1)
     fig.update_yaxes(title_text="adiabatic flame temperature [K]", row=1, col=1)
     fig.update_yaxes(title_text="thermal NO [ppm]", rangemode="tozero", row=2, col=1)
     fig.update_xaxes(title_text="equivalence ratio phi [-]", row=2, col=1)

@@ -111,6 +111,10 @@ def _key_value_table(items: Mapping[str, object], head: tuple[str, str]) -> str:
             f"</tr></thead><tbody>{rows}</tbody></table>")
 
 
+#: Rows of a table printed in the report; longer tables (Monte Carlo draws) are cut.
+MAX_TABLE_ROWS = 400
+
+
 def _format_number(value: float) -> str:
     return f"{value:,.4g}" if abs(value) < 1e6 else f"{value:,.0f}"
 
@@ -171,9 +175,13 @@ def html_report(
     tables = []
     for name, table in result.tables().items():
         open_attr = " open" if name == "candidates" else ""
+        shown = table.head(MAX_TABLE_ROWS)
+        cut = (f"<p>First {MAX_TABLE_ROWS} of {len(table)} rows; "
+               "<code>workbench study run FILE --csv DIR</code> writes them all.</p>"
+               if len(table) > MAX_TABLE_ROWS else "")
         tables.append(f'<details id="table-{name}"{open_attr}><summary>{name} '
-                      f"({len(table)} rows)</summary><div class=\"scroll\">"
-                      f"{_table_html(table)}</div></details>")
+                      f"({len(table)} rows)</summary>{cut}<div class=\"scroll\">"
+                      f"{_table_html(shown)}</div></details>")
     demo = f'<p class="demo">{DEMO_NOTICE}</p>' if is_demo(result) else ""
     versions = software_versions()
     generated = datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC")

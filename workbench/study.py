@@ -479,7 +479,7 @@ def run(study: Study, *, draws: int | None = None,
         operating_points=_operating_points_table(plan),
         flame=_flame_table(plan),
         catalyst=_catalyst_table(plan),
-        assumptions=_assumptions(study),
+        assumptions=_assumptions(study, n),
         sources=_sources(inputs),
     )
     say("done")
@@ -728,7 +728,7 @@ def _catalyst_table(plan: _Plan) -> pd.DataFrame:
     return _frame("catalyst", rows)
 
 
-def _assumptions(study: Study) -> dict[str, str]:
+def _assumptions(study: Study, draws: int) -> dict[str, str]:
     i = study.inputs
     out = {
         "study": i.title,
@@ -737,12 +737,14 @@ def _assumptions(study: Study) -> dict[str, str]:
         "fictional demo data": "yes: every number is invented" if i.fictional else "no",
         "currency": i.currency,
         "programme": f"{i.start_year}, {i.horizon_years} years",
-        "discount rate": f"{i.discount_rate.nominal:.1%} (nominal)",
+        "discount rate": f"{i.discount_rate.nominal:.1%} a year, real (prices in today's "
+                         "money, escalation on top)",
         "carbon price": f"{i.carbon_price.nominal * 1e3:g} {i.currency}/t CO2e, on well-to-wheel "
                         "CO2e, counted with fuel costs",
-        "NOx damage cost": f"{i.nox_damage_cost.nominal:g} {i.currency}/kg (catalyst interval "
-                           "choice only, not in the NPV)",
-        "Monte Carlo": f"{i.draws} draws, seed {i.seed}; uncertain inputs: "
+        "NOx damage cost": f"{i.nox_damage_cost.nominal:g} {i.currency}/kg: finds the catalyst "
+                           "replacement interval that would minimise upkeep plus NOx damage, "
+                           "shown beside each device's own policy; not in the NPV",
+        "Monte Carlo": f"{draws} draws, seed {i.seed}; uncertain inputs: "
                        f"{', '.join(i.uncertain) or 'none'}",
         "input hash": study.digest(),
         "engine-out NOx": "screening model: baseline measured or typical engine-out NOx scaled "

@@ -485,17 +485,18 @@ def _parse(data: Mapping[str, Any], base_dir: Path) -> StudyInputs:
     classes_raw = top.raw("classes")
     if not isinstance(classes_raw, list) or not classes_raw:
         raise InputError("classes", "needs at least one [[classes]] table")
-    classes = tuple(_fleet_class(_Reader(c, f"classes[{i}]"), base_dir)
+    classes = tuple(_fleet_class(_Reader(c, f"classes[{i}]"), base_dir, currency)
                     for i, c in enumerate(classes_raw))
     ids = [c.id for c in classes]
     if len(set(ids)) != len(ids):
         raise InputError("classes", "class ids must be unique")
-    baseline = _option(_Reader(top.raw("baseline"), "baseline"), classes, None, base_dir)
+    baseline = _option(_Reader(top.raw("baseline"), "baseline"), classes, None, base_dir,
+                       currency)
     cands_raw = top.raw("candidates")
     if not isinstance(cands_raw, list) or not cands_raw:
         raise InputError("candidates", "needs at least one [[candidates]] table")
-    candidates = tuple(_option(_Reader(c, f"candidates[{i}]"), classes, baseline, base_dir)
-                       for i, c in enumerate(cands_raw))
+    candidates = tuple(_option(_Reader(c, f"candidates[{i}]"), classes, baseline, base_dir,
+                               currency) for i, c in enumerate(cands_raw))
     opt_ids = [baseline.id, *(c.id for c in candidates)]
     if len(set(opt_ids)) != len(opt_ids):
         raise InputError("candidates", "option ids (baseline and candidates) must be unique")
@@ -572,7 +573,7 @@ def _data_file(raw: Any, where: str, folder: str, suffix: str, base_dir: Path) -
                      f"{suffix} file")
 
 
-def _fleet_class(r: _Reader, base_dir: Path) -> FleetClass:
+def _fleet_class(r: _Reader, base_dir: Path, currency: str) -> FleetClass:
     cid = r.text("id")
     if not re.fullmatch(r"[A-Za-z0-9_-]+", cid):
         raise InputError(r.at("id"), "use letters, digits, - and _ only")
@@ -588,8 +589,10 @@ def _fleet_class(r: _Reader, base_dir: Path) -> FleetClass:
         engine_map=_data_file(r.raw("engine_map"), r.at("engine_map"), "maps", ".csv",
                               base_dir),
         range=r.quantity("range", "[length]", "500 km", low=1.0),
-        upkeep_per_year=r.uncertain("upkeep_per_year", _money_per_year, 0.0, low=0.0),
-        daily_revenue=r.uncertain("daily_revenue", _money, 0.0, low=0.0),
+        upkeep_per_year=r.uncertain("upkeep_per_year", _money_per_year, 0.0, low=0.0,
+                                    unit=(f"{currency}/year", 1.0)),
+        daily_revenue=r.uncertain("daily_revenue", _money, 0.0, low=0.0,
+                                  unit=(f"{currency}/day", 1.0)),
         accessory_power=r.quantity("accessory_power", "[power]", "0 W", low=0.0,
                                    high=1e5),
         engine_off_at_stops=r.flag("engine_off_at_stops", False),
@@ -606,7 +609,7 @@ def _per_class(r: _Reader, key: str, cid: str, class_ids: set[str], default: Any
 
 
 def _option(r: _Reader, classes: tuple[FleetClass, ...], baseline: Option | None,
-            base_dir: Path) -> Option:
+            base_dir: Path, currency: str) -> Option:
     oid = r.text("id")
     if not re.fullmatch(r"[A-Za-z0-9_-]+", oid):
         raise InputError(r.at("id"), "use letters, digits, - and _ only")
@@ -630,15 +633,16 @@ def _option(r: _Reader, classes: tuple[FleetClass, ...], baseline: Option | None
             assert baseline is not None
             per_class[c.id] = _unchanged(baseline.per_class[c.id])
             continue
-        per_class[c.id] = _class_option(r, c, class_ids, baseline is None, base_dir)
+        per_class[c.id] = _class_option(r, c, class_ids, baseline is None, base_dir, currency)
     return Option(
         id=oid,
         name=str(r.raw("name", oid)),
         is_baseline=baseline is None,
         per_class=per_class,
-        programme_capital=r.uncertain("programme_capital", _money, 0.0, low=0.0),
+        programme_capital=r.uncertain("programme_capital", _money, 0.0, low=0.0,
+                                      unit=(currency, 1.0)),
         programme_upkeep_per_year=r.uncertain("programme_upkeep_per_year", _money_per_year,
-                                              0.0, low=0.0),
+                                              0.0, low=0.0, unit=(f"{currency}/year", 1.0)),
     )
 
 
@@ -647,7 +651,7 @@ def _unchanged(base: ClassOption) -> ClassOption:
 
 
 def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], is_baseline: bool,
-                  base_dir: Path) -> ClassOption:
+                  base_dir: Path, currency: str) -> ClassOption:
     def at(key: str) -> str:
         value = r.raw(key, None)
         if isinstance(value, Mapping) and value and set(value) <= class_ids:
@@ -668,11 +672,12 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], is_baseline: b
         map_raw, at("engine_map"), "maps", ".csv", base_dir)
     zero_money = 0.0
 
-    def uq(key: str, parse: Callable[[Any, str], float], low: float | None = 0.0) -> Uncertain:
+    def uq(key: str, parse: Callable[[Any, str], float], unit: str,
+           low: float | None = 0.0) -> Uncertain:
         value = _per_class(r, key, c.id, class_ids, zero_money)
         if is_baseline and key in ("conversion_cost", "downtime_days") and value != zero_money:
             raise InputError(at(key), "the baseline converts nothing; leave it out")
-        return _uncertain(value, parse, at(key), low)
+        return _uncertain(value, parse, at(key), low, unit=(unit, 1.0))
 
     nox_raw = _per_class(r, "engine_out_nox", c.id, class_ids, None)
     lam_default = 1.6 if engine == "compression-ignition" else (
@@ -684,9 +689,10 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], is_baseline: b
         engine_map=engine_map,
         derate=fixed("derate", "0 %", 0.0, 0.9),
         efficiency_offset=fixed("efficiency_offset", "0 %", -0.3, 0.3),
-        conversion_cost=uq("conversion_cost", _money),
-        upkeep_change_per_year=uq("upkeep_change_per_year", _money_per_year, low=None),
-        downtime_days=uq("downtime_days", _days),
+        conversion_cost=uq("conversion_cost", _money, currency),
+        upkeep_change_per_year=uq("upkeep_change_per_year", _money_per_year,
+                                  f"{currency}/year", low=None),
+        downtime_days=uq("downtime_days", _days, "day"),
         engine_out_nox=None if nox_raw is None else _engine_out(nox_raw, at("engine_out_nox")),
         lambda_overall=fixed("lambda_overall", lam_default, 0.5, 5.0),
         methane_slip=fixed("methane_slip", "0 %", 0.0, 0.2),
