@@ -155,3 +155,19 @@ def test_bad_inputs_name_their_key_path(demo, path, value, named):
 def test_unknown_keys_are_refused(demo):
     with pytest.raises(InputError, match="unknown key"):
         demo.with_value("candidates[0].conversoin_cost", 100)
+
+
+def test_tank_inspections_fall_in_their_years(demo):
+    # Every 3 years, 150 per taxi: the CNG option's taxi costs rise by 640 x 150 in years 3, 6.
+    without = run(demo.with_value("candidates[1].tank_inspection_interval_years", 0), draws=0)
+    with_ = run(demo, draws=0)
+
+    def flows(res):
+        f = res.cash_flows
+        return f.loc[f["candidate"] == "cng-fleet", "cash_flow"].to_numpy()
+
+    diff = flows(without) - flows(with_)
+    per_year = 640 * 150 + 210 * 220 + 85 * 480  # taxis run 6 years, vans 8, buses 10
+    expected = np.zeros_like(diff)
+    expected[[3, 6]] = per_year
+    assert_allclose(diff, expected, rtol=1e-9, atol=1e-6)

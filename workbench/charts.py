@@ -176,6 +176,14 @@ def _facet_titles(values: Iterable[object]) -> list[str]:
 # ----------------------------------------------------------------------------- cost and CO2
 
 
+def _class_facets(table: pd.DataFrame) -> tuple[list[str], go.Figure]:
+    """Vehicle classes of a per-km table and a figure with one panel per class."""
+    classes = list(dict.fromkeys(table["vehicle_class"]))
+    fig = make_subplots(rows=1, cols=len(classes), shared_yaxes=True,
+                        subplot_titles=_facet_titles(classes), horizontal_spacing=0.04)
+    return classes, fig
+
+
 def cost_per_km_chart(result: StudyResult) -> go.Figure:
     """Cost per km of each candidate, stacked by fuel, upkeep and capital, one facet per class.
 
@@ -194,9 +202,7 @@ def cost_per_km_chart(result: StudyResult) -> go.Figure:
     if table.empty:
         return _no_data(title, "per_km")
     st = _style(result)
-    classes = list(dict.fromkeys(table["vehicle_class"]))
-    fig = make_subplots(rows=1, cols=len(classes), shared_yaxes=True,
-                        subplot_titles=_facet_titles(classes), horizontal_spacing=0.04)
+    classes, fig = _class_facets(table)
     parts = {"fuel": "cost_fuel_per_km", "upkeep": "cost_upkeep_per_km",
              "capital": "cost_capital_per_km"}
     shown: set[str] = set()
@@ -240,9 +246,7 @@ def co2_per_km_chart(result: StudyResult) -> go.Figure:
     if table.empty:
         return _no_data(title, "per_km")
     st = _style(result)
-    classes = list(dict.fromkeys(table["vehicle_class"]))
-    fig = make_subplots(rows=1, cols=len(classes), shared_yaxes=True,
-                        subplot_titles=_facet_titles(classes), horizontal_spacing=0.04)
+    classes, fig = _class_facets(table)
     kinds = {"tank-to-wheel CO2": ("co2_ttw_g_per_km", ""),
              "well-to-wheel CO2e": ("co2e_wtw_g_per_km", "/")}
     shown: set[str] = set()

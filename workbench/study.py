@@ -28,7 +28,7 @@ from workbench import economics as econ
 from workbench.aftertreatment import Aftertreatment, optimal_interval, programme_nox
 from workbench.combustion import M_NO2, FuelSheet, exhaust, fuel_sheet
 from workbench.duty import DutySettings, DutyTrace, read_profile
-from workbench.emissions import GWP100_CH4_FOSSIL
+from workbench.emissions import co2e
 from workbench.engine import DutyEnergy, duty_energy, fuel_per_km_for, mode_energy, read_map
 from workbench.errors import InputError
 from workbench.fuels import Fuel, load_fuel
@@ -400,13 +400,14 @@ def _money(plan: _Plan, params: Mapping[str, np.ndarray], n: int) -> Money:
             fid = co.fuel.id
             price = val(inputs.prices[fid][1]) * plan.price_factor[fid]
             esc = (1.0 + val(inputs.escalation[fid])) ** np.maximum(years - 1, 0)
-            co2e_m = (ph.co2_ttw_per_m + val(inputs.upstream[fid]) * ph.fuel_energy_per_m
-                      + GWP100_CH4_FOSSIL * ph.ch4_per_m)
+            co2e_m = val(inputs.upstream[fid]) * ph.fuel_energy_per_m + _tailpipe_co2e(ph, co)
             emissions += km * co2e_m
             cost += km * ph.fuel_energy_per_m * price * esc
             cost += km * co2e_m * carbon
             upkeep = val(c.upkeep_per_year) + val(co.upkeep_change_per_year)
             cost += upkeep * c.count * act
+            cost += val(co.tank_inspection_cost) * c.count * act * _inspections(
+                co.tank_inspection_interval, h)
             cost += plan.catalyst_cost[o.id, c.id] * (val(c.km_per_year) / c.km_per_year.nominal)
             if co.converts:
                 capital = val(co.conversion_cost) * c.count
@@ -505,10 +506,13 @@ def _per_km_rows(plan: _Plan, det: Money) -> list[dict]:
             km_m = c.km_per_year.nominal
             fid = co.fuel.id
             price = inputs.prices[fid][1].nominal * plan.price_factor[fid]
-            co2e_m = (ph.co2_ttw_per_m + inputs.upstream[fid].nominal * ph.fuel_energy_per_m
-                      + GWP100_CH4_FOSSIL * ph.ch4_per_m)
+            co2e_m = (inputs.upstream[fid].nominal * ph.fuel_energy_per_m
+                      + _tailpipe_co2e(ph, co))
             run_years = int(plan.active[c.id].sum())
             cat_year = plan.catalyst_cost[o.id, c.id].sum() / max(run_years, 1) / c.count
+            inspections = _inspections(co.tank_inspection_interval, inputs.horizon_years)
+            cat_year += (co.tank_inspection_cost.nominal
+                         * float((inspections * plan.active[c.id]).sum()) / max(run_years, 1))
             fuel_cost = ph.fuel_energy_per_m * price + co2e_m * inputs.carbon_price.nominal
             upkeep = (c.upkeep_per_year.nominal + co.upkeep_change_per_year.nominal
                       + cat_year) / km_m
@@ -534,6 +538,19 @@ def _per_km_rows(plan: _Plan, det: Money) -> list[dict]:
                 "share_full_load": ph.share_full_load,
             })
     return rows
+
+
+def _inspections(interval: int, horizon: int) -> np.ndarray:
+    """1 in the years a tank inspection falls due (every ``interval`` years), else 0."""
+    years = np.arange(horizon + 1)
+    if interval <= 0:
+        return np.zeros(horizon + 1)
+    return ((years >= 1) & (years % interval == 0)).astype(float)
+
+
+def _tailpipe_co2e(ph: ClassPhysics, co: ClassOption) -> float:
+    """Tailpipe CO2e per distance: CO2, slipped methane and N2O on AR6 GWP-100 [kg/m]."""
+    return float(co2e(ph.co2_ttw_per_m, ph.ch4_per_m, co.n2o_per_m))
 
 
 def _per_km_table(plan: _Plan, det: Money) -> pd.DataFrame:

@@ -104,6 +104,9 @@ class ClassOption:
     efficiency_offset: float
     conversion_cost: Uncertain  # per vehicle [currency]
     upkeep_change_per_year: Uncertain  # per vehicle [currency/year]
+    tank_inspection_interval: int  # years between tank inspections, 0 for none
+    tank_inspection_cost: Uncertain  # per vehicle and inspection [currency]
+    n2o_per_m: float  # tailpipe N2O [kg/m]
     downtime_days: Uncertain
     engine_out_nox: EngineOutNOx | None
     lambda_overall: float
@@ -550,7 +553,8 @@ def all_uncertain(inputs: StudyInputs) -> list[Uncertain]:
     for o in inputs.options:
         out += [o.programme_capital, o.programme_upkeep_per_year]
         for co in o.per_class.values():
-            out += [co.conversion_cost, co.upkeep_change_per_year, co.downtime_days]
+            out += [co.conversion_cost, co.upkeep_change_per_year, co.downtime_days,
+                    co.tank_inspection_cost]
     out += [u for _, u in inputs.prices.values()]
     out += list(inputs.escalation.values()) + list(inputs.upstream.values())
     seen: dict[str, Uncertain] = {}
@@ -615,6 +619,7 @@ def _option(r: _Reader, classes: tuple[FleetClass, ...], baseline: Option | None
         raise InputError(r.at("id"), "use letters, digits, - and _ only")
     known = {"id", "name", "fuel", "classes", "engine", "engine_map", "derate",
              "efficiency_offset", "conversion_cost", "upkeep_change_per_year", "downtime_days",
+             "tank_inspection_interval_years", "tank_inspection_cost", "n2o",
              "engine_out_nox", "lambda_overall", "methane_slip", "aftertreatment",
              "programme_capital", "programme_upkeep_per_year"}
     for key in r.table:
@@ -693,12 +698,24 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], is_baseline: b
         upkeep_change_per_year=uq("upkeep_change_per_year", _money_per_year,
                                   f"{currency}/year", low=None),
         downtime_days=uq("downtime_days", _days, "day"),
+        tank_inspection_interval=_whole(_per_class(r, "tank_inspection_interval_years", c.id,
+                                                   class_ids, 0),
+                                        at("tank_inspection_interval_years")),
+        tank_inspection_cost=uq("tank_inspection_cost", _money, currency),
+        n2o_per_m=_fixed(_per_class(r, "n2o", c.id, class_ids, "0 g/km"),
+                         "[mass] / [length]", at("n2o"), None, 0.0, 1e-4),
         engine_out_nox=None if nox_raw is None else _engine_out(nox_raw, at("engine_out_nox")),
         lambda_overall=fixed("lambda_overall", lam_default, 0.5, 5.0),
         methane_slip=fixed("methane_slip", "0 %", 0.0, 0.2),
         aftertreatment=_aftertreatment(_per_class(r, "aftertreatment", c.id, class_ids,
                                                   {"preset": "none"}), at("aftertreatment")),
     )
+
+
+def _whole(value: Any, where: str) -> int:
+    if isinstance(value, bool) or not isinstance(value, int) or value < 0:
+        raise InputError(where, f"must be a whole number of years, 0 for none; got {value!r}")
+    return value
 
 
 def _default_engine(fuel: Fuel) -> str:
