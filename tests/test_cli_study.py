@@ -71,3 +71,14 @@ def test_bad_output_paths(run_cli, tmp_path):
     assert code == 2 and "-o" in err
     code, _, err = run_cli("study", "run", "missing.toml")
     assert code == 2 and "missing.toml" in err
+
+
+def test_demo_writes_a_report_with_every_chart(run_cli, tmp_path):
+    out_file = tmp_path / "demo.html"
+    code, out, _ = run_cli("demo", "-o", str(out_file), "--draws", "200")
+    assert code == 0 and "report written" in out and "invented" in out
+    html = out_file.read_text(encoding="utf-8")
+    for chart in ("cost_per_km", "co2_per_km", "nox_monthly", "energy_density", "cash_flow",
+                  "efficiency_map:taxi", "efficiency_map:bus", "tornado", "monte_carlo", "flame"):
+        assert f'data-chart="{chart}"' in html
+    assert "licensed" in html  # the safety caution

@@ -143,9 +143,11 @@ def _run(args: argparse.Namespace) -> None:
 
 
 def _write_report(study: Study, result: StudyResult, output: str) -> Path:
+    from workbench.engine import read_map
     from workbench.report import write_report
 
-    return write_report(result, Path(output), study_text=study.to_toml())
+    maps = {c.id: read_map(c.engine_map) for c in study.inputs.classes}
+    return write_report(result, Path(output), study_text=study.to_toml(), map_grid=maps)
 
 
 def _report(args: argparse.Namespace) -> None:
