@@ -315,7 +315,8 @@ def residual_value(
 # --- uncertainty -------------------------------------------------------------------------------
 
 Kind = Literal["fixed", "uniform", "triangular", "normal", "lognormal"]
-_PARAMETERS: dict[str, tuple[str, ...]] = {
+#: Parameters each distribution kind takes.
+DISTRIBUTION_PARAMETERS: dict[str, tuple[str, ...]] = {
     "fixed": ("value",),
     "uniform": ("low", "high"),
     "triangular": ("low", "mode", "high"),
@@ -357,11 +358,10 @@ class Distribution:
 
     def __post_init__(self) -> None:
         w = self.where
-        if self.kind not in _PARAMETERS:
-            raise InputError(
-                f"{w}.kind", f"unknown kind {self.kind!r}; use one of {', '.join(_PARAMETERS)}"
-            )
-        wanted = _PARAMETERS[self.kind]
+        if self.kind not in DISTRIBUTION_PARAMETERS:
+            kinds = ", ".join(DISTRIBUTION_PARAMETERS)
+            raise InputError(f"{w}.kind", f"unknown kind {self.kind!r}; use one of {kinds}")
+        wanted = DISTRIBUTION_PARAMETERS[self.kind]
         for name in ("value", "low", "mode", "high", "mean", "sd"):
             v = getattr(self, name)
             if name not in wanted:
@@ -418,7 +418,8 @@ class Distribution:
                 f"unknown key; a distribution takes {', '.join(sorted(names))}",
             )
         if "kind" not in spec:
-            raise InputError(f"{where}.kind", f"missing; use one of {', '.join(_PARAMETERS)}")
+            kinds = ", ".join(DISTRIBUTION_PARAMETERS)
+            raise InputError(f"{where}.kind", f"missing; use one of {kinds}")
         return cls(**spec, where=where)  # type: ignore[arg-type]
 
     @property

@@ -128,7 +128,7 @@ def format_table(records: list[dict], units: dict[str, str]) -> str:
     keys = [k for k in units if any(k in r for r in records)]
     label = {k: f"{k} [{units[k]}]" if units[k] else k for k in keys}
     width = max(len(v) for v in label.values())
-    cols = [[_cell(r.get(k)) for k in keys] for r in records]
+    cols = [[format_cell(r.get(k)) for k in keys] for r in records]
     col_w = [max(len(c) for c in col) for col in cols]
     lines = []
     for i, k in enumerate(keys):
@@ -137,7 +137,18 @@ def format_table(records: list[dict], units: dict[str, str]) -> str:
     return "\n".join(lines)
 
 
-def _cell(value: object) -> str:
+def format_cell(value: object) -> str:
+    """A value as table text: None as a dash, big numbers with thousands separators.
+
+    Parameters
+    ----------
+    value : object
+        Number, flag, text or None.
+
+    Returns
+    -------
+    str
+    """
     if value is None:
         return "—"
     if isinstance(value, bool):

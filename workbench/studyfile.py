@@ -21,7 +21,7 @@ import os
 import re
 import tempfile
 import tomllib
-from collections.abc import Callable, Mapping
+from collections.abc import Callable, Iterable, Mapping
 from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
@@ -215,20 +215,33 @@ class Study:
         -------
         Study
         """
+        return self.with_values({path: value})
+
+    def with_values(self, changes: Mapping[str, Any], *, remove: Iterable[str] = ()) -> Study:
+        """A new study with several values changed and entries removed, checked together.
+
+        Parameters
+        ----------
+        changes : mapping of str to object
+            Raw values by key path; missing tables on the way are created.
+        remove : iterable of str
+            Key paths of table entries to delete (a fuel's price once no option uses it).
+
+        Returns
+        -------
+        Study
+        """
         data = copy.deepcopy(self._data)
-        keys = _split_path(path)
-        node: Any = data
-        for key in keys[:-1]:
-            if isinstance(key, str) and isinstance(node, dict) and key not in node:
-                node[key] = {}
+        for path, value in changes.items():
+            node, key = _parent(data, path)
             try:
-                node = node[key]
-            except (KeyError, IndexError, TypeError):
+                node[key] = copy.deepcopy(value)
+            except (IndexError, TypeError):
                 raise InputError(path, "no such key in the study") from None
-        try:
-            node[keys[-1]] = value
-        except (IndexError, TypeError):
-            raise InputError(path, "no such key in the study") from None
+        for path in remove:
+            node, key = _parent(data, path)
+            if isinstance(node, dict):
+                node.pop(key, None)
         return Study(data, where=self.where, base_dir=self.base_dir)
 
     def to_toml(self) -> str:
@@ -238,6 +251,22 @@ class Study:
     def digest(self) -> str:
         """SHA-256 of the study's TOML text (identifies the inputs in reports)."""
         return hashlib.sha256(self.to_toml().encode("utf-8")).hexdigest()
+
+
+def _parent(data: dict[str, Any], path: str) -> tuple[Any, str | int]:
+    """The table or list holding the last key of ``path`` (tables made as needed)."""
+    keys = _split_path(path)
+    node: Any = data
+    for key in keys[:-1]:
+        if isinstance(key, str) and isinstance(node, dict) and key not in node:
+            node[key] = {}
+        try:
+            node = node[key]
+        except (KeyError, IndexError, TypeError):
+            raise InputError(path, "no such key in the study") from None
+    if not isinstance(node, dict | list):
+        raise InputError(path, "no such key in the study")
+    return node, keys[-1]
 
 
 def _split_path(path: str) -> list[str | int]:
