@@ -424,11 +424,18 @@ def _fixed(value: Any, dimension: str, where: str, unit: str | None = None,
     return out
 
 
-def _check_range(value: float, where: str, low: float | None, high: float | None) -> None:
+def _check_range(value: float, where: str, low: float | None, high: float | None,
+                 unit: tuple[str, float] = ("", 1.0)) -> None:
+    label, scale = unit
+    suffix = f" {label}" if label else ""
+
+    def show(x: float) -> str:
+        return f"{x * scale:g}{suffix}"
+
     if low is not None and not value >= low:
-        raise InputError(where, f"must be at least {low:g}, got {value:g}")
+        raise InputError(where, f"must be at least {show(low)}, got {show(value)}")
     if high is not None and not value <= high:
-        raise InputError(where, f"must be at most {high:g}, got {value:g}")
+        raise InputError(where, f"must be at most {show(high)}, got {show(value)}")
 
 
 def _quantity(value: Any, dimension: str, where: str, unit: str | None) -> float:
@@ -442,7 +449,7 @@ def _uncertain(raw: Any, parse: Callable[[Any, str], float], where: str,
                unit: tuple[str, float] = ("", 1.0)) -> Uncertain:
     if not isinstance(raw, Mapping):
         value = parse(raw, where)
-        _check_range(value, where, low, high)
+        _check_range(value, where, low, high, unit)
         return Uncertain(value, None, where, *unit)
     if "kind" not in raw:
         raise InputError(f"{where}.kind", "a distribution needs a kind: uniform, triangular, "
@@ -457,10 +464,10 @@ def _uncertain(raw: Any, parse: Callable[[Any, str], float], where: str,
         params[k] = parse(v, f"{where}.{k}")
     dist = Distribution.from_mapping({"kind": raw["kind"], **params}, where=where)
     nominal = dist.mode if dist.kind == "triangular" else dist.expected_value()
-    _check_range(float(nominal), where, low, high)
+    _check_range(float(nominal), where, low, high, unit)
     for k in ("low", "high", "value"):
         if params.get(k) is not None:
-            _check_range(params[k], f"{where}.{k}", low, high)
+            _check_range(params[k], f"{where}.{k}", low, high, unit)
     return Uncertain(float(nominal), dist, where, *unit)
 
 
