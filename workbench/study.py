@@ -32,7 +32,13 @@ from workbench.emissions import co2e
 from workbench.engine import DutyEnergy, duty_energy, fuel_per_km_for, mode_energy, read_map
 from workbench.errors import InputError
 from workbench.fuels import Fuel, load_fuel
-from workbench.nox import DEFAULT_ENGINE_OUT, duty_propensity, engine_out_nox, engine_preset
+from workbench.nox import (
+    DEFAULT_ENGINE_OUT,
+    duty_propensity,
+    engine_out_nox,
+    engine_preset,
+    nox_sweep,
+)
 from workbench.results import COLUMNS, PALETTE, StudyResult
 from workbench.storage import tank_for_range
 from workbench.studyfile import (
@@ -44,6 +50,7 @@ from workbench.studyfile import (
     all_uncertain,
     price_factor,
 )
+from workbench.thermo import molar_mass
 from workbench.vehicle import FIRED, IDLE, operating_points, read_vehicle, road_load
 
 #: Reference fuel of each engine setting's typical engine-out NOx default.
@@ -279,7 +286,7 @@ def _best_interval(device: Aftertreatment, eo: float, km_month: float, months: i
 
 def _methane_mass_share(fuel: Fuel) -> float:
     x = fuel.mole_fractions.get("CH4", 0.0)
-    return x * 16.043 / fuel.molar_mass() if x else 0.0
+    return x * molar_mass({"C": 1, "H": 4}) / fuel.molar_mass() if x else 0.0
 
 
 @lru_cache(maxsize=256)
@@ -466,11 +473,12 @@ def run(study: Study, *, draws: int | None = None,
             paybacks[o.id] = np.asarray(econ.discounted_payback(money.rate, diff)
                                         ).reshape(n)
     colours = {o.id: PALETTE[i % len(PALETTE)] for i, o in enumerate(inputs.options)}
+    per_km = _frame("per_km", _per_km_rows(plan, det))
     result = StudyResult(
         title=inputs.title,
         currency=inputs.currency,
-        candidates=_candidates_table(plan, det, mc, paybacks, colours),
-        per_km=_per_km_table(plan, det),
+        candidates=_candidates_table(plan, det, per_km, mc, paybacks, colours),
+        per_km=per_km,
         cash_flows=_cash_flow_table(plan, det),
         fleet_years=_fleet_years_table(plan, det),
         nox_monthly=_nox_monthly_table(plan),
@@ -553,15 +561,11 @@ def _tailpipe_co2e(ph: ClassPhysics, co: ClassOption) -> float:
     return float(co2e(ph.co2_ttw_per_m, ph.ch4_per_m, co.n2o_per_m))
 
 
-def _per_km_table(plan: _Plan, det: Money) -> pd.DataFrame:
-    return _frame("per_km", _per_km_rows(plan, det))
-
-
-def _candidates_table(plan: _Plan, det: Money, mc: Mapping[str, np.ndarray],
-                      paybacks: Mapping[str, np.ndarray], colours: Mapping[str, str]
-                      ) -> pd.DataFrame:
+def _candidates_table(plan: _Plan, det: Money, per_km: pd.DataFrame,
+                      mc: Mapping[str, np.ndarray], paybacks: Mapping[str, np.ndarray],
+                      colours: Mapping[str, str]) -> pd.DataFrame:
     inputs = plan.inputs
-    per_km = pd.DataFrame(_per_km_rows(plan, det))
+    per_km = per_km.copy()
     weights = {c.id: c.count * c.km_per_year.nominal for c in inputs.classes}
     per_km["w"] = per_km["vehicle_class"].map(weights)
     rate = det.rate[0]
@@ -714,8 +718,6 @@ def _operating_points_table(plan: _Plan) -> pd.DataFrame:
 
 
 def _flame_table(plan: _Plan) -> pd.DataFrame:
-    from workbench.nox import nox_sweep
-
     rows = []
     seen = set()
     for o in plan.inputs.options:
