@@ -82,3 +82,14 @@ def test_demo_writes_a_report_with_every_chart(run_cli, tmp_path):
                   "efficiency_map:taxi", "efficiency_map:bus", "tornado", "monte_carlo", "flame"):
         assert f'data-chart="{chart}"' in html
     assert "licensed" in html  # the safety caution
+
+
+def test_check_reads_the_profiles_too(run_cli, tmp_path):
+    (tmp_path / "mine.csv").write_text("time_s,speed_km_per_h\n0,0\n1,10\n1,20\n",
+                                      encoding="utf-8")
+    text = DEMO_STUDY.read_text(encoding="utf-8").replace('profile = "taxi-shift"',
+                                                          'profile = "mine.csv"')
+    study = tmp_path / "s.toml"
+    study.write_text(text, encoding="utf-8")
+    code, _, err = run_cli("study", "check", str(study))
+    assert code == 2 and "mine.csv row 4" in err and err.count("\n") == 1
