@@ -131,3 +131,6 @@ def test_export_draws_every_figure_offline(path, python3_kernel):
     # ... and never fetched from a CDN.
     sources = re.findall(r"<script[^>]*\bsrc=[\"']([^\"']+)", html)
     assert not [s for s in sources if "plot" in s.lower()], sources
+    # Nor do the figures link Plotly's MathJax 3 (nbconvert's page template loads its own
+    # MathJax 2 for Markdown; that one is the template's, not ours).
+    assert not re.search(r"mathjax/3[^\"']*tex-svg", html)

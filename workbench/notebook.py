@@ -6,18 +6,39 @@ Why the renderer matters: inside a kernel, recent Plotly versions show a figure 
 Plotly mimetype, which JupyterLab draws but nbconvert cannot, so an exported notebook would
 silently lose its charts. ``"plotly_mimetype+notebook"`` sends both: the mimetype for
 JupyterLab and an HTML ``<div>`` with a ``Plotly.newPlot`` call for the exported page, with
-plotly.js embedded once (offline, no CDN) before the first figure.
+plotly.js embedded once (offline, no CDN) before the first figure. Plotly's notebook renderer
+also links MathJax from a CDN into every figure; the workbench charts use no LaTeX, so
+:class:`OfflineNotebookRenderer` leaves that link out and an exported page asks no server.
 """
 
 from __future__ import annotations
 
+import re
+from typing import Any
+
 import pandas as pd
 import plotly.io as pio
+from plotly.io._base_renderers import NotebookRenderer
 
 from workbench.charts import TEMPLATE
 
 #: Plotly renderer of the notebooks: JupyterLab's mimetype plus self-contained HTML.
-NOTEBOOK_RENDERER = "plotly_mimetype+notebook"
+NOTEBOOK_RENDERER = "plotly_mimetype+workbench_notebook"
+_MATHJAX_SCRIPT = re.compile(r"<script[^>]*src=\"[^\"]*mathjax[^\"]*\"[^>]*>\s*</script>",
+                             re.IGNORECASE)
+
+
+class OfflineNotebookRenderer(NotebookRenderer):
+    """Plotly's notebook renderer without the MathJax link it adds to every figure."""
+
+    def to_mimebundle(self, fig_dict: dict[str, Any]) -> dict[str, str]:
+        """The figure's HTML, with no script loaded from a CDN."""
+        bundle = super().to_mimebundle(fig_dict)
+        bundle["text/html"] = _MATHJAX_SCRIPT.sub("", bundle["text/html"])
+        return bundle
+
+
+pio.renderers["workbench_notebook"] = OfflineNotebookRenderer()
 
 
 def setup_notebook(*, renderer: str = NOTEBOOK_RENDERER, precision: int = 3) -> None:
