@@ -163,9 +163,12 @@ def test_empty_parameter_is_named(app):
 
 def test_catalyst_life_changes_replacements(app):
     fields = app.economics.catalysts["candidates[0].aftertreatment"].fields
-    assert fields["life"].control.value == "250000 km"
+    life = fields["life"]  # the demo gives the life a triangular distribution
+    assert life.kind.value == "triangular" and life.params["mode"].value == "250000 km"
+    life.kind.value = "fixed"  # takes the mode as the value
+    assert app.study.get("candidates[0].aftertreatment.life") == "250000 km"
     before = app.state.result.catalyst
-    fields["life"].control.value = "60000 km"
+    life.params["value"].value = "60000 km"
     assert app.study.get("candidates[0].aftertreatment.life") == "60000 km"
     after = app.state.result.catalyst
 

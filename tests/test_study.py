@@ -137,8 +137,10 @@ BAD = [
     ("programme.horizon_years", 0, "programme.horizon_years"),
     ("classes[0].km_per_year", {"kind": "uniform", "low": "90000 km", "high": "80000 km"},
      "classes[0].km_per_year"),
-    ("candidates[0].derate", {"kind": "uniform", "low": "1 %", "high": "5 %"},
-     "candidates[0].derate"),
+    ("classes[0].range", {"kind": "uniform", "low": "300 km", "high": "500 km"},
+     "classes[0].range"),
+    ("candidates[0].efficiency_offset", {"kind": "uniform", "low": "-50 %", "high": "0 %"},
+     "candidates[0].efficiency_offset"),
     ("candidates[1].aftertreatment.preset", "magic", "candidates[1].aftertreatment.preset"),
     ("baseline.engine_out_nox.taxi", "1.6 g/mile", "baseline.engine_out_nox.taxi"),
 ]
@@ -171,3 +173,40 @@ def test_tank_inspections_fall_in_their_years(demo):
     expected = np.zeros_like(diff)
     expected[[3, 6]] = per_year
     assert_allclose(diff, expected, rtol=1e-9, atol=1e-6)
+
+
+def _collapsed(study: Study) -> Study:
+    for path in study.inputs.uncertain:
+        study = study.with_value(path, _nominal_text(study, path))
+    return study
+
+
+def test_physics_input_response_is_exact_at_its_nodes(demo):
+    # Only the bus efficiency offset uncertain: the tornado sets it to its P10 and P90, which are
+    # response nodes, so the NPV there must equal a deterministic run with that value fixed.
+    s = _collapsed(demo).with_value(
+        "candidates[1].efficiency_offset.bus",
+        {"kind": "uniform", "low": "-6 %", "high": "-2 %"})
+    res = run(s, draws=200)
+    row = res.tornado.query("candidate == 'cng-fleet'").iloc[0]
+    assert row["input"].startswith("candidates[1].efficiency_offset.bus")
+    low_pct = row["low_value"]
+    assert_allclose(low_pct, -5.6, rtol=1e-9)  # P10 of uniform(-6, -2) %
+    fixed = run(s.with_value("candidates[1].efficiency_offset.bus", "-5.6 %"), draws=0)
+    npv = fixed.candidates.set_index("candidate").at["cng-fleet", "npv_vs_baseline"]
+    assert_allclose(row["npv_at_low"], npv, rtol=1e-9)
+    # a worse conversion efficiency costs money
+    assert row["npv_at_low"] < row["npv_at_high"]
+    draws = res.monte_carlo.query("candidate == 'cng-fleet'")["npv_vs_baseline"]
+    assert draws.std() > 0
+
+
+def test_catalyst_life_uncertainty_moves_catalyst_costs(demo):
+    s = _collapsed(demo).with_value(
+        "candidates[0].aftertreatment.life",
+        {"kind": "uniform", "low": "100000 km", "high": "400000 km"})
+    res = run(s, draws=100)
+    row = res.tornado.query("candidate == 'lpg-taxis'").iloc[0]
+    assert "[km]" in row["input"]
+    # a shorter-lived catalyst is replaced more often: the NPV is lower at the low end
+    assert row["npv_at_low"] < row["npv_at_high"]

@@ -17,7 +17,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable, Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from functools import lru_cache
 from pathlib import Path
 
@@ -317,11 +317,42 @@ class _Plan:
     nox_t: dict[tuple[str, str], np.ndarray]  # fleet tonnes by year, shape (H+1,)
     replacements: dict[tuple[str, str], np.ndarray]  # fleet catalyst replacements by year
     price_factor: dict[str, float]  # by fuel id: currency/J per unit of price value
+    responses: dict[tuple[str, str], list[Response]]  # physics inputs with a distribution
+
+
+@dataclass(frozen=True)
+class Response:
+    """How one option-class's money-relevant physics answers one uncertain physics input.
+
+    Attributes
+    ----------
+    path : str
+        Key path of the input.
+    nodes : numpy.ndarray
+        Input values it was evaluated at (quantiles of its distribution), increasing.
+    energy : numpy.ndarray
+        Fuel energy per distance at each node [J/m].
+    tailpipe_co2e : numpy.ndarray
+        Tailpipe CO2e per distance at each node [kg/m].
+    catalyst : numpy.ndarray
+        Catalyst and reductant cost by year at each node, shape (nodes, H+1) [currency].
+    """
+
+    path: str
+    nodes: np.ndarray
+    energy: np.ndarray
+    tailpipe_co2e: np.ndarray
+    catalyst: np.ndarray
+
+
+#: Quantiles at which an uncertain physics input is evaluated; draws between them are
+#: interpolated linearly, draws beyond them held at the end values.
+RESPONSE_QUANTILES = (0.01, 0.1, 0.3, 0.5, 0.7, 0.9, 0.99)
 
 
 def _plan(inputs: StudyInputs) -> _Plan:
     h = inputs.horizon_years
-    physics, active, cat, nox, repl = {}, {}, {}, {}, {}
+    physics, active, cat, nox, repl, responses = {}, {}, {}, {}, {}, {}
     years = np.arange(h + 1)
     for c in inputs.classes:
         run_years = min(h, c.remaining_life_years)
@@ -330,21 +361,82 @@ def _plan(inputs: StudyInputs) -> _Plan:
             ph = class_physics(c, o.per_class[c.id], inputs.baseline.per_class[c.id],
                                12 * run_years, inputs.nox_damage_cost.nominal)
             physics[o.id, c.id] = ph
-            yearly = ph.yearly.set_index("year")
-            cost, tonnes, count = np.zeros(h + 1), np.zeros(h + 1), np.zeros(h + 1)
-            for y in range(1, run_years + 1):
-                if y in yearly.index:
-                    cost[y] = yearly.at[y, "replacement_cost"] + yearly.at[y, "reductant_cost"]
-                    tonnes[y] = yearly.at[y, "fleet_nox_t"]
-                    count[y] = yearly.at[y, "replacements"]
-            cat[o.id, c.id] = cost
-            nox[o.id, c.id] = tonnes
-            repl[o.id, c.id] = count
+            cat[o.id, c.id], nox[o.id, c.id], repl[o.id, c.id] = _yearly(ph, h, run_years)
+            responses[o.id, c.id] = [
+                _response(inputs, c, o.per_class[c.id], field, u, 12 * run_years, run_years)
+                for field, u in (*c.varied, *o.per_class[c.id].varied)]
     factors = {}
     for o in inputs.options:
         for co in o.per_class.values():
             factors[co.fuel.id] = price_factor(inputs.prices[co.fuel.id][0], co.fuel)
-    return _Plan(inputs, physics, active, cat, nox, repl, factors)
+    return _Plan(inputs, physics, active, cat, nox, repl, factors, responses)
+
+
+def _yearly(ph: ClassPhysics, h: int, run_years: int
+            ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Catalyst cost, fleet NOx tonnes and replacements by programme year, shape (H+1,)."""
+    yearly = ph.yearly.set_index("year")
+    cost, tonnes, count = np.zeros(h + 1), np.zeros(h + 1), np.zeros(h + 1)
+    for y in range(1, run_years + 1):
+        if y in yearly.index:
+            cost[y] = yearly.at[y, "replacement_cost"] + yearly.at[y, "reductant_cost"]
+            tonnes[y] = yearly.at[y, "fleet_nox_t"]
+            count[y] = yearly.at[y, "replacements"]
+    return cost, tonnes, count
+
+
+def _response(inputs: StudyInputs, c: FleetClass, co: ClassOption, field: str, u: Uncertain,
+              months: int, run_years: int) -> Response:
+    """Evaluate one option-class at quantiles of one uncertain physics input."""
+    nodes = np.unique(np.asarray(u.dist.ppf(np.array(RESPONSE_QUANTILES)), dtype=float))
+    base = inputs.baseline.per_class[c.id]
+    energy, tailpipe, catalyst = [], [], []
+    for value in nodes:
+        try:
+            c2, co2 = _vary(c, co, field, float(value))
+        except InputError as exc:
+            raise InputError(u.path, f"at {value:g} of its range: {exc.message}") from None
+        ph = class_physics(c2, co2, base, months, inputs.nox_damage_cost.nominal)
+        energy.append(ph.fuel_energy_per_m)
+        tailpipe.append(_tailpipe_co2e(ph, co2))
+        catalyst.append(_yearly(ph, inputs.horizon_years, run_years)[0])
+    return Response(u.path, nodes, np.array(energy), np.array(tailpipe), np.array(catalyst))
+
+
+def _vary(c: FleetClass, co: ClassOption, field: str, value: float
+          ) -> tuple[FleetClass, ClassOption]:
+    """The class and option with one physics input set to ``value``."""
+    if field in ("accessory_power", "extra_idle_share"):
+        return replace(c, **{field: value}), co
+    if field.startswith("aftertreatment."):
+        device = replace(co.aftertreatment, **{field.split(".", 1)[1]: value})
+        return c, replace(co, aftertreatment=device)
+    return c, replace(co, **{field: value})
+
+
+def _interp_rows(x: np.ndarray, nodes: np.ndarray, table: np.ndarray) -> np.ndarray:
+    """Rows of ``table`` (one per node) interpolated linearly at each ``x``, ends held.
+
+    Parameters
+    ----------
+    x : numpy.ndarray
+        Input values, shape (n,).
+    nodes : numpy.ndarray
+        Increasing node values, shape (k,), k >= 1.
+    table : numpy.ndarray
+        Values at the nodes, shape (k,) or (k, m).
+
+    Returns
+    -------
+    numpy.ndarray
+        Shape (n, 1) or (n, m).
+    """
+    table = table.reshape(len(nodes), -1)
+    if len(nodes) == 1:
+        return np.broadcast_to(table[0], (len(x), table.shape[1])).copy()
+    i = np.clip(np.searchsorted(nodes, x, side="right") - 1, 0, len(nodes) - 2)
+    t = np.clip((x - nodes[i]) / (nodes[i + 1] - nodes[i]), 0.0, 1.0)[:, None]
+    return table[i] * (1.0 - t) + table[i + 1] * t
 
 
 def inputs_fuel(inputs: StudyInputs, option_id: str, class_id: str) -> Fuel:
@@ -398,24 +490,24 @@ def _money(plan: _Plan, params: Mapping[str, np.ndarray], n: int) -> Money:
         any_active = np.zeros(h + 1)
         for c in inputs.classes:
             co = o.per_class[c.id]
-            ph = plan.physics[o.id, c.id]
             act = plan.active[c.id]
             any_active = np.maximum(any_active, act)
             km = val(c.km_per_year) * act * c.count
             if o.is_baseline:
                 km_total += km
             fid = co.fuel.id
+            energy, tailpipe, catalyst = _physics_draws(plan, o.id, c.id, co, params, n)
             price = val(inputs.prices[fid][1]) * plan.price_factor[fid]
             esc = (1.0 + val(inputs.escalation[fid])) ** np.maximum(years - 1, 0)
-            co2e_m = val(inputs.upstream[fid]) * ph.fuel_energy_per_m + _tailpipe_co2e(ph, co)
+            co2e_m = val(inputs.upstream[fid]) * energy + tailpipe
             emissions += km * co2e_m
-            cost += km * ph.fuel_energy_per_m * price * esc
+            cost += km * energy * price * esc
             cost += km * co2e_m * carbon
             upkeep = val(c.upkeep_per_year) + val(co.upkeep_change_per_year)
             cost += upkeep * c.count * act
             cost += val(co.tank_inspection_cost) * c.count * act * _inspections(
                 co.tank_inspection_interval, h)
-            cost += plan.catalyst_cost[o.id, c.id] * (val(c.km_per_year) / c.km_per_year.nominal)
+            cost += catalyst * (val(c.km_per_year) / c.km_per_year.nominal)
             if co.converts:
                 capital = val(co.conversion_cost) * c.count
                 cost[:, :1] += capital + val(co.downtime_days) * val(c.daily_revenue) * c.count
@@ -428,6 +520,26 @@ def _money(plan: _Plan, params: Mapping[str, np.ndarray], n: int) -> Money:
         cash[o.id] = residual - cost
         co2e[o.id] = emissions
     return Money(costs, cash, km_total, co2e, rate)
+
+
+def _physics_draws(plan: _Plan, oid: str, cid: str, co: ClassOption,
+                   params: Mapping[str, np.ndarray], n: int
+                   ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Fuel energy [J/m], tailpipe CO2e [kg/m] (both (n, 1)) and catalyst cost by year
+    ((n, H+1)) for each draw: nominal physics plus each drawn input's effect, taken one at a
+    time from its response (first order: effects of several inputs add)."""
+    ph = plan.physics[oid, cid]
+    energy = np.full((n, 1), ph.fuel_energy_per_m)
+    tailpipe = np.full((n, 1), _tailpipe_co2e(ph, co))
+    catalyst = np.broadcast_to(plan.catalyst_cost[oid, cid], (n, len(plan.active[cid]))).copy()
+    for r in plan.responses[oid, cid]:
+        if r.path not in params:
+            continue
+        x = np.broadcast_to(np.asarray(params[r.path], dtype=float), (n,))
+        energy += _interp_rows(x, r.nodes, r.energy) - ph.fuel_energy_per_m
+        tailpipe += _interp_rows(x, r.nodes, r.tailpipe_co2e) - _tailpipe_co2e(ph, co)
+        catalyst += _interp_rows(x, r.nodes, r.catalyst) - plan.catalyst_cost[oid, cid]
+    return energy, tailpipe, catalyst
 
 
 # ----------------------------------------------------------------------------- run
@@ -766,6 +878,9 @@ def _assumptions(study: Study, draws: int) -> dict[str, str]:
         "Monte Carlo": f"{draws} draws, seed {i.seed}; uncertain inputs: "
                        f"{', '.join(i.uncertain) or 'none'}",
         "input hash": study.digest(),
+        "uncertain physics inputs": "evaluated at P1, P10, P30, P50, P70, P90 and P99 and "
+                                    "interpolated per draw; effects of several such inputs "
+                                    "add (first order)",
         "engine-out NOx": "screening model: baseline measured or typical engine-out NOx scaled "
                           "by the flame-chemistry propensity of each fuel",
         "classes past their remaining life": "drop out of every option alike (replacement "

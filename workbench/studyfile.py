@@ -6,10 +6,12 @@ is resolved, and every error names its key path (``candidates[1].conversion_cost
 values are in :attr:`Study.inputs`, in SI and the study currency. The format is documented in
 ``docs/study-file.md``.
 
-Numbers that only move money or usage (prices, escalation, discount rate, carbon price, NOx
-damage cost, km per year, upkeep, conversion and programme costs, downtime, daily revenue,
-upstream factors) may be written as a distribution table instead of a value; the study's Monte
-Carlo draws them. Physics inputs (vehicles, maps, derates, engine settings) are fixed.
+Numbers may be written as a distribution table instead of a value; the study's Monte Carlo
+draws them. Money and usage inputs enter the cash flows directly. The study's own physics inputs
+(derate, efficiency offset, methane slip, accessory power, extra idling, catalyst efficiencies,
+life and costs) are listed in ``varied`` and evaluated at a few quantiles of their distribution
+(see ``workbench.study``). Inputs that change neither money nor physics of the programme (tank
+range, hours per day, lambda for ppm conversion, N2O) and the files a study names are fixed.
 """
 
 from __future__ import annotations
@@ -90,6 +92,7 @@ class FleetClass:
     accessory_power: float  # [W]
     engine_off_at_stops: bool
     extra_idle_share: float
+    varied: tuple[tuple[str, Uncertain], ...] = ()  # physics inputs with a distribution
 
 
 @dataclass(frozen=True)
@@ -112,6 +115,7 @@ class ClassOption:
     lambda_overall: float
     methane_slip: float  # share of the fuel's methane leaving unburnt [-]
     aftertreatment: Aftertreatment
+    varied: tuple[tuple[str, Uncertain], ...] = ()  # physics inputs with a distribution
 
 
 @dataclass(frozen=True)
@@ -586,11 +590,13 @@ def all_uncertain(inputs: StudyInputs) -> list[Uncertain]:
     out = [inputs.discount_rate, inputs.carbon_price, inputs.nox_damage_cost]
     for c in inputs.classes:
         out += [c.km_per_year, c.upkeep_per_year, c.daily_revenue]
+        out += [u for _, u in c.varied]
     for o in inputs.options:
         out += [o.programme_capital, o.programme_upkeep_per_year]
         for co in o.per_class.values():
             out += [co.conversion_cost, co.upkeep_change_per_year, co.downtime_days,
                     co.tank_inspection_cost]
+            out += [u for _, u in co.varied]
     out += [u for _, u in inputs.prices.values()]
     out += list(inputs.escalation.values()) + list(inputs.upstream.values())
     seen: dict[str, Uncertain] = {}
@@ -613,10 +619,29 @@ def _data_file(raw: Any, where: str, folder: str, suffix: str, base_dir: Path) -
                      f"{suffix} file")
 
 
+def _watts(raw: Any, where: str) -> float:
+    return parse_quantity(raw, "[power]", where=where)
+
+
+def _physics_input(varied: list[tuple[str, Uncertain]]) -> Callable[..., float]:
+    """A reader of physics inputs that notes which carry a distribution in ``varied``."""
+
+    def read(r: _Reader, key: str, parse: Callable[[Any, str], float], default: Any,
+             low: float, high: float, unit: tuple[str, float]) -> float:
+        u = r.uncertain(key, parse, default, low=low, high=high, unit=unit)
+        if u.dist is not None and not u.dist.spread_is_zero:
+            varied.append((key, u))
+        return u.nominal
+
+    return read
+
+
 def _fleet_class(r: _Reader, base_dir: Path, currency: str) -> FleetClass:
     cid = r.text("id")
     if not re.fullmatch(r"[A-Za-z0-9_-]+", cid):
         raise InputError(r.at("id"), "use letters, digits, - and _ only")
+    varied: list[tuple[str, Uncertain]] = []
+    physics = _physics_input(varied)
     return FleetClass(
         id=cid,
         name=str(r.raw("name", cid)),
@@ -633,10 +658,10 @@ def _fleet_class(r: _Reader, base_dir: Path, currency: str) -> FleetClass:
                                     unit=(f"{currency}/year", 1.0)),
         daily_revenue=r.uncertain("daily_revenue", _money, 0.0, low=0.0,
                                   unit=(f"{currency}/day", 1.0)),
-        accessory_power=r.quantity("accessory_power", "[power]", "0 W", low=0.0,
-                                   high=1e5),
+        accessory_power=physics(r, "accessory_power", _watts, "0 W", 0.0, 1e5, ("kW", 1e-3)),
         engine_off_at_stops=r.flag("engine_off_at_stops", False),
-        extra_idle_share=r.quantity("extra_idle_share", "[]", 0.0, low=0.0, high=0.9),
+        extra_idle_share=physics(r, "extra_idle_share", _fraction, 0.0, 0.0, 0.9, PERCENT),
+        varied=tuple(varied),
     )
 
 
@@ -703,6 +728,15 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], is_baseline: b
         return _fixed(_per_class(r, key, c.id, class_ids, default), "[]", at(key), None, low,
                       high)
 
+    varied: list[tuple[str, Uncertain]] = []
+
+    def varying(key: str, default: str, low: float, high: float) -> float:
+        u = _uncertain(_per_class(r, key, c.id, class_ids, default), _fraction, at(key), low,
+                       high, PERCENT)
+        if u.dist is not None and not u.dist.spread_is_zero:
+            varied.append((key, u))
+        return u.nominal
+
     fuel = _fuel(_per_class(r, "fuel", c.id, class_ids, ...), at("fuel"))
     engine = _per_class(r, "engine", c.id, class_ids, _default_engine(fuel))
     if engine not in ENGINE_PRESETS:
@@ -728,8 +762,8 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], is_baseline: b
         fuel=fuel,
         engine=engine,
         engine_map=engine_map,
-        derate=fixed("derate", "0 %", 0.0, 0.9),
-        efficiency_offset=fixed("efficiency_offset", "0 %", -0.3, 0.3),
+        derate=varying("derate", "0 %", 0.0, 0.9),
+        efficiency_offset=varying("efficiency_offset", "0 %", -0.3, 0.3),
         conversion_cost=uq("conversion_cost", _money, currency),
         upkeep_change_per_year=uq("upkeep_change_per_year", _money_per_year,
                                   f"{currency}/year", low=None),
@@ -742,9 +776,11 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], is_baseline: b
                          "[mass] / [length]", at("n2o"), None, 0.0, 1e-4),
         engine_out_nox=None if nox_raw is None else _engine_out(nox_raw, at("engine_out_nox")),
         lambda_overall=fixed("lambda_overall", lam_default, 0.5, 5.0),
-        methane_slip=fixed("methane_slip", "0 %", 0.0, 0.2),
+        methane_slip=varying("methane_slip", "0 %", 0.0, 0.2),
         aftertreatment=_aftertreatment(_per_class(r, "aftertreatment", c.id, class_ids,
-                                                  {"preset": "none"}), at("aftertreatment")),
+                                                  {"preset": "none"}), at("aftertreatment"),
+                                       varied, currency),
+        varied=tuple(varied),
     )
 
 
@@ -810,7 +846,9 @@ _AFTERTREATMENT_KEYS = {
 }
 
 
-def _aftertreatment(raw: Any, where: str) -> Aftertreatment:
+def _aftertreatment(raw: Any, where: str, varied: list[tuple[str, Uncertain]],
+                    currency: str) -> Aftertreatment:
+    """The device at its nominal values; inputs with a distribution are added to ``varied``."""
     r = _Reader(raw, where)
     for key in r.table:
         if key not in _AFTERTREATMENT_KEYS:
@@ -822,26 +860,38 @@ def _aftertreatment(raw: Any, where: str) -> Aftertreatment:
                          f"{', '.join(sorted(DEVICE_PRESETS))}")
     device = DEVICE_PRESETS[preset]
     changes: dict[str, Any] = {}
-    for key in ("efficiency_new", "efficiency_aged", "replacement_threshold"):
+    age_bases: set[str] = set()
+
+    def age(raw_age: Any, w: str) -> float:
+        value, basis = _age(raw_age, w)
+        age_bases.update({basis} - {None})
+        return value
+
+    parsers: dict[str, tuple[Callable[[Any, str], float], tuple[str, float]]] = {
+        "efficiency_new": (_fraction, PERCENT),
+        "efficiency_aged": (_fraction, PERCENT),
+        "replacement_threshold": (_fraction, PERCENT),
+        "life": (age, ("", 1.0)),
+        "replacement_interval": (age, ("", 1.0)),
+        "parts_cost": (_money, (currency, 1.0)),
+        "labour_cost": (_money, (currency, 1.0)),
+        "reductant_price": (_per_mass("kg"), (f"{currency}/kg", 1.0)),
+    }
+    for key, (parse, unit) in parsers.items():
         if r.has(key):
-            changes[key] = r.quantity(key, "[]", low=0.0, high=1.0)
-    age_bases = set()
-    for key in ("life", "replacement_interval"):
-        if r.has(key):
-            value, basis = _age(r, key)
-            changes[key] = value
-            age_bases |= {basis} - {None}
+            high = 1.0 if unit == PERCENT else None
+            u = r.uncertain(key, parse, low=0.0, high=high, unit=unit)
+            changes[key] = u.nominal
+            if key in ("life", "replacement_interval"):  # shown in the unit it was written in
+                u = replace(u, unit="km", scale=1e-3) if "distance" in age_bases else replace(
+                    u, unit="month", scale=1.0)
+            if u.dist is not None and not u.dist.spread_is_zero:
+                varied.append((f"aftertreatment.{key}", u))
     if len(age_bases) > 1:
         raise InputError(where, "give life and replacement_interval in the same kind of unit "
                          "(both months or both km)")
     if age_bases:
         changes["age_basis"] = age_bases.pop()
-    for key in ("parts_cost", "labour_cost"):
-        if r.has(key):
-            changes[key] = _money(r.raw(key), r.at(key))
-    if r.has("reductant_price"):
-        changes["reductant_price"] = _per_mass("kg")(r.raw("reductant_price"),
-                                                     r.at("reductant_price"))
     if r.has("policy"):
         changes["policy"] = r.raw("policy")
     try:
@@ -850,10 +900,8 @@ def _aftertreatment(raw: Any, where: str) -> Aftertreatment:
         raise InputError(f"{where}.{exc.where}", exc.message) from None
 
 
-def _age(r: _Reader, key: str) -> tuple[float, str | None]:
+def _age(raw: Any, where: str) -> tuple[float, str | None]:
     """An age as (value, basis): months or metres, or (inf, None) for "never"."""
-    raw = r.raw(key)
-    where = r.at(key)
     if raw == "never":
         return math.inf, None
     if not isinstance(raw, str):

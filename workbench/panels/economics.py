@@ -67,7 +67,8 @@ class CatalystRow(widgets.VBox):
 
         self.fields = {
             "preset": choice("preset", "device", tuple(sorted(DEVICE_PRESETS)), "none"),
-            "life": text("life", "catalyst life", age_text(device.life, device.age_basis)),
+            "life": UncertainField(state, f"{p}.life", "catalyst life",
+                                   age_text(device.life, device.age_basis)),
             "policy": choice("policy", "replacement policy", POLICIES, device.policy),
             "replacement_threshold": text("replacement_threshold", "replace below efficiency",
                                           f"{device.replacement_threshold:g}"),

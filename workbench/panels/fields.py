@@ -133,12 +133,14 @@ class UncertainField(widgets.HBox):
         Key path of the input (``prices.lpg``, ``programme.discount_rate``).
     title : str
         Label text.
+    default : str
+        Text shown when the study does not have the key (the model's default).
     """
 
-    def __init__(self, state: StudyState, path: str, title: str) -> None:
+    def __init__(self, state: StudyState, path: str, title: str, default: str = "") -> None:
         self.state = state
         self.path = path
-        raw = get_or(state.study, path, "")
+        raw = get_or(state.study, path, default)
         kind = raw.get("kind", "fixed") if isinstance(raw, dict) else "fixed"
         values = ({k: to_text(v) for k, v in raw.items() if k != "kind"}
                   if isinstance(raw, dict) else {"value": to_text(raw)})
