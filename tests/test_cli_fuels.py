@@ -63,6 +63,7 @@ def test_blend_writes_a_fuel_file_that_loads(run_cli, tmp_path):
         (("fuels", "show", "propane", "--phi", "0"), "phi"),
         (("fuels", "show", "propane", "--phi", "-1"), "phi"),
         (("fuels", "show", "propane", "--pressure", "0"), "--pressure"),
+        (("fuels", "show", "propane", "--t-unburnt", "-400"), "--t-unburnt"),
         (("fuels", "blend", "propane=0.5", "n-butane=0.6"), "sum to 1.1"),
         (("fuels", "blend", "propane=-0.5", "n-butane=1.5"), "zero or more"),
         (("fuels", "blend", "propane"), "FUEL=FRACTION"),

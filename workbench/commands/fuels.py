@@ -82,6 +82,8 @@ def _records(fuels: list, args: argparse.Namespace) -> list[dict]:
 
     if args.pressure <= 0:
         raise InputError("--pressure", f"must be above zero bar, got {args.pressure:g}")
+    if not -73.15 <= args.t_unburnt <= 1226.85:  # the flame model's 200-1500 K
+        raise InputError("--t-unburnt", f"must be -73 to 1226 °C, got {args.t_unburnt:g}")
     records = []
     for f in fuels:
         record = fuel_record(f, phi=args.phi, t_unburnt=args.t_unburnt + 273.15,

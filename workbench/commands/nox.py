@@ -70,7 +70,10 @@ def _run(args: argparse.Namespace) -> None:
 
     changes = {k: getattr(args, k) for k in _OPTIONS if getattr(args, k) is not None}
     if "residence_time" in changes:
-        changes["residence_time"] *= 1.0e-3
+        ms = changes["residence_time"]
+        if not 1e-4 <= ms <= 1e4:  # the model's 1e-7 to 10 s, in the option's unit
+            raise InputError("--residence-time", f"got {ms:g} ms; use 0.0001 to 10000 ms")
+        changes["residence_time"] = ms * 1.0e-3
     try:
         conditions = replace(ENGINE_PRESETS[args.engine], name=args.engine, **changes)
     except InputError as exc:
