@@ -132,6 +132,7 @@ BAD = [
     ("classes[0].profile", "no-such-profile", "classes[0].profile"),
     ("prices.diesel", "1.2 per Sm3", "prices.diesel"),
     ("prices.natural-gas", "1.2 per L", "prices.natural-gas"),
+    ("prices.diesel", "0.12 per kWh", "prices.diesel"),  # a liquid per energy needs LHV/HHV
     ("classes[1].count", -3, "classes[1].count"),
     ("programme.discount_rate", "-100 %", "programme.discount_rate"),
     ("programme.horizon_years", 0, "programme.horizon_years"),
@@ -152,6 +153,16 @@ def test_bad_inputs_name_their_key_path(demo, path, value, named):
         demo.with_value(path, value)
     assert named in str(err.value)
     assert "\n" not in str(err.value)
+
+
+def test_liquid_priced_per_energy_with_its_heating_value(demo):
+    # 0.12 per kWh LHV = 0.12 / 3.6 per MJ; diesel LHV 43.1 MJ/kg and 0.835 kg/L from the
+    # library give 0.12 / 3.6 * 43.1 * 0.835 = 1.1996 per L: the same run as that price per L.
+    per_kwh = run(demo.with_value("prices.diesel", "0.12 per kWh LHV"), draws=0)
+    per_l = run(demo.with_value("prices.diesel", f"{0.12 / 3.6 * 43.1 * 0.835!r} per L"),
+                draws=0)
+    assert_allclose(per_kwh.candidates["cost_per_km"], per_l.candidates["cost_per_km"],
+                    rtol=1e-9)
 
 
 def test_unknown_keys_are_refused(demo):

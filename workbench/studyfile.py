@@ -36,7 +36,13 @@ from workbench.economics import Distribution
 from workbench.errors import InputError
 from workbench.fuels import BASES, Fuel, blend, load_fuel
 from workbench.nox import ENGINE_PRESETS, EngineOutNOx
-from workbench.units import Price, parse_price, parse_quantity, price_per_energy
+from workbench.units import (
+    HEATING_VALUE_MARK,
+    Price,
+    parse_price,
+    parse_quantity,
+    price_per_energy,
+)
 
 #: Folder of shipped demo inputs (profiles, vehicles, maps, studies).
 DATA = Path(__file__).resolve().parent / "data"
@@ -935,6 +941,11 @@ def _prices(r: _Reader, fuels: Mapping[str, Fuel], currency: str
 
         unc = _uncertain(raw, parse, where, 0.0)
         price_factor(bases[0], fuels[fid])  # the basis must fit the fuel
+        if bases[0].basis == "energy" and not fuels[fid].is_gas and not any(
+                HEATING_VALUE_MARK.search(b.text) for b in bases):
+            raise InputError(where, f"{bases[0].text!r} prices a liquid fuel per energy; "
+                             "add the heating value (LHV or HHV) so it cannot be an electricity "
+                             "tariff by mistake, or price it per L or per kg")
         m = re.match(r"\s*(?:[A-Z]{3}\s*)?([-+0-9.eE]+)\s*(?:[A-Z]{3}\s*)?(.*)$", bases[0].text)
         amount = float(m.group(1)) if m else 0.0
         if m and bases[0].value > 0 and amount > 0:

@@ -63,6 +63,7 @@ from workbench.errors import InputError
 __all__ = [
     "DGE_NATURAL_GAS_MASS",
     "GGE_NATURAL_GAS_MASS",
+    "HEATING_VALUE_MARK",
     "NATURAL_GAS_LHV_AFDC",
     "P_STD",
     "STD_MOLAR_VOLUME_IDEAL",
@@ -117,7 +118,8 @@ ureg: pint.UnitRegistry = _build_registry()
 
 _NUMBER = r"[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?"
 _CODE = re.compile(r"\b[A-Z]{3}\b")
-_HEATING_VALUE = re.compile(r"\s+(LHV|HHV|NCV|GCV|net|gross)\s*$", re.IGNORECASE)
+#: A heating-value mark closing a price text ("per kWh HHV", "per GJ net").
+HEATING_VALUE_MARK = re.compile(r"\s+(LHV|HHV|NCV|GCV|net|gross)\s*$", re.IGNORECASE)
 # What pint raises on text it cannot read (UndefinedUnitError is an AttributeError, the tokenizer
 # raises SyntaxError/TokenError subclasses of ValueError or AssertionError on empty input).
 _PINT_ERRORS = (
@@ -319,7 +321,7 @@ def parse_price(
         raise InputError(where, f"a price is a text such as '1.45 per L', got {text_or_mapping!r}")
 
     heating_value: Literal["LHV", "HHV"] = "LHV"
-    hv = _HEATING_VALUE.search(text)
+    hv = HEATING_VALUE_MARK.search(text)
     body = text
     if hv is not None:
         heating_value = "LHV" if hv.group(1).upper() in ("LHV", "NCV", "NET") else "HHV"
