@@ -6,21 +6,16 @@ artifacts/report.png for a person to look at.
 
 from __future__ import annotations
 
-from pathlib import Path
-
 import pytest
+from browser import ARTIFACTS, launch, needs_chromium
 from study_fixture import XSS_NAME, make_map_grid, make_result
 
 from workbench.charts import all_figures
 from workbench.report import SAFETY_CAUTION, write_report
 
-CHROMIUM = Path("/usr/bin/chromium")
-ARTIFACTS = Path(__file__).resolve().parents[1] / "artifacts"
-
 pytestmark = [
     pytest.mark.browser,
-    pytest.mark.skipif(not CHROMIUM.exists(),
-                       reason="needs Debian chromium at /usr/bin/chromium (apt install chromium)"),
+    needs_chromium,
 ]
 
 
@@ -37,10 +32,7 @@ def test_report_renders_offline_in_chromium(tmp_path):
     dialogs: list[str] = []
     requests: list[str] = []
     with sync_playwright() as p:
-        browser = p.chromium.launch(
-            executable_path=str(CHROMIUM),
-            args=["--no-sandbox", "--disable-gpu", "--disable-background-networking",
-                  "--disable-component-update", "--disable-sync"])
+        browser = launch(p)
         try:
             context = browser.new_context(viewport={"width": 1280, "height": 900})
 
