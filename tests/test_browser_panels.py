@@ -2,7 +2,7 @@
 
 Serves notebooks/study.ipynb (the FICTIONAL demo study; every number invented) on 127.0.0.1,
 waits until Voilà has rendered every widget, changes the LPG price in the economics panel and
-checks that the NPV in the summary table and in the cash-flow chart (a FigureWidget) move. A
+checks that the NPV in the summary table and in the cash-flow chart move. A
 bad value must show its error beside the field. Screenshots for a person to look at:
 artifacts/panel-app-before.png and artifacts/panel-app.png (after the change).
 """
@@ -32,16 +32,17 @@ pytestmark = [
     needs_chromium,
 ]
 
-#: The lpg-taxis NPV read from the cash-flow FigureWidget drawn by plotly.js: the last point
-#: of that candidate's cumulative line (y may arrive as a typed array).
+#: The lpg-taxis NPV read from the cash-flow chart drawn by plotly.js: the last point of that
+#: candidate's cumulative line (y may arrive as a typed array).
 NPV_FROM_CHART = """() => {
   for (const div of document.querySelectorAll('.js-plotly-plot')) {
     const title = (div.layout && div.layout.title && div.layout.title.text) || '';
     if (!title.startsWith('Cumulative discounted')) continue;
-    for (const t of div.data || []) {
+    for (const t of div._fullData || []) {  // arrays decoded by plotly.js (not base64)
       if (t.legendgroup === 'candidate:lpg-taxis' && t.mode === 'lines+markers') {
         const y = Array.from(t.y);
-        return y[y.length - 1];
+        const last = y[y.length - 1];
+        return typeof last === 'number' ? last : null;
       }
     }
   }
@@ -131,12 +132,8 @@ def test_price_change_moves_npv_in_voila(voila_url):
                 page.wait_for_function(f"({NPV_FROM_CHART})() !== null", timeout=60_000)
                 return page
 
-            # A Playwright screenshot stops later FigureWidget updates from being drawn on that
-            # page (a resized window does not), so the "before" picture has a page of its own.
-            first = open_app()
-            first.screenshot(path=str(ARTIFACTS / "panel-app-before.png"))
-            first.close()
             page = open_app()
+            page.screenshot(path=str(ARTIFACTS / "panel-app-before.png"))
             text = page.inner_text("body")
             npv_chart = page.evaluate(NPV_FROM_CHART)
             npv_cell = page.inner_text(NPV_CELL)

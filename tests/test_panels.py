@@ -69,7 +69,7 @@ def _upload(widget, name: str, content: bytes) -> None:
 
 
 def test_lpg_price_field_moves_cost_bar_and_npv(app):
-    figures = [slot.figure for slot in app.results.slots]
+    panes = [slot.pane for slot in app.results.slots]
     cost_before, npv_before = _taxi_cost(app, "lpg-taxis"), _npv(app, "lpg-taxis")
     litres_per_km = _per_km(app, "lpg-taxis", "fuel_l_per_100km") / 100.0
 
@@ -77,8 +77,11 @@ def test_lpg_price_field_moves_cost_bar_and_npv(app):
 
     assert app.study.get("prices.lpg")["mode"] == "0.70 per L"
     assert app.economics.prices["lpg"].error.value == ""
-    # Same widgets, updated in place.
-    assert all(s.figure is f for s, f in zip(app.results.slots, figures, strict=True))
+    # Same widgets, redrawn in place; what they show is the figure the panel holds.
+    assert all(s.pane is p for s, p in zip(app.results.slots, panes, strict=True))
+    for slot in app.results.slots:
+        shown = slot.pane.outputs[0]["data"]["application/vnd.plotly.v1+json"]
+        assert len(shown["data"]) == len(slot.figure.data)
     # Cheaper LPG: lower cost per km, higher NPV against the baseline.
     assert _taxi_cost(app, "lpg-taxis") < cost_before
     assert _npv(app, "lpg-taxis") > npv_before
@@ -267,7 +270,7 @@ def test_duty_upload_updates_study_stats_and_plot(app, tmp_path):
     assert duty.files.error.value == ""
     path = app.study.get("classes[0].profile")
     assert path.startswith(str(tmp_path / "uploads")) and path.endswith(".csv")
-    trace = duty.plot.data[0]
+    trace = duty.plot.figure.data[0]
     assert list(trace.y) == [0, 20, 40, 40, 20, 0, 0]
     # Distance by the trapezoid rule: (10+30+40+30+10) km/h x 10 s = 1200 km/h s = 1/3 km
     # (hand calculation).
@@ -289,12 +292,12 @@ def test_shipped_profile_and_map_choice(app):
     assert app.study.get("classes[0].profile") == "van-day"
     panel = app.engine_map
     panel.show_plot()
-    contour = panel.plot.data[0]
+    contour = panel.plot.figure.data[0]
     assert contour.type == "contour"
-    points = [t for t in panel.plot.data if t.type == "scatter" and t.mode == "markers"]
+    points = [t for t in panel.plot.figure.data if t.type == "scatter" and t.mode == "markers"]
     assert points, "the duty's operating points are drawn on the map"
     panel.files.vehicle_class.value = 2  # the shuttle buses
-    assert "bus-ci-4.5l" in panel.plot.layout.title.text
+    assert "bus-ci-4.5l" in panel.plot.figure.layout.title.text
     panel.files.choice.value = "van-ci-2.3l"
     assert app.study.get("classes[2].engine_map") == "van-ci-2.3l"
 
@@ -312,7 +315,7 @@ def test_export_writes_report(app, tmp_path):
 
 
 @pytest.mark.parametrize("name, words", [
-    ("client.txt", "must be an .html file"),
+    ("client.txt", "must end in .html"),
     ("no-such-folder/client.html", "does not exist"),
     ("   ", "is empty"),
 ])
@@ -322,6 +325,22 @@ def test_export_errors_show_in_panel(app, tmp_path, name, words):
     assert words in html.unescape(app.export.message.value)
     assert "wb-error" in app.export.message.value
     assert not list(tmp_path.glob("*.html"))
+
+
+def test_save_study_writes_a_file_that_reads_back(app, tmp_path):
+    from workbench.studyfile import read_study
+
+    app.economics.prices["lpg"].params["mode"].value = "0.77 per L"
+    app.export.study_name.value = "edited.toml"
+    app.export.save_button.click()
+    saved = tmp_path / "edited.toml"
+    assert saved.is_file() and str(saved) in app.export.save_message.value
+    again = read_study(saved)
+    assert again == app.study
+    assert again.get("prices.lpg")["mode"] == "0.77 per L"
+    app.export.study_name.value = "edited.txt"
+    app.export.save_button.click()
+    assert "must end in .toml" in html.unescape(app.export.save_message.value)
 
 
 # ----------------------------------------------------------------------------- escaping

@@ -14,23 +14,20 @@ import hashlib
 import html
 import os
 import platform
-import tempfile
 from collections.abc import Mapping
 from datetime import UTC, datetime
 from importlib import metadata
 from pathlib import Path
-from typing import TYPE_CHECKING
 
 import pandas as pd
 import plotly.offline
 
 import workbench
 from workbench.charts import MapGrid, all_figures
-from workbench.errors import InputError
+from workbench.engine import EngineMap, read_map
+from workbench.files import check_target, write_text_atomic
 from workbench.results import StudyResult
-
-if TYPE_CHECKING:
-    from workbench.engine import EngineMap
+from workbench.studyfile import Study
 
 #: The caution every report carries, word for word.
 SAFETY_CAUTION = (
@@ -49,9 +46,6 @@ DEMO_NOTICE = (
 #: Distributions whose versions the report lists (label -> distribution name).
 VERSIONED = {"cantera": "cantera", "numpy": "numpy", "pandas": "pandas", "plotly": "plotly",
              "CoolProp": "CoolProp"}
-
-#: Permissions of the written report: readable by all, writable by the owner.
-_FILE_MODE = 0o644
 
 #: Assumption values that mark a study as the fictional demo (key ``demo``).
 _TRUE = {"true", "yes", "1"}
@@ -234,16 +228,6 @@ positive NPV means the candidate saves money.</p>
 """
 
 
-def _check_path(path: Path) -> None:
-    where = f"-o/path {path}"
-    if path.suffix.lower() != ".html":
-        raise InputError(where, "the report must be an .html file; end the name with .html")
-    if not path.parent.is_dir():
-        raise InputError(where, f"folder {path.parent} does not exist; create it first")
-    if path.is_dir():
-        raise InputError(where, "is a folder; give a file name ending in .html")
-
-
 def write_report(
     result: StudyResult,
     path: str | os.PathLike[str],
@@ -275,23 +259,29 @@ def write_report(
         If the path is not an ``.html`` file in an existing folder, or cannot be written.
     """
     target = Path(path)
-    _check_path(target)
-    text = html_report(result, study_text=study_text, map_grid=map_grid)
-    tmp_name = None
-    try:
-        with tempfile.NamedTemporaryFile("w", encoding="utf-8", dir=target.parent,
-                                         prefix=f".{target.name}.", suffix=".tmp",
-                                         delete=False) as tmp:
-            tmp_name = tmp.name
-            tmp.write(text)
-            tmp.flush()
-            os.fsync(tmp.fileno())
-        os.chmod(tmp_name, _FILE_MODE)  # a temporary file is private (0600); a report is not
-        os.replace(tmp_name, target)
-    except OSError as exc:
-        if tmp_name is not None and os.path.exists(tmp_name):
-            os.unlink(tmp_name)
-        raise InputError(f"-o/path {target}",
-                         f"cannot write the report ({exc.strerror}); choose a writable folder"
-                         ) from None
-    return target
+    check_target(target, suffix=".html", option=f"-o/path {target}")
+    return write_text_atomic(target, html_report(result, study_text=study_text,
+                                                  map_grid=map_grid),
+                             suffix=".html", option=f"-o/path {target}")
+
+
+def write_study_report(study: Study, result: StudyResult, path: str | os.PathLike[str]
+                       ) -> Path:
+    """Write the report of a study's result, with each vehicle class's efficiency map.
+
+    Parameters
+    ----------
+    study : Study
+        The study that was run (its text is hashed into the report).
+    result : StudyResult
+        Its result.
+    path : str or os.PathLike
+        Output ``.html`` file.
+
+    Returns
+    -------
+    pathlib.Path
+        The path written.
+    """
+    maps = {c.id: read_map(c.engine_map) for c in study.inputs.classes}
+    return write_report(result, path, study_text=study.to_toml(), map_grid=maps)

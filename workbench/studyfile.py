@@ -19,9 +19,7 @@ from __future__ import annotations
 import copy
 import hashlib
 import math
-import os
 import re
-import tempfile
 import tomllib
 from collections.abc import Callable, Iterable, Mapping
 from dataclasses import dataclass, field, replace
@@ -34,6 +32,7 @@ from workbench.aftertreatment import DEVICE_PRESETS, Aftertreatment
 from workbench.combustion import fuel_sheet
 from workbench.economics import Distribution
 from workbench.errors import InputError
+from workbench.files import write_text_atomic
 from workbench.fuels import BASES, Fuel, blend, load_fuel
 from workbench.nox import ENGINE_PRESETS, EngineOutNOx
 from workbench.units import (
@@ -330,40 +329,6 @@ def write_study(study: Study, path: str | Path) -> Path:
     pathlib.Path
     """
     return write_text_atomic(Path(path), study.to_toml(), suffix=".toml", option="path")
-
-
-def write_text_atomic(path: Path, text: str, *, suffix: str, option: str) -> Path:
-    """Write text to a file through a temporary name in the same folder, then rename.
-
-    Parameters
-    ----------
-    path : pathlib.Path
-        Destination.
-    text : str
-        Contents (UTF-8).
-    suffix : str
-        Required file-name ending (``".html"``).
-    option : str
-        Name of the option or field that gave the path, for errors.
-
-    Returns
-    -------
-    pathlib.Path
-        The path written.
-    """
-    if path.suffix.lower() != suffix:
-        raise InputError(option, f"the file name must end in {suffix}, got {path.name}")
-    if not path.parent.is_dir():
-        raise InputError(option, f"folder {path.parent} does not exist; create it first")
-    fd, tmp = tempfile.mkstemp(dir=path.parent, suffix=".tmp")
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8") as fh:
-            fh.write(text)
-        os.replace(tmp, path)
-    except BaseException:
-        Path(tmp).unlink(missing_ok=True)
-        raise
-    return path
 
 
 # ----------------------------------------------------------------------------- parsing

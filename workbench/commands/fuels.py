@@ -4,11 +4,10 @@ from __future__ import annotations
 
 import argparse
 import json
-import os
-import tempfile
 from pathlib import Path
 
 from workbench.errors import InputError
+from workbench.files import write_text_atomic
 from workbench.fuels import BASES, blend, list_fuels, load_fuel
 from workbench.sheets import SHEET_FIELDS, format_table, fuel_record
 
@@ -159,10 +158,6 @@ def write_blend_file(path: Path, parts: dict[str, float], basis: str, *, name: s
     name : str
         Name written into the file.
     """
-    if path.suffix != ".toml":
-        raise InputError("--write", "the fuel file name must end in .toml")
-    if not path.parent.is_dir():
-        raise InputError("--write", f"folder {path.parent} does not exist")
     state = "gas" if load_fuel(next(iter(parts))).is_gas else "liquid"
     lines = [
         f"name = {json.dumps(name, ensure_ascii=False)}",
@@ -173,11 +168,4 @@ def write_blend_file(path: Path, parts: dict[str, float], basis: str, *, name: s
         'source = "user blend written by workbench fuels blend"',
     ]
     lines += [f"{json.dumps(ref, ensure_ascii=False)} = {frac!r}" for ref, frac in parts.items()]
-    fd, tmp = tempfile.mkstemp(dir=path.parent, suffix=".tmp")
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8") as fh:
-            fh.write("\n".join(lines) + "\n")
-        os.replace(tmp, path)
-    except BaseException:
-        Path(tmp).unlink(missing_ok=True)
-        raise
+    write_text_atomic(path, "\n".join(lines) + "\n", suffix=".toml", option="--write")

@@ -8,9 +8,10 @@ from pathlib import Path
 from typing import Any
 
 from workbench.errors import InputError
+from workbench.files import check_target, write_text_atomic
 from workbench.results import StudyResult
 from workbench.sheets import format_table
-from workbench.studyfile import DEMO_STUDY, Study, read_study, write_text_atomic
+from workbench.studyfile import DEMO_STUDY, Study, read_study
 
 #: Keys of each candidate in ``study run --json``, from the candidates table.
 JSON_KEYS = {
@@ -152,11 +153,9 @@ def _run(args: argparse.Namespace) -> None:
 
 
 def _write_report(study: Study, result: StudyResult, output: str) -> Path:
-    from workbench.engine import read_map
-    from workbench.report import write_report
+    from workbench.report import write_study_report
 
-    maps = {c.id: read_map(c.engine_map) for c in study.inputs.classes}
-    return write_report(result, Path(output), study_text=study.to_toml(), map_grid=maps)
+    return write_study_report(study, result, output)
 
 
 def _report(args: argparse.Namespace) -> None:
@@ -169,11 +168,7 @@ def _report(args: argparse.Namespace) -> None:
 
 
 def _check_output(output: str) -> None:
-    path = Path(output)
-    if path.suffix.lower() != ".html":
-        raise InputError("-o", f"the report file name must end in .html, got {path.name}")
-    if not path.parent.is_dir():
-        raise InputError("-o", f"folder {path.parent} does not exist; create it first")
+    check_target(Path(output), suffix=".html", option="-o")
 
 
 def _demo(args: argparse.Namespace) -> None:

@@ -17,8 +17,9 @@ import ipywidgets as widgets
 
 from workbench.economics import DISTRIBUTION_PARAMETERS
 from workbench.errors import InputError
+from workbench.files import write_text_atomic
 from workbench.panels.state import StudyState
-from workbench.studyfile import Study, write_text_atomic
+from workbench.studyfile import Study
 
 #: Style of an error shown beside a field.
 ERROR_STYLE = "color:#B00020;font-weight:600"

@@ -21,7 +21,7 @@ from workbench.duty import DutyTrace, duty_stats, read_profile
 from workbench.engine import read_map
 from workbench.errors import InputError
 from workbench.panels.fields import error_widget, esc, label, save_upload, show_error
-from workbench.panels.results import refresh_figure
+from workbench.panels.results import FigurePane
 from workbench.panels.state import StudyState
 from workbench.studyfile import DATA
 
@@ -145,21 +145,21 @@ def speed_figure(profile: Path) -> go.Figure:
 
 
 class _PlotPanel(widgets.VBox):
-    """A panel whose FigureWidget may be made later (see :meth:`show_plot`).
+    """A panel whose plot may be made later (see :meth:`show_plot`).
 
     Subclasses define ``_figure()``, the chart of what the panel shows now.
     """
 
-    plot: go.FigureWidget | None = None
+    plot: FigurePane | None = None
 
-    def show_plot(self) -> go.FigureWidget:
+    def show_plot(self) -> FigurePane:
         """Make the panel's plot (once) and draw it.
 
         The app makes the plots of its hidden tabs when a tab is first opened, so a page
-        loads with few FigureWidgets (see :class:`workbench.panels.results.ResultsPanel`).
+        draws only what is on screen.
         """
         if self.plot is None:
-            self.plot = go.FigureWidget(self._figure())
+            self.plot = FigurePane(self._figure())
             self.children = (*self.children, self.plot)
         return self.plot
 
@@ -194,7 +194,7 @@ class DutyPanel(_PlotPanel):
     def _draw(self) -> None:
         self.stats.value = stats_html(self._profile())
         if self.plot is not None:
-            refresh_figure(self.plot, self._figure())
+            self.plot.show(self._figure())
 
 
 def map_figure(state: StudyState, index: int) -> go.Figure:
@@ -237,4 +237,4 @@ class EngineMapPanel(_PlotPanel):
 
     def _draw(self) -> None:
         if self.plot is not None:
-            refresh_figure(self.plot, self._figure())
+            self.plot.show(self._figure())

@@ -1,8 +1,11 @@
-"""Results panel: a summary table and the study's charts, side by side, updated in place.
+"""Results panel: a summary table and the study's charts, side by side, redrawn in place.
 
-Each chart is a :class:`plotly.graph_objects.FigureWidget` made once; after every good run the
-chart builders of :mod:`workbench.charts` draw the new result and :func:`refresh_figure` copies
-it into the same widget, so the numbers change where the user is looking.
+Each chart sits in a :class:`FigurePane`, an Output widget made once, whose single output is
+the chart as Plotly's JSON mimetype (drawn by the ``jupyterlab-plotly`` renderer that ships with
+plotly, in JupyterLab and Voilà alike). After every good run the chart builders of
+:mod:`workbench.charts` draw the new result into the same pane, so the numbers change where the
+user is looking. (A ``FigureWidget`` updated in place lost updates now and then under Voilà,
+and carries about 5 MB of JavaScript per widget; a pane carries the figure only.)
 """
 
 from __future__ import annotations
@@ -11,6 +14,7 @@ import math
 
 import ipywidgets as widgets
 import plotly.graph_objects as go
+import plotly.io as pio
 
 from workbench import charts
 from workbench.panels.fields import esc
@@ -43,23 +47,33 @@ SUMMARY = {
 }
 
 
-def refresh_figure(widget: go.FigureWidget, figure: go.Figure) -> None:
-    """Replace the traces and layout of a FigureWidget with those of a figure, in place.
-
-    Only for a widget already on screen: the browser gets the change as messages to the
-    views it has. A widget is made with its first figure (``go.FigureWidget(figure)``),
-    because a view made after such messages starts from the widget's first state.
+class FigurePane(widgets.Output):
+    """A Plotly chart shown in an Output widget, redrawn by replacing its one output.
 
     Parameters
     ----------
-    widget : plotly.graph_objects.FigureWidget
-        The widget on screen (kept: same object, same model in the browser).
+    figure : plotly.graph_objects.Figure, optional
+        The first chart to show.
+    **kwargs
+        Passed to :class:`ipywidgets.Output` (layout …).
+
+    Attributes
+    ----------
     figure : plotly.graph_objects.Figure
-        The freshly built chart.
+        The chart shown now (empty before the first one).
     """
-    widget.layout = figure.layout
-    widget.data = ()
-    widget.add_traces(list(figure.data))
+
+    def __init__(self, figure: go.Figure | None = None, **kwargs: object) -> None:
+        super().__init__(**kwargs)
+        self.figure = go.Figure()
+        if figure is not None:
+            self.show(figure)
+
+    def show(self, figure: go.Figure) -> None:
+        """Show ``figure`` in place of the chart shown before (one message to the page)."""
+        self.figure = figure
+        bundle = pio.renderers["plotly_mimetype"].to_mimebundle(figure.to_dict())
+        self.outputs = ({"output_type": "display_data", "data": bundle, "metadata": {}},)
 
 
 def summary_html(result: StudyResult) -> str:
@@ -88,30 +102,33 @@ def summary_html(result: StudyResult) -> str:
 
 
 class ChartSlot(widgets.VBox):
-    """A chart menu above one FigureWidget; picking a chart redraws the same widget."""
+    """A chart menu above one :class:`FigurePane`; picking a chart redraws the same pane."""
 
     def __init__(self, state: StudyState, key: str) -> None:
         self.state = state
         self.choice = widgets.Dropdown(options=[(title, k) for k, (title, _) in CHARTS.items()],
                                        value=key, layout=widgets.Layout(width="360px"))
         result = state.result
-        self.figure = go.FigureWidget(CHARTS[key][1](result) if result is not None else None)
+        self.pane = FigurePane(CHARTS[key][1](result) if result is not None else None)
         self.choice.observe(lambda _ch: self.draw(), names="value")
-        super().__init__([self.choice, self.figure], layout=widgets.Layout(min_width="0"))
+        super().__init__([self.choice, self.pane], layout=widgets.Layout(min_width="0"))
+
+    @property
+    def figure(self) -> go.Figure:
+        """The chart shown now."""
+        return self.pane.figure
 
     def draw(self) -> None:
         """Draw the chosen chart of the state's last good result (nothing before a run)."""
         if self.state.result is not None:
-            refresh_figure(self.figure, CHARTS[self.choice.value][1](self.state.result))
+            self.pane.show(CHARTS[self.choice.value][1](self.state.result))
 
 
 class ResultsPanel(widgets.VBox):
     """The last good result: summary table and charts side by side, updated in place.
 
-    Each chart slot has a menu of every chart of :data:`CHARTS`. The number of slots is kept
-    small on purpose: a FigureWidget carries plotly.js in its module (about 5 MB), and
-    anywidget gives a page 2 s to set up each model, which about ten FigureWidgets on one
-    page exceed on a 2-core machine (some charts then stay blank in Voilà).
+    Each chart slot has a menu of every chart of :data:`CHARTS`, so two slots side by side
+    can show any pair.
 
     Parameters
     ----------
@@ -137,7 +154,7 @@ class ResultsPanel(widgets.VBox):
         state.on_change(self.show)
         super().__init__([widgets.HTML("<h3>Results</h3>"), self.summary, grid])
 
-    def figure(self, key: str) -> go.FigureWidget | None:
+    def figure(self, key: str) -> go.Figure | None:
         """The widget showing chart ``key``, or None when no slot shows it."""
         return next((s.figure for s in self.slots if s.choice.value == key), None)
 
