@@ -18,17 +18,16 @@ import time
 import cantera as ct
 import numpy as np
 
-from workbench import combustion, nox
-from workbench.fuels import load_fuel
+from workbench.core.cache import clear_caches
+from workbench.core.fuels import load_fuel
+from workbench.models import combustion, nox
 
 FUELS = ("gasoline", "diesel", "lpg", "natural-gas", "hydrogen")
 REPEATS = 7
 
 
 def _clear() -> None:
-    nox.clear_cache()
-    combustion._flame.cache_clear()
-    combustion._sheet.cache_clear()
+    clear_caches()
 
 
 def _bare(fuels: list, c: nox.EngineConditions, gri: ct.Solution) -> None:

@@ -1,7 +1,8 @@
 """Road-load throughput on a year of 1 Hz data for one vehicle (31.5 million samples).
 
 The year is the demo taxi shift repeated, generated a chunk at a time so that memory stays
-bounded. For every chunk the same arrays go through ``workbench.vehicle.road_load`` and through
+bounded. For every chunk the same arrays go through
+``workbench.models.vehicle.road_load`` and through
 a plain numpy expression of the same formula; the ratio of their rates is the figure (target
 >= 0.3). The full fuel pipeline (road load, gears, map lookup, sums) is timed on the whole year
 as well, and the peak resident memory is printed.
@@ -19,9 +20,9 @@ from pathlib import Path
 
 import numpy as np
 
-from workbench.duty import DutySettings, DutyTrace, read_trace
-from workbench.engine import duty_energy, read_map
-from workbench.vehicle import G, Vehicle, read_vehicle, road_load
+from workbench.models.duty import DutySettings, DutyTrace, read_trace
+from workbench.models.engine import duty_energy, read_map
+from workbench.models.vehicle import G, Vehicle, read_vehicle, road_load
 
 DATA = Path(__file__).resolve().parent.parent / "workbench" / "data"
 YEAR = 365 * 24 * 3600

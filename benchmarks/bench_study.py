@@ -15,19 +15,15 @@ from __future__ import annotations
 
 import time
 
-from workbench import combustion, nox, study
-from workbench.studyfile import read_study
+from workbench.core.cache import clear_caches
+from workbench.study import runner as study
+from workbench.study.studyfile import read_study
 
 REPEATS = 5
 
 
 def _clear() -> None:
-    study.duty_physics.cache_clear()
-    study.class_physics.cache_clear()
-    study._storage.cache_clear()
-    nox.clear_cache()
-    combustion._flame.cache_clear()
-    combustion._sheet.cache_clear()
+    clear_caches()
 
 
 def _time(fn) -> float:

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import pytest
 
-from workbench.cli import main
+from workbench.interfaces.cli import main
 
 
 @pytest.fixture

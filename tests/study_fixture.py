@@ -11,8 +11,8 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from workbench.charts import MapGrid
-from workbench.results import COLUMNS, PALETTE, StudyResult
+from workbench.interfaces.charts import MapGrid
+from workbench.study.results import COLUMNS, PALETTE, StudyResult
 
 #: A candidate name that would run script if it reached the page as markup.
 XSS_NAME = "<img src=x onerror=alert(1)>"

@@ -1,4 +1,4 @@
-"""Tests of workbench.aftertreatment: ageing, replacement, reductant, programme totals."""
+"""Tests of workbench.models.aftertreatment: ageing, replacement, reductant, programme totals."""
 
 from __future__ import annotations
 
@@ -9,14 +9,14 @@ import numpy as np
 import pytest
 from numpy.testing import assert_allclose
 
-from workbench.aftertreatment import (
+from workbench.core.errors import InputError
+from workbench.models.aftertreatment import (
     DEF_PER_NOX,
     DEVICE_PRESETS,
     Aftertreatment,
     optimal_interval,
     programme_nox,
 )
-from workbench.errors import InputError
 
 KM = 1.0e3  # [m]
 G_PER_KM = 1.0e-6  # [kg/m]

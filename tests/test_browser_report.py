@@ -10,8 +10,8 @@ import pytest
 from browser import ARTIFACTS, launch, needs_chromium
 from study_fixture import XSS_NAME, make_map_grid, make_result
 
-from workbench.charts import all_figures
-from workbench.report import SAFETY_CAUTION, write_report
+from workbench.interfaces.charts import all_figures
+from workbench.interfaces.report import SAFETY_CAUTION, write_report
 
 pytestmark = [
     pytest.mark.browser,

@@ -17,8 +17,8 @@ import pytest
 from numpy.testing import assert_allclose
 from study_fixture import CLASSES, XSS_NAME, make_map_grid, make_result
 
-from workbench import charts
-from workbench.results import COLUMNS, StudyResult
+from workbench.interfaces import charts
+from workbench.study.results import COLUMNS, StudyResult
 
 
 @pytest.fixture(scope="module")
@@ -221,7 +221,7 @@ def test_efficiency_map_rejects_a_grid_that_does_not_match_its_axes():
 
 
 def test_map_grid_from_engine_map_turns_rad_per_s_into_rpm():
-    from workbench.engine import EngineMap
+    from workbench.models.engine import EngineMap
 
     # 1 rpm = 2 pi / 60 rad/s by definition of the revolution (common practice, no source);
     # exact apart from floating point, hence rtol 1e-12.

@@ -79,7 +79,8 @@ def test_bad_input_is_one_line_and_exit_2(run_cli, argv, names):
 def test_bad_file_through_the_real_entry_point(tmp_path):
     bad = tmp_path / "bad.toml"
     bad.write_text('state = "gas"\n[species]\nsource = "s"\nCH4 = 0.5\n', encoding="utf-8")
-    proc = subprocess.run([sys.executable, "-m", "workbench.cli", "fuels", "show", str(bad)],
+    proc = subprocess.run([sys.executable, "-m", "workbench.interfaces.cli", "fuels", "show",
+                           str(bad)],
                           capture_output=True, text=True, check=False)
     assert proc.returncode == 2
     assert proc.stderr.strip().startswith("workbench: error:") and "bad.toml" in proc.stderr

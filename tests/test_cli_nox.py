@@ -6,7 +6,7 @@ import json
 
 import pytest
 
-from workbench.cli import main
+from workbench.interfaces.cli import main
 
 
 def run(capsys, *argv: str) -> tuple[int, str, str]:

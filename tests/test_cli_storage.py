@@ -8,7 +8,7 @@ import sys
 
 import pytest
 
-from workbench import storage
+from workbench.models import storage
 
 
 def _json(run_cli, *argv: str) -> dict:
@@ -88,7 +88,7 @@ def test_bad_input_is_one_line_and_exit_2(run_cli, argv, option):
 
 def test_bad_input_from_the_installed_command_has_no_traceback():
     proc = subprocess.run(
-        [sys.executable, "-m", "workbench.cli", "fuels", "storage", "diesel", "--kind",
+        [sys.executable, "-m", "workbench.interfaces.cli", "fuels", "storage", "diesel", "--kind",
          "compressed"], capture_output=True, text=True, timeout=120)
     assert proc.returncode == 2
     assert proc.stderr.startswith("workbench: error: --kind: diesel cannot be stored")

@@ -6,7 +6,7 @@ import json
 
 import pytest
 
-from workbench.studyfile import DEMO_STUDY
+from workbench.study.studyfile import DEMO_STUDY
 
 pytestmark = pytest.mark.slow
 

@@ -11,7 +11,9 @@ import numpy as np
 import pytest
 from numpy.testing import assert_allclose
 
-from workbench.combustion import (
+from workbench.core.errors import InputError
+from workbench.core.fuels import load_fuel
+from workbench.models.combustion import (
     air_composition,
     air_molar_mass,
     exhaust,
@@ -19,8 +21,6 @@ from workbench.combustion import (
     flame_table,
     fuel_sheet,
 )
-from workbench.errors import InputError
-from workbench.fuels import load_fuel
 
 # Turns, An Introduction to Combustion, 3rd ed. (2012), Appendix B, Table B.1 (from memory):
 # HHV and LHV at 298.15 K [kJ/kg] and adiabatic flame temperature at phi = 1, 298 K, 1 atm [K].

@@ -1,4 +1,4 @@
-"""Tests of workbench.duty: trace and mode-table readers, statistics, demo profiles."""
+"""Tests of workbench.models.duty: trace and mode-table readers, statistics, demo profiles."""
 
 from __future__ import annotations
 
@@ -8,8 +8,9 @@ import numpy as np
 import pytest
 from numpy.testing import assert_allclose
 
-from workbench import demo_profiles
-from workbench.duty import (
+from workbench.core.errors import InputError
+from workbench.io import demo_profiles
+from workbench.models.duty import (
     DutySettings,
     DutyTrace,
     ModeTable,
@@ -18,9 +19,8 @@ from workbench.duty import (
     read_profile,
     read_trace,
 )
-from workbench.errors import InputError
 
-PROFILES = Path(demo_profiles.__file__).parent / "data" / "profiles"
+PROFILES = demo_profiles.DATA / "profiles"
 
 
 def write(tmp_path: Path, text: str, name: str = "p.csv") -> Path:

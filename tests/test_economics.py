@@ -1,4 +1,4 @@
-"""Tests of workbench.economics against numpy-financial, interest tables and analytic results."""
+"""Tests of workbench.models.economics against numpy-financial, interest tables, closed forms."""
 
 from __future__ import annotations
 
@@ -9,7 +9,8 @@ import pytest
 from numpy.testing import assert_allclose, assert_array_equal
 from scipy import stats
 
-from workbench.economics import (
+from workbench.core.errors import InputError
+from workbench.models.economics import (
     Distribution,
     abatement_cost,
     annuity_factor,
@@ -28,7 +29,6 @@ from workbench.economics import (
     summarise,
     tornado,
 )
-from workbench.errors import InputError
 
 RNG_FLOWS = np.random.default_rng(20240601)
 FLOWS = np.column_stack([-RNG_FLOWS.uniform(5e3, 2e4, 50), RNG_FLOWS.uniform(-5e2, 4e3, (50, 12))])

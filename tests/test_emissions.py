@@ -1,11 +1,11 @@
-"""Tests of workbench.emissions: CO2-equivalent on the IPCC AR6 100-year GWPs."""
+"""Tests of workbench.models.emissions: CO2-equivalent on the IPCC AR6 100-year GWPs."""
 
 from __future__ import annotations
 
 import numpy as np
 from numpy.testing import assert_allclose
 
-from workbench.emissions import GWP100_CH4_FOSSIL, GWP100_CH4_NON_FOSSIL, GWP100_N2O, co2e
+from workbench.models.emissions import GWP100_CH4_FOSSIL, GWP100_CH4_NON_FOSSIL, GWP100_N2O, co2e
 
 
 def test_gwp100_values_of_ar6():

@@ -1,4 +1,4 @@
-"""Tests of workbench.engine: maps, Willans line, fuel over a duty, per-km figures."""
+"""Tests of workbench.models.engine: maps, Willans line, fuel over a duty, per-km figures."""
 
 from __future__ import annotations
 
@@ -9,8 +9,9 @@ import numpy as np
 import pytest
 from numpy.testing import assert_allclose
 
-from workbench.duty import DutySettings, DutyTrace, ModeTable, read_trace
-from workbench.engine import (
+from workbench.core.errors import InputError
+from workbench.models.duty import DutySettings, DutyTrace, ModeTable, read_trace
+from workbench.models.engine import (
     WILLANS_SHAPES,
     DutyEnergy,
     EngineMap,
@@ -24,8 +25,7 @@ from workbench.engine import (
     willans_map,
     willans_parameters,
 )
-from workbench.errors import InputError
-from workbench.vehicle import Vehicle, read_vehicle
+from workbench.models.vehicle import Vehicle, read_vehicle
 
 DATA = Path(__file__).resolve().parent.parent / "workbench" / "data"
 RPM = math.pi / 30.0
@@ -277,8 +277,8 @@ CASES = [
 
 @pytest.mark.parametrize(("profile", "vehicle", "map_stem", "fuel_id", "litres"), CASES)
 def test_demo_vehicles_use_class_typical_fuel(profile, vehicle, map_stem, fuel_id, litres):
-    from workbench.combustion import fuel_sheet
-    from workbench.fuels import load_fuel
+    from workbench.core.fuels import load_fuel
+    from workbench.models.combustion import fuel_sheet
 
     e = duty_energy(read_trace(DATA / "profiles" / f"{profile}.csv"),
                     read_vehicle(DATA / "vehicles" / f"{vehicle}.toml"), demo_map(map_stem),
@@ -295,8 +295,8 @@ def test_demo_vehicles_use_class_typical_fuel(profile, vehicle, map_stem, fuel_i
 
 
 def test_compressed_gas_has_no_litres():
-    from workbench.combustion import fuel_sheet
-    from workbench.fuels import load_fuel
+    from workbench.core.fuels import load_fuel
+    from workbench.models.combustion import fuel_sheet
 
     gas = load_fuel("natural-gas")
     r = fuel_per_km_for(energy(), gas, fuel_sheet(gas)).trade_units()

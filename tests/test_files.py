@@ -7,8 +7,8 @@ import stat
 
 import pytest
 
-from workbench.errors import InputError
-from workbench.files import write_text_atomic
+from workbench.core.errors import InputError
+from workbench.io.files import write_text_atomic
 
 
 def test_writes_the_text_readable_by_others(tmp_path):

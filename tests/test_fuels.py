@@ -5,9 +5,9 @@ from __future__ import annotations
 import pytest
 from numpy.testing import assert_allclose
 
-from workbench.combustion import fuel_sheet
-from workbench.errors import InputError
-from workbench.fuels import blend, list_fuels, load_fuel
+from workbench.core.errors import InputError
+from workbench.core.fuels import blend, list_fuels, load_fuel
+from workbench.models.combustion import fuel_sheet
 
 REQUIRED = ["methane", "ethane", "propane", "n-butane", "isobutane", "natural-gas", "lpg",
             "gasoline", "diesel", "hydrogen"]

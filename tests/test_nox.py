@@ -1,4 +1,4 @@
-"""Tests of workbench.nox: thermal NO chemistry, engine conditions, propensity and caching."""
+"""Tests of workbench.models.nox: thermal NO, engine conditions, propensity, caching."""
 
 from __future__ import annotations
 
@@ -10,10 +10,11 @@ import pandas as pd
 import pytest
 from numpy.testing import assert_allclose
 
-from workbench import nox
-from workbench.errors import InputError
-from workbench.fuels import load_fuel
-from workbench.nox import (
+from workbench.core.cache import clear_caches
+from workbench.core.errors import InputError
+from workbench.core.fuels import load_fuel
+from workbench.models import nox
+from workbench.models.nox import (
     ENGINE_PRESETS,
     DutyPropensity,
     EngineConditions,
@@ -188,7 +189,7 @@ def test_fuel_cantera_cannot_equilibrate(monkeypatch):
     def failing(*args, **kwargs):
         raise ct.CanteraError("equilibrium solver failed to converge")
 
-    nox.clear_cache()
+    clear_caches()
     monkeypatch.setattr(nox, "flame_state", failing)
     with pytest.raises(InputError) as err:
         nox_propensity(load_fuel("propane"))
@@ -264,7 +265,7 @@ def test_sweep_over_pressure_and_dilution():
 
 
 def test_results_are_cached(monkeypatch):
-    nox.clear_cache()
+    clear_caches()
     calls = []
     real = nox.flame_state
 

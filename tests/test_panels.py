@@ -15,10 +15,10 @@ import sys
 import numpy as np
 import pytest
 
-from workbench.fuels import load_fuel
-from workbench.panels import open_study
-from workbench.panels.candidates import BLEND
-from workbench.studyfile import read_study
+from workbench.core.fuels import load_fuel
+from workbench.interfaces.panels import open_study
+from workbench.interfaces.panels.candidates import BLEND
+from workbench.study.studyfile import read_study
 
 pytestmark = pytest.mark.slow
 
@@ -328,7 +328,7 @@ def test_export_errors_show_in_panel(app, tmp_path, name, words):
 
 
 def test_save_study_writes_a_file_that_reads_back(app, tmp_path):
-    from workbench.studyfile import read_study
+    from workbench.study.studyfile import read_study
 
     app.economics.prices["lpg"].params["mode"].value = "0.77 per L"
     app.export.study_name.value = "edited.toml"

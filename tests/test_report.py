@@ -12,9 +12,9 @@ import plotly.offline
 import pytest
 from study_fixture import XSS_NAME, make_map_grid, make_result
 
-from workbench import report
-from workbench.charts import all_figures
-from workbench.errors import InputError
+from workbench.core.errors import InputError
+from workbench.interfaces import report
+from workbench.interfaces.charts import all_figures
 
 STUDY_TEXT = "abc"
 #: SHA-256("abc") from FIPS 180-2, Appendix B.1 (the standard's own worked example).

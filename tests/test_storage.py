@@ -10,9 +10,10 @@ import pandas as pd
 import pytest
 from numpy.testing import assert_allclose
 
-from workbench import storage
-from workbench.errors import InputError
-from workbench.fuels import Fuel, blend
+from workbench.core.cache import clear_caches
+from workbench.core.errors import InputError
+from workbench.core.fuels import Fuel, blend
+from workbench.models import storage
 
 C = 273.15  # K at 0 °C
 
@@ -20,12 +21,10 @@ C = 273.15  # K at 0 °C
 @pytest.fixture
 def no_mixture_model(monkeypatch):
     """Make CoolProp's multi-fluid model unavailable, so the ideal-solution fallbacks run."""
-    storage._saturated.cache_clear()
-    storage._gas.cache_clear()
+    clear_caches()
     monkeypatch.setattr(storage, "_heos", lambda mix: None)
     yield
-    storage._saturated.cache_clear()
-    storage._gas.cache_clear()
+    clear_caches()
 
 
 # ----------------------------------------------------------------------------- reference checks
@@ -313,7 +312,7 @@ def test_tank_volume_for_500_km_orders_the_fuels():
 
 
 def test_storage_summary_for_every_library_fuel():
-    from workbench.fuels import list_fuels
+    from workbench.core.fuels import list_fuels
 
     for fuel_id in list_fuels():
         summary = storage.storage_summary(fuel_id)

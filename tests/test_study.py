@@ -9,10 +9,11 @@ import numpy_financial as npf
 import pytest
 from numpy.testing import assert_allclose
 
-from workbench.errors import InputError
-from workbench.results import check_columns
-from workbench.study import class_physics, run
-from workbench.studyfile import DEMO_STUDY, Study, read_study
+from workbench.core.cache import cache_info
+from workbench.core.errors import InputError
+from workbench.study.results import check_columns
+from workbench.study.runner import run
+from workbench.study.studyfile import DEMO_STUDY, Study, read_study
 
 pytestmark = pytest.mark.slow
 
@@ -95,10 +96,10 @@ def test_monte_carlo_mean_converges_for_a_linear_input(demo):
 
 def test_price_change_reuses_the_physics(demo):
     run(demo, draws=0)
-    before = class_physics.cache_info()
+    before = cache_info()["workbench.study.runner.class_physics"]
     cheaper = demo.with_value("prices.lpg", "0.60 per L")
     res = run(cheaper, draws=0)
-    after = class_physics.cache_info()
+    after = cache_info()["workbench.study.runner.class_physics"]
     assert after.misses == before.misses  # nothing recomputed
     assert after.hits > before.hits
     base = run(demo, draws=0).candidates.set_index("candidate")

@@ -1,4 +1,4 @@
-"""Tests of workbench.units: the registry's trade units, price and quantity parsing."""
+"""Tests of workbench.core.units: the registry's trade units, price and quantity parsing."""
 
 from __future__ import annotations
 
@@ -6,8 +6,8 @@ import numpy as np
 import pytest
 from numpy.testing import assert_allclose
 
-from workbench.errors import InputError
-from workbench.units import (
+from workbench.core.errors import InputError
+from workbench.core.units import (
     DGE_NATURAL_GAS_MASS,
     GGE_NATURAL_GAS_MASS,
     NATURAL_GAS_LHV_AFDC,
@@ -292,10 +292,11 @@ def test_bad_quantities_name_where(text, dimension, match):
 
 
 def test_gas_price_agrees_with_the_fuel_sheet():
-    # Consistency with workbench.combustion (not an outside reference): its LHV per standard m3
+    # Consistency with workbench.models.combustion (not an outside reference): its LHV per
+    # standard m3
     # (15 °C, 101.325 kPa, ideal gas) must give the same price per J as our Sm3 and molar mass.
-    from workbench.combustion import fuel_sheet
-    from workbench.fuels import load_fuel
+    from workbench.core.fuels import load_fuel
+    from workbench.models.combustion import fuel_sheet
 
     sheet = fuel_sheet(load_fuel("natural-gas"))
     per_j = price_per_energy(

@@ -1,4 +1,4 @@
-"""Tests of workbench.vehicle: road load against mechanics, gear rule, vehicle TOML files."""
+"""Tests of workbench.models.vehicle: road load against mechanics, gear rule, vehicle TOML files."""
 
 from __future__ import annotations
 
@@ -10,9 +10,9 @@ import numpy as np
 import pytest
 from numpy.testing import assert_allclose
 
-from workbench.duty import DutySettings, DutyTrace
-from workbench.errors import InputError
-from workbench.vehicle import (
+from workbench.core.errors import InputError
+from workbench.models.duty import DutySettings, DutyTrace
+from workbench.models.vehicle import (
     ENGINE_OFF,
     FIRED,
     IDLE,

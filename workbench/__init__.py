@@ -8,7 +8,7 @@ does not import ipywidgets.
 
 from typing import Any
 
-from workbench.errors import InputError
+from workbench.core.errors import InputError
 
 __all__ = ["InputError", "__version__", "open_study"]
 __version__ = "0.1.0"
@@ -16,7 +16,7 @@ __version__ = "0.1.0"
 
 def __getattr__(name: str) -> Any:
     if name == "open_study":
-        from workbench.panels import open_study
+        from workbench.interfaces.panels import open_study
 
         return open_study
     raise AttributeError(f"module 'workbench' has no attribute {name!r}")

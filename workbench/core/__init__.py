@@ -1,0 +1,1 @@
+"""Ground layer: errors, units, the Cantera species data, fuels. Imports nothing above it."""

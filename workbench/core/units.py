@@ -1,0 +1,446 @@
+"""Units and prices at the boundary: one pint registry, trade units, text parsing.
+
+The package keeps one :class:`pint.UnitRegistry`, :data:`ureg`, created once at import. Money is
+its own dimension ``[currency]`` with the base unit ``currency_unit``; the study's currency code
+(``EUR``, ``XCU`` …) is only a label and never converted. Inside the models everything is a plain
+float or numpy array in SI; pint is used only here, to read what a user wrote.
+
+Trade units added to pint's defaults
+------------------------------------
+``US_gallon``
+    Alias of pint's ``gallon`` = 231 in³ = 3.785 411 784 L exactly (NIST SP 811, Appendix B.8).
+``therm``, ``EC_therm``, ``US_therm``
+    pint's defaults, kept: ``therm`` = ``EC_therm`` = 10⁵ Btu = 105.5056 MJ (NIST SP 811 B.8 prints
+    1.055 06 E+08 J for the EC therm); ``US_therm`` = 105.4804 MJ (SP 811 B.8: 1.054 804 E+08 J).
+    They differ by 0.024 %. UK and EU gas is billed in the EC therm, US gas in the US therm.
+``MMBtu``
+    10⁶ international-table Btu = 1055.055 852 62 MJ.
+``standard_cubic_meter`` (``Sm3``)
+    The amount of gas that fills 1 m³ at the standard reference conditions of ISO 13443: 15 °C
+    (288.15 K) and 101.325 kPa. It is its own dimension ``[gas_std_volume]``, so a price per Sm3
+    can never be confused with a price per m³ of liquid; :func:`price_per_energy` turns it into a
+    price per kg with the gas's molar mass and its molar volume at those conditions.
+``normal_cubic_meter`` (``Nm3``)
+    1 m³ at 0 °C and 101.325 kPa (DIN 1343 "normal" conditions) = 288.15/273.15 Sm3 by the
+    ideal-gas law; for natural gas the compressibility changes this ratio by under 0.05 %.
+``gasoline_gallon_equivalent`` (``GGE``), ``diesel_gallon_equivalent`` (``DGE``)
+    Energy units. NIST Handbook 44, Appendix D defines GGE as 5.660 lb of natural gas and DGE
+    (for CNG) as 6.384 lb of natural gas (from memory; the 5.660 lb figure dates from NIST's 1994
+    definition). Those masses were chosen to carry the lower heating value of one US gallon of
+    gasoline or diesel at the natural-gas LHV the US DOE Alternative Fuels Data Center tabulates,
+    20 160 Btu/lb = 46.892 MJ/kg (from memory). We therefore define
+    GGE = 5.660 lb × 20 160 Btu/lb = 120.39 MJ (LHV) and DGE = 6.384 lb × 20 160 Btu/lb =
+    135.79 MJ (LHV). For natural gas of exactly that LHV a price per GGE is a price per 5.660 lb;
+    CNG pumps sell 5.660 lb whatever the gas's LHV, so for a gas of different LHV write the price
+    per mass (``"3.9 per (5.660 lb)"``) to follow the pump exactly.
+``gasoline_litre_equivalent`` (``GLE``), ``diesel_litre_equivalent`` (``DLE``)
+    The energy of one litre of the same reference fuels: GGE/3.785 411 784 = 31.80 MJ and
+    DGE/3.785 411 784 = 35.87 MJ (LHV). GLE is then 0.6782 kg of that gas, the 0.678 kg that
+    Handbook 44 prints for the gasoline litre equivalent (from memory). The reference fuels they
+    imply, at the densities of the JEC well-to-wheels fuel tables (from memory), are a gasoline of
+    0.745 kg/L and 42.69 MJ/kg and a diesel of 0.832 kg/L and 43.11 MJ/kg.
+
+Price text
+----------
+``"<number> [CODE] per <basis> [LHV|HHV]"`` or with ``/`` for ``per``; the code may also lead
+(``"EUR 1.45 per L"``). The basis may carry a number (``"per 1000 L"``, ``"per (5.660 lb)"``).
+A mapping ``{value = 1.45, per = "L"}`` (optionally ``currency``) is the same as ``"1.45 per L"``.
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+from typing import Literal
+
+import numpy as np
+import pint
+from numpy.typing import ArrayLike, NDArray
+
+from workbench.core.errors import InputError
+
+__all__ = [
+    "DGE_NATURAL_GAS_MASS",
+    "GGE_NATURAL_GAS_MASS",
+    "HEATING_VALUE_MARK",
+    "NATURAL_GAS_LHV_AFDC",
+    "P_STD",
+    "STD_MOLAR_VOLUME_IDEAL",
+    "T_STD",
+    "Price",
+    "parse_price",
+    "parse_quantity",
+    "price_per_energy",
+    "ureg",
+]
+
+#: Standard reference temperature of ISO 13443 [K].
+T_STD = 288.15
+#: Standard reference pressure of ISO 13443 [Pa].
+P_STD = 101_325.0
+#: Molar volume of an ideal gas at (T_STD, P_STD) [m3/kmol], R = 8314.462618 J/(kmol K) (CODATA).
+STD_MOLAR_VOLUME_IDEAL = 8314.462618 * T_STD / P_STD
+
+_POUND = 0.45359237  # [kg], exact (NIST SP 811 B.8)
+_BTU_IT_PER_LB = 2326.0  # [J/kg per Btu_IT/lb], exact by the definition of the IT Btu
+#: Mass of natural gas in one gasoline gallon equivalent, 5.660 lb [kg] (NIST Handbook 44 App. D).
+GGE_NATURAL_GAS_MASS = 5.660 * _POUND
+#: Mass of natural gas in one diesel gallon equivalent, 6.384 lb [kg] (NIST Handbook 44 App. D).
+DGE_NATURAL_GAS_MASS = 6.384 * _POUND
+#: Natural-gas LHV behind GGE and DGE, 20 160 Btu/lb [J/kg] (US DOE AFDC, from memory).
+NATURAL_GAS_LHV_AFDC = 20_160 * _BTU_IT_PER_LB
+
+
+def _build_registry() -> pint.UnitRegistry:
+    reg = pint.UnitRegistry()
+    gge = GGE_NATURAL_GAS_MASS * NATURAL_GAS_LHV_AFDC
+    dge = DGE_NATURAL_GAS_MASS * NATURAL_GAS_LHV_AFDC
+    for line in (
+        "currency_unit = [currency]",
+        "standard_cubic_meter = [gas_std_volume] = Sm3 = standard_cubic_metre",
+        "normal_cubic_meter = 288.15 / 273.15 * standard_cubic_meter = Nm3 = normal_cubic_metre",
+        "@alias gallon = US_gallon",
+        "MMBtu = 1e6 * Btu_it = MMBTU",
+        f"gasoline_gallon_equivalent = {gge!r} * joule = GGE",
+        f"diesel_gallon_equivalent = {dge!r} * joule = DGE",
+        "gasoline_litre_equivalent = gasoline_gallon_equivalent * liter / gallon = GLE"
+        " = gasoline_liter_equivalent",
+        "diesel_litre_equivalent = diesel_gallon_equivalent * liter / gallon = DLE"
+        " = diesel_liter_equivalent",
+    ):
+        reg.define(line)
+    return reg
+
+
+#: The package's one unit registry.
+ureg: pint.UnitRegistry = _build_registry()
+
+_NUMBER = r"[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?"
+_CODE = re.compile(r"\b[A-Z]{3}\b")
+#: A heating-value mark closing a price text ("per kWh HHV", "per GJ net").
+HEATING_VALUE_MARK = re.compile(r"\s+(LHV|HHV|NCV|GCV|net|gross)\s*$", re.IGNORECASE)
+# What pint raises on text it cannot read (UndefinedUnitError is an AttributeError, the tokenizer
+# raises SyntaxError/TokenError subclasses of ValueError or AssertionError on empty input).
+_PINT_ERRORS = (
+    pint.errors.PintError,
+    ValueError,
+    TypeError,
+    AttributeError,
+    SyntaxError,
+    AssertionError,
+)
+_BASES = "a volume (L, m3, US_gallon), a mass (kg, lb), a standard gas volume (Sm3, Nm3) or an energy (GJ, kWh, therm, MMBtu, GGE, DGE, GLE, DLE)"  # noqa: E501
+
+
+@dataclass(frozen=True)
+class Price:
+    """A fuel price as written, reduced to SI on its own basis.
+
+    Attributes
+    ----------
+    value : float
+        Price per SI unit of the basis: [currency/m3] of liquid, [currency/kg],
+        [currency/Sm3] of gas or [currency/J].
+    basis : {"liquid_volume", "mass", "gas_volume", "energy"}
+        What the price is per.
+    heating_value : {"LHV", "HHV"}
+        For an energy basis, whether the energy is net (LHV) or gross (HHV); "LHV" otherwise.
+    currency : str or None
+        The currency code written with the price, if any (a label only).
+    text : str
+        The price as the user wrote it, for reports.
+    where : str
+        Where it was written (key path), used in error messages.
+    """
+
+    value: float
+    basis: Literal["liquid_volume", "mass", "gas_volume", "energy"]
+    heating_value: Literal["LHV", "HHV"] = "LHV"
+    currency: str | None = None
+    text: str = ""
+    where: str = field(default="price", compare=False)
+
+
+def _normalise(text: str) -> str:
+    """Write ``per`` as ``/``, ``m3`` as ``m**3``, and group ``/ 100 km`` as ``/ (100 km)``."""
+    s = re.sub(r"\bper\b", "/", text)
+    s = re.sub(r"\b(mm|cm|dm|m|km|in|ft|yd)([23])\b", r"\1**\2", s)
+    return re.sub(rf"/\s*({_NUMBER})\s*([A-Za-z_][A-Za-z_0-9]*(?:\s*\*\*\s*\d)?)", r"/ (\1 \2)", s)
+
+
+def _split_code(text: str, currency: str | None, where: str) -> tuple[str, str | None]:
+    """Remove one currency code (three capitals that are not a unit) from ``text``."""
+    codes = [m for m in _CODE.finditer(text) if m.group() not in ureg]
+    if not codes:
+        return text, None
+    if len(codes) > 1:
+        raise InputError(where, f"{text!r} has more than one currency code; write one at most")
+    code = codes[0].group()
+    if currency is not None and code != currency:
+        raise InputError(
+            where, f"{text!r} is in {code} but the study currency is {currency}; convert it first"
+        )
+    m = codes[0]
+    return (text[: m.start()] + " " + text[m.end() :]).strip(), code
+
+
+def _quantity(text: str, where: str) -> pint.Quantity:
+    """Parse ``number unit`` into a Quantity; InputError on anything pint cannot read."""
+    s = _normalise(text)
+    m = re.fullmatch(rf"\s*({_NUMBER})\s*(.*?)\s*", s)
+    if m is None:
+        raise InputError(where, f"{text!r} must start with a number, e.g. '15000 km'")
+    number, unit = m.groups()
+    try:
+        try:
+            return ureg.parse_expression(s)
+        except pint.errors.OffsetUnitCalculusError:  # "15 degC": pint will not multiply it
+            return ureg.Quantity(float(number), unit)
+    except _PINT_ERRORS as exc:
+        raise InputError(where, f"cannot read the unit in {text!r} ({exc})") from None
+
+
+def parse_quantity(
+    text: str | float,
+    expected_dimension: str,
+    *,
+    where: str,
+    unit: str | None = None,
+    currency: str | None = None,
+) -> float:
+    """Read a number with a unit, check its dimension and return it in SI (or in ``unit``).
+
+    Parameters
+    ----------
+    text : str or float
+        What the user wrote: ``"15000 km"``, ``"8 %"``, ``"18 month"``, ``"250 bar"``,
+        ``"8.5 L/100 km"``, ``"15 degC"``. A bare number is accepted only for a dimensionless
+        or a money quantity; money is written as a bare number, optionally with the currency
+        code (``"3500 EUR"``, ``"120 per year"``).
+    expected_dimension : str
+        A pint dimension (``"[length]"``, ``"[currency] / [time]"``) or any unit expression
+        of the wanted dimension (``"km"``, ``"bar"``, ``"percent"``, ``"currency_unit / year"``).
+    where : str
+        Key path or field label named in the error.
+    unit : str, optional
+        Return the value in this unit instead of SI base units (e.g. ``"year"``).
+    currency : str, optional
+        The study currency code; a different code in ``text`` is an error.
+
+    Returns
+    -------
+    float
+        The magnitude in SI base units ([m], [s], [Pa], [K], [currency] …), or in ``unit``.
+
+    Raises
+    ------
+    InputError
+        Unreadable text, missing unit, or a dimension other than ``expected_dimension``.
+
+    Examples
+    --------
+    >>> parse_quantity("18 month", "[time]", where="x", unit="year")
+    1.5
+    """
+    if isinstance(text, bool) or not isinstance(text, str | int | float):
+        raise InputError(where, f"expected a number with a unit, got {text!r}")
+    if "[" in expected_dimension:
+        want = ureg.get_dimensionality(expected_dimension)
+    else:
+        want = ureg.parse_expression(_normalise(expected_dimension)).dimensionality
+    body = str(text)
+    if want.get("[currency]", 0) != 0:
+        body, _ = _split_code(body, currency, where)
+    q = _quantity(body, where)
+    if want.get("[currency]", 0) != 0 and q.dimensionality.get("[currency]", 0) == 0:
+        q = q * ureg.currency_unit
+    if q.dimensionality != want:
+        if q.dimensionless:
+            raise InputError(where, f"{text!r} needs a unit of {want}, e.g. '{text} km'")
+        raise InputError(where, f"{text!r} is {q.dimensionality}, expected {want}")
+    out = q.to(unit) if unit is not None else q.to_base_units()
+    value = float(out.magnitude)
+    if not np.isfinite(value):
+        raise InputError(where, f"{text!r} is not a finite number")
+    return value
+
+
+def parse_price(
+    text_or_mapping: str | Mapping[str, object], *, where: str, currency: str | None = None
+) -> Price:
+    """Read a fuel price written in any supported basis.
+
+    Parameters
+    ----------
+    text_or_mapping : str or mapping
+        ``"1.45 /L"``, ``"0.9 per kg"``, ``"12 per GJ"``, ``"0.04 per kWh HHV"``,
+        ``"1.1 per Sm3"``, ``"3.9 per US_gallon"``, ``"2.8 per GGE"``, ``"EUR 1.45 per L"``,
+        or a mapping ``{"value": 1.45, "per": "L"}`` with an optional ``"currency"`` key.
+    where : str
+        Key path named in errors (``"candidates[1].fuel_price"``).
+    currency : str, optional
+        The study currency code; a different code in the price is an error.
+
+    Returns
+    -------
+    Price
+        The price per SI unit of its basis.
+
+    Raises
+    ------
+    InputError
+        Unreadable text, a negative price, a basis that is not a volume, mass, standard gas
+        volume or energy, or LHV/HHV on a basis that is not an energy.
+    """
+    if isinstance(text_or_mapping, Mapping):
+        extra = set(text_or_mapping) - {"value", "per", "currency"}
+        if extra or not {"value", "per"} <= set(text_or_mapping):
+            raise InputError(
+                where,
+                "a price table needs exactly 'value', 'per' and optionally "
+                f"'currency', e.g. {{value = 1.45, per = \"L\"}}; got "
+                f"{sorted(text_or_mapping)}",
+            )
+        value, per = text_or_mapping["value"], text_or_mapping["per"]
+        if (
+            isinstance(value, bool)
+            or not isinstance(value, int | float)
+            or not isinstance(per, str)
+        ):
+            raise InputError(where, "'value' must be a number and 'per' a unit text such as \"L\"")
+        code = text_or_mapping.get("currency", "")
+        if not isinstance(code, str) or not re.fullmatch(r"(?:[A-Z]{3})?", code):
+            raise InputError(
+                where, f"'currency' must be a three-letter code such as \"EUR\", got {code!r}"
+            )
+        text = f"{code} {value!r} per {per}".strip()
+    elif isinstance(text_or_mapping, str):
+        text = text_or_mapping
+    else:
+        raise InputError(where, f"a price is a text such as '1.45 per L', got {text_or_mapping!r}")
+
+    heating_value: Literal["LHV", "HHV"] = "LHV"
+    hv = HEATING_VALUE_MARK.search(text)
+    body = text
+    if hv is not None:
+        heating_value = "LHV" if hv.group(1).upper() in ("LHV", "NCV", "NET") else "HHV"
+        body = text[: hv.start()]
+    body, code = _split_code(body, currency, where)
+    m = re.fullmatch(rf"\s*({_NUMBER})\s*(?:/|\bper\b)\s*(\S.*?)\s*", body)
+    if m is None:
+        raise InputError(
+            where, f"write a price as '<number> per <unit>', e.g. '1.45 per L'; got {text!r}"
+        )
+    amount = float(m.group(1))
+    if not np.isfinite(amount) or amount < 0:
+        raise InputError(where, f"price {text!r} must be zero or positive")
+    per = m.group(2)
+    try:
+        per_q = ureg.parse_expression(_normalise(per))
+    except _PINT_ERRORS as exc:
+        raise InputError(where, f"cannot read the unit {per!r} in {text!r} ({exc})") from None
+    if not isinstance(per_q, pint.Quantity):
+        raise InputError(where, f"{text!r} has no unit after 'per'; price per {_BASES}")
+    dims = per_q.dimensionality
+    bases = {
+        "liquid_volume": ureg.get_dimensionality("[length] ** 3"),
+        "mass": ureg.get_dimensionality("[mass]"),
+        "gas_volume": ureg.get_dimensionality("[gas_std_volume]"),
+        "energy": ureg.get_dimensionality("[energy]"),
+    }
+    basis = next((name for name, d in bases.items() if d == dims), None)
+    if basis is None:
+        raise InputError(where, f"cannot price fuel per {per!r} ({dims}); price per {_BASES}")
+    if hv is not None and basis != "energy":
+        raise InputError(
+            where, f"{hv.group(1)} applies only to a price per energy; drop it from {text!r}"
+        )
+    size = float(per_q.to_base_units().magnitude)
+    if not np.isfinite(size) or size <= 0:
+        raise InputError(where, f"the unit after 'per' in {text!r} must be a positive amount")
+    return Price(amount / size, basis, heating_value, code, text, where)
+
+
+def price_per_energy(
+    price: Price,
+    *,
+    lhv_mass: ArrayLike,
+    density: ArrayLike | None = None,
+    molar_mass: ArrayLike | None = None,
+    hhv_mass: ArrayLike | None = None,
+    std_molar_volume: ArrayLike = STD_MOLAR_VOLUME_IDEAL,
+) -> NDArray[np.float64] | float:
+    """Convert a price on any basis to currency per joule of the fuel's LHV.
+
+    Parameters
+    ----------
+    price : Price
+        From :func:`parse_price`.
+    lhv_mass : float or array
+        Lower heating value of the fuel [J/kg].
+    density : float or array, optional
+        Liquid density [kg/m3], needed for a price per volume of liquid (L, m3, gallon);
+        leave None for a fuel that is not sold as a liquid (CNG).
+    molar_mass : float or array, optional
+        Molar mass [kg/kmol], needed for a price per Sm3 or Nm3 of gas.
+    hhv_mass : float or array, optional
+        Higher heating value [J/kg], needed for a price per energy written as HHV/GCV.
+    std_molar_volume : float or array, optional
+        Molar volume of the gas at 15 °C and 101.325 kPa [m3/kmol]; the ideal-gas value
+        23.645 m3/kmol by default (natural gas is about 0.2 % below it).
+
+    Returns
+    -------
+    float or ndarray
+        Price per LHV energy [currency/J].
+
+    Raises
+    ------
+    InputError
+        The price's basis needs a property the fuel has not got (a price per L with no liquid
+        density, per Sm3 with no molar mass, per kWh HHV with no HHV), naming ``price.where``.
+
+    Notes
+    -----
+    ``c_J = c_V / (rho LHV)`` per liquid volume; ``c_m / LHV`` per mass;
+    ``c_Sm3 V_m / (M LHV)`` per standard gas volume; ``c_J,HHV HHV / LHV`` per gross energy.
+    """
+    lhv = _positive(lhv_mass, "lower heating value", price.where)
+    if price.basis == "mass":
+        out = price.value / lhv
+    elif price.basis == "liquid_volume":
+        if density is None:
+            raise InputError(
+                price.where,
+                f"{price.text!r} is per volume of liquid but this fuel "
+                "is not sold as a liquid: price it per kg, per Sm3 or per GJ",
+            )
+        out = price.value / (_positive(density, "liquid density", price.where) * lhv)
+    elif price.basis == "gas_volume":
+        if molar_mass is None:
+            raise InputError(
+                price.where,
+                f"{price.text!r} is per standard volume of gas but "
+                "this fuel is a liquid: price it per L, per kg or per GJ",
+            )
+        vm = _positive(std_molar_volume, "standard molar volume", price.where)
+        out = price.value * vm / (_positive(molar_mass, "molar mass", price.where) * lhv)
+    elif price.heating_value == "HHV":
+        if hhv_mass is None:
+            raise InputError(
+                price.where,
+                f"{price.text!r} is per gross (HHV) energy but the "
+                "fuel's HHV is not known: price it per net energy (LHV)",
+            )
+        out = price.value * _positive(hhv_mass, "higher heating value", price.where) / lhv
+    else:
+        out = price.value * np.ones_like(lhv)
+    return float(out) if np.ndim(out) == 0 else out
+
+
+def _positive(x: ArrayLike, name: str, where: str) -> NDArray[np.float64]:
+    arr = np.asarray(x, dtype=float)
+    if not np.all(np.isfinite(arr) & (arr > 0)):
+        raise InputError(where, f"the fuel's {name} must be positive and finite, got {x!r}")
+    return arr

@@ -1,0 +1,1 @@
+"""Interfaces on top: the command line, widget panels, Plotly charts, the HTML report."""

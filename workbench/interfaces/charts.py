@@ -1,0 +1,698 @@
+"""Plotly charts of a study result: one builder per chart, each returning a ``go.Figure``.
+
+Every builder reads the tidy tables of a :class:`~workbench.study.results.StudyResult`
+and draws them;
+none of them computes physics or money (paybacks and percentiles come from the tables too).
+Common rules:
+
+* every numeric axis title carries its unit in brackets, money in ``result.currency``;
+* a candidate keeps the colour of :meth:`StudyResult.colours` in every chart, and all of its
+  traces share the legend group ``"candidate:<id>"``, so one legend click hides it in every
+  facet; components that colour cannot tell apart (cost parts, well-to-wheel) get a fill
+  pattern, explained by grey legend keys;
+* every piece of user text (candidate names, vehicle classes, fuels, inputs, currency) is
+  HTML-escaped before it reaches a Plotly string, so markup in a name shows as text;
+* hover text gives each value with its unit.
+
+:func:`all_figures` builds the full set for the report and the results panel.
+"""
+
+from __future__ import annotations
+
+import html
+import math
+from collections.abc import Iterable, Mapping
+from dataclasses import dataclass
+from typing import TYPE_CHECKING
+
+import numpy as np
+import pandas as pd
+import plotly.graph_objects as go
+from plotly.subplots import make_subplots
+
+from workbench.study.results import StudyResult
+
+if TYPE_CHECKING:
+    from workbench.models.engine import EngineMap
+
+#: Plotly template of every chart.
+TEMPLATE = "plotly_white"
+
+#: Fill pattern of each cost component (solid, hatched, dotted) in the cost-per-km chart.
+COST_PATTERNS = {"fuel": "", "upkeep": "/", "capital": "."}
+
+#: Colour of a candidate that the candidates table does not list (a bug upstream).
+NEUTRAL = "#AAAAAA"
+
+_RAD_S_TO_RPM = 60.0 / (2.0 * math.pi)
+
+
+def escape(text: object) -> str:
+    """User text made safe for any Plotly string: ``<``, ``>`` and ``&`` become entities.
+
+    Plotly renders text as a small subset of HTML and turns ``&lt;`` ``&gt;`` ``&amp;`` back
+    into characters, so the text shows as typed. Quotes are left alone because Plotly does
+    not decode ``&quot;`` and shows it literally; outside a tag they are harmless.
+    """
+    return html.escape(str(text), quote=False)
+
+
+@dataclass(frozen=True)
+class MapGrid:
+    """A brake-efficiency map on a grid, in the units charts show.
+
+    Parameters
+    ----------
+    speed_rpm : numpy.ndarray
+        Engine-speed axis [rpm].
+    torque_nm : numpy.ndarray
+        Torque axis [N m].
+    efficiency : numpy.ndarray
+        Brake efficiency, shape ``(len(torque_nm), len(speed_rpm))`` [-].
+    full_load_torque_nm : numpy.ndarray or None
+        Full-load torque at each speed of the axis [N m], drawn as a line when given.
+    name : str
+        Label of the map (user text; escaped when drawn).
+    """
+
+    speed_rpm: np.ndarray
+    torque_nm: np.ndarray
+    efficiency: np.ndarray
+    full_load_torque_nm: np.ndarray | None = None
+    name: str = ""
+
+    @classmethod
+    def from_engine_map(cls, engine_map: EngineMap) -> MapGrid:
+        """The grid of a :class:`workbench.models.engine.EngineMap`, speed in rpm."""
+        return cls(speed_rpm=np.asarray(engine_map.speed) * _RAD_S_TO_RPM,
+                   torque_nm=np.asarray(engine_map.torque),
+                   efficiency=np.asarray(engine_map.efficiency),
+                   full_load_torque_nm=np.asarray(engine_map.full_load_torque),
+                   name=engine_map.name)
+
+
+# ----------------------------------------------------------------------------- shared helpers
+
+
+@dataclass(frozen=True)
+class _Style:
+    """Display name and colour of each candidate id, and the escaped currency."""
+
+    names: dict[str, str]
+    colours: dict[str, str]
+    currency: str
+
+    def name(self, candidate: str) -> str:
+        return escape(self.names.get(candidate, candidate))
+
+    def colour(self, candidate: str) -> str:
+        return self.colours.get(candidate, NEUTRAL)
+
+    def order(self, table: pd.DataFrame) -> list[str]:
+        """Candidates present in ``table``, in the order of the candidates table."""
+        return _order(self.names, table)
+
+
+def _order(names: Iterable[str], table: pd.DataFrame) -> list[str]:
+    """Candidates present in ``table``: those of ``names`` in its order, then any others."""
+    present = set(table["candidate"])
+    known = [c for c in names if c in present]
+    return known + sorted(present.difference(known), key=str)
+
+
+def _style(result: StudyResult) -> _Style:
+    names = dict(zip(result.candidates["candidate"], result.candidates["name"], strict=True))
+    return _Style(names=names, colours=result.colours(), currency=escape(result.currency))
+
+
+def _group(candidate: str) -> str:
+    """Legend group of a candidate's traces."""
+    return "candidate:" + escape(candidate)
+
+
+def _legend_key(name: str, *, pattern: str | None = None,
+                symbol: str | None = None) -> go.BaseTraceType:
+    """An empty trace that only explains a fill pattern or a marker symbol in the legend.
+
+    Keys are white with black lines, so they cannot be mistaken for a candidate's colour.
+    """
+    common = dict(name=name, legendgroup="key:" + name, hoverinfo="skip", showlegend=True)
+    if pattern is not None:
+        return go.Bar(x=[None], y=[None], marker=dict(
+            color="white", line=dict(color="black", width=1),
+            pattern=dict(shape=pattern, fgcolor="black", fillmode="overlay", solidity=0.3)),
+            **common)
+    # an open symbol is drawn in its marker colour: black, or it would vanish on white
+    fill = "black" if symbol and symbol.endswith("-open") else "white"
+    return go.Scatter(x=[None], y=[None], mode="markers", marker=dict(
+        symbol=symbol, size=11, color=fill, line=dict(color="black", width=1.5)), **common)
+
+
+def _pattern(shape: str) -> dict[str, object]:
+    """Fill pattern drawn in white over a candidate's colour."""
+    return dict(shape=shape, fgcolor="white", fillmode="overlay", solidity=0.4)
+
+
+def _finish(fig: go.Figure, title: str, *, height: int) -> go.Figure:
+    fig.update_layout(template=TEMPLATE, title=dict(text=title, x=0.0, xanchor="left"),
+                      height=height, hoverlabel=dict(namelength=-1),
+                      legend=dict(groupclick="togglegroup"),
+                      margin=dict(l=70, r=30, t=80, b=60))
+    return fig
+
+
+def _no_data(title: str, table: str) -> go.Figure:
+    fig = go.Figure()
+    fig.add_annotation(text=f"The study produced no rows in the {table} table.",
+                       showarrow=False, x=0.5, y=0.5, xref="paper", yref="paper")
+    fig.update_xaxes(visible=False)
+    fig.update_yaxes(visible=False)
+    return _finish(fig, title, height=240)
+
+
+def _facet_titles(values: Iterable[object]) -> list[str]:
+    return [escape(v) for v in values]
+
+
+# ----------------------------------------------------------------------------- cost and CO2
+
+
+def _class_facets(table: pd.DataFrame) -> tuple[list[str], go.Figure]:
+    """Vehicle classes of a per-km table and a figure with one panel per class."""
+    classes = list(dict.fromkeys(table["vehicle_class"]))
+    fig = make_subplots(rows=1, cols=len(classes), shared_yaxes=True,
+                        subplot_titles=_facet_titles(classes), horizontal_spacing=0.04)
+    return classes, fig
+
+
+def cost_per_km_chart(result: StudyResult) -> go.Figure:
+    """Cost per km of each candidate, stacked by fuel, upkeep and capital, one facet per class.
+
+    Parameters
+    ----------
+    result : StudyResult
+        Reads the ``per_km`` table (``cost_fuel_per_km``, ``cost_upkeep_per_km``,
+        ``cost_capital_per_km`` [currency/km]).
+
+    Returns
+    -------
+    plotly.graph_objects.Figure
+    """
+    title = "Cost per km by part"
+    table = result.per_km
+    if table.empty:
+        return _no_data(title, "per_km")
+    st = _style(result)
+    classes, fig = _class_facets(table)
+    parts = {"fuel": "cost_fuel_per_km", "upkeep": "cost_upkeep_per_km",
+             "capital": "cost_capital_per_km"}
+    shown: set[str] = set()
+    for col, vclass in enumerate(classes, start=1):
+        rows = table[table["vehicle_class"] == vclass].set_index("candidate")
+        for cand in st.order(rows.reset_index()):
+            row = rows.loc[cand]
+            for part, column in parts.items():
+                fig.add_trace(go.Bar(
+                    x=[st.name(cand)], y=[row[column]], name=st.name(cand),
+                    legendgroup=_group(cand), showlegend=cand not in shown,
+                    marker=dict(color=st.colour(cand), pattern=_pattern(COST_PATTERNS[part])),
+                    customdata=[[row["cost_per_km"]]],
+                    hovertemplate=(f"{part}: %{{y:.4f}} {st.currency}/km<br>"
+                                   f"total: %{{customdata[0]:.4f}} {st.currency}/km"),
+                ), row=1, col=col)
+                shown.add(cand)
+    for (part, shape), look in zip(COST_PATTERNS.items(), ("solid", "hatched", "dotted"),
+                                   strict=True):
+        fig.add_trace(_legend_key(f"{part}: {look}", pattern=shape))
+    fig.update_layout(barmode="stack")
+    fig.update_yaxes(title_text=f"cost per km [{st.currency}/km]", row=1, col=1)
+    return _finish(fig, title, height=460)
+
+
+def co2_per_km_chart(result: StudyResult) -> go.Figure:
+    """Tank-to-wheel CO2 and well-to-wheel CO2e per km, side by side, one facet per class.
+
+    Parameters
+    ----------
+    result : StudyResult
+        Reads the ``per_km`` table (``co2_ttw_g_per_km``, ``co2e_wtw_g_per_km`` [g/km]).
+
+    Returns
+    -------
+    plotly.graph_objects.Figure
+        Solid bars tank-to-wheel, hatched bars well-to-wheel.
+    """
+    title = "CO2 per km: tank-to-wheel and well-to-wheel"
+    table = result.per_km
+    if table.empty:
+        return _no_data(title, "per_km")
+    st = _style(result)
+    classes, fig = _class_facets(table)
+    kinds = {"tank-to-wheel CO2": ("co2_ttw_g_per_km", ""),
+             "well-to-wheel CO2e": ("co2e_wtw_g_per_km", "/")}
+    shown: set[str] = set()
+    for col, vclass in enumerate(classes, start=1):
+        rows = table[table["vehicle_class"] == vclass].set_index("candidate")
+        for cand in st.order(rows.reset_index()):
+            for kind, (column, shape) in kinds.items():
+                fig.add_trace(go.Bar(
+                    x=[st.name(cand)], y=[rows.loc[cand, column]], name=st.name(cand),
+                    legendgroup=_group(cand), showlegend=cand not in shown, offsetgroup=kind,
+                    marker=dict(color=st.colour(cand), pattern=_pattern(shape)),
+                    hovertemplate=f"{kind}: %{{y:.1f}} g/km",
+                ), row=1, col=col)
+                shown.add(cand)
+    for kind, (_, shape) in kinds.items():
+        fig.add_trace(_legend_key(kind, pattern=shape))
+    fig.update_layout(barmode="group")
+    fig.update_yaxes(title_text="CO2 per km [g/km]", rangemode="tozero", row=1, col=1)
+    return _finish(fig, title, height=460)
+
+
+# ----------------------------------------------------------------------------- NOx over time
+
+
+def nox_monthly_chart(result: StudyResult) -> go.Figure:
+    """Tailpipe NOx per km month by month as catalysts age, with replacements marked.
+
+    Parameters
+    ----------
+    result : StudyResult
+        Reads the ``nox_monthly`` table (``nox_g_per_km`` [g/km], ``catalyst_efficiency`` [-],
+        ``replaced`` [bool]); one row of facets per vehicle class.
+
+    Returns
+    -------
+    plotly.graph_objects.Figure
+        A line per candidate; a diamond where ``replaced`` is true.
+    """
+    title = "Tailpipe NOx over the programme"
+    table = result.nox_monthly
+    if table.empty:
+        return _no_data(title, "nox_monthly")
+    st = _style(result)
+    classes = list(dict.fromkeys(table["vehicle_class"]))
+    fig = make_subplots(rows=len(classes), cols=1, shared_xaxes=True,
+                        subplot_titles=_facet_titles(classes), vertical_spacing=0.08)
+    shown: set[str] = set()
+    for r, vclass in enumerate(classes, start=1):
+        rows = table[table["vehicle_class"] == vclass]
+        for cand in st.order(rows):
+            d = rows[rows["candidate"] == cand].sort_values("month")
+            common = dict(name=st.name(cand), legendgroup=_group(cand))
+            fig.add_trace(go.Scatter(
+                x=d["month"], y=d["nox_g_per_km"], mode="lines", showlegend=cand not in shown,
+                line=dict(color=st.colour(cand), width=2),
+                customdata=d["catalyst_efficiency"],
+                hovertemplate=("month %{x}: %{y:.4f} g/km NOx<br>"
+                               "catalyst conversion %{customdata:.1%}"), **common,
+            ), row=r, col=1)
+            shown.add(cand)
+            rep = d[d["replaced"].astype(bool)]
+            fig.add_trace(go.Scatter(
+                x=rep["month"], y=rep["nox_g_per_km"], mode="markers", showlegend=False,
+                marker=dict(symbol="diamond", size=10, color=st.colour(cand),
+                            line=dict(color="black", width=1)),
+                hovertemplate="catalyst replaced in month %{x}: %{y:.4f} g/km NOx", **common,
+            ), row=r, col=1)
+        fig.update_yaxes(title_text="tailpipe NOx [g/km]", rangemode="tozero", row=r, col=1)
+    fig.add_trace(_legend_key("catalyst replaced", symbol="diamond"))
+    fig.update_xaxes(title_text="month of the programme [month]", row=len(classes), col=1)
+    return _finish(fig, title, height=160 + 260 * len(classes))
+
+
+# ----------------------------------------------------------------------------- storage
+
+
+def energy_density_chart(result: StudyResult) -> go.Figure:
+    """Energy per kg against energy per litre: the fuel alone and with its tank system.
+
+    Parameters
+    ----------
+    result : StudyResult
+        Reads the ``storage`` table (``energy_density_mj_per_kg``, ``energy_density_mj_per_l``,
+        ``system_energy_density_mj_per_kg``, ``system_energy_density_mj_per_l``).
+
+    Returns
+    -------
+    plotly.graph_objects.Figure
+        Per candidate a filled circle (fuel alone) joined to an open diamond (tank system).
+    """
+    title = "Energy density: fuel alone and with its tank system"
+    table = result.storage
+    if table.empty:
+        return _no_data(title, "storage")
+    st = _style(result)
+    fig = go.Figure()
+    for cand in st.order(table):
+        # one line per fuel the candidate uses (the tank system depends on the class only
+        # through its range, so the first class using the fuel stands for it)
+        rows = table[table["candidate"] == cand].drop_duplicates("fuel")
+        for i, (_, row) in enumerate(rows.iterrows()):
+            fig.add_trace(_density_trace(st, cand, row, first=i == 0))
+    fig.add_trace(_legend_key("fuel alone", symbol="circle"))
+    fig.add_trace(_legend_key("tank system", symbol="diamond-open"))
+    fig.update_xaxes(title_text="energy per mass, LHV [MJ/kg]", rangemode="tozero")
+    fig.update_yaxes(title_text="energy per volume, LHV [MJ/L]", rangemode="tozero")
+    return _finish(fig, title, height=480)
+
+
+def _density_trace(st: _Style, cand: str, row: pd.Series, *, first: bool) -> go.Scatter:
+    fuel = escape(row["fuel"])
+    return go.Scatter(
+            x=[row["energy_density_mj_per_kg"], row["system_energy_density_mj_per_kg"]],
+            y=[row["energy_density_mj_per_l"], row["system_energy_density_mj_per_l"]],
+            mode="lines+markers", name=st.name(cand), legendgroup=_group(cand),
+            showlegend=first,
+            line=dict(color=st.colour(cand), dash="dot", width=1.5),
+            marker=dict(symbol=["circle", "diamond-open"], size=13, color=st.colour(cand),
+                        line=dict(width=2, color=st.colour(cand))),
+            customdata=[f"{fuel}, fuel alone", f"{fuel}, tank system"],
+            hovertemplate="%{customdata}<br>%{x:.2f} MJ/kg, %{y:.2f} MJ/L",
+        )
+
+
+# ----------------------------------------------------------------------------- money
+
+
+def cash_flow_chart(result: StudyResult) -> go.Figure:
+    """Cumulative discounted cash flow of each candidate against the baseline, payback marked.
+
+    Parameters
+    ----------
+    result : StudyResult
+        Reads ``cash_flows`` (``cumulative_discounted_vs_baseline`` [currency]) and the
+        candidates' ``discounted_payback_years`` [year]; the baseline is left out.
+
+    Returns
+    -------
+    plotly.graph_objects.Figure
+        A line per candidate; a star on the zero line at its discounted payback, if any.
+    """
+    title = "Cumulative discounted cash flow against the baseline"
+    table = result.cash_flows
+    if table.empty:
+        return _no_data(title, "cash_flows")
+    st = _style(result)
+    cands = result.candidates.set_index("candidate")
+    baseline = set(cands.index[cands["is_baseline"].astype(bool)])
+    fig = go.Figure()
+    for cand in st.order(table):
+        if cand in baseline:
+            continue
+        d = table[table["candidate"] == cand].sort_values("year")
+        common = dict(name=st.name(cand), legendgroup=_group(cand))
+        fig.add_trace(go.Scatter(
+            x=d["year"], y=d["cumulative_discounted_vs_baseline"], mode="lines+markers",
+            line=dict(color=st.colour(cand), width=2), marker=dict(size=5),
+            hovertemplate=f"year %{{x}}: %{{y:,.0f}} {st.currency}", **common))
+        payback = cands.loc[cand, "discounted_payback_years"] if cand in cands.index else np.nan
+        if np.isfinite(payback):  # counted from the conversion year, the table's first
+            fig.add_trace(go.Scatter(
+                x=[d["year"].iloc[0] + payback], y=[0.0], mode="markers", showlegend=False,
+                marker=dict(symbol="star", size=16, color=st.colour(cand),
+                            line=dict(color="black", width=1)),
+                customdata=[payback],
+                hovertemplate="discounted payback after %{customdata:.1f} years", **common))
+    fig.add_hline(y=0.0, line=dict(color="black", width=1))
+    fig.add_trace(_legend_key("discounted payback", symbol="star"))
+    fig.update_xaxes(title_text="year of the programme [year]")
+    fig.update_yaxes(title_text=f"cumulative discounted cash flow vs baseline [{st.currency}]",
+                     tickformat=",.0f")
+    return _finish(fig, title, height=480)
+
+
+def tornado_chart(result: StudyResult) -> go.Figure:
+    """One-at-a-time sensitivity of NPV: a tornado per candidate, widest swing on top.
+
+    Parameters
+    ----------
+    result : StudyResult
+        Reads ``tornado`` (``npv_at_low``, ``npv_at_high`` [currency]) and the candidates'
+        ``npv_vs_baseline`` [currency], where each bar starts.
+
+    Returns
+    -------
+    plotly.graph_objects.Figure
+        Solid bars: input at its low value; hatched: at its high value.
+    """
+    title = "What moves the NPV: one input at a time"
+    table = result.tornado
+    if table.empty:
+        return _no_data(title, "tornado")
+    st = _style(result)
+    npv = result.candidates.set_index("candidate")["npv_vs_baseline"]
+    cands = st.order(table)
+    sizes = [int((table["candidate"] == c).sum()) for c in cands]
+    fig = make_subplots(rows=len(cands), cols=1, shared_xaxes=True, row_heights=sizes,
+                        subplot_titles=[st.name(c) for c in cands], vertical_spacing=0.1)
+    ends = {"low": ("npv_at_low", "low_value", ""), "high": ("npv_at_high", "high_value", "/")}
+    for r, cand in enumerate(cands, start=1):
+        d = table[table["candidate"] == cand].sort_values("swing")
+        base = float(npv.get(cand, 0.0))
+        inputs = [escape(v) for v in d["input"]]
+        for end, (npv_col, value_col, shape) in ends.items():
+            fig.add_trace(go.Bar(
+                y=inputs, x=d[npv_col] - base, base=base, orientation="h",
+                name=st.name(cand), legendgroup=_group(cand), showlegend=False,
+                marker=dict(color=st.colour(cand), pattern=_pattern(shape)),
+                customdata=np.column_stack([d[value_col], d[npv_col]]),
+                hovertemplate=(f"%{{y}} at its {end} value %{{customdata[0]:.4g}}:<br>"
+                               f"NPV %{{customdata[1]:,.0f}} {st.currency}"),
+            ), row=r, col=1)
+        fig.add_vline(x=base, line=dict(color="black", width=1), row=r, col=1)
+    for end, (_, _, shape) in ends.items():
+        fig.add_trace(_legend_key(f"input at its {end} value", pattern=shape))
+    fig.update_layout(barmode="overlay")
+    fig.update_xaxes(title_text=f"NPV vs baseline [{st.currency}]", tickformat=",.0f",
+                     row=len(cands), col=1)
+    return _finish(fig, title, height=140 + 34 * sum(sizes) + 60 * len(cands))
+
+
+def monte_carlo_chart(result: StudyResult) -> go.Figure:
+    """Distribution of NPV over the Monte Carlo draws, per candidate, with P10, P50 and P90.
+
+    Parameters
+    ----------
+    result : StudyResult
+        Reads ``monte_carlo`` (``npv_vs_baseline`` [currency]) and the candidates'
+        ``npv_p10``, ``npv_p50``, ``npv_p90`` [currency].
+
+    Returns
+    -------
+    plotly.graph_objects.Figure
+        A histogram per candidate (share of draws [%]); P10 dotted, P50 solid, P90 dashed.
+    """
+    title = "NPV against the baseline over the Monte Carlo draws"
+    table = result.monte_carlo
+    if table.empty:
+        return _no_data(title, "monte_carlo")
+    st = _style(result)
+    cands_table = result.candidates.set_index("candidate")
+    cands = st.order(table)
+    fig = make_subplots(rows=len(cands), cols=1, shared_xaxes=True,
+                        subplot_titles=[st.name(c) for c in cands], vertical_spacing=0.1)
+    lines = {"P10": ("npv_p10", "dot", "top left"), "P50": ("npv_p50", "solid", "top right"),
+             "P90": ("npv_p90", "dash", "top right")}
+    for r, cand in enumerate(cands, start=1):
+        d = table[table["candidate"] == cand]
+        fig.add_trace(go.Histogram(
+            x=d["npv_vs_baseline"], histnorm="percent", nbinsx=40, name=st.name(cand),
+            legendgroup=_group(cand), marker=dict(color=st.colour(cand)),
+            hovertemplate=f"NPV %{{x}} {st.currency}: %{{y:.1f}} % of draws"), row=r, col=1)
+        for label, (column, dash, where) in lines.items():
+            value = cands_table.loc[cand, column] if cand in cands_table.index else np.nan
+            if np.isfinite(value):
+                fig.add_vline(x=value, line=dict(color="black", width=1.5, dash=dash),
+                              annotation=dict(text=f"{label} {value:,.0f}", font_size=11),
+                              annotation_position=where, row=r, col=1)
+        fig.update_yaxes(title_text="share of draws [%]", row=r, col=1)
+    fig.update_xaxes(title_text=f"NPV vs baseline [{st.currency}]", tickformat=",.0f",
+                     row=len(cands), col=1)
+    fig.update_layout(bargap=0.05)
+    return _finish(fig, title, height=160 + 240 * len(cands))
+
+
+# ----------------------------------------------------------------------------- engine and flame
+
+
+def efficiency_map_chart(
+    speed_rpm: np.ndarray,
+    torque_nm: np.ndarray,
+    efficiency: np.ndarray,
+    operating_points: pd.DataFrame | None = None,
+    *,
+    colours: Mapping[str, str] | None = None,
+    names: Mapping[str, str] | None = None,
+    vehicle_class: str | None = None,
+    full_load_torque_nm: np.ndarray | None = None,
+    title: str = "Brake efficiency map with operating points",
+) -> go.Figure:
+    """Contours of brake efficiency over engine speed × torque, with time-weighted points.
+
+    Parameters
+    ----------
+    speed_rpm : array_like
+        Engine-speed axis [rpm].
+    torque_nm : array_like
+        Torque axis [N m].
+    efficiency : array_like
+        Brake efficiency, shape ``(len(torque_nm), len(speed_rpm))`` [-]; drawn in percent.
+    operating_points : pandas.DataFrame, optional
+        The ``operating_points`` table; marker area is proportional to ``hours`` [h].
+    colours, names : mapping, optional
+        Colour and display name by candidate id (``result.colours()`` and the candidates'
+        names); names are escaped here.
+    vehicle_class : str, optional
+        Draw only the points of this vehicle class.
+    full_load_torque_nm : array_like, optional
+        Full-load torque at each speed of the axis [N m].
+    title : str
+        Chart title (escaped).
+
+    Returns
+    -------
+    plotly.graph_objects.Figure
+
+    Raises
+    ------
+    ValueError
+        If the efficiency grid does not match the axes.
+    """
+    speed = np.asarray(speed_rpm, dtype=float)
+    torque = np.asarray(torque_nm, dtype=float)
+    eff = np.asarray(efficiency, dtype=float)
+    if eff.shape != (torque.size, speed.size):
+        raise ValueError(f"efficiency grid is {eff.shape}, axes need {(torque.size, speed.size)}")
+    fig = go.Figure(go.Contour(
+        x=speed, y=torque, z=eff * 100.0, colorscale="Cividis", name="brake efficiency",
+        contours=dict(showlabels=True, labelfont=dict(size=11, color="#222222")),
+        colorbar=dict(title=dict(text="brake efficiency [%]", side="right")),
+        hovertemplate="%{x:.0f} rpm, %{y:.0f} N m: brake efficiency %{z:.1f} %<extra></extra>",
+    ))
+    if full_load_torque_nm is not None:
+        fig.add_trace(go.Scatter(
+            x=speed, y=np.asarray(full_load_torque_nm, dtype=float), mode="lines",
+            name="full load", line=dict(color="black", width=3),
+            hovertemplate="full load at %{x:.0f} rpm: %{y:.0f} N m"))
+    points = operating_points if operating_points is not None else pd.DataFrame()
+    if vehicle_class is not None and not points.empty:
+        points = points[points["vehicle_class"] == vehicle_class]
+    if not points.empty:
+        colours = colours or {}
+        names = names or {}
+        hours_max = float(points["hours"].max())
+        sizeref = 2.0 * hours_max / 22.0**2 if hours_max > 0.0 else 1.0
+        for cand in _order(names, points):
+            d = points[points["candidate"] == cand]
+            fig.add_trace(go.Scatter(
+                x=d["engine_speed_rpm"], y=d["torque_nm"], mode="markers",
+                name=escape(names.get(cand, cand)), legendgroup=_group(cand),
+                marker=dict(size=d["hours"], sizemode="area", sizeref=sizeref, sizemin=3,
+                            color=colours.get(cand, NEUTRAL), opacity=0.85,
+                            line=dict(color="white", width=1)),
+                customdata=np.column_stack([d["hours"], d["brake_efficiency"]]),
+                hovertemplate=("%{x:.0f} rpm, %{y:.0f} N m<br>%{customdata[0]:,.1f} h, "
+                               "brake efficiency %{customdata[1]:.1%}")))
+    fig.update_xaxes(title_text="engine speed [rpm]")
+    fig.update_yaxes(title_text="brake torque [N m]", rangemode="tozero")
+    fig.update_layout(legend=dict(orientation="h", y=-0.18))
+    return _finish(fig, escape(title), height=520)
+
+
+def flame_chart(result: StudyResult) -> go.Figure:
+    """Adiabatic flame temperature and thermal NO against equivalence ratio, two panels.
+
+    Parameters
+    ----------
+    result : StudyResult
+        Reads the ``flame`` table (``phi`` [-], ``flame_temperature_k`` [K], ``no_ppm`` [ppm]).
+
+    Returns
+    -------
+    plotly.graph_objects.Figure
+        Top panel flame temperature, bottom panel NO, sharing the phi axis.
+    """
+    title = "Flame temperature and thermal NO against equivalence ratio"
+    table = result.flame
+    if table.empty:
+        return _no_data(title, "flame")
+    st = _style(result)
+    fig = make_subplots(rows=2, cols=1, shared_xaxes=True, vertical_spacing=0.08)
+    dashes = ("solid", "dash", "dot", "dashdot")
+    for cand in st.order(table):
+        rows = table[table["candidate"] == cand]
+        for i, fuel_id in enumerate(dict.fromkeys(rows["fuel"])):
+            d = rows[rows["fuel"] == fuel_id].sort_values("phi")
+            fuel = escape(fuel_id)
+            common = dict(name=f"{st.name(cand)}: {fuel}", legendgroup=_group(cand),
+                          mode="lines+markers", marker=dict(size=5),
+                          line=dict(color=st.colour(cand), width=2,
+                                    dash=dashes[i % len(dashes)]))
+            fig.add_trace(go.Scatter(
+                x=d["phi"], y=d["flame_temperature_k"],
+                hovertemplate=f"{fuel}, phi %{{x:.2f}}: %{{y:.0f}} K", **common), row=1, col=1)
+            fig.add_trace(go.Scatter(
+                x=d["phi"], y=d["no_ppm"], showlegend=False,
+                hovertemplate=f"{fuel}, phi %{{x:.2f}}: NO %{{y:.0f}} ppm", **common),
+                row=2, col=1)
+    fig.update_yaxes(title_text="adiabatic flame temperature [K]", row=1, col=1)
+    fig.update_yaxes(title_text="thermal NO [ppm]", rangemode="tozero", row=2, col=1)
+    fig.update_xaxes(title_text="equivalence ratio phi [-]", row=2, col=1)
+    return _finish(fig, title, height=640)
+
+
+# ----------------------------------------------------------------------------- all of them
+
+
+def _as_grid(grid: MapGrid | EngineMap) -> MapGrid:
+    return grid if isinstance(grid, MapGrid) else MapGrid.from_engine_map(grid)
+
+
+def all_figures(
+    result: StudyResult,
+    *,
+    map_grid: MapGrid | EngineMap | Mapping[str, MapGrid | EngineMap] | None = None,
+) -> dict[str, go.Figure]:
+    """Every chart of a result, by key, in report order.
+
+    Parameters
+    ----------
+    result : StudyResult
+        The study's result.
+    map_grid : MapGrid, EngineMap or mapping of them by vehicle class, optional
+        Efficiency map(s) to draw the operating points on. One map draws every point; a
+        mapping draws one chart per vehicle class (key ``"efficiency_map:<class>"``) with that
+        class's points. Without it there is no efficiency-map chart.
+
+    Returns
+    -------
+    dict of str to plotly.graph_objects.Figure
+    """
+    figs = {
+        "cost_per_km": cost_per_km_chart(result),
+        "co2_per_km": co2_per_km_chart(result),
+        "nox_monthly": nox_monthly_chart(result),
+        "energy_density": energy_density_chart(result),
+        "cash_flow": cash_flow_chart(result),
+    }
+    if map_grid is not None:
+        names = dict(zip(result.candidates["candidate"], result.candidates["name"], strict=True))
+        grids = (map_grid.items() if isinstance(map_grid, Mapping)
+                 else [(None, map_grid)])
+        for vclass, grid in grids:
+            g = _as_grid(grid)
+            label = "Brake efficiency map with operating points"
+            if vclass is not None:
+                label += f": {vclass}"
+            elif g.name:
+                label += f": {g.name}"
+            key = "efficiency_map" if vclass is None else f"efficiency_map:{vclass}"
+            figs[key] = efficiency_map_chart(
+                g.speed_rpm, g.torque_nm, g.efficiency, result.operating_points,
+                colours=result.colours(), names=names, vehicle_class=vclass,
+                full_load_torque_nm=g.full_load_torque_nm, title=label)
+    figs["tornado"] = tornado_chart(result)
+    figs["monte_carlo"] = monte_carlo_chart(result)
+    figs["flame"] = flame_chart(result)
+    return figs

@@ -1,0 +1,87 @@
+"""The ``workbench`` command line.
+
+Each command group lives in ``workbench/commands/<group>.py`` and exposes ``register(sub)``,
+which adds its sub-parser and sets ``func`` on it. ``main`` turns :class:`InputError` into one
+line on standard error and exit status 2, never a traceback.
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib
+import json
+import sys
+from collections.abc import Sequence
+from typing import Any
+
+from workbench.core.errors import InputError
+
+#: Command modules, in the order their groups appear in ``workbench --help``.
+COMMAND_MODULES = ("fuels", "nox", "duty", "study")
+
+
+class _Parser(argparse.ArgumentParser):
+    """An argument parser whose usage errors are one line and exit status 2."""
+
+    def error(self, message: str) -> None:  # type: ignore[override]
+        self.exit(2, f"{self.prog}: error: {message}\n")
+
+
+def build_parser() -> argparse.ArgumentParser:
+    """Build the full ``workbench`` argument parser.
+
+    Returns
+    -------
+    argparse.ArgumentParser
+        The parser with every command group registered.
+    """
+    parser = _Parser(prog="workbench", description="Fuel-switch studies for vehicle fleets.")
+    sub = parser.add_subparsers(dest="group", required=True, parser_class=_Parser)
+    for name in COMMAND_MODULES:
+        importlib.import_module(f"workbench.interfaces.commands.{name}").register(sub)
+    return parser
+
+
+def print_json(obj: Any) -> None:
+    """Print ``obj`` as indented JSON on standard output (NaN becomes null)."""
+    print(json.dumps(_json_safe(obj), indent=2, ensure_ascii=False))
+
+
+def _json_safe(obj: Any) -> Any:
+    if isinstance(obj, float):
+        return None if obj != obj or obj in (float("inf"), float("-inf")) else obj
+    if isinstance(obj, dict):
+        return {str(k): _json_safe(v) for k, v in obj.items()}
+    if isinstance(obj, list | tuple):
+        return [_json_safe(v) for v in obj]
+    if hasattr(obj, "item") and callable(obj.item):  # numpy scalars
+        return _json_safe(obj.item())
+    return obj
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    """Run the command line.
+
+    Parameters
+    ----------
+    argv : sequence of str, optional
+        Arguments without the program name; ``sys.argv[1:]`` when omitted.
+
+    Returns
+    -------
+    int
+        Exit status: 0 on success, 2 on a bad input.
+    """
+    args = build_parser().parse_args(argv)
+    try:
+        args.func(args)
+    except InputError as exc:
+        print(f"workbench: error: {exc}", file=sys.stderr)
+        return 2
+    except BrokenPipeError:  # output piped into `head`
+        return 0
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,197 @@
+"""Fuel candidates panel: each option's fuel from the library, or a blend of two with a slider.
+
+One row per fuel choice of the study (the baseline's per class when it names one per class,
+each candidate's). Picking a library fuel writes its id; a blend is written as a study-file
+blend table that keeps the option's fuel id, so the price, escalation and upstream entries of
+that id still apply. Picking a fuel the study has no price for copies the old fuel's price,
+escalation and upstream entries to the new id (the panel says so: check them in the economics
+panel) and drops the old fuel's entries when no option uses it any more. Each row shows the
+fuel's sheet (``workbench.interfaces.sheets.fuel_record``) as a table.
+"""
+
+from __future__ import annotations
+
+import tomllib
+from dataclasses import dataclass
+from typing import Any
+
+import ipywidgets as widgets
+
+from workbench.core.errors import InputError
+from workbench.core.fuels import BASES, LIBRARY, Fuel, list_fuels, load_fuel
+from workbench.interfaces.panels.fields import error_widget, esc, show_error
+from workbench.interfaces.panels.state import StudyState, option_slots
+from workbench.interfaces.sheets import SHEET_FIELDS, format_cell, fuel_record
+from workbench.study.studyfile import Study
+
+#: Dropdown value meaning "a blend of two library fuels".
+BLEND = "(blend of two fuels)"
+#: Sheet rows not shown (the header names the fuel; the flame conditions are the defaults).
+_HIDDEN = ("id", "name")
+@dataclass(frozen=True)
+class FuelSlot:
+    """One fuel choice of the study: title, key path and the fuel as the study reads it."""
+
+    title: str
+    path: str
+    fuel: Fuel
+
+
+#: Price-like tables keyed by fuel id that follow a fuel change.
+FUEL_TABLES = ("prices", "escalation", "upstream")
+
+
+def fuel_slots(study: Study) -> list[FuelSlot]:
+    """Every fuel choice of a study with its parsed fuel, baseline first."""
+    return [FuelSlot(s.title, s.path, s.option.per_class[s.class_id].fuel)
+            for s in option_slots(study, "fuel")]
+
+
+def library_blend(fuel_id: str) -> tuple[str, str, str, float] | None:
+    """The two parts, basis and first share of a library fuel that is a two-part blend."""
+    path = LIBRARY / f"{fuel_id}.toml"
+    if not path.is_file():
+        return None
+    table = tomllib.loads(path.read_text(encoding="utf-8")).get("blend", {})
+    parts = {k: v for k, v in table.items() if k not in ("basis", "source")}
+    if len(parts) != 2:
+        return None
+    (a, share), (b, _) = parts.items()
+    return a, b, str(table.get("basis", "mole")), float(share)
+
+
+def sheet_html(fuel: Fuel) -> str:
+    """A fuel's sheet as an HTML table (names and units of the glossary), escaped."""
+    record = fuel_record(fuel)
+    rows = "".join(
+        f'<tr data-key="{esc(k)}"><td>{esc(k)}</td><td style="text-align:right">'
+        f"{esc(format_cell(record[k]))}</td><td>{esc(unit)}</td></tr>"
+        for k, unit in SHEET_FIELDS.items() if k not in _HIDDEN)
+    return (f'<div class="wb-sheet"><b>{esc(fuel.name)}</b> ({esc(fuel.id)})'
+            f'<table style="font-size:12px;border-collapse:collapse">{rows}</table></div>')
+
+
+class FuelRow(widgets.VBox):
+    """The editor of one fuel choice: library fuel or blend, its sheet, its error."""
+
+    def __init__(self, state: StudyState, slot: FuelSlot) -> None:
+        self.state = state
+        self.path = slot.path
+        library = list_fuels()
+        raw = state.study.get(slot.path)
+        current = raw if isinstance(raw, str) else BLEND
+        options = [*library, BLEND] + ([current] if current not in (*library, BLEND) else [])
+        self.choice = widgets.Dropdown(options=options, value=current, description="fuel",
+                                       layout=widgets.Layout(width="320px"))
+        a, b, basis, share = self._blend_defaults(raw, slot.fuel, library)
+        self.part_a = widgets.Dropdown(options=library, value=a, description="part A",
+                                       layout=widgets.Layout(width="220px"))
+        self.part_b = widgets.Dropdown(options=library, value=b, description="part B",
+                                       layout=widgets.Layout(width="220px"))
+        self.basis = widgets.Dropdown(options=BASES, value=basis, description="basis",
+                                      layout=widgets.Layout(width="220px"))
+        self.share = widgets.FloatSlider(value=share, min=0.05, max=0.95, step=0.05,
+                                         description="share of A", continuous_update=False,
+                                         readout_format=".0%")
+        self.blend_box = widgets.HBox([self.part_a, self.part_b, self.basis, self.share],
+                                      layout=widgets.Layout(flex_flow="row wrap"))
+        self.blend_box.layout.display = "" if current == BLEND else "none"
+        self.error = error_widget()
+        self.note = widgets.HTML("")
+        self.sheet = widgets.HTML(sheet_html(slot.fuel))
+        self.choice.observe(self._choice_changed, names="value")
+        for w in (self.part_a, self.part_b, self.basis, self.share):
+            w.observe(self._blend_changed, names="value")
+        super().__init__([widgets.HTML(f"<b>{esc(slot.title)}</b>"),
+                          widgets.HBox([self.choice, self.error]), self.blend_box, self.note,
+                          self.sheet],
+                         layout=widgets.Layout(border="1px solid #ddd", padding="6px",
+                                               margin="4px 0"))
+
+    @staticmethod
+    def _blend_defaults(raw: Any, fuel: Fuel, library: list[str]) -> tuple[str, str, str,
+                                                                            float]:
+        if isinstance(raw, dict) and isinstance(raw.get("parts"), dict) and len(
+                raw["parts"]) == 2:
+            (a, share), (b, _) = raw["parts"].items()
+            return a, b, str(raw.get("basis", "mole")), float(share)
+        known = library_blend(fuel.id)
+        if known is not None:
+            return known
+        same_phase = [f for f in library if f != fuel.id and load_fuel(f).is_gas == fuel.is_gas]
+        first = fuel.id if fuel.id in library else library[0]
+        return first, (same_phase or library)[0], "mole", 0.8
+
+    def _slot(self) -> FuelSlot:
+        return next(s for s in fuel_slots(self.state.study) if s.path == self.path)
+
+    def _refresh(self) -> None:
+        self.sheet.value = sheet_html(self._slot().fuel)
+
+    def _choice_changed(self, change: dict[str, Any]) -> None:
+        self.blend_box.layout.display = "" if change["new"] == BLEND else "none"
+        self.note.value = ""
+        if change["new"] == BLEND:
+            self._blend_changed({})
+            return
+        self._apply_library(change["new"])
+
+    def _apply_library(self, new_id: str) -> None:
+        study = self.state.study
+        data = study.data
+        slots = fuel_slots(study)
+        old_id = self._slot().fuel.id
+        changes: dict[str, Any] = {self.path: new_id}
+        remove: list[str] = []
+        copied = []
+        for table in FUEL_TABLES:
+            entries = data.get(table, {})
+            if new_id not in entries and old_id in entries:
+                changes[f"{table}.{new_id}"] = entries[old_id]
+                copied.append(table)
+        still_used = {s.fuel.id for s in slots if s.path != self.path}
+        if old_id not in still_used and old_id != new_id:
+            remove = [f"{t}.{old_id}" for t in FUEL_TABLES if t in data]
+        error = self.state.apply_many(changes, remove=tuple(remove))
+        show_error(self.error, error)
+        if error is None:
+            self._refresh()
+            if copied:
+                self.note.value = (
+                    f"<i>{esc(', '.join(copied))} of {esc(new_id)} copied from {esc(old_id)}: "
+                    "check them in the economics panel.</i>")
+
+    def _blend_changed(self, _change: dict[str, Any]) -> None:
+        if self.choice.value != BLEND:
+            return
+        a, b = self.part_a.value, self.part_b.value
+        if a == b:
+            show_error(self.error, InputError(f"{self.path}.parts", "pick two different fuels"))
+            return
+        share = round(float(self.share.value), 4)
+        value = {"id": self._slot().fuel.id, "basis": self.basis.value,
+                 "parts": {a: share, b: round(1.0 - share, 4)}}
+        error = self.state.apply(self.path, value)
+        show_error(self.error, error)
+        if error is None:
+            self._refresh()
+
+
+class CandidatesPanel(widgets.VBox):
+    """Fuel of each option (baseline and candidates), with its sheet.
+
+    Parameters
+    ----------
+    state : StudyState
+        The shared state.
+
+    Attributes
+    ----------
+    rows : dict of str to FuelRow
+        The editor of each fuel choice, by key path.
+    """
+
+    def __init__(self, state: StudyState) -> None:
+        self.state = state
+        self.rows = {s.path: FuelRow(state, s) for s in fuel_slots(state.study)}
+        super().__init__([widgets.HTML("<h3>Fuel candidates</h3>"), *self.rows.values()])

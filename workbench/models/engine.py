@@ -1,0 +1,865 @@
+"""Engine efficiency maps, fuel over a duty, and fuel and energy per km.
+
+An :class:`EngineMap` holds brake efficiency on a grid of engine speed × torque, the full-load
+torque curve, idle speed and idle fuel power. It comes from a CSV grid (:func:`read_map`, in
+brake efficiency or BSFC) or from a Willans-line model (:func:`willans_map`). Per-fuel engine
+options (power derate, efficiency offset) are derived maps (:meth:`EngineMap.adjusted`).
+
+:func:`duty_energy` runs a trace through a vehicle and a map, in chunks so that a year of 1 Hz
+data stays in bounded memory, and returns fuel energy (LHV) and the shares of time out of map
+and at full load; :func:`mode_energy` does the same for a time-at-mode table.
+:func:`fuel_per_km` turns the fuel energy into per-km figures for any fuel from three plain
+numbers (LHV, stored density, CO2 per kg); :func:`fuel_per_km_for` takes them from a
+:class:`~workbench.core.fuels.Fuel` and its fuel sheet.
+
+Fuel power at an operating point (engine speed ``n``, brake torque ``T``)
+------------------------------------------------------------------------
+* ``T`` at or above the map's lowest torque row ``T_min``: ``n T / eta(n, T)``, with ``eta``
+  interpolated bilinearly on the grid: it passes through the grid points and is monotone
+  wherever the grid is (scipy's pchip on a regular grid would be too, but costs ~0.4 ms per
+  point, far too slow for a year of 1 Hz data).
+* ``0 <= T < T_min``: linear in torque between the zero-load fuel power
+  ``P_idle * n / n_idle`` (constant friction torque) and the fuel power at ``T_min``.
+* Speeds outside the speed axis are clamped to it; torques above the full-load curve or the top
+  torque row are clamped to them. Every clamped point counts as *out of map*; a demand at or
+  above full load also counts as *at full load*. Nothing is extrapolated.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from collections.abc import Iterable
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import TYPE_CHECKING, Literal
+
+import numpy as np
+from scipy.interpolate import RegularGridInterpolator
+
+from workbench.core.errors import InputError
+from workbench.models.duty import DutySettings, DutyTrace, ModeTable
+from workbench.models.vehicle import FIRED, IDLE, Vehicle, operating_points, road_load
+
+if TYPE_CHECKING:
+    from workbench.core.fuels import Fuel
+    from workbench.models.combustion import FuelSheet
+
+_RPM = 2.0 * math.pi / 60.0
+
+#: Gasoline (E0) energy per litre used for gasoline-litre equivalents [J/m3]:
+#: LHV 43.2 MJ/kg × 745 kg/m3 (JEC Well-to-Wheels report v5, 2020, fuel properties table;
+#: from memory).
+GASOLINE_ENERGY_PER_VOLUME = 43.2e6 * 745.0
+
+#: Diesel (B0) energy per litre used for diesel-litre equivalents [J/m3]:
+#: LHV 43.1 MJ/kg × 832 kg/m3 (same source, from memory).
+DIESEL_ENERGY_PER_VOLUME = 43.1e6 * 832.0
+
+#: Litres per US gallon (231 cubic inches) and kilometres per mile, exact by definition
+#: (NIST Handbook 44, Appendix C).
+US_GALLON_L = 3.785411784
+MILE_KM = 1.609344
+
+
+@dataclass(frozen=True)
+class MapLookup:
+    """Fuel power at operating points, with the points that had to be clamped.
+
+    Attributes
+    ----------
+    fuel_power : numpy.ndarray
+        Fuel energy flow, LHV basis [W].
+    out_of_map : numpy.ndarray
+        True where speed or torque was clamped to the map.
+    at_full_load : numpy.ndarray
+        True where the torque demand reached the full-load curve.
+    """
+
+    fuel_power: np.ndarray
+    out_of_map: np.ndarray
+    at_full_load: np.ndarray
+
+
+@dataclass(frozen=True, eq=False)
+class EngineMap:
+    """Brake efficiency over engine speed × torque, with full-load curve and idle fuel.
+
+    Parameters
+    ----------
+    name : str
+        Label (file path or model name).
+    speed : numpy.ndarray
+        Engine-speed axis, strictly increasing [rad/s].
+    torque : numpy.ndarray
+        Torque axis, strictly increasing, >= 0 [N m].
+    efficiency : numpy.ndarray
+        Brake efficiency, shape ``(len(torque), len(speed))``, each in (0, 1) [-].
+    full_load_torque : numpy.ndarray
+        Full-load torque at each speed of the axis [N m].
+    idle_speed : float
+        Idle speed [rad/s].
+    idle_fuel_power : float
+        Fuel power at idle with no load, LHV basis [W].
+    """
+
+    name: str
+    speed: np.ndarray
+    torque: np.ndarray
+    efficiency: np.ndarray
+    full_load_torque: np.ndarray
+    idle_speed: float
+    idle_fuel_power: float
+    _interp: RegularGridInterpolator = field(init=False, repr=False)
+
+    def __post_init__(self) -> None:
+        for attr in ("speed", "torque", "efficiency", "full_load_torque"):
+            a = np.array(getattr(self, attr), dtype=float)
+            a.setflags(write=False)
+            object.__setattr__(self, attr, a)
+        where = f"map {self.name}"
+        if self.speed.ndim != 1 or self.speed.size < 2 or np.any(np.diff(self.speed) <= 0):
+            raise InputError(f"{where}: speed", "axis needs >= 2 strictly increasing values")
+        if (self.torque.ndim != 1 or self.torque.size < 2 or np.any(np.diff(self.torque) <= 0)
+                or self.torque[0] < 0):
+            raise InputError(f"{where}: torque",
+                             "axis needs >= 2 strictly increasing values >= 0")
+        if self.efficiency.shape != (self.torque.size, self.speed.size):
+            raise InputError(f"{where}: efficiency",
+                             f"grid is {self.efficiency.shape}, axes need "
+                             f"{(self.torque.size, self.speed.size)}")
+        if not np.all((self.efficiency > 0.0) & (self.efficiency < 1.0)):
+            raise InputError(f"{where}: efficiency", "every cell must be in (0, 1)")
+        if self.full_load_torque.shape != self.speed.shape or not np.all(
+                self.full_load_torque > 0.0):
+            raise InputError(f"{where}: full_load", "needs one positive torque per speed")
+        if not (self.speed[0] <= self.idle_speed <= self.speed[-1]):
+            raise InputError(f"{where}: idle_speed", "must lie within the speed axis")
+        if not (math.isfinite(self.idle_fuel_power) and self.idle_fuel_power > 0.0):
+            raise InputError(f"{where}: idle_fuel_power", "must be a positive number")
+        interp = RegularGridInterpolator((self.torque, self.speed), self.efficiency,
+                                         method="linear")
+        object.__setattr__(self, "_interp", interp)
+
+    def efficiency_at(self, speed: np.ndarray, torque: np.ndarray) -> np.ndarray:
+        """Brake efficiency interpolated on the grid, speed and torque clamped to the axes.
+
+        Parameters
+        ----------
+        speed : array_like
+            Engine speed [rad/s].
+        torque : array_like
+            Brake torque [N m].
+
+        Returns
+        -------
+        numpy.ndarray
+            Brake efficiency [-].
+        """
+        n = np.clip(np.asarray(speed, dtype=float), self.speed[0], self.speed[-1])
+        t = np.clip(np.asarray(torque, dtype=float), self.torque[0], self.torque[-1])
+        n, t = np.broadcast_arrays(n, t)
+        return self._interp(np.stack([t.ravel(), n.ravel()], axis=-1)).reshape(n.shape)
+
+    def max_torque(self, speed: np.ndarray) -> np.ndarray:
+        """Full-load torque, linear between the axis points and held beyond them [N m]."""
+        return np.interp(speed, self.speed, self.full_load_torque)
+
+    def fuel_power(self, speed: np.ndarray, torque: np.ndarray) -> MapLookup:
+        """Fuel power at operating points, clamping (and flagging) points outside the map.
+
+        Parameters
+        ----------
+        speed : numpy.ndarray
+            Engine speed [rad/s], > 0.
+        torque : numpy.ndarray
+            Brake torque demanded [N m], >= 0.
+
+        Returns
+        -------
+        MapLookup
+            Fuel power [W] and the out-of-map and full-load flags.
+
+        Notes
+        -----
+        See the module docstring for the rule below the lowest torque row.
+        """
+        speed = np.asarray(speed, dtype=float)
+        torque = np.asarray(torque, dtype=float)
+        n = np.clip(speed, self.speed[0], self.speed[-1])
+        full = self.max_torque(speed)
+        cap = np.minimum(full, self.torque[-1])
+        t = np.minimum(torque, cap)
+        t_min = self.torque[0]
+        t_grid = np.maximum(t, t_min)
+        p_grid = speed * t_grid / self.efficiency_at(n, t_grid)
+        if t_min > 0.0:
+            p_zero = self.idle_fuel_power * speed / self.idle_speed
+            p_grid = np.where(t < t_min, p_zero + (p_grid - p_zero) * (t / t_min), p_grid)
+        return MapLookup(fuel_power=p_grid, out_of_map=(n != speed) | (torque > cap),
+                         at_full_load=torque >= full)
+
+    def adjusted(self, *, derate: float = 0.0, efficiency_offset: float = 0.0,
+                 name: str | None = None) -> EngineMap:
+        """This engine run on another fuel: less full-load torque, shifted efficiency.
+
+        Parameters
+        ----------
+        derate : float
+            Share of full-load torque (and so power) lost, in [0, 0.9) [-].
+        efficiency_offset : float
+            Added to every brake-efficiency cell, e.g. -0.01 for one point less [-].
+            Idle fuel power is kept.
+        name : str, optional
+            Label of the new map.
+
+        Returns
+        -------
+        EngineMap
+        """
+        if not (math.isfinite(derate) and 0.0 <= derate < 0.9):
+            raise InputError("derate", "must be a share in [0, 0.9), e.g. 0.1 for 10 % less power")
+        eff = self.efficiency + efficiency_offset
+        if not (math.isfinite(efficiency_offset) and np.all((eff > 0.0) & (eff < 1.0))):
+            raise InputError("efficiency_offset",
+                             "pushes map efficiency out of (0, 1); use a few points, e.g. -0.01")
+        return EngineMap(name=name or self.name, speed=self.speed, torque=self.torque,
+                         efficiency=eff, full_load_torque=self.full_load_torque * (1.0 - derate),
+                         idle_speed=self.idle_speed, idle_fuel_power=self.idle_fuel_power)
+
+
+# ----------------------------------------------------------------------------- Willans line
+
+
+@dataclass(frozen=True)
+class WillansParameters:
+    """A Willans-line engine: brake mean effective pressure linear in fuel mean effective pressure.
+
+    Parameters
+    ----------
+    displacement : float
+        Swept volume [m3].
+    stroke : float
+        Piston stroke [m].
+    e_max : float
+        Peak slope of the Willans line (marginal efficiency) [-].
+    e_curvature : float
+        Fall of that slope with mean piston speed away from ``piston_speed_opt`` [s2/m2].
+    piston_speed_opt : float
+        Mean piston speed of the highest slope [m/s].
+    pme_loss_0 : float
+        Friction and pumping mean effective pressure at zero piston speed [Pa].
+    pme_loss_2 : float
+        Its growth with piston speed squared [Pa s2/m2].
+    bmep_max : float
+        Peak full-load brake mean effective pressure [Pa].
+    full_load_shape : tuple of (float, float)
+        Full-load curve as (speed / rated speed, bmep / bmep_max) points [-].
+    idle_speed : float
+        [rad/s].
+    rated_speed : float
+        Highest speed of the map [rad/s].
+    """
+
+    displacement: float
+    stroke: float
+    e_max: float
+    e_curvature: float
+    piston_speed_opt: float
+    pme_loss_0: float
+    pme_loss_2: float
+    bmep_max: float
+    full_load_shape: tuple[tuple[float, float], ...]
+    idle_speed: float
+    rated_speed: float
+
+
+#: Typical shape parameters per ignition type ("typical value, example"; chosen so that peak
+#: brake efficiency is ~0.35 for a naturally aspirated spark-ignition engine on gasoline, LPG or
+#: CNG and ~0.40 for a turbocharged direct-injection diesel, common practice, no source).
+WILLANS_SHAPES: dict[str, dict[str, object]] = {
+    "spark-ignition": {
+        "e_max": 0.39, "e_curvature": 8.0e-4, "piston_speed_opt": 9.0,
+        "pme_loss_0": 1.5e5, "pme_loss_2": 400.0, "bmep_max": 12.0e5,
+        "full_load_shape": ((0.12, 0.80), (0.40, 1.0), (0.70, 1.0), (1.0, 0.88)),
+    },
+    "compression-ignition": {
+        "e_max": 0.43, "e_curvature": 1.0e-3, "piston_speed_opt": 8.0,
+        "pme_loss_0": 1.3e5, "pme_loss_2": 600.0, "bmep_max": 19.0e5,
+        "full_load_shape": ((0.20, 0.55), (0.40, 1.0), (0.65, 1.0), (1.0, 0.72)),
+    },
+}
+
+
+def willans_parameters(
+    kind: Literal["spark-ignition", "compression-ignition"],
+    *,
+    displacement: float,
+    stroke: float,
+    idle_speed: float,
+    rated_speed: float,
+) -> WillansParameters:
+    """Willans parameters of a typical engine of one ignition type.
+
+    Parameters
+    ----------
+    kind : {"spark-ignition", "compression-ignition"}
+        Spark ignition (gasoline, LPG, CNG) or compression ignition (diesel).
+    displacement : float
+        [m3].
+    stroke : float
+        [m].
+    idle_speed : float
+        [rad/s].
+    rated_speed : float
+        [rad/s].
+
+    Returns
+    -------
+    WillansParameters
+        With the shape values of :data:`WILLANS_SHAPES`.
+    """
+    if kind not in WILLANS_SHAPES:
+        raise ValueError(f"unknown engine kind {kind!r}; use one of {sorted(WILLANS_SHAPES)}")
+    return WillansParameters(displacement=displacement, stroke=stroke, idle_speed=idle_speed,
+                             rated_speed=rated_speed, **WILLANS_SHAPES[kind])  # type: ignore[arg-type]
+
+
+def willans_efficiency(params: WillansParameters, speed: np.ndarray,
+                       torque: np.ndarray) -> np.ndarray:
+    """Brake efficiency of a Willans-line engine.
+
+    Parameters
+    ----------
+    params : WillansParameters
+        The engine.
+    speed : array_like
+        Engine speed [rad/s].
+    torque : array_like
+        Brake torque [N m], >= 0.
+
+    Returns
+    -------
+    numpy.ndarray
+        Brake efficiency [-].
+
+    Notes
+    -----
+    With mean piston speed ``c_m = S omega / pi`` and four-stroke mean effective pressures
+    ``p_me = 4 pi T / V_d`` (brake) and ``p_mf`` (fuel), the Willans line is
+    ``p_me = e(c_m) p_mf - p_loss(c_m)``, with ``e = e_max - e_c (c_m - c_opt)**2`` and
+    ``p_loss = p_0 + p_2 c_m**2``. Brake efficiency is then
+    ``eta = p_me / p_mf = e p_me / (p_me + p_loss)``.
+
+    References
+    ----------
+    L. Guzzella, C. H. Onder, *Introduction to Modeling and Control of Internal Combustion
+    Engine Systems*, 2nd ed., Springer 2010, ch. 2 (Willans approximation; from memory); the
+    parameter values are typical examples, not from that book.
+    """
+    e, p_loss = _willans_terms(params, np.asarray(speed, dtype=float))
+    p_me = 4.0 * math.pi * np.asarray(torque, dtype=float) / params.displacement
+    return e * p_me / (p_me + p_loss)
+
+
+def _willans_terms(params: WillansParameters, speed: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    c_m = params.stroke * speed / math.pi
+    e = params.e_max - params.e_curvature * (c_m - params.piston_speed_opt) ** 2
+    return e, params.pme_loss_0 + params.pme_loss_2 * c_m**2
+
+
+def willans_map(params: WillansParameters, *, name: str, n_speed: int = 12,
+                n_torque: int = 14) -> EngineMap:
+    """Sample a Willans-line engine on a grid.
+
+    Parameters
+    ----------
+    params : WillansParameters
+        The engine.
+    name : str
+        Label of the map.
+    n_speed, n_torque : int
+        Grid points from idle to rated speed and from 5 % to 100 % of peak torque.
+
+    Returns
+    -------
+    EngineMap
+        Efficiency grid, full-load curve from ``full_load_shape``, and idle fuel power
+        ``p_loss V_d omega_idle / (4 pi e)`` (the Willans line at zero load).
+    """
+    speed = np.linspace(params.idle_speed, params.rated_speed, n_speed)
+    peak = params.bmep_max * params.displacement / (4.0 * math.pi)
+    torque = np.linspace(0.05, 1.0, n_torque) * peak
+    shape = np.array(params.full_load_shape)
+    full = np.interp(speed / params.rated_speed, shape[:, 0], shape[:, 1]) * peak
+    e_idle, loss_idle = _willans_terms(params, np.array(params.idle_speed))
+    idle_fuel = float(loss_idle * params.displacement * params.idle_speed / (4 * math.pi)
+                      / e_idle)
+    eff = willans_efficiency(params, speed[None, :], torque[:, None])
+    return EngineMap(name=name, speed=speed, torque=torque, efficiency=eff,
+                     full_load_torque=full, idle_speed=params.idle_speed,
+                     idle_fuel_power=idle_fuel)
+
+
+# ----------------------------------------------------------------------------- map CSV
+
+_MAP_META = re.compile(r"^#\s*([a-z_]+)\s*:\s*(.*?)\s*$")
+_MAP_KEYS = ("value", "idle_speed_rpm", "idle_fuel_power_kw", "bsfc_lhv_mj_per_kg")
+_SPEED_UNITS = {"rpm": _RPM, "rad_per_s": 1.0}
+_VALUE_KINDS = ("brake_efficiency", "bsfc_g_per_kwh")
+
+
+def read_map(path: str | Path) -> EngineMap:
+    """Read an efficiency map from a CSV grid.
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        CSV as described in ``docs/duty.md``: ``# key: value`` lines (``value``,
+        ``idle_speed_rpm``, ``idle_fuel_power_kw``, and ``bsfc_lhv_mj_per_kg`` for BSFC maps),
+        a header ``torque_n_m/speed_rpm,<speeds>``, a ``full_load,<torques>`` row, then one row
+        per torque: ``<torque>,<efficiency or BSFC per speed>``.
+    Returns
+    -------
+    EngineMap
+
+    Raises
+    ------
+    InputError
+        Missing cells or metadata, axes out of order, unknown units, values out of range; the
+        message names the file and row.
+    """
+    path = Path(path)
+    try:
+        text = path.read_text(encoding="utf-8")
+    except FileNotFoundError:
+        raise InputError(str(path), "file not found") from None
+    except (OSError, UnicodeDecodeError) as exc:
+        raise InputError(str(path), f"cannot read the file ({exc.__class__.__name__})") from None
+    meta: dict[str, str] = {}
+    rows: list[tuple[int, list[str]]] = []
+    for lineno, line in enumerate(text.splitlines(), start=1):
+        s = line.strip()
+        if not s:
+            continue
+        if s.startswith("#"):
+            m = _MAP_META.match(s)
+            if m and m.group(1) in _MAP_KEYS:
+                meta[m.group(1)] = m.group(2)
+            continue
+        rows.append((lineno, [c.strip() for c in s.split(",")]))
+    for key in ("value", "idle_speed_rpm", "idle_fuel_power_kw"):
+        if key not in meta:
+            raise InputError(str(path), f"missing metadata line '# {key}: ...'")
+    if meta["value"] not in _VALUE_KINDS:
+        raise InputError(f"{path}: value", f"unknown '{meta['value']}'; use one of "
+                                           f"{', '.join(_VALUE_KINDS)}")
+    if len(rows) < 4:
+        raise InputError(str(path), "needs a header, a full_load row and >= 2 torque rows")
+    (hline, header), (fline, full_row), *grid_rows = rows
+    axis = header[0].lower().replace(" ", "")
+    m = re.fullmatch(r"torque_n_m/speed_([a-z_]+)", axis)
+    if not m or m.group(1) not in _SPEED_UNITS:
+        raise InputError(f"{path} row {hline}",
+                         "first header cell must be torque_n_m/speed_rpm (or speed_rad_per_s)")
+    width = len(header)
+
+    def numbers(lineno: int, cells: list[str], what: str) -> np.ndarray:
+        if len(cells) != width:
+            raise InputError(f"{path} row {lineno}",
+                             f"has {len(cells)} fields, the header has {width}")
+        out = np.empty(len(cells))
+        for j, c in enumerate(cells):
+            try:
+                out[j] = float(c)
+            except ValueError:
+                raise InputError(f"{path} row {lineno} column {j + 1}",
+                                 f"{what} cell '{c}' is missing or not a number") from None
+            if not math.isfinite(out[j]):
+                raise InputError(f"{path} row {lineno} column {j + 1}",
+                                 f"{what} cell is not finite")
+        return out
+
+    speed = numbers(hline, ["0", *header[1:]], "speed")[1:] * _SPEED_UNITS[m.group(1)]
+    bad = np.flatnonzero(np.diff(speed) <= 0)
+    if bad.size:
+        raise InputError(f"{path} row {hline} column {bad[0] + 3}",
+                         "speed axis is not strictly increasing; order the columns by speed")
+    if full_row[0].lower() != "full_load":
+        raise InputError(f"{path} row {fline}",
+                         "second row must be the full_load torque row, 'full_load,<N m>...'")
+    full = numbers(fline, ["0", *full_row[1:]], "full_load")[1:]
+    values = np.array([numbers(ln, cells, "map") for ln, cells in grid_rows])
+    torque = values[:, 0]
+    bad = np.flatnonzero(np.diff(torque) <= 0)
+    if bad.size:
+        raise InputError(f"{path} row {grid_rows[bad[0] + 1][0]}",
+                         "torque axis is not strictly increasing; order the rows by torque")
+    grid = values[:, 1:]
+    if meta["value"] == "bsfc_g_per_kwh":
+        if "bsfc_lhv_mj_per_kg" not in meta:
+            raise InputError(str(path), "a BSFC map needs '# bsfc_lhv_mj_per_kg: ...' (LHV "
+                                        "of the test fuel)")
+        lhv = _meta_number(path, meta, "bsfc_lhv_mj_per_kg") * 1e6
+        if np.any(grid <= 0):
+            raise InputError(str(path), "BSFC cells must be positive")
+        grid = 3.6e9 / (grid * lhv)  # g/kWh -> kg/J is 1/3.6e9
+    for i, (ln, _) in enumerate(grid_rows):
+        bad_cells = np.flatnonzero(~((grid[i] > 0.0) & (grid[i] < 1.0)))
+        if bad_cells.size:
+            raise InputError(f"{path} row {ln} column {bad_cells[0] + 2}",
+                             "efficiency must be in (0, 1); check the value kind and units")
+    try:
+        return EngineMap(name=str(path), speed=speed, torque=torque, efficiency=grid,
+                         full_load_torque=full,
+                         idle_speed=_meta_number(path, meta, "idle_speed_rpm") * _RPM,
+                         idle_fuel_power=_meta_number(path, meta, "idle_fuel_power_kw") * 1e3)
+    except InputError as exc:
+        raise InputError(f"{path}: {exc.where.split(': ')[-1]}", exc.message) from None
+
+
+def _meta_number(path: Path, meta: dict[str, str], key: str) -> float:
+    try:
+        return float(meta[key])
+    except ValueError:
+        raise InputError(f"{path}: {key}", f"'{meta[key]}' is not a number") from None
+
+
+def format_map_csv(engine_map: EngineMap, *, comments: tuple[str, ...] = ()) -> str:
+    """Render a map as CSV text in brake efficiency, speeds in rpm.
+
+    Parameters
+    ----------
+    engine_map : EngineMap
+        The map.
+    comments : tuple of str
+        Free-text lines written first, each prefixed with ``# ``.
+
+    Returns
+    -------
+    str
+        Text that :func:`read_map` reads back.
+    """
+    lines = [f"# {c}" for c in comments] + [
+        "# value: brake_efficiency",
+        f"# idle_speed_rpm: {engine_map.idle_speed / _RPM:.0f}",
+        f"# idle_fuel_power_kw: {engine_map.idle_fuel_power / 1e3:.3f}",
+        "torque_n_m/speed_rpm," + ",".join(f"{n / _RPM:.0f}" for n in engine_map.speed),
+        "full_load," + ",".join(f"{t:.1f}" for t in engine_map.full_load_torque),
+    ]
+    for t, row in zip(engine_map.torque, engine_map.efficiency, strict=True):
+        lines.append(f"{t:.1f}," + ",".join(f"{e:.4f}" for e in row))
+    return "\n".join(lines) + "\n"
+
+
+# ----------------------------------------------------------------------------- duty energy
+
+
+@dataclass(frozen=True)
+class DutyEnergy:
+    """Energy flows of a vehicle and engine over a duty (any fuel; fuel energy is LHV).
+
+    Attributes
+    ----------
+    distance : float
+        [m]; NaN for a time-at-mode table without a distance.
+    duration : float
+        Operating time, extra idling included [s].
+    wheel_energy : float
+        Positive tractive work at the wheels [J]; NaN for a time-at-mode table.
+    braking_energy : float
+        Work taken out by the brakes and engine braking, as a positive number [J].
+    engine_energy : float
+        Brake work of the engine, accessories included [J].
+    fuel_energy : float
+        Fuel energy used, LHV basis [J].
+    time_idle : float
+        Time with the engine idling (not off), extra idling included [s].
+    time_out_of_map : float
+        Time at operating points clamped to the map [s].
+    time_at_full_load : float
+        Time at which the demand reached full-load torque [s].
+    """
+
+    distance: float
+    duration: float
+    wheel_energy: float
+    braking_energy: float
+    engine_energy: float
+    fuel_energy: float
+    time_idle: float
+    time_out_of_map: float
+    time_at_full_load: float
+
+    @property
+    def share_idle(self) -> float:
+        """Share of operating time idling [-]."""
+        return self.time_idle / self.duration
+
+    @property
+    def share_out_of_map(self) -> float:
+        """Share of operating time at clamped operating points [-]."""
+        return self.time_out_of_map / self.duration
+
+    @property
+    def share_at_full_load(self) -> float:
+        """Share of operating time at full load [-]."""
+        return self.time_at_full_load / self.duration
+
+
+def _with_extra_idle(sums: dict[str, float], engine_map: EngineMap,
+                     settings: DutySettings) -> dict[str, float]:
+    share = settings.extra_idle_share
+    if share == 0.0:
+        return sums
+    extra = sums["duration"] * share / (1.0 - share)
+    idle_torque = settings.accessory_power / engine_map.idle_speed
+    look = engine_map.fuel_power(np.array([engine_map.idle_speed]), np.array([idle_torque]))
+    sums["duration"] += extra
+    sums["time_idle"] += extra
+    sums["fuel_energy"] += float(look.fuel_power[0]) * extra
+    sums["engine_energy"] += settings.accessory_power * extra
+    return sums
+
+
+def duty_energy(
+    trace: DutyTrace | Iterable[DutyTrace],
+    vehicle: Vehicle,
+    engine_map: EngineMap,
+    *,
+    settings: DutySettings | None = None,
+    chunk_size: int = 262_144,
+) -> DutyEnergy:
+    """Fuel and wheel energy of a vehicle driving a trace.
+
+    Parameters
+    ----------
+    trace : DutyTrace or iterable of DutyTrace
+        One trace (processed in chunks of ``chunk_size`` intervals) or consecutive pieces of a
+        longer one, e.g. generated a chunk at a time; pieces are joined by their intervals.
+    vehicle : Vehicle
+        Road load and driveline.
+    engine_map : EngineMap
+        Engine efficiency map (already adjusted for the fuel, if needed).
+    settings : DutySettings, optional
+        Accessory power, engine-off at stops, extra idle share.
+    chunk_size : int
+        Intervals per chunk; memory grows with it, not with the trace.
+
+    Returns
+    -------
+    DutyEnergy
+
+    Notes
+    -----
+    Per interval, fuel power comes from :meth:`EngineMap.fuel_power` at the operating point of
+    :func:`workbench.models.vehicle.operating_points` while the engine is fired or idling; overrun
+    (fuel cut) and engine-off intervals use no fuel.
+    """
+    settings = settings or DutySettings()
+    pieces = trace.chunks(chunk_size) if isinstance(trace, DutyTrace) else trace
+    sums = dict.fromkeys(("distance", "duration", "wheel_energy", "braking_energy",
+                          "engine_energy", "fuel_energy", "time_idle", "time_out_of_map",
+                          "time_at_full_load"), 0.0)
+    for piece in pieces:
+        load = road_load(vehicle, piece)
+        ops = operating_points(vehicle, piece, load, idle_speed=engine_map.idle_speed,
+                               settings=settings, full_load_torque=engine_map.max_torque)
+        dt = load.duration
+        work = load.wheel_power * dt
+        burning = (ops.state == FIRED) | (ops.state == IDLE)
+        dt_b = dt[burning]
+        look = engine_map.fuel_power(ops.engine_speed[burning], ops.engine_torque[burning])
+        sums["distance"] += float(load.distance.sum())
+        sums["duration"] += float(dt.sum())
+        sums["wheel_energy"] += float(work[work > 0.0].sum())
+        sums["braking_energy"] -= float(work[work < 0.0].sum())
+        sums["engine_energy"] += float(
+            np.dot(ops.engine_speed[burning] * ops.engine_torque[burning], dt_b))
+        sums["fuel_energy"] += float(np.dot(look.fuel_power, dt_b))
+        sums["time_idle"] += float(dt[ops.state == IDLE].sum())
+        sums["time_out_of_map"] += float(dt_b[look.out_of_map].sum())
+        sums["time_at_full_load"] += float(dt_b[look.at_full_load].sum())
+    if sums["duration"] == 0.0:
+        raise InputError("trace", "no samples to run")
+    return DutyEnergy(**_with_extra_idle(sums, engine_map, settings))
+
+
+def mode_energy(table: ModeTable, engine_map: EngineMap, *,
+                settings: DutySettings | None = None) -> DutyEnergy:
+    """Fuel energy of an engine over a time-at-mode table.
+
+    Parameters
+    ----------
+    table : ModeTable
+        Engine speed, torque and time per mode (torque without accessories).
+    engine_map : EngineMap
+        Engine efficiency map.
+    settings : DutySettings, optional
+        Accessory power (added as torque at each mode) and extra idle share.
+
+    Returns
+    -------
+    DutyEnergy
+        With ``wheel_energy`` and ``braking_energy`` NaN (no vehicle), ``distance`` from the
+        table or NaN.
+    """
+    settings = settings or DutySettings()
+    torque = table.torque + settings.accessory_power / table.engine_speed
+    look = engine_map.fuel_power(table.engine_speed, torque)
+    dt = table.duration
+    idle = table.torque == 0.0
+    sums = {
+        "distance": math.nan if table.distance is None else table.distance,
+        "duration": float(dt.sum()),
+        "wheel_energy": math.nan,
+        "braking_energy": math.nan,
+        "engine_energy": float(np.dot(table.engine_speed * torque, dt)),
+        "fuel_energy": float(np.dot(look.fuel_power, dt)),
+        "time_idle": float(dt[idle].sum()),
+        "time_out_of_map": float(dt[look.out_of_map].sum()),
+        "time_at_full_load": float(dt[look.at_full_load].sum()),
+    }
+    if sums["duration"] <= 0.0:
+        raise InputError(table.name, "the modes add up to no time")
+    return DutyEnergy(**_with_extra_idle(sums, engine_map, settings))
+
+
+# ----------------------------------------------------------------------------- per km
+
+
+@dataclass(frozen=True)
+class FuelPerKm:
+    """Fuel, energy and tank-to-wheel CO2 per km for one fuel on one duty.
+
+    Attributes
+    ----------
+    fuel_energy_per_km : float
+        Fuel energy, LHV basis [J/km].
+    fuel_mass_per_km : float
+        [kg/km].
+    fuel_volume_per_km : float
+        Volume as stored on board [m3/km]; NaN when no stored density is known.
+    co2_ttw_per_km : float
+        Tank-to-wheel CO2 from the fuel's carbon [kg/km].
+    gasoline_equivalent_per_km : float
+        Volume of gasoline with the same energy [m3/km].
+    diesel_equivalent_per_km : float
+        Volume of diesel with the same energy [m3/km].
+    share_idle, share_out_of_map, share_at_full_load : float
+        From the duty [-].
+    """
+
+    fuel_energy_per_km: float
+    fuel_mass_per_km: float
+    fuel_volume_per_km: float
+    co2_ttw_per_km: float
+    gasoline_equivalent_per_km: float
+    diesel_equivalent_per_km: float
+    share_idle: float
+    share_out_of_map: float
+    share_at_full_load: float
+
+    def trade_units(self) -> dict[str, float]:
+        """The figures in the units users quote, keyed by suffix names.
+
+        Returns
+        -------
+        dict of str to float
+            ``fuel_energy_mj_per_km``, ``fuel_kg_per_100km``, ``fuel_l_per_100km``,
+            ``fuel_km_per_l``, ``fuel_mpg_us``, ``gasoline_l_equivalent_per_100km``,
+            ``diesel_l_equivalent_per_100km``, ``co2_ttw_g_per_km``, ``share_idle``,
+            ``share_out_of_map``, ``share_at_full_load``.
+        """
+        litres_per_km = self.fuel_volume_per_km * 1e3
+        km_per_l = 1.0 / litres_per_km if litres_per_km > 0 else math.nan
+        return {
+            "fuel_energy_mj_per_km": self.fuel_energy_per_km / 1e6,
+            "fuel_kg_per_100km": self.fuel_mass_per_km * 100.0,
+            "fuel_l_per_100km": litres_per_km * 100.0,
+            "fuel_km_per_l": km_per_l,
+            "fuel_mpg_us": km_per_l * US_GALLON_L / MILE_KM,
+            "gasoline_l_equivalent_per_100km": self.gasoline_equivalent_per_km * 1e5,
+            "diesel_l_equivalent_per_100km": self.diesel_equivalent_per_km * 1e5,
+            "co2_ttw_g_per_km": self.co2_ttw_per_km * 1e3,
+            "share_idle": self.share_idle,
+            "share_out_of_map": self.share_out_of_map,
+            "share_at_full_load": self.share_at_full_load,
+        }
+
+
+def fuel_per_km(
+    energy: DutyEnergy,
+    *,
+    lhv_mass: float,
+    density: float,
+    co2_mass: float,
+    gasoline_energy_per_volume: float = GASOLINE_ENERGY_PER_VOLUME,
+    diesel_energy_per_volume: float = DIESEL_ENERGY_PER_VOLUME,
+) -> FuelPerKm:
+    """Per-km fuel figures for one fuel.
+
+    Parameters
+    ----------
+    energy : DutyEnergy
+        From :func:`duty_energy` or :func:`mode_energy`.
+    lhv_mass : float
+        Lower heating value [J/kg].
+    density : float
+        Density as stored on board [kg/m3]; NaN when unknown (volume figures become NaN).
+    co2_mass : float
+        CO2 formed per kg of fuel burnt [kg/kg].
+    gasoline_energy_per_volume, diesel_energy_per_volume : float
+        Energy per volume of the reference fuels for litre equivalents [J/m3].
+
+    Returns
+    -------
+    FuelPerKm
+
+    Raises
+    ------
+    InputError
+        The duty covers no distance.
+    """
+    km = energy.distance / 1000.0
+    if not (math.isfinite(km) and km > 0.0):
+        raise InputError("profile", "covers no distance; per-km figures need a moving trace "
+                                    "or '# distance_km: ...' in a mode table")
+    if not (lhv_mass > 0.0 and co2_mass >= 0.0):
+        raise InputError("fuel", "needs a positive LHV and a CO2 factor >= 0")
+    energy_km = energy.fuel_energy / km
+    mass_km = energy_km / lhv_mass
+    return FuelPerKm(
+        fuel_energy_per_km=energy_km,
+        fuel_mass_per_km=mass_km,
+        fuel_volume_per_km=mass_km / density if density > 0.0 else math.nan,
+        co2_ttw_per_km=mass_km * co2_mass,
+        gasoline_equivalent_per_km=energy_km / gasoline_energy_per_volume,
+        diesel_equivalent_per_km=energy_km / diesel_energy_per_volume,
+        share_idle=energy.share_idle,
+        share_out_of_map=energy.share_out_of_map,
+        share_at_full_load=energy.share_at_full_load,
+    )
+
+
+def fuel_per_km_for(energy: DutyEnergy, fuel: Fuel, sheet: FuelSheet) -> FuelPerKm:
+    """Per-km fuel figures for a library fuel.
+
+    Parameters
+    ----------
+    energy : DutyEnergy
+        From :func:`duty_energy` or :func:`mode_energy`.
+    fuel : workbench.core.fuels.Fuel
+        The fuel; its ``liquid_density`` is the stored density of liquid and liquefied fuels.
+        Compressed and cryogenic gases get NaN volumes (quote them per kg).
+    sheet : workbench.models.combustion.FuelSheet
+        Its property sheet (``lhv_mass``, ``co2_mass``).
+
+    Returns
+    -------
+    FuelPerKm
+    """
+    liquid = fuel.storage is None or fuel.storage.kind in ("liquid", "liquefied")
+    density = fuel.liquid_density if liquid and fuel.liquid_density else math.nan
+    return fuel_per_km(energy, lhv_mass=sheet.lhv_mass, density=density,
+                       co2_mass=sheet.co2_mass)

@@ -1,0 +1,964 @@
+"""The study file: a TOML description of a fleet, its baseline and the candidate conversions.
+
+A :class:`Study` holds the file's contents exactly as written (so it round-trips through TOML
+losslessly) and checks them when it is made: every value is read with its unit, every reference
+is resolved, and every error names its key path (``candidates[1].conversion_cost``). The checked
+values are in :attr:`Study.inputs`, in SI and the study currency. The format is documented in
+``docs/study-file.md``.
+
+Numbers may be written as a distribution table instead of a value; the study's Monte Carlo
+draws them. Money and usage inputs enter the cash flows directly. The study's own physics inputs
+(derate, efficiency offset, methane slip, accessory power, extra idling, catalyst efficiencies,
+life and costs) are listed in ``varied`` and evaluated at a few quantiles of their distribution
+(see
+``workbench.study.runner``). Inputs that change neither money nor physics of the programme (tank
+range, hours per day, lambda for ppm conversion, N2O) and the files a study names are fixed.
+"""
+
+from __future__ import annotations
+
+import copy
+import hashlib
+import math
+import re
+import tomllib
+from collections.abc import Callable, Iterable, Mapping
+from dataclasses import dataclass, field, replace
+from pathlib import Path
+from typing import Any
+
+import tomli_w
+
+from workbench.core.errors import InputError
+from workbench.core.fuels import BASES, Fuel, blend, load_fuel
+from workbench.core.units import (
+    HEATING_VALUE_MARK,
+    Price,
+    parse_price,
+    parse_quantity,
+    price_per_energy,
+)
+from workbench.io.files import write_text_atomic
+from workbench.models.aftertreatment import DEVICE_PRESETS, Aftertreatment
+from workbench.models.combustion import fuel_sheet
+from workbench.models.economics import Distribution
+from workbench.models.nox import ENGINE_PRESETS, EngineOutNOx
+
+#: Folder of shipped demo inputs (profiles, vehicles, maps, studies).
+DATA = Path(__file__).resolve().parents[1] / "data"
+#: The demo study of a fictional port city.
+DEMO_STUDY = DATA / "studies" / "kestrel-bay.toml"
+
+_DIST_PARAMS = ("value", "low", "mode", "high", "mean", "sd")
+PERCENT = ("%", 100.0)
+
+
+@dataclass(frozen=True)
+class Uncertain:
+    """A numeric input: its nominal value and, when uncertain, its distribution.
+
+    Attributes
+    ----------
+    nominal : float
+        Value of the deterministic run [SI or currency]: the value, the mode of a
+        triangular, the mean otherwise.
+    dist : Distribution or None
+        Distribution in the same unit, or None when fixed.
+    path : str
+        Key path in the study file.
+    unit : str
+        Unit the user wrote it in, for display.
+    scale : float
+        Multiply the value by this to get it in ``unit``.
+    """
+
+    nominal: float
+    dist: Distribution | None
+    path: str
+    unit: str = ""
+    scale: float = 1.0
+
+
+@dataclass(frozen=True)
+class FleetClass:
+    """One class of vehicles (all numbers SI unless said)."""
+
+    id: str
+    name: str
+    count: int
+    km_per_year: Uncertain  # [m/year]
+    hours_per_day: float  # [h]
+    remaining_life_years: int
+    profile: Path
+    vehicle: Path
+    engine_map: Path
+    range: float  # target range for tank sizing [m]
+    upkeep_per_year: Uncertain  # per vehicle [currency/year]
+    daily_revenue: Uncertain  # lost per day off the road [currency/day]
+    accessory_power: float  # [W]
+    engine_off_at_stops: bool
+    extra_idle_share: float
+    varied: tuple[tuple[str, Uncertain], ...] = ()  # physics inputs with a distribution
+
+
+@dataclass(frozen=True)
+class ClassOption:
+    """What one option does to one class of vehicles."""
+
+    converts: bool
+    fuel: Fuel
+    engine: str  # NOx engine preset
+    engine_map: Path
+    derate: float
+    efficiency_offset: float
+    conversion_cost: Uncertain  # per vehicle [currency]
+    upkeep_change_per_year: Uncertain  # per vehicle [currency/year]
+    tank_inspection_interval: int  # years between tank inspections, 0 for none
+    tank_inspection_cost: Uncertain  # per vehicle and inspection [currency]
+    n2o_per_m: float  # tailpipe N2O [kg/m]
+    downtime_days: Uncertain
+    engine_out_nox: EngineOutNOx | None
+    lambda_overall: float
+    methane_slip: float  # share of the fuel's methane leaving unburnt [-]
+    aftertreatment: Aftertreatment
+    varied: tuple[tuple[str, Uncertain], ...] = ()  # physics inputs with a distribution
+
+
+@dataclass(frozen=True)
+class Option:
+    """The baseline or one candidate."""
+
+    id: str
+    name: str
+    is_baseline: bool
+    per_class: dict[str, ClassOption]
+    programme_capital: Uncertain  # one-off, year 0 [currency]
+    programme_upkeep_per_year: Uncertain  # [currency/year]
+
+
+@dataclass(frozen=True)
+class StudyInputs:
+    """The checked contents of a study file, in SI and the study currency."""
+
+    title: str
+    currency: str
+    fictional: bool
+    notes: str
+    start_year: int
+    horizon_years: int
+    discount_rate: Uncertain
+    carbon_price: Uncertain  # [currency/kg CO2e]
+    nox_damage_cost: Uncertain  # [currency/kg NOx]
+    draws: int
+    seed: int
+    classes: tuple[FleetClass, ...]
+    baseline: Option
+    candidates: tuple[Option, ...]
+    prices: dict[str, tuple[Price, Uncertain]]  # by fuel id: basis and value [currency/basis]
+    escalation: dict[str, Uncertain]  # by fuel id [1/year]
+    upstream: dict[str, Uncertain]  # by fuel id, well-to-tank CO2e [kg/J]
+    upstream_sources: dict[str, str]
+    uncertain: dict[str, Distribution] = field(default_factory=dict)
+
+    @property
+    def options(self) -> tuple[Option, ...]:
+        """Baseline first, then the candidates."""
+        return (self.baseline, *self.candidates)
+
+
+class Study:
+    """A study file's contents, checked.
+
+    Parameters
+    ----------
+    data : mapping
+        The parsed TOML tree.
+    where : str
+        Name of the file (or other label) errors are prefixed with.
+    base_dir : pathlib.Path, optional
+        Folder relative paths in the study are resolved from.
+
+    Raises
+    ------
+    InputError
+        Any value that fails its check; the message names the key path.
+    """
+
+    def __init__(self, data: Mapping[str, Any], *, where: str = "study",
+                 base_dir: Path | None = None) -> None:
+        self._data = copy.deepcopy(dict(data))
+        self.where = where
+        self.base_dir = base_dir or Path.cwd()
+        self.inputs = _parse(self._data, self.base_dir)
+
+    @property
+    def data(self) -> dict[str, Any]:
+        """A copy of the file's contents."""
+        return copy.deepcopy(self._data)
+
+    def __eq__(self, other: object) -> bool:
+        return isinstance(other, Study) and self._data == other._data
+
+    __hash__ = None  # type: ignore[assignment]
+
+    def get(self, path: str) -> Any:
+        """The raw value at a key path such as ``candidates[0].conversion_cost``."""
+        node: Any = self._data
+        for key in _split_path(path):
+            try:
+                node = node[key]
+            except (KeyError, IndexError, TypeError):
+                raise InputError(path, "no such key in the study") from None
+        return copy.deepcopy(node)
+
+    def with_value(self, path: str, value: Any) -> Study:
+        """A new study with one value changed (checked like a file).
+
+        Parameters
+        ----------
+        path : str
+            Key path (``programme.discount_rate``, ``prices.lpg``, ``classes[0].count``).
+        value : object
+            The new raw value, as it would be written in the file.
+
+        Returns
+        -------
+        Study
+        """
+        return self.with_values({path: value})
+
+    def with_values(self, changes: Mapping[str, Any], *, remove: Iterable[str] = ()) -> Study:
+        """A new study with several values changed and entries removed, checked together.
+
+        Parameters
+        ----------
+        changes : mapping of str to object
+            Raw values by key path; missing tables on the way are created.
+        remove : iterable of str
+            Key paths of table entries to delete (a fuel's price once no option uses it).
+
+        Returns
+        -------
+        Study
+        """
+        data = copy.deepcopy(self._data)
+        for path, value in changes.items():
+            node, key = _parent(data, path)
+            try:
+                node[key] = copy.deepcopy(value)
+            except (IndexError, TypeError):
+                raise InputError(path, "no such key in the study") from None
+        for path in remove:
+            node, key = _parent(data, path)
+            if isinstance(node, dict):
+                node.pop(key, None)
+        return Study(data, where=self.where, base_dir=self.base_dir)
+
+    def to_toml(self) -> str:
+        """The study as TOML text; reading it back gives an equal study."""
+        return tomli_w.dumps(self._data)
+
+    def digest(self) -> str:
+        """SHA-256 of the study's TOML text (identifies the inputs in reports)."""
+        return hashlib.sha256(self.to_toml().encode("utf-8")).hexdigest()
+
+
+def _parent(data: dict[str, Any], path: str) -> tuple[Any, str | int]:
+    """The table or list holding the last key of ``path`` (tables made as needed)."""
+    keys = _split_path(path)
+    node: Any = data
+    for key in keys[:-1]:
+        if isinstance(key, str) and isinstance(node, dict) and key not in node:
+            node[key] = {}
+        try:
+            node = node[key]
+        except (KeyError, IndexError, TypeError):
+            raise InputError(path, "no such key in the study") from None
+    if not isinstance(node, dict | list):
+        raise InputError(path, "no such key in the study")
+    return node, keys[-1]
+
+
+def _split_path(path: str) -> list[str | int]:
+    keys: list[str | int] = []
+    for part in path.split("."):
+        m = re.fullmatch(r"([^\[\]]+)((?:\[\d+\])*)", part)
+        if m is None:
+            raise InputError(path, "is not a key path like candidates[0].fuel")
+        keys.append(m.group(1))
+        keys += [int(i) for i in re.findall(r"\[(\d+)\]", m.group(2))]
+    return keys
+
+
+def read_study(path: str | Path) -> Study:
+    """Read and check a study file.
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        The ``.toml`` file; ``"demo"`` reads the shipped demo study.
+
+    Returns
+    -------
+    Study
+    """
+    p = DEMO_STUDY if str(path) == "demo" else Path(path)
+    if not p.is_file():
+        raise InputError(str(path), "no such study file; check the path")
+    try:
+        data = tomllib.loads(p.read_text(encoding="utf-8"))
+    except (tomllib.TOMLDecodeError, UnicodeDecodeError) as exc:
+        raise InputError(str(p), f"not valid TOML ({exc}); fix the syntax") from None
+    try:
+        return Study(data, where=str(p), base_dir=p.resolve().parent)
+    except InputError as exc:
+        raise InputError(f"{p.name}: {exc.where}", exc.message) from None
+
+
+def write_study(study: Study, path: str | Path) -> Path:
+    """Write a study file, whole or not at all.
+
+    Parameters
+    ----------
+    study : Study
+        The study.
+    path : str or pathlib.Path
+        Destination ``.toml`` file.
+
+    Returns
+    -------
+    pathlib.Path
+    """
+    return write_text_atomic(Path(path), study.to_toml(), suffix=".toml", option="path")
+
+
+# ----------------------------------------------------------------------------- parsing
+
+
+class _Reader:
+    """Reads values out of a table, naming each key path in errors."""
+
+    def __init__(self, table: Any, path: str) -> None:
+        if not isinstance(table, Mapping):
+            raise InputError(path, "must be a table")
+        self.table = table
+        self.path = path
+
+    def at(self, key: str) -> str:
+        return f"{self.path}.{key}" if self.path else key
+
+    def has(self, key: str) -> bool:
+        return key in self.table
+
+    def raw(self, key: str, default: Any = ...) -> Any:
+        if key in self.table:
+            return self.table[key]
+        if default is ...:
+            raise InputError(self.at(key), "is required")
+        return default
+
+    def text(self, key: str, default: Any = ...) -> str:
+        value = self.raw(key, default)
+        if not isinstance(value, str) or not value.strip():
+            raise InputError(self.at(key), f"must be a non-empty text, got {value!r}")
+        return value
+
+    def integer(self, key: str, default: Any = ..., *, low: int = 0) -> int:
+        value = self.raw(key, default)
+        if isinstance(value, bool) or not isinstance(value, int):
+            raise InputError(self.at(key), f"must be a whole number, got {value!r}")
+        if value < low:
+            raise InputError(self.at(key), f"must be {low} or more, got {value}")
+        return value
+
+    def flag(self, key: str, default: bool) -> bool:
+        value = self.raw(key, default)
+        if not isinstance(value, bool):
+            raise InputError(self.at(key), f"must be true or false, got {value!r}")
+        return value
+
+    def quantity(self, key: str, dimension: str, default: Any = ..., *,
+                 unit: str | None = None, low: float | None = None,
+                 high: float | None = None) -> float:
+        return _fixed(self.raw(key, default), dimension, self.at(key), unit, low, high)
+
+    def uncertain(self, key: str, parse: Callable[[Any, str], float], default: Any = ..., *,
+                  low: float | None = None, high: float | None = None,
+                  unit: tuple[str, float] = ("", 1.0)) -> Uncertain:
+        where = self.at(key)
+        return _uncertain(self.raw(key, default), parse, where, low, high, unit)
+
+
+def _fixed(value: Any, dimension: str, where: str, unit: str | None = None,
+           low: float | None = None, high: float | None = None) -> float:
+    """A physics input: a quantity that may not carry a distribution."""
+    if isinstance(value, Mapping):
+        raise InputError(where, "cannot carry a distribution (it changes the physics); "
+                         "run a second study for another value")
+    out = _quantity(value, dimension, where, unit)
+    _check_range(out, where, low, high)
+    return out
+
+
+def _check_range(value: float, where: str, low: float | None, high: float | None,
+                 unit: tuple[str, float] = ("", 1.0)) -> None:
+    label, scale = unit
+    suffix = f" {label}" if label else ""
+
+    def show(x: float) -> str:
+        return f"{x * scale:g}{suffix}"
+
+    if low is not None and not value >= low:
+        raise InputError(where, f"must be at least {show(low)}, got {show(value)}")
+    if high is not None and not value <= high:
+        raise InputError(where, f"must be at most {show(high)}, got {show(value)}")
+
+
+def _quantity(value: Any, dimension: str, where: str, unit: str | None) -> float:
+    if isinstance(value, bool) or not isinstance(value, str | int | float):
+        raise InputError(where, f"expected a number with a unit, got {value!r}")
+    return parse_quantity(value, dimension, where=where, unit=unit)
+
+
+def _uncertain(raw: Any, parse: Callable[[Any, str], float], where: str,
+               low: float | None = None, high: float | None = None,
+               unit: tuple[str, float] = ("", 1.0)) -> Uncertain:
+    if not isinstance(raw, Mapping):
+        value = parse(raw, where)
+        _check_range(value, where, low, high, unit)
+        return Uncertain(value, None, where, *unit)
+    if "kind" not in raw:
+        raise InputError(f"{where}.kind", "a distribution needs a kind: uniform, triangular, "
+                         "normal, lognormal or fixed")
+    params = {}
+    for k, v in raw.items():
+        if k == "kind":
+            continue
+        if k not in _DIST_PARAMS:
+            raise InputError(f"{where}.{k}", f"unknown key; a distribution takes "
+                             f"{', '.join(_DIST_PARAMS)}")
+        params[k] = parse(v, f"{where}.{k}")
+    dist = Distribution.from_mapping({"kind": raw["kind"], **params}, where=where)
+    nominal = dist.mode if dist.kind == "triangular" else dist.expected_value()
+    _check_range(float(nominal), where, low, high, unit)
+    for k in ("low", "high", "value"):
+        if params.get(k) is not None:
+            _check_range(params[k], f"{where}.{k}", low, high, unit)
+    return Uncertain(float(nominal), dist, where, *unit)
+
+
+def _money(raw: Any, where: str) -> float:
+    return parse_quantity(raw, "[currency]", where=where)
+
+
+def _money_per_year(raw: Any, where: str) -> float:
+    if isinstance(raw, int | float) and not isinstance(raw, bool):
+        return float(raw)  # a bare number is per year
+    return parse_quantity(raw, "[currency] / [time]", where=where, unit="currency_unit / year")
+
+
+def _fraction(raw: Any, where: str) -> float:
+    return parse_quantity(raw, "[]", where=where)
+
+
+def _days(raw: Any, where: str) -> float:
+    if isinstance(raw, int | float) and not isinstance(raw, bool):
+        return float(raw)
+    return parse_quantity(raw, "[time]", where=where, unit="day")
+
+
+def _km_per_year(raw: Any, where: str) -> float:
+    return parse_quantity(raw, "[length]", where=where)  # [m] per year, the unit says km
+
+
+def _per_mass(unit_mass: str) -> Callable[[Any, str], float]:
+    def parse(raw: Any, where: str) -> float:
+        if isinstance(raw, int | float) and not isinstance(raw, bool):
+            return float(raw) / parse_quantity(f"1 {unit_mass}", "[mass]", where=where)
+        return parse_quantity(raw, "[currency] / [mass]", where=where)
+    return parse
+
+
+def _g_per_mj(raw: Any, where: str) -> float:
+    if isinstance(raw, bool) or not isinstance(raw, int | float):
+        raise InputError(where, f"must be a number of g CO2e per MJ, got {raw!r}")
+    return float(raw) * 1e-9  # [kg/J]
+
+
+def _parse(data: Mapping[str, Any], base_dir: Path) -> StudyInputs:
+    top = _Reader(data, "")
+    known = {"title", "currency", "fictional", "notes", "programme", "classes", "baseline",
+             "candidates", "prices", "escalation", "upstream"}
+    for key in data:
+        if key not in known:
+            raise InputError(key, f"unknown key; a study has {', '.join(sorted(known))}")
+    currency = top.text("currency")
+    if not re.fullmatch(r"[A-Z]{3}", currency):
+        raise InputError("currency", f"must be a three-letter code such as EUR, got {currency!r}")
+    prog = _Reader(top.raw("programme"), "programme")
+    horizon = prog.integer("horizon_years", low=1)
+    classes_raw = top.raw("classes")
+    if not isinstance(classes_raw, list) or not classes_raw:
+        raise InputError("classes", "needs at least one [[classes]] table")
+    classes = tuple(_fleet_class(_Reader(c, f"classes[{i}]"), base_dir, currency)
+                    for i, c in enumerate(classes_raw))
+    ids = [c.id for c in classes]
+    if len(set(ids)) != len(ids):
+        raise InputError("classes", "class ids must be unique")
+    baseline = _option(_Reader(top.raw("baseline"), "baseline"), classes, None, base_dir,
+                       currency)
+    cands_raw = top.raw("candidates")
+    if not isinstance(cands_raw, list) or not cands_raw:
+        raise InputError("candidates", "needs at least one [[candidates]] table")
+    candidates = tuple(_option(_Reader(c, f"candidates[{i}]"), classes, baseline, base_dir,
+                               currency) for i, c in enumerate(cands_raw))
+    opt_ids = [baseline.id, *(c.id for c in candidates)]
+    if len(set(opt_ids)) != len(opt_ids):
+        raise InputError("candidates", "option ids (baseline and candidates) must be unique")
+    names = [baseline.name, *(c.name for c in candidates)]
+    if len(set(names)) != len(names):
+        raise InputError("candidates", "option names (baseline and candidates) must be unique")
+    fuels = {co.fuel.id: co.fuel for o in (baseline, *candidates) for co in o.per_class.values()}
+    prices = _prices(_Reader(top.raw("prices"), "prices"), fuels, currency)
+    escalation = {}
+    esc = _Reader(top.raw("escalation", {}), "escalation")
+    for fid in esc.table:
+        if fid not in fuels:
+            raise InputError(esc.at(fid), "names no fuel of the study")
+        escalation[fid] = esc.uncertain(fid, _fraction, low=-0.5, high=1.0, unit=PERCENT)
+    for fid in fuels:
+        escalation.setdefault(fid, Uncertain(0.0, None, f"escalation.{fid}"))
+    upstream, sources = _upstream(_Reader(top.raw("upstream"), "upstream"), fuels)
+    inputs = StudyInputs(
+        title=top.text("title"),
+        currency=currency,
+        fictional=top.flag("fictional", False),
+        notes=str(top.raw("notes", "")),
+        start_year=prog.integer("start_year", 2027, low=1900),
+        horizon_years=horizon,
+        discount_rate=prog.uncertain("discount_rate", _fraction, low=-0.99, high=1.0,
+                                     unit=PERCENT),
+        carbon_price=prog.uncertain("carbon_price", _per_mass("t"), 0.0, low=0.0,
+                                    unit=(f"{currency}/t", 1e3)),
+        nox_damage_cost=prog.uncertain("nox_damage_cost", _per_mass("kg"), 0.0, low=0.0,
+                                       unit=(f"{currency}/kg", 1.0)),
+        draws=prog.integer("monte_carlo_draws", 10_000, low=0),
+        seed=prog.integer("seed", 12345, low=0),
+        classes=classes,
+        baseline=baseline,
+        candidates=candidates,
+        prices=prices,
+        escalation=escalation,
+        upstream=upstream,
+        upstream_sources=sources,
+    )
+    uncertain = {u.path: u.dist for u in all_uncertain(inputs) if u.dist is not None
+                 and not u.dist.spread_is_zero}
+    return StudyInputs(**{**inputs.__dict__, "uncertain": uncertain})
+
+
+def all_uncertain(inputs: StudyInputs) -> list[Uncertain]:
+    """Every input that may carry a distribution, once each, in file order."""
+    out = [inputs.discount_rate, inputs.carbon_price, inputs.nox_damage_cost]
+    for c in inputs.classes:
+        out += [c.km_per_year, c.upkeep_per_year, c.daily_revenue]
+        out += [u for _, u in c.varied]
+    for o in inputs.options:
+        out += [o.programme_capital, o.programme_upkeep_per_year]
+        for co in o.per_class.values():
+            out += [co.conversion_cost, co.upkeep_change_per_year, co.downtime_days,
+                    co.tank_inspection_cost]
+            out += [u for _, u in co.varied]
+    out += [u for _, u in inputs.prices.values()]
+    out += list(inputs.escalation.values()) + list(inputs.upstream.values())
+    seen: dict[str, Uncertain] = {}
+    for u in out:
+        seen.setdefault(u.path, u)
+    return list(seen.values())
+
+
+def _data_file(raw: Any, where: str, folder: str, suffix: str, base_dir: Path) -> Path:
+    if not isinstance(raw, str) or not raw.strip():
+        raise InputError(where, f"must name a shipped {folder[:-1]} or a {suffix} file")
+    shipped = DATA / folder / f"{raw}{suffix}"
+    if shipped.is_file():
+        return shipped
+    path = (base_dir / raw).resolve()
+    if path.is_file() and path.suffix == suffix:
+        return path
+    names = ", ".join(sorted(p.stem for p in (DATA / folder).glob(f"*{suffix}")))
+    raise InputError(where, f"{raw!r} is neither a shipped {folder[:-1]} ({names}) nor a "
+                     f"{suffix} file")
+
+
+def _watts(raw: Any, where: str) -> float:
+    return parse_quantity(raw, "[power]", where=where)
+
+
+def _physics_input(varied: list[tuple[str, Uncertain]]) -> Callable[..., float]:
+    """A reader of physics inputs that notes which carry a distribution in ``varied``."""
+
+    def read(r: _Reader, key: str, parse: Callable[[Any, str], float], default: Any,
+             low: float, high: float, unit: tuple[str, float]) -> float:
+        u = r.uncertain(key, parse, default, low=low, high=high, unit=unit)
+        if u.dist is not None and not u.dist.spread_is_zero:
+            varied.append((key, u))
+        return u.nominal
+
+    return read
+
+
+def _fleet_class(r: _Reader, base_dir: Path, currency: str) -> FleetClass:
+    cid = r.text("id")
+    if not re.fullmatch(r"[A-Za-z0-9_-]+", cid):
+        raise InputError(r.at("id"), "use letters, digits, - and _ only")
+    varied: list[tuple[str, Uncertain]] = []
+    physics = _physics_input(varied)
+    return FleetClass(
+        id=cid,
+        name=str(r.raw("name", cid)),
+        count=r.integer("count", low=1),
+        km_per_year=r.uncertain("km_per_year", _km_per_year, low=1.0, unit=("km", 1e-3)),
+        hours_per_day=r.quantity("hours_per_day", "[]", 8, low=0.0, high=24.0),
+        remaining_life_years=r.integer("remaining_life_years", low=1),
+        profile=_data_file(r.raw("profile"), r.at("profile"), "profiles", ".csv", base_dir),
+        vehicle=_data_file(r.raw("vehicle"), r.at("vehicle"), "vehicles", ".toml", base_dir),
+        engine_map=_data_file(r.raw("engine_map"), r.at("engine_map"), "maps", ".csv",
+                              base_dir),
+        range=r.quantity("range", "[length]", "500 km", low=1.0),
+        upkeep_per_year=r.uncertain("upkeep_per_year", _money_per_year, 0.0, low=0.0,
+                                    unit=(f"{currency}/year", 1.0)),
+        daily_revenue=r.uncertain("daily_revenue", _money, 0.0, low=0.0,
+                                  unit=(f"{currency}/day", 1.0)),
+        accessory_power=physics(r, "accessory_power", _watts, "0 W", 0.0, 1e5, ("kW", 1e-3)),
+        engine_off_at_stops=r.flag("engine_off_at_stops", False),
+        extra_idle_share=physics(r, "extra_idle_share", _fraction, 0.0, 0.0, 0.9, PERCENT),
+        varied=tuple(varied),
+    )
+
+
+def _per_class(r: _Reader, key: str, cid: str, class_ids: set[str], default: Any) -> Any:
+    """A value for one class: plain, or a table keyed by class id (missing ids: default)."""
+    value = r.raw(key, default)
+    if isinstance(value, Mapping) and value and set(value) <= class_ids:
+        return value.get(cid, default)
+    return value
+
+
+def _option(r: _Reader, classes: tuple[FleetClass, ...], baseline: Option | None,
+            base_dir: Path, currency: str) -> Option:
+    oid = r.text("id")
+    if not re.fullmatch(r"[A-Za-z0-9_-]+", oid):
+        raise InputError(r.at("id"), "use letters, digits, - and _ only")
+    known = {"id", "name", "fuel", "classes", "engine", "engine_map", "derate",
+             "efficiency_offset", "conversion_cost", "upkeep_change_per_year", "downtime_days",
+             "tank_inspection_interval_years", "tank_inspection_cost", "n2o",
+             "engine_out_nox", "lambda_overall", "methane_slip", "aftertreatment",
+             "programme_capital", "programme_upkeep_per_year"}
+    for key in r.table:
+        if key not in known:
+            raise InputError(r.at(key), f"unknown key; an option has {', '.join(sorted(known))}")
+    class_ids = {c.id for c in classes}
+    converts = class_ids
+    if baseline is not None and r.has("classes"):
+        raw = r.raw("classes")
+        if not isinstance(raw, list) or not raw or not set(raw) <= class_ids:
+            raise InputError(r.at("classes"), f"must list class ids from {sorted(class_ids)}")
+        converts = set(raw)
+    per_class = {}
+    for c in classes:
+        if c.id not in converts:
+            assert baseline is not None
+            per_class[c.id] = _unchanged(baseline.per_class[c.id])
+            continue
+        per_class[c.id] = _class_option(r, c, class_ids, baseline is None, base_dir, currency)
+    return Option(
+        id=oid,
+        name=str(r.raw("name", oid)),
+        is_baseline=baseline is None,
+        per_class=per_class,
+        programme_capital=r.uncertain("programme_capital", _money, 0.0, low=0.0,
+                                      unit=(currency, 1.0)),
+        programme_upkeep_per_year=r.uncertain("programme_upkeep_per_year", _money_per_year,
+                                              0.0, low=0.0, unit=(f"{currency}/year", 1.0)),
+    )
+
+
+def _unchanged(base: ClassOption) -> ClassOption:
+    return ClassOption(**{**base.__dict__, "converts": False})
+
+
+def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], is_baseline: bool,
+                  base_dir: Path, currency: str) -> ClassOption:
+    def at(key: str) -> str:
+        value = r.raw(key, None)
+        if isinstance(value, Mapping) and value and set(value) <= class_ids:
+            return f"{r.at(key)}.{c.id}"
+        return r.at(key)
+
+    def fixed(key: str, default: str | float, low: float, high: float) -> float:
+        return _fixed(_per_class(r, key, c.id, class_ids, default), "[]", at(key), None, low,
+                      high)
+
+    varied: list[tuple[str, Uncertain]] = []
+
+    def varying(key: str, default: str, low: float, high: float) -> float:
+        u = _uncertain(_per_class(r, key, c.id, class_ids, default), _fraction, at(key), low,
+                       high, PERCENT)
+        if u.dist is not None and not u.dist.spread_is_zero:
+            varied.append((key, u))
+        return u.nominal
+
+    fuel = _fuel(_per_class(r, "fuel", c.id, class_ids, ...), at("fuel"))
+    engine = _per_class(r, "engine", c.id, class_ids, _default_engine(fuel))
+    if engine not in ENGINE_PRESETS:
+        raise InputError(at("engine"), f"unknown engine setting {engine!r}; use one of "
+                         f"{', '.join(sorted(ENGINE_PRESETS))}")
+    map_raw = _per_class(r, "engine_map", c.id, class_ids, None)
+    engine_map = c.engine_map if map_raw is None else _data_file(
+        map_raw, at("engine_map"), "maps", ".csv", base_dir)
+    zero_money = 0.0
+
+    def uq(key: str, parse: Callable[[Any, str], float], unit: str,
+           low: float | None = 0.0) -> Uncertain:
+        value = _per_class(r, key, c.id, class_ids, zero_money)
+        if is_baseline and key in ("conversion_cost", "downtime_days") and value != zero_money:
+            raise InputError(at(key), "the baseline converts nothing; leave it out")
+        return _uncertain(value, parse, at(key), low, unit=(unit, 1.0))
+
+    nox_raw = _per_class(r, "engine_out_nox", c.id, class_ids, None)
+    lam_default = 1.6 if engine == "compression-ignition" else (
+        1.5 if engine == "lean-burn-gas" else 1.0)
+    return ClassOption(
+        converts=not is_baseline,
+        fuel=fuel,
+        engine=engine,
+        engine_map=engine_map,
+        derate=varying("derate", "0 %", 0.0, 0.9),
+        efficiency_offset=varying("efficiency_offset", "0 %", -0.3, 0.3),
+        conversion_cost=uq("conversion_cost", _money, currency),
+        upkeep_change_per_year=uq("upkeep_change_per_year", _money_per_year,
+                                  f"{currency}/year", low=None),
+        downtime_days=uq("downtime_days", _days, "day"),
+        tank_inspection_interval=_whole(_per_class(r, "tank_inspection_interval_years", c.id,
+                                                   class_ids, 0),
+                                        at("tank_inspection_interval_years")),
+        tank_inspection_cost=uq("tank_inspection_cost", _money, currency),
+        n2o_per_m=_fixed(_per_class(r, "n2o", c.id, class_ids, "0 g/km"),
+                         "[mass] / [length]", at("n2o"), None, 0.0, 1e-4),
+        engine_out_nox=None if nox_raw is None else _engine_out(nox_raw, at("engine_out_nox")),
+        lambda_overall=fixed("lambda_overall", lam_default, 0.5, 5.0),
+        methane_slip=varying("methane_slip", "0 %", 0.0, 0.2),
+        aftertreatment=_aftertreatment(_per_class(r, "aftertreatment", c.id, class_ids,
+                                                  {"preset": "none"}), at("aftertreatment"),
+                                       varied, currency),
+        varied=tuple(varied),
+    )
+
+
+def _whole(value: Any, where: str) -> int:
+    if isinstance(value, bool) or not isinstance(value, int) or value < 0:
+        raise InputError(where, f"must be a whole number of years, 0 for none; got {value!r}")
+    return value
+
+
+def _default_engine(fuel: Fuel) -> str:
+    return "spark-ignition" if fuel.is_gas or "GASOLINE" in fuel.mole_fractions \
+        else "compression-ignition"
+
+
+def _fuel(raw: Any, where: str) -> Fuel:
+    if raw is ...:
+        raise InputError(where, "is required: a library fuel id, a fuel .toml path or a blend "
+                         "table")
+    if isinstance(raw, str):
+        try:
+            return load_fuel(raw)
+        except InputError as exc:
+            raise InputError(where, exc.message) from None
+    if isinstance(raw, Mapping):
+        r = _Reader(raw, where)
+        fid = r.text("id")
+        basis = r.raw("basis", "mole")
+        if basis not in BASES:
+            raise InputError(r.at("basis"), f"must be one of {', '.join(BASES)}")
+        parts = r.raw("parts")
+        if not isinstance(parts, Mapping) or not parts:
+            raise InputError(r.at("parts"), "must be a table of fuel = fraction")
+        for k, v in parts.items():
+            if isinstance(v, bool) or not isinstance(v, int | float):
+                raise InputError(f"{r.at('parts')}.{k}", f"must be a number, got {v!r}")
+        base = load_fuel(next(iter(parts))) if parts else None
+        fuel = blend(dict(parts), basis, id=fid, name=str(raw.get("name", fid)),
+                     where=r.at("parts"))
+        return Fuel(**{**fuel.__dict__, "storage": base.storage if base else None})
+    raise InputError(where, f"must be a fuel id or a blend table, got {raw!r}")
+
+
+def _engine_out(raw: Any, where: str) -> EngineOutNOx:
+    if not isinstance(raw, str):
+        raise InputError(where, 'write engine-out NOx with its unit: "1.2 g/km", "6 g/kWh" or '
+                         '"900 ppm"')
+    m = re.fullmatch(r"\s*([-+]?[0-9.eE+-]+)\s*(g/km|g/kWh|ppm)\s*", raw)
+    if m is None:
+        raise InputError(where, f'{raw!r}: use a number and one of g/km, g/kWh, ppm')
+    try:
+        value = float(m.group(1))
+    except ValueError:
+        raise InputError(where, f"{m.group(1)!r} is not a number") from None
+    try:
+        return EngineOutNOx(value, m.group(2), source=f"study file ({where})")
+    except InputError as exc:
+        raise InputError(where, exc.message) from None
+
+
+_AFTERTREATMENT_KEYS = {
+    "preset", "efficiency_new", "efficiency_aged", "life", "policy", "replacement_interval",
+    "replacement_threshold", "parts_cost", "labour_cost", "reductant_price",
+}
+
+
+def _aftertreatment(raw: Any, where: str, varied: list[tuple[str, Uncertain]],
+                    currency: str) -> Aftertreatment:
+    """The device at its nominal values; inputs with a distribution are added to ``varied``."""
+    r = _Reader(raw, where)
+    for key in r.table:
+        if key not in _AFTERTREATMENT_KEYS:
+            raise InputError(r.at(key), "unknown key; aftertreatment takes "
+                             f"{', '.join(sorted(_AFTERTREATMENT_KEYS))}")
+    preset = r.raw("preset", "none")
+    if preset not in DEVICE_PRESETS:
+        raise InputError(r.at("preset"), f"unknown device {preset!r}; use one of "
+                         f"{', '.join(sorted(DEVICE_PRESETS))}")
+    device = DEVICE_PRESETS[preset]
+    changes: dict[str, Any] = {}
+    age_bases: set[str] = set()
+
+    def age(raw_age: Any, w: str) -> float:
+        value, basis = _age(raw_age, w)
+        age_bases.update({basis} - {None})
+        return value
+
+    parsers: dict[str, tuple[Callable[[Any, str], float], tuple[str, float]]] = {
+        "efficiency_new": (_fraction, PERCENT),
+        "efficiency_aged": (_fraction, PERCENT),
+        "replacement_threshold": (_fraction, PERCENT),
+        "life": (age, ("", 1.0)),
+        "replacement_interval": (age, ("", 1.0)),
+        "parts_cost": (_money, (currency, 1.0)),
+        "labour_cost": (_money, (currency, 1.0)),
+        "reductant_price": (_per_mass("kg"), (f"{currency}/kg", 1.0)),
+    }
+    for key, (parse, unit) in parsers.items():
+        if r.has(key):
+            high = 1.0 if unit == PERCENT else None
+            u = r.uncertain(key, parse, low=0.0, high=high, unit=unit)
+            changes[key] = u.nominal
+            if key in ("life", "replacement_interval"):  # shown in the unit it was written in
+                u = replace(u, unit="km", scale=1e-3) if "distance" in age_bases else replace(
+                    u, unit="month", scale=1.0)
+            if u.dist is not None and not u.dist.spread_is_zero:
+                varied.append((f"aftertreatment.{key}", u))
+    if len(age_bases) > 1:
+        raise InputError(where, "give life and replacement_interval in the same kind of unit "
+                         "(both months or both km)")
+    if age_bases:
+        changes["age_basis"] = age_bases.pop()
+    if r.has("policy"):
+        changes["policy"] = r.raw("policy")
+    try:
+        return Aftertreatment(**{**device.__dict__, **changes})
+    except InputError as exc:
+        raise InputError(f"{where}.{exc.where}", exc.message) from None
+
+
+def _age(raw: Any, where: str) -> tuple[float, str | None]:
+    """An age as (value, basis): months or metres, or (inf, None) for "never"."""
+    if raw == "never":
+        return math.inf, None
+    if not isinstance(raw, str):
+        raise InputError(where, 'write an age with its unit: "150000 km", "24 month" or "never"')
+    try:
+        return parse_quantity(raw, "[time]", where=where, unit="month"), "months"
+    except InputError:
+        return parse_quantity(raw, "[length]", where=where), "distance"
+
+
+def _prices(r: _Reader, fuels: Mapping[str, Fuel], currency: str
+            ) -> dict[str, tuple[Price, Uncertain]]:
+    out = {}
+    for fid in r.table:
+        if fid not in fuels:
+            raise InputError(r.at(fid), f"names no fuel of the study ({', '.join(sorted(fuels))})")
+    for fid in fuels:
+        where = r.at(fid)
+        raw = r.raw(fid, None)
+        if raw is None:
+            raise InputError(where, f'is required: the price of {fid}, e.g. "1.45 per L"')
+        bases: list[Price] = []
+
+        def parse(value: Any, w: str, _bases: list[Price] = bases) -> float:
+            price = parse_price(value, where=w, currency=currency)
+            if _bases and price.basis != _bases[0].basis:
+                raise InputError(w, "every value of one price's distribution needs the same "
+                                 "basis (all per L, or all per kg …)")
+            _bases.append(price)
+            return price.value
+
+        unc = _uncertain(raw, parse, where, 0.0)
+        price_factor(bases[0], fuels[fid])  # the basis must fit the fuel
+        if bases[0].basis == "energy" and not fuels[fid].is_gas and not any(
+                HEATING_VALUE_MARK.search(b.text) for b in bases):
+            raise InputError(where, f"{bases[0].text!r} prices a liquid fuel per energy; "
+                             "add the heating value (LHV or HHV) so it cannot be an electricity "
+                             "tariff by mistake, or price it per L or per kg")
+        m = re.match(r"\s*(?:[A-Z]{3}\s*)?([-+0-9.eE]+)\s*(?:[A-Z]{3}\s*)?(.*)$", bases[0].text)
+        amount = float(m.group(1)) if m else 0.0
+        if m and bases[0].value > 0 and amount > 0:
+            unc = replace(unc, unit=m.group(2).strip(), scale=amount / bases[0].value)
+        out[fid] = (bases[0], unc)
+    return out
+
+
+def price_factor(price: Price, fuel: Fuel) -> float:
+    """Currency per joule (LHV) of a fuel per unit of the price's value.
+
+    Parameters
+    ----------
+    price : Price
+        The price, on any basis.
+    fuel : Fuel
+        The fuel it is the price of.
+
+    Returns
+    -------
+    float
+        Multiply :attr:`Price.value` by this to get [currency/J].
+
+    Raises
+    ------
+    InputError
+        The basis does not fit the fuel (per L of a compressed gas, per Sm3 of a liquid).
+    """
+    sheet = fuel_sheet(fuel)
+    liquid = fuel.storage is None or fuel.storage.kind in ("liquid", "liquefied")
+    return float(price_per_energy(
+        replace(price, value=1.0), lhv_mass=sheet.lhv_mass,
+        density=fuel.liquid_density if liquid else None,
+        molar_mass=sheet.molar_mass if fuel.is_gas else None, hhv_mass=sheet.hhv_mass))
+
+
+def _upstream(r: _Reader, fuels: Mapping[str, Fuel]) -> tuple[dict[str, Uncertain],
+                                                               dict[str, str]]:
+    out, sources = {}, {}
+    for fid in r.table:
+        if fid not in fuels:
+            raise InputError(r.at(fid), "names no fuel of the study")
+    for fid in fuels:
+        if fid not in r.table:
+            raise InputError(r.at(fid), "is required: well-to-tank CO2e of this fuel, "
+                             '{ wtt_co2e_g_per_mj = 15.0, source = "…" }')
+        sub = _Reader(r.table[fid], r.at(fid))
+        sources[fid] = sub.text("source")
+        out[fid] = sub.uncertain("wtt_co2e_g_per_mj", _g_per_mj, low=0.0, unit=("g/MJ", 1e9))
+    return out, sources
