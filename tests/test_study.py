@@ -96,12 +96,17 @@ def test_monte_carlo_mean_converges_for_a_linear_input(demo):
 
 def test_price_change_reuses_the_physics(demo):
     run(demo, draws=0)
-    before = cache_info()["workbench.study.runner.class_physics"]
+    info = cache_info()
+    before = info["workbench.study.runner.class_physics"]
+    plan_before = info["workbench.study.runner._physics_plan"]
     cheaper = demo.with_value("prices.lpg", "0.60 per L")
     res = run(cheaper, draws=0)
-    after = cache_info()["workbench.study.runner.class_physics"]
+    info = cache_info()
+    after = info["workbench.study.runner.class_physics"]
+    plan_after = info["workbench.study.runner._physics_plan"]
     assert after.misses == before.misses  # nothing recomputed
-    assert after.hits > before.hits
+    assert plan_after.misses == plan_before.misses  # the whole physics plan came cached
+    assert plan_after.hits > plan_before.hits
     base = run(demo, draws=0).candidates.set_index("candidate")
     assert res.candidates.set_index("candidate").at["lpg-taxis", "npv_vs_baseline"] > \
         base.at["lpg-taxis", "npv_vs_baseline"]

@@ -350,7 +350,31 @@ class Response:
 RESPONSE_QUANTILES = (0.01, 0.1, 0.3, 0.5, 0.7, 0.9, 0.99)
 
 
-def _plan(inputs: StudyInputs) -> _Plan:
+def _physics_key(inputs: StudyInputs) -> tuple:
+    """What the price-independent part of a plan depends on (prices, rates and escalation
+    are not in it, so a price edit finds the physics, responses and tables cached)."""
+    return (inputs.horizon_years, inputs.nox_damage_cost.nominal, inputs.classes,
+            tuple((o.id, o.name, o.is_baseline, tuple(o.per_class.items()))
+                  for o in inputs.options))
+
+
+@dataclass(frozen=True)
+class _Physics:
+    """The part of a plan no price, rate or escalation touches, and the tables made of it."""
+
+    physics: dict[tuple[str, str], ClassPhysics]
+    active: dict[str, np.ndarray]
+    catalyst_cost: dict[tuple[str, str], np.ndarray]
+    nox_t: dict[tuple[str, str], np.ndarray]
+    replacements: dict[tuple[str, str], np.ndarray]
+    responses: dict[tuple[str, str], list[Response]]
+    tables: dict[str, pd.DataFrame]  # copied out to each result (callers may edit theirs)
+
+
+@memoize(maxsize=16, key=_physics_key)
+def _physics_plan(inputs: StudyInputs) -> _Physics:
+    """Physics of every option x class, their yearly arrays and physics-only tables (cached
+    by :func:`_physics_key`)."""
     h = inputs.horizon_years
     physics, active, cat, nox, repl, responses = {}, {}, {}, {}, {}, {}
     years = np.arange(h + 1)
@@ -365,11 +389,21 @@ def _plan(inputs: StudyInputs) -> _Plan:
             responses[o.id, c.id] = [
                 _response(inputs, c, o.per_class[c.id], field, u, 12 * run_years, run_years)
                 for field, u in (*c.varied, *o.per_class[c.id].varied)]
+    plan = _Plan(inputs, physics, active, cat, nox, repl, {}, responses)
+    tables = {"nox_monthly": _nox_monthly_table(plan), "storage": _storage_table(plan),
+              "operating_points": _operating_points_table(plan), "flame": _flame_table(plan),
+              "catalyst": _catalyst_table(plan)}
+    return _Physics(physics, active, cat, nox, repl, responses, tables)
+
+
+def _plan(inputs: StudyInputs) -> _Plan:
+    p = _physics_plan(inputs)
     factors = {}
     for o in inputs.options:
         for co in o.per_class.values():
             factors[co.fuel.id] = price_factor(inputs.prices[co.fuel.id][0], co.fuel)
-    return _Plan(inputs, physics, active, cat, nox, repl, factors, responses)
+    return _Plan(inputs, p.physics, p.active, p.catalyst_cost, p.nox_t, p.replacements,
+                 factors, p.responses)
 
 
 def _yearly(ph: ClassPhysics, h: int, run_years: int
@@ -585,21 +619,17 @@ def run(study: Study, *, draws: int | None = None,
             paybacks[o.id] = np.asarray(econ.discounted_payback(money.rate, diff)
                                         ).reshape(n)
     colours = {o.id: PALETTE[i % len(PALETTE)] for i, o in enumerate(inputs.options)}
-    per_km = _frame("per_km", _per_km_rows(plan, det))
+    per_km = _per_km_rows(plan, det)
     result = StudyResult(
         title=inputs.title,
         currency=inputs.currency,
         candidates=_candidates_table(plan, det, per_km, mc, paybacks, colours),
-        per_km=per_km,
+        per_km=_frame("per_km", per_km),
         cash_flows=_cash_flow_table(plan, det),
         fleet_years=_fleet_years_table(plan, det),
-        nox_monthly=_nox_monthly_table(plan),
-        storage=_storage_table(plan),
         monte_carlo=_monte_carlo_table(mc),
         tornado=_tornado_table(plan) if n > 0 else _empty("tornado"),
-        operating_points=_operating_points_table(plan),
-        flame=_flame_table(plan),
-        catalyst=_catalyst_table(plan),
+        **{name: table.copy() for name, table in _physics_plan(inputs).tables.items()},
         assumptions=_assumptions(study, n),
         sources=_sources(inputs),
     )
@@ -673,22 +703,21 @@ def _tailpipe_co2e(ph: ClassPhysics, co: ClassOption) -> float:
     return float(co2e(ph.co2_ttw_per_m, ph.ch4_per_m, co.n2o_per_m))
 
 
-def _candidates_table(plan: _Plan, det: Money, per_km: pd.DataFrame,
+def _candidates_table(plan: _Plan, det: Money, per_km: list[dict],
                       mc: Mapping[str, np.ndarray], paybacks: Mapping[str, np.ndarray],
                       colours: Mapping[str, str]) -> pd.DataFrame:
     inputs = plan.inputs
-    per_km = per_km.copy()
     weights = {c.id: c.count * c.km_per_year.nominal for c in inputs.classes}
-    per_km["w"] = per_km["vehicle_class"].map(weights)
     rate = det.rate[0]
     base = inputs.baseline.id
     h = inputs.horizon_years
     rows = []
     for o in inputs.options:
-        sub = per_km[per_km["candidate"] == o.id]
+        sub = [r for r in per_km if r["candidate"] == o.id]
+        w = np.array([weights[r["vehicle_class"]] for r in sub])
 
-        def avg(col: str, _sub: pd.DataFrame = sub) -> float:
-            return float(np.average(_sub[col], weights=_sub["w"]))
+        def avg(col: str, _sub: list[dict] = sub, _w: np.ndarray = w) -> float:
+            return float(np.dot([r[col] for r in _sub], _w) / _w.sum())
 
         diff = det.cash[o.id][0] - det.cash[base][0]
         is_base = o.is_baseline
@@ -806,7 +835,7 @@ def _tornado_table(plan: _Plan) -> pd.DataFrame:
 
         t = econ.tornado(f, dists)
         t = t[t["swing"] > 1e-9 * max(float(t["swing"].max()), 1.0)]
-        scale = t["input"].map(lambda p: units[p][1])
+        scale = np.array([units[p][1] for p in t["input"]])  # floats, whatever the dtype
         frames.append(pd.DataFrame({
             "candidate": o.id,
             "input": t["input"].map(lambda p: f"{p} [{units[p][0]}]" if units[p][0] else p),
