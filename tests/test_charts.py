@@ -6,6 +6,7 @@ plumbing, not physics.
 
 from __future__ import annotations
 
+import base64
 import math
 import re
 from dataclasses import replace
@@ -315,3 +316,39 @@ def test_empty_tables_give_a_figure_that_says_so(result):
     for key, fig in figs.items():
         assert len(fig.data) == 0, key
         assert "no rows" in fig.layout.annotations[0].text
+
+
+def typed_array(obj):
+    """Plotly's base64 typed-array form ({"dtype", "bdata", "shape"}) as a numpy array."""
+    if isinstance(obj, dict) and "bdata" in obj and "dtype" in obj:
+        values = np.frombuffer(base64.b64decode(obj["bdata"]), dtype=obj["dtype"])
+        shape = obj.get("shape")
+        if shape:
+            values = values.reshape([int(n) for n in str(shape).split(",")])
+        return values
+    return obj
+
+
+def same_figure(a, b) -> bool:
+    """Equal figure trees, arrays compared by value (plotly keeps tuples, lists or arrays)."""
+    a, b = typed_array(a), typed_array(b)
+    if isinstance(a, dict) or isinstance(b, dict):
+        return (isinstance(a, dict) and isinstance(b, dict) and a.keys() == b.keys()
+                and all(same_figure(a[k], b[k]) for k in a))
+    if isinstance(a, list | tuple | np.ndarray) or isinstance(b, list | tuple | np.ndarray):
+        a, b = list(a), list(b)
+        return len(a) == len(b) and all(same_figure(x, y) for x, y in zip(a, b, strict=True))
+    return a == b or (a != a and b != b)  # NaN equals NaN here
+
+
+def test_the_panels_plain_dict_is_the_validated_figure(result, figures):
+    # The panels draw figure_dict without validation; the report and these tests validate the
+    # same builder's output into go.Figure. Plotly's own validator (the reference here) must
+    # accept the dict unchanged: nothing coerced, added or dropped, the same template.
+    for key in ("cost_per_km", "co2_per_km", "nox_monthly", "energy_density", "cash_flow",
+                "tornado", "monte_carlo", "flame"):
+        plain = charts.figure_dict(key, result)
+        validated = go.Figure(plain)
+        assert same_figure(plain, validated.to_dict()), key
+        assert same_figure(figures[key].to_dict(), validated.to_dict()), key
+        assert validated.layout.template.layout.paper_bgcolor == "white"  # plotly_white

@@ -171,6 +171,43 @@ def test_liquid_priced_per_energy_with_its_heating_value(demo):
                     rtol=1e-9)
 
 
+SECTION_EDITS = [
+    ("prices.lpg", "0.75 per L"),
+    ("prices.lpg", {"kind": "uniform", "low": "0.7 per L", "high": "0.9 per L"}),
+    ("prices.lpg", "1.2 per kg"),
+    ("prices.lpg", "12 per L per L"),  # bad
+    ("prices.hydrogen", "9 per kg"),  # bad: no option uses hydrogen
+    ("escalation.lpg", "3 %"),
+    ("escalation.lpg", "300 %"),  # bad: above the range
+    ("upstream.lpg.wtt_co2e_g_per_mj", 9.5),
+    ("upstream.lpg.wtt_co2e_g_per_mj", -1.0),  # bad
+]
+
+
+@pytest.mark.parametrize(("path", "value"), SECTION_EDITS,
+                         ids=[f"{p}={v}" for p, v in SECTION_EDITS])
+def test_an_edit_of_prices_checks_like_a_whole_file(demo, path, value):
+    # An edit inside prices/escalation/upstream re-checks those tables alone; the reference is
+    # the full check of the same edited file: same inputs, or the same one-line error.
+    data = demo.data
+    node, _, key = path.rpartition(".")
+    target = data
+    for part in node.split("."):
+        target = target[part]
+    target[key] = value
+    try:
+        whole = Study(data, base_dir=demo.base_dir)
+    except InputError as exc:
+        with pytest.raises(InputError) as err:
+            demo.with_value(path, value)
+        assert (err.value.where, err.value.message) == (exc.where, exc.message)
+        return
+    edited = demo.with_value(path, value)
+    assert edited == whole
+    assert edited.inputs == whole.inputs
+    assert demo.get(path) != value  # the study edited from is unchanged
+
+
 def test_unknown_keys_are_refused(demo):
     with pytest.raises(InputError, match="unknown key"):
         demo.with_value("candidates[0].conversoin_cost", 100)

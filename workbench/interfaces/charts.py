@@ -1,5 +1,10 @@
 """Plotly charts of a study result: one builder per chart, each returning a ``go.Figure``.
 
+Each chart is drawn once as a plain Plotly figure dict (traces and layout as dicts, one shared
+template, subplot grids made once per shape): :func:`figure_dict` returns it unvalidated for the
+panels, which redraw after every edit; the public ``*_chart`` builders validate it once into a
+``go.Figure`` for the report, notebooks and tests. Both are the same figure.
+
 Every builder reads the tidy tables of a :class:`~workbench.study.results.StudyResult`
 and draws them;
 none of them computes physics or money (paybacks and percentiles come from the tables too).
@@ -19,17 +24,20 @@ Common rules:
 
 from __future__ import annotations
 
+import copy
 import html
 import math
-from collections.abc import Iterable, Mapping
+from collections.abc import Callable, Iterable, Mapping
 from dataclasses import dataclass
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 import pandas as pd
 import plotly.graph_objects as go
+import plotly.io as pio
 from plotly.subplots import make_subplots
 
+from workbench.core.cache import memoize
 from workbench.study.results import StudyResult
 
 if TYPE_CHECKING:
@@ -91,6 +99,138 @@ class MapGrid:
                    name=engine_map.name)
 
 
+# ----------------------------------------------------------------------------- figures as dicts
+
+
+@memoize(maxsize=None, kind="resource")
+def _template() -> dict[str, Any]:
+    """The layout template of every chart as a plain dict, built once and shared (read-only)."""
+    return pio.templates[TEMPLATE].to_plotly_json()
+
+
+@memoize(maxsize=64, kind="resource")
+def _grid_layout(rows: int, cols: int, options: tuple[tuple[str, Any], ...]) -> dict[str, Any]:
+    """The layout Plotly's ``make_subplots`` makes for a grid (axes, domains, facet titles)."""
+    layout = make_subplots(rows=rows, cols=cols, **dict(options)).to_dict()["layout"]
+    layout.pop("template", None)
+    return layout
+
+
+def _merge(target: dict[str, Any], changes: Mapping[str, Any]) -> None:
+    """Update nested dicts in place, as ``go.Figure.update_layout`` does."""
+    for key, value in changes.items():
+        if isinstance(value, Mapping) and isinstance(target.get(key), dict):
+            _merge(target[key], value)
+        else:
+            target[key] = dict(value) if isinstance(value, Mapping) else value
+
+
+def _ref(letter: str, n: int) -> str:
+    """Plotly's reference of the n-th axis (1-based): ``x``, ``x2`` ..."""
+    return letter if n == 1 else f"{letter}{n}"
+
+
+class _Fig:
+    """A figure being drawn as plain dicts: the part of ``go.Figure``'s API the builders use.
+
+    Parameters
+    ----------
+    rows, cols : int
+        Subplot grid; a grid other than 1 x 1 takes its axes from ``make_subplots``.
+    **grid
+        Options of ``make_subplots`` (hashable values).
+    """
+
+    def __init__(self, rows: int = 1, cols: int = 1, **grid: Any) -> None:
+        self.cols = cols
+        self.subplots = bool(grid) or (rows, cols) != (1, 1)
+        self.data: list[dict[str, Any]] = []
+        self.layout: dict[str, Any] = (
+            copy.deepcopy(_grid_layout(rows, cols, tuple(sorted(grid.items()))))
+            if self.subplots else {})
+
+    def _cell(self, row: int, col: int) -> int:
+        return (row - 1) * self.cols + col
+
+    def add_trace(self, trace: dict[str, Any], row: int | None = None,
+                  col: int | None = None) -> None:
+        """Add a trace dict, in the facet (row, col) when given."""
+        if row is not None and col is not None:
+            n = self._cell(row, col)
+            trace = {**trace, "xaxis": _ref("x", n), "yaxis": _ref("y", n)}
+        self.data.append(trace)
+
+    def update_layout(self, **changes: Any) -> None:
+        """Merge ``changes`` into the layout."""
+        _merge(self.layout, changes)
+
+    def _update_axes(self, letter: str, row: int | None, col: int | None,
+                     changes: Mapping[str, Any]) -> None:
+        if row is not None and col is not None:
+            n = self._cell(row, col)
+            names = [f"{letter}axis{n if n > 1 else ''}"]
+        else:
+            names = [k for k in self.layout if k.startswith(f"{letter}axis")] or [
+                f"{letter}axis"]
+        for name in names:
+            _merge(self.layout.setdefault(name, {}), changes)
+
+    def update_xaxes(self, row: int | None = None, col: int | None = None,
+                     **changes: Any) -> None:
+        """Merge ``changes`` into the x axis of a facet, or into every x axis."""
+        self._update_axes("x", row, col, changes)
+
+    def update_yaxes(self, row: int | None = None, col: int | None = None,
+                     **changes: Any) -> None:
+        """Merge ``changes`` into the y axis of a facet, or into every y axis."""
+        self._update_axes("y", row, col, changes)
+
+    def add_annotation(self, **annotation: Any) -> None:
+        """Add an annotation dict."""
+        self.layout.setdefault("annotations", []).append(annotation)
+
+    def add_hline(self, y: float, line: dict[str, Any]) -> None:
+        """A horizontal line across the plot at ``y``."""
+        self.layout.setdefault("shapes", []).append(dict(
+            type="line", line=line, x0=0, x1=1, xref="x domain", y0=y, y1=y, yref="y"))
+
+    def add_vline(self, x: float, line: dict[str, Any], row: int = 1, col: int = 1, *,
+                  label: str | None = None, font_size: int = 11, side: str = "right") -> None:
+        """A vertical line up a facet at ``x``, optionally labelled at its top.
+
+        ``side`` is where the label sits: ``"right"`` of the line or ``"left"`` of it.
+        """
+        n = self._cell(row, col)
+        xref, yref = _ref("x", n), f"{_ref('y', n)} domain"
+        self.layout.setdefault("shapes", []).append(dict(
+            type="line", line=line, x0=x, x1=x, xref=xref, y0=0, y1=1, yref=yref))
+        if label is not None:
+            self.add_annotation(text=label, font=dict(size=font_size), showarrow=False, x=x,
+                                xanchor="left" if side == "right" else "right", xref=xref,
+                                y=1, yanchor="top", yref=yref)
+
+    def to_dict(self) -> dict[str, Any]:
+        """The figure dict (shares the template; do not edit it)."""
+        return {"data": self.data, "layout": self.layout}
+
+    def figure(self) -> go.Figure:
+        """The figure validated into a ``go.Figure``."""
+        return go.Figure(self.to_dict())
+
+
+def _bar(**props: Any) -> dict[str, Any]:
+    return {"type": "bar", **props}
+
+
+def _scatter(**props: Any) -> dict[str, Any]:
+    return {"type": "scatter", **props}
+
+
+def _values(column: pd.Series) -> np.ndarray:
+    """A table column as the array a trace carries."""
+    return column.to_numpy()
+
+
 # ----------------------------------------------------------------------------- shared helpers
 
 
@@ -131,20 +271,20 @@ def _group(candidate: str) -> str:
 
 
 def _legend_key(name: str, *, pattern: str | None = None,
-                symbol: str | None = None) -> go.BaseTraceType:
+                symbol: str | None = None) -> dict[str, Any]:
     """An empty trace that only explains a fill pattern or a marker symbol in the legend.
 
     Keys are white with black lines, so they cannot be mistaken for a candidate's colour.
     """
     common = dict(name=name, legendgroup="key:" + name, hoverinfo="skip", showlegend=True)
     if pattern is not None:
-        return go.Bar(x=[None], y=[None], marker=dict(
+        return _bar(x=[None], y=[None], marker=dict(
             color="white", line=dict(color="black", width=1),
             pattern=dict(shape=pattern, fgcolor="black", fillmode="overlay", solidity=0.3)),
             **common)
     # an open symbol is drawn in its marker colour: black, or it would vanish on white
     fill = "black" if symbol and symbol.endswith("-open") else "white"
-    return go.Scatter(x=[None], y=[None], mode="markers", marker=dict(
+    return _scatter(x=[None], y=[None], mode="markers", marker=dict(
         symbol=symbol, size=11, color=fill, line=dict(color="black", width=1.5)), **common)
 
 
@@ -153,16 +293,16 @@ def _pattern(shape: str) -> dict[str, object]:
     return dict(shape=shape, fgcolor="white", fillmode="overlay", solidity=0.4)
 
 
-def _finish(fig: go.Figure, title: str, *, height: int) -> go.Figure:
-    fig.update_layout(template=TEMPLATE, title=dict(text=title, x=0.0, xanchor="left"),
+def _finish(fig: _Fig, title: str, *, height: int) -> _Fig:
+    fig.update_layout(template=_template(), title=dict(text=title, x=0.0, xanchor="left"),
                       height=height, hoverlabel=dict(namelength=-1),
                       legend=dict(groupclick="togglegroup"),
                       margin=dict(l=70, r=30, t=80, b=60))
     return fig
 
 
-def _no_data(title: str, table: str) -> go.Figure:
-    fig = go.Figure()
+def _no_data(title: str, table: str) -> _Fig:
+    fig = _Fig()
     fig.add_annotation(text=f"The study produced no rows in the {table} table.",
                        showarrow=False, x=0.5, y=0.5, xref="paper", yref="paper")
     fig.update_xaxes(visible=False)
@@ -170,19 +310,51 @@ def _no_data(title: str, table: str) -> go.Figure:
     return _finish(fig, title, height=240)
 
 
-def _facet_titles(values: Iterable[object]) -> list[str]:
-    return [escape(v) for v in values]
+def _facet_titles(values: Iterable[object]) -> tuple[str, ...]:
+    return tuple(escape(v) for v in values)
 
 
 # ----------------------------------------------------------------------------- cost and CO2
 
 
-def _class_facets(table: pd.DataFrame) -> tuple[list[str], go.Figure]:
+def _class_facets(table: pd.DataFrame) -> tuple[list[str], _Fig]:
     """Vehicle classes of a per-km table and a figure with one panel per class."""
     classes = list(dict.fromkeys(table["vehicle_class"]))
-    fig = make_subplots(rows=1, cols=len(classes), shared_yaxes=True,
-                        subplot_titles=_facet_titles(classes), horizontal_spacing=0.04)
+    fig = _Fig(rows=1, cols=len(classes), shared_yaxes=True,
+               subplot_titles=_facet_titles(classes), horizontal_spacing=0.04)
     return classes, fig
+
+
+def _cost_per_km(result: StudyResult) -> _Fig:
+    title = "Cost per km by part"
+    table = result.per_km
+    if table.empty:
+        return _no_data(title, "per_km")
+    st = _style(result)
+    classes, fig = _class_facets(table)
+    parts = {"fuel": "cost_fuel_per_km", "upkeep": "cost_upkeep_per_km",
+             "capital": "cost_capital_per_km"}
+    shown: set[str] = set()
+    for col, vclass in enumerate(classes, start=1):
+        rows = table[table["vehicle_class"] == vclass].set_index("candidate")
+        for cand in st.order(rows.reset_index()):
+            row = rows.loc[cand]
+            for part, column in parts.items():
+                fig.add_trace(_bar(
+                    x=[st.name(cand)], y=[row[column]], name=st.name(cand),
+                    legendgroup=_group(cand), showlegend=cand not in shown,
+                    marker=dict(color=st.colour(cand), pattern=_pattern(COST_PATTERNS[part])),
+                    customdata=[[row["cost_per_km"]]],
+                    hovertemplate=(f"{part}: %{{y:.4f}} {st.currency}/km<br>"
+                                   f"total: %{{customdata[0]:.4f}} {st.currency}/km"),
+                ), row=1, col=col)
+                shown.add(cand)
+    for (part, shape), look in zip(COST_PATTERNS.items(), ("solid", "hatched", "dotted"),
+                                   strict=True):
+        fig.add_trace(_legend_key(f"{part}: {look}", pattern=shape))
+    fig.update_layout(barmode="stack")
+    fig.update_yaxes(title=dict(text=f"cost per km [{st.currency}/km]"), row=1, col=1)
+    return _finish(fig, title, height=460)
 
 
 def cost_per_km_chart(result: StudyResult) -> go.Figure:
@@ -198,34 +370,34 @@ def cost_per_km_chart(result: StudyResult) -> go.Figure:
     -------
     plotly.graph_objects.Figure
     """
-    title = "Cost per km by part"
+    return _cost_per_km(result).figure()
+
+
+def _co2_per_km(result: StudyResult) -> _Fig:
+    title = "CO2 per km: tank-to-wheel and well-to-wheel"
     table = result.per_km
     if table.empty:
         return _no_data(title, "per_km")
     st = _style(result)
     classes, fig = _class_facets(table)
-    parts = {"fuel": "cost_fuel_per_km", "upkeep": "cost_upkeep_per_km",
-             "capital": "cost_capital_per_km"}
+    kinds = {"tank-to-wheel CO2": ("co2_ttw_g_per_km", ""),
+             "well-to-wheel CO2e": ("co2e_wtw_g_per_km", "/")}
     shown: set[str] = set()
     for col, vclass in enumerate(classes, start=1):
         rows = table[table["vehicle_class"] == vclass].set_index("candidate")
         for cand in st.order(rows.reset_index()):
-            row = rows.loc[cand]
-            for part, column in parts.items():
-                fig.add_trace(go.Bar(
-                    x=[st.name(cand)], y=[row[column]], name=st.name(cand),
-                    legendgroup=_group(cand), showlegend=cand not in shown,
-                    marker=dict(color=st.colour(cand), pattern=_pattern(COST_PATTERNS[part])),
-                    customdata=[[row["cost_per_km"]]],
-                    hovertemplate=(f"{part}: %{{y:.4f}} {st.currency}/km<br>"
-                                   f"total: %{{customdata[0]:.4f}} {st.currency}/km"),
+            for kind, (column, shape) in kinds.items():
+                fig.add_trace(_bar(
+                    x=[st.name(cand)], y=[rows.loc[cand, column]], name=st.name(cand),
+                    legendgroup=_group(cand), showlegend=cand not in shown, offsetgroup=kind,
+                    marker=dict(color=st.colour(cand), pattern=_pattern(shape)),
+                    hovertemplate=f"{kind}: %{{y:.1f}} g/km",
                 ), row=1, col=col)
                 shown.add(cand)
-    for (part, shape), look in zip(COST_PATTERNS.items(), ("solid", "hatched", "dotted"),
-                                   strict=True):
-        fig.add_trace(_legend_key(f"{part}: {look}", pattern=shape))
-    fig.update_layout(barmode="stack")
-    fig.update_yaxes(title_text=f"cost per km [{st.currency}/km]", row=1, col=1)
+    for kind, (_, shape) in kinds.items():
+        fig.add_trace(_legend_key(kind, pattern=shape))
+    fig.update_layout(barmode="group")
+    fig.update_yaxes(title=dict(text="CO2 per km [g/km]"), rangemode="tozero", row=1, col=1)
     return _finish(fig, title, height=460)
 
 
@@ -242,34 +414,49 @@ def co2_per_km_chart(result: StudyResult) -> go.Figure:
     plotly.graph_objects.Figure
         Solid bars tank-to-wheel, hatched bars well-to-wheel.
     """
-    title = "CO2 per km: tank-to-wheel and well-to-wheel"
-    table = result.per_km
-    if table.empty:
-        return _no_data(title, "per_km")
-    st = _style(result)
-    classes, fig = _class_facets(table)
-    kinds = {"tank-to-wheel CO2": ("co2_ttw_g_per_km", ""),
-             "well-to-wheel CO2e": ("co2e_wtw_g_per_km", "/")}
-    shown: set[str] = set()
-    for col, vclass in enumerate(classes, start=1):
-        rows = table[table["vehicle_class"] == vclass].set_index("candidate")
-        for cand in st.order(rows.reset_index()):
-            for kind, (column, shape) in kinds.items():
-                fig.add_trace(go.Bar(
-                    x=[st.name(cand)], y=[rows.loc[cand, column]], name=st.name(cand),
-                    legendgroup=_group(cand), showlegend=cand not in shown, offsetgroup=kind,
-                    marker=dict(color=st.colour(cand), pattern=_pattern(shape)),
-                    hovertemplate=f"{kind}: %{{y:.1f}} g/km",
-                ), row=1, col=col)
-                shown.add(cand)
-    for kind, (_, shape) in kinds.items():
-        fig.add_trace(_legend_key(kind, pattern=shape))
-    fig.update_layout(barmode="group")
-    fig.update_yaxes(title_text="CO2 per km [g/km]", rangemode="tozero", row=1, col=1)
-    return _finish(fig, title, height=460)
+    return _co2_per_km(result).figure()
 
 
 # ----------------------------------------------------------------------------- NOx over time
+
+
+def _nox_monthly(result: StudyResult) -> _Fig:
+    title = "Tailpipe NOx over the programme"
+    table = result.nox_monthly
+    if table.empty:
+        return _no_data(title, "nox_monthly")
+    st = _style(result)
+    classes = list(dict.fromkeys(table["vehicle_class"]))
+    fig = _Fig(rows=len(classes), cols=1, shared_xaxes=True,
+               subplot_titles=_facet_titles(classes), vertical_spacing=0.08)
+    shown: set[str] = set()
+    for r, vclass in enumerate(classes, start=1):
+        rows = table[table["vehicle_class"] == vclass]
+        for cand in st.order(rows):
+            d = rows[rows["candidate"] == cand].sort_values("month")
+            common = dict(name=st.name(cand), legendgroup=_group(cand))
+            fig.add_trace(_scatter(
+                x=_values(d["month"]), y=_values(d["nox_g_per_km"]), mode="lines",
+                showlegend=cand not in shown, line=dict(color=st.colour(cand), width=2),
+                customdata=_values(d["catalyst_efficiency"]),
+                hovertemplate=("month %{x}: %{y:.4f} g/km NOx<br>"
+                               "catalyst conversion %{customdata:.1%}"), **common,
+            ), row=r, col=1)
+            shown.add(cand)
+            rep = d[d["replaced"].astype(bool)]
+            fig.add_trace(_scatter(
+                x=_values(rep["month"]), y=_values(rep["nox_g_per_km"]), mode="markers",
+                showlegend=False,
+                marker=dict(symbol="diamond", size=10, color=st.colour(cand),
+                            line=dict(color="black", width=1)),
+                hovertemplate="catalyst replaced in month %{x}: %{y:.4f} g/km NOx", **common,
+            ), row=r, col=1)
+        fig.update_yaxes(title=dict(text="tailpipe NOx [g/km]"), rangemode="tozero",
+                         row=r, col=1)
+    fig.add_trace(_legend_key("catalyst replaced", symbol="diamond"))
+    fig.update_xaxes(title=dict(text="month of the programme [month]"), row=len(classes),
+                     col=1)
+    return _finish(fig, title, height=160 + 260 * len(classes))
 
 
 def nox_monthly_chart(result: StudyResult) -> go.Figure:
@@ -286,42 +473,30 @@ def nox_monthly_chart(result: StudyResult) -> go.Figure:
     plotly.graph_objects.Figure
         A line per candidate; a diamond where ``replaced`` is true.
     """
-    title = "Tailpipe NOx over the programme"
-    table = result.nox_monthly
-    if table.empty:
-        return _no_data(title, "nox_monthly")
-    st = _style(result)
-    classes = list(dict.fromkeys(table["vehicle_class"]))
-    fig = make_subplots(rows=len(classes), cols=1, shared_xaxes=True,
-                        subplot_titles=_facet_titles(classes), vertical_spacing=0.08)
-    shown: set[str] = set()
-    for r, vclass in enumerate(classes, start=1):
-        rows = table[table["vehicle_class"] == vclass]
-        for cand in st.order(rows):
-            d = rows[rows["candidate"] == cand].sort_values("month")
-            common = dict(name=st.name(cand), legendgroup=_group(cand))
-            fig.add_trace(go.Scatter(
-                x=d["month"], y=d["nox_g_per_km"], mode="lines", showlegend=cand not in shown,
-                line=dict(color=st.colour(cand), width=2),
-                customdata=d["catalyst_efficiency"],
-                hovertemplate=("month %{x}: %{y:.4f} g/km NOx<br>"
-                               "catalyst conversion %{customdata:.1%}"), **common,
-            ), row=r, col=1)
-            shown.add(cand)
-            rep = d[d["replaced"].astype(bool)]
-            fig.add_trace(go.Scatter(
-                x=rep["month"], y=rep["nox_g_per_km"], mode="markers", showlegend=False,
-                marker=dict(symbol="diamond", size=10, color=st.colour(cand),
-                            line=dict(color="black", width=1)),
-                hovertemplate="catalyst replaced in month %{x}: %{y:.4f} g/km NOx", **common,
-            ), row=r, col=1)
-        fig.update_yaxes(title_text="tailpipe NOx [g/km]", rangemode="tozero", row=r, col=1)
-    fig.add_trace(_legend_key("catalyst replaced", symbol="diamond"))
-    fig.update_xaxes(title_text="month of the programme [month]", row=len(classes), col=1)
-    return _finish(fig, title, height=160 + 260 * len(classes))
+    return _nox_monthly(result).figure()
 
 
 # ----------------------------------------------------------------------------- storage
+
+
+def _energy_density(result: StudyResult) -> _Fig:
+    title = "Energy density: fuel alone and with its tank system"
+    table = result.storage
+    if table.empty:
+        return _no_data(title, "storage")
+    st = _style(result)
+    fig = _Fig()
+    for cand in st.order(table):
+        # one line per fuel the candidate uses (the tank system depends on the class only
+        # through its range, so the first class using the fuel stands for it)
+        rows = table[table["candidate"] == cand].drop_duplicates("fuel")
+        for i, row in enumerate(rows.to_dict("records")):
+            fig.add_trace(_density_trace(st, cand, row, first=i == 0))
+    fig.add_trace(_legend_key("fuel alone", symbol="circle"))
+    fig.add_trace(_legend_key("tank system", symbol="diamond-open"))
+    fig.update_xaxes(title=dict(text="energy per mass, LHV [MJ/kg]"), rangemode="tozero")
+    fig.update_yaxes(title=dict(text="energy per volume, LHV [MJ/L]"), rangemode="tozero")
+    return _finish(fig, title, height=480)
 
 
 def energy_density_chart(result: StudyResult) -> go.Figure:
@@ -338,28 +513,13 @@ def energy_density_chart(result: StudyResult) -> go.Figure:
     plotly.graph_objects.Figure
         Per candidate a filled circle (fuel alone) joined to an open diamond (tank system).
     """
-    title = "Energy density: fuel alone and with its tank system"
-    table = result.storage
-    if table.empty:
-        return _no_data(title, "storage")
-    st = _style(result)
-    fig = go.Figure()
-    for cand in st.order(table):
-        # one line per fuel the candidate uses (the tank system depends on the class only
-        # through its range, so the first class using the fuel stands for it)
-        rows = table[table["candidate"] == cand].drop_duplicates("fuel")
-        for i, (_, row) in enumerate(rows.iterrows()):
-            fig.add_trace(_density_trace(st, cand, row, first=i == 0))
-    fig.add_trace(_legend_key("fuel alone", symbol="circle"))
-    fig.add_trace(_legend_key("tank system", symbol="diamond-open"))
-    fig.update_xaxes(title_text="energy per mass, LHV [MJ/kg]", rangemode="tozero")
-    fig.update_yaxes(title_text="energy per volume, LHV [MJ/L]", rangemode="tozero")
-    return _finish(fig, title, height=480)
+    return _energy_density(result).figure()
 
 
-def _density_trace(st: _Style, cand: str, row: pd.Series, *, first: bool) -> go.Scatter:
+def _density_trace(st: _Style, cand: str, row: Mapping[str, Any], *,
+                   first: bool) -> dict[str, Any]:
     fuel = escape(row["fuel"])
-    return go.Scatter(
+    return _scatter(
             x=[row["energy_density_mj_per_kg"], row["system_energy_density_mj_per_kg"]],
             y=[row["energy_density_mj_per_l"], row["system_energy_density_mj_per_l"]],
             mode="lines+markers", name=st.name(cand), legendgroup=_group(cand),
@@ -373,6 +533,41 @@ def _density_trace(st: _Style, cand: str, row: pd.Series, *, first: bool) -> go.
 
 
 # ----------------------------------------------------------------------------- money
+
+
+def _cash_flow(result: StudyResult) -> _Fig:
+    title = "Cumulative discounted cash flow against the baseline"
+    table = result.cash_flows
+    if table.empty:
+        return _no_data(title, "cash_flows")
+    st = _style(result)
+    cands = result.candidates.set_index("candidate")
+    baseline = set(cands.index[cands["is_baseline"].astype(bool)])
+    fig = _Fig()
+    for cand in st.order(table):
+        if cand in baseline:
+            continue
+        d = table[table["candidate"] == cand].sort_values("year")
+        common = dict(name=st.name(cand), legendgroup=_group(cand))
+        fig.add_trace(_scatter(
+            x=_values(d["year"]), y=_values(d["cumulative_discounted_vs_baseline"]),
+            mode="lines+markers", line=dict(color=st.colour(cand), width=2),
+            marker=dict(size=5),
+            hovertemplate=f"year %{{x}}: %{{y:,.0f}} {st.currency}", **common))
+        payback = cands.loc[cand, "discounted_payback_years"] if cand in cands.index else np.nan
+        if np.isfinite(payback):  # counted from the conversion year, the table's first
+            fig.add_trace(_scatter(
+                x=[d["year"].iloc[0] + payback], y=[0.0], mode="markers", showlegend=False,
+                marker=dict(symbol="star", size=16, color=st.colour(cand),
+                            line=dict(color="black", width=1)),
+                customdata=[payback],
+                hovertemplate="discounted payback after %{customdata:.1f} years", **common))
+    fig.add_hline(y=0.0, line=dict(color="black", width=1))
+    fig.add_trace(_legend_key("discounted payback", symbol="star"))
+    fig.update_xaxes(title=dict(text="year of the programme [year]"))
+    fig.update_yaxes(title=dict(
+        text=f"cumulative discounted cash flow vs baseline [{st.currency}]"), tickformat=",.0f")
+    return _finish(fig, title, height=480)
 
 
 def cash_flow_chart(result: StudyResult) -> go.Figure:
@@ -389,37 +584,41 @@ def cash_flow_chart(result: StudyResult) -> go.Figure:
     plotly.graph_objects.Figure
         A line per candidate; a star on the zero line at its discounted payback, if any.
     """
-    title = "Cumulative discounted cash flow against the baseline"
-    table = result.cash_flows
+    return _cash_flow(result).figure()
+
+
+def _tornado(result: StudyResult) -> _Fig:
+    title = "What moves the NPV: one input at a time"
+    table = result.tornado
     if table.empty:
-        return _no_data(title, "cash_flows")
+        return _no_data(title, "tornado")
     st = _style(result)
-    cands = result.candidates.set_index("candidate")
-    baseline = set(cands.index[cands["is_baseline"].astype(bool)])
-    fig = go.Figure()
-    for cand in st.order(table):
-        if cand in baseline:
-            continue
-        d = table[table["candidate"] == cand].sort_values("year")
-        common = dict(name=st.name(cand), legendgroup=_group(cand))
-        fig.add_trace(go.Scatter(
-            x=d["year"], y=d["cumulative_discounted_vs_baseline"], mode="lines+markers",
-            line=dict(color=st.colour(cand), width=2), marker=dict(size=5),
-            hovertemplate=f"year %{{x}}: %{{y:,.0f}} {st.currency}", **common))
-        payback = cands.loc[cand, "discounted_payback_years"] if cand in cands.index else np.nan
-        if np.isfinite(payback):  # counted from the conversion year, the table's first
-            fig.add_trace(go.Scatter(
-                x=[d["year"].iloc[0] + payback], y=[0.0], mode="markers", showlegend=False,
-                marker=dict(symbol="star", size=16, color=st.colour(cand),
-                            line=dict(color="black", width=1)),
-                customdata=[payback],
-                hovertemplate="discounted payback after %{customdata:.1f} years", **common))
-    fig.add_hline(y=0.0, line=dict(color="black", width=1))
-    fig.add_trace(_legend_key("discounted payback", symbol="star"))
-    fig.update_xaxes(title_text="year of the programme [year]")
-    fig.update_yaxes(title_text=f"cumulative discounted cash flow vs baseline [{st.currency}]",
-                     tickformat=",.0f")
-    return _finish(fig, title, height=480)
+    npv = result.candidates.set_index("candidate")["npv_vs_baseline"]
+    cands = st.order(table)
+    sizes = tuple(int((table["candidate"] == c).sum()) for c in cands)
+    fig = _Fig(rows=len(cands), cols=1, shared_xaxes=True, row_heights=sizes,
+               subplot_titles=tuple(st.name(c) for c in cands), vertical_spacing=0.1)
+    ends = {"low": ("npv_at_low", "low_value", ""), "high": ("npv_at_high", "high_value", "/")}
+    for r, cand in enumerate(cands, start=1):
+        d = table[table["candidate"] == cand].sort_values("swing")
+        base = float(npv.get(cand, 0.0))
+        inputs = [escape(v) for v in d["input"]]
+        for end, (npv_col, value_col, shape) in ends.items():
+            fig.add_trace(_bar(
+                y=inputs, x=_values(d[npv_col] - base), base=base, orientation="h",
+                name=st.name(cand), legendgroup=_group(cand), showlegend=False,
+                marker=dict(color=st.colour(cand), pattern=_pattern(shape)),
+                customdata=np.column_stack([d[value_col], d[npv_col]]),
+                hovertemplate=(f"%{{y}} at its {end} value %{{customdata[0]:.4g}}:<br>"
+                               f"NPV %{{customdata[1]:,.0f}} {st.currency}"),
+            ), row=r, col=1)
+        fig.add_vline(x=base, line=dict(color="black", width=1), row=r, col=1)
+    for end, (_, _, shape) in ends.items():
+        fig.add_trace(_legend_key(f"input at its {end} value", pattern=shape))
+    fig.update_layout(barmode="overlay")
+    fig.update_xaxes(title=dict(text=f"NPV vs baseline [{st.currency}]"), tickformat=",.0f",
+                     row=len(cands), col=1)
+    return _finish(fig, title, height=140 + 34 * sum(sizes) + 60 * len(cands))
 
 
 def tornado_chart(result: StudyResult) -> go.Figure:
@@ -436,37 +635,37 @@ def tornado_chart(result: StudyResult) -> go.Figure:
     plotly.graph_objects.Figure
         Solid bars: input at its low value; hatched: at its high value.
     """
-    title = "What moves the NPV: one input at a time"
-    table = result.tornado
+    return _tornado(result).figure()
+
+
+def _monte_carlo(result: StudyResult) -> _Fig:
+    title = "NPV against the baseline over the Monte Carlo draws"
+    table = result.monte_carlo
     if table.empty:
-        return _no_data(title, "tornado")
+        return _no_data(title, "monte_carlo")
     st = _style(result)
-    npv = result.candidates.set_index("candidate")["npv_vs_baseline"]
+    cands_table = result.candidates.set_index("candidate")
     cands = st.order(table)
-    sizes = [int((table["candidate"] == c).sum()) for c in cands]
-    fig = make_subplots(rows=len(cands), cols=1, shared_xaxes=True, row_heights=sizes,
-                        subplot_titles=[st.name(c) for c in cands], vertical_spacing=0.1)
-    ends = {"low": ("npv_at_low", "low_value", ""), "high": ("npv_at_high", "high_value", "/")}
+    fig = _Fig(rows=len(cands), cols=1, shared_xaxes=True,
+               subplot_titles=tuple(st.name(c) for c in cands), vertical_spacing=0.1)
+    lines = {"P10": ("npv_p10", "dot", "left"), "P50": ("npv_p50", "solid", "right"),
+             "P90": ("npv_p90", "dash", "right")}
     for r, cand in enumerate(cands, start=1):
-        d = table[table["candidate"] == cand].sort_values("swing")
-        base = float(npv.get(cand, 0.0))
-        inputs = [escape(v) for v in d["input"]]
-        for end, (npv_col, value_col, shape) in ends.items():
-            fig.add_trace(go.Bar(
-                y=inputs, x=d[npv_col] - base, base=base, orientation="h",
-                name=st.name(cand), legendgroup=_group(cand), showlegend=False,
-                marker=dict(color=st.colour(cand), pattern=_pattern(shape)),
-                customdata=np.column_stack([d[value_col], d[npv_col]]),
-                hovertemplate=(f"%{{y}} at its {end} value %{{customdata[0]:.4g}}:<br>"
-                               f"NPV %{{customdata[1]:,.0f}} {st.currency}"),
-            ), row=r, col=1)
-        fig.add_vline(x=base, line=dict(color="black", width=1), row=r, col=1)
-    for end, (_, _, shape) in ends.items():
-        fig.add_trace(_legend_key(f"input at its {end} value", pattern=shape))
-    fig.update_layout(barmode="overlay")
-    fig.update_xaxes(title_text=f"NPV vs baseline [{st.currency}]", tickformat=",.0f",
+        d = table[table["candidate"] == cand]
+        fig.add_trace(dict(
+            type="histogram", x=_values(d["npv_vs_baseline"]), histnorm="percent", nbinsx=40,
+            name=st.name(cand), legendgroup=_group(cand), marker=dict(color=st.colour(cand)),
+            hovertemplate=f"NPV %{{x}} {st.currency}: %{{y:.1f}} % of draws"), row=r, col=1)
+        for label, (column, dash, side) in lines.items():
+            value = cands_table.loc[cand, column] if cand in cands_table.index else np.nan
+            if np.isfinite(value):
+                fig.add_vline(x=value, line=dict(color="black", width=1.5, dash=dash),
+                              label=f"{label} {value:,.0f}", side=side, row=r, col=1)
+        fig.update_yaxes(title=dict(text="share of draws [%]"), row=r, col=1)
+    fig.update_xaxes(title=dict(text=f"NPV vs baseline [{st.currency}]"), tickformat=",.0f",
                      row=len(cands), col=1)
-    return _finish(fig, title, height=140 + 34 * sum(sizes) + 60 * len(cands))
+    fig.update_layout(bargap=0.05)
+    return _finish(fig, title, height=160 + 240 * len(cands))
 
 
 def monte_carlo_chart(result: StudyResult) -> go.Figure:
@@ -483,34 +682,7 @@ def monte_carlo_chart(result: StudyResult) -> go.Figure:
     plotly.graph_objects.Figure
         A histogram per candidate (share of draws [%]); P10 dotted, P50 solid, P90 dashed.
     """
-    title = "NPV against the baseline over the Monte Carlo draws"
-    table = result.monte_carlo
-    if table.empty:
-        return _no_data(title, "monte_carlo")
-    st = _style(result)
-    cands_table = result.candidates.set_index("candidate")
-    cands = st.order(table)
-    fig = make_subplots(rows=len(cands), cols=1, shared_xaxes=True,
-                        subplot_titles=[st.name(c) for c in cands], vertical_spacing=0.1)
-    lines = {"P10": ("npv_p10", "dot", "top left"), "P50": ("npv_p50", "solid", "top right"),
-             "P90": ("npv_p90", "dash", "top right")}
-    for r, cand in enumerate(cands, start=1):
-        d = table[table["candidate"] == cand]
-        fig.add_trace(go.Histogram(
-            x=d["npv_vs_baseline"], histnorm="percent", nbinsx=40, name=st.name(cand),
-            legendgroup=_group(cand), marker=dict(color=st.colour(cand)),
-            hovertemplate=f"NPV %{{x}} {st.currency}: %{{y:.1f}} % of draws"), row=r, col=1)
-        for label, (column, dash, where) in lines.items():
-            value = cands_table.loc[cand, column] if cand in cands_table.index else np.nan
-            if np.isfinite(value):
-                fig.add_vline(x=value, line=dict(color="black", width=1.5, dash=dash),
-                              annotation=dict(text=f"{label} {value:,.0f}", font_size=11),
-                              annotation_position=where, row=r, col=1)
-        fig.update_yaxes(title_text="share of draws [%]", row=r, col=1)
-    fig.update_xaxes(title_text=f"NPV vs baseline [{st.currency}]", tickformat=",.0f",
-                     row=len(cands), col=1)
-    fig.update_layout(bargap=0.05)
-    return _finish(fig, title, height=160 + 240 * len(cands))
+    return _monte_carlo(result).figure()
 
 
 # ----------------------------------------------------------------------------- engine and flame
@@ -564,14 +736,16 @@ def efficiency_map_chart(
     eff = np.asarray(efficiency, dtype=float)
     if eff.shape != (torque.size, speed.size):
         raise ValueError(f"efficiency grid is {eff.shape}, axes need {(torque.size, speed.size)}")
-    fig = go.Figure(go.Contour(
-        x=speed, y=torque, z=eff * 100.0, colorscale="Cividis", name="brake efficiency",
+    fig = _Fig()
+    fig.add_trace(dict(
+        type="contour", x=speed, y=torque, z=eff * 100.0, colorscale="Cividis",
+        name="brake efficiency",
         contours=dict(showlabels=True, labelfont=dict(size=11, color="#222222")),
         colorbar=dict(title=dict(text="brake efficiency [%]", side="right")),
         hovertemplate="%{x:.0f} rpm, %{y:.0f} N m: brake efficiency %{z:.1f} %<extra></extra>",
     ))
     if full_load_torque_nm is not None:
-        fig.add_trace(go.Scatter(
+        fig.add_trace(_scatter(
             x=speed, y=np.asarray(full_load_torque_nm, dtype=float), mode="lines",
             name="full load", line=dict(color="black", width=3),
             hovertemplate="full load at %{x:.0f} rpm: %{y:.0f} N m"))
@@ -585,19 +759,19 @@ def efficiency_map_chart(
         sizeref = 2.0 * hours_max / 22.0**2 if hours_max > 0.0 else 1.0
         for cand in _order(names, points):
             d = points[points["candidate"] == cand]
-            fig.add_trace(go.Scatter(
-                x=d["engine_speed_rpm"], y=d["torque_nm"], mode="markers",
+            fig.add_trace(_scatter(
+                x=_values(d["engine_speed_rpm"]), y=_values(d["torque_nm"]), mode="markers",
                 name=escape(names.get(cand, cand)), legendgroup=_group(cand),
-                marker=dict(size=d["hours"], sizemode="area", sizeref=sizeref, sizemin=3,
+                marker=dict(size=_values(d["hours"]), sizemode="area", sizeref=sizeref, sizemin=3,
                             color=colours.get(cand, NEUTRAL), opacity=0.85,
                             line=dict(color="white", width=1)),
                 customdata=np.column_stack([d["hours"], d["brake_efficiency"]]),
                 hovertemplate=("%{x:.0f} rpm, %{y:.0f} N m<br>%{customdata[0]:,.1f} h, "
                                "brake efficiency %{customdata[1]:.1%}")))
-    fig.update_xaxes(title_text="engine speed [rpm]")
-    fig.update_yaxes(title_text="brake torque [N m]", rangemode="tozero")
+    fig.update_xaxes(title=dict(text="engine speed [rpm]"))
+    fig.update_yaxes(title=dict(text="brake torque [N m]"), rangemode="tozero")
     fig.update_layout(legend=dict(orientation="h", y=-0.18))
-    return _finish(fig, escape(title), height=520)
+    return _finish(fig, escape(title), height=520).figure()
 
 
 def flame_chart(result: StudyResult) -> go.Figure:
@@ -613,12 +787,16 @@ def flame_chart(result: StudyResult) -> go.Figure:
     plotly.graph_objects.Figure
         Top panel flame temperature, bottom panel NO, sharing the phi axis.
     """
+    return _flame(result).figure()
+
+
+def _flame(result: StudyResult) -> _Fig:
     title = "Flame temperature and thermal NO against equivalence ratio"
     table = result.flame
     if table.empty:
         return _no_data(title, "flame")
     st = _style(result)
-    fig = make_subplots(rows=2, cols=1, shared_xaxes=True, vertical_spacing=0.08)
+    fig = _Fig(rows=2, cols=1, shared_xaxes=True, vertical_spacing=0.08)
     dashes = ("solid", "dash", "dot", "dashdot")
     for cand in st.order(table):
         rows = table[table["candidate"] == cand]
@@ -629,16 +807,16 @@ def flame_chart(result: StudyResult) -> go.Figure:
                           mode="lines+markers", marker=dict(size=5),
                           line=dict(color=st.colour(cand), width=2,
                                     dash=dashes[i % len(dashes)]))
-            fig.add_trace(go.Scatter(
-                x=d["phi"], y=d["flame_temperature_k"],
+            fig.add_trace(_scatter(
+                x=_values(d["phi"]), y=_values(d["flame_temperature_k"]),
                 hovertemplate=f"{fuel}, phi %{{x:.2f}}: %{{y:.0f}} K", **common), row=1, col=1)
-            fig.add_trace(go.Scatter(
-                x=d["phi"], y=d["no_ppm"], showlegend=False,
+            fig.add_trace(_scatter(
+                x=_values(d["phi"]), y=_values(d["no_ppm"]), showlegend=False,
                 hovertemplate=f"{fuel}, phi %{{x:.2f}}: NO %{{y:.0f}} ppm", **common),
                 row=2, col=1)
-    fig.update_yaxes(title_text="adiabatic flame temperature [K]", row=1, col=1)
-    fig.update_yaxes(title_text="thermal NO [ppm]", rangemode="tozero", row=2, col=1)
-    fig.update_xaxes(title_text="equivalence ratio phi [-]", row=2, col=1)
+    fig.update_yaxes(title=dict(text="adiabatic flame temperature [K]"), row=1, col=1)
+    fig.update_yaxes(title=dict(text="thermal NO [ppm]"), rangemode="tozero", row=2, col=1)
+    fig.update_xaxes(title=dict(text="equivalence ratio phi [-]"), row=2, col=1)
     return _finish(fig, title, height=640)
 
 
@@ -696,3 +874,36 @@ def all_figures(
     figs["monte_carlo"] = monte_carlo_chart(result)
     figs["flame"] = flame_chart(result)
     return figs
+
+
+#: Builders of the result charts as plain figure dicts, by chart key.
+_BUILDERS: dict[str, Callable[[StudyResult], _Fig]] = {
+    "cost_per_km": _cost_per_km,
+    "co2_per_km": _co2_per_km,
+    "nox_monthly": _nox_monthly,
+    "energy_density": _energy_density,
+    "cash_flow": _cash_flow,
+    "tornado": _tornado,
+    "monte_carlo": _monte_carlo,
+    "flame": _flame,
+}
+
+
+def figure_dict(key: str, result: StudyResult) -> dict[str, Any]:
+    """One chart of a result as a plain Plotly figure dict, not validated (for redraws).
+
+    Parameters
+    ----------
+    key : str
+        Chart key: ``cost_per_km``, ``co2_per_km``, ``nox_monthly``, ``energy_density``,
+        ``cash_flow``, ``tornado``, ``monte_carlo`` or ``flame``.
+    result : StudyResult
+        The study's result.
+
+    Returns
+    -------
+    dict
+        ``data`` and ``layout``; the same figure as the key's ``*_chart`` builder. The layout
+        shares one template dict with every other chart: do not edit it in place.
+    """
+    return _BUILDERS[key](result).to_dict()

@@ -241,7 +241,9 @@ class Study:
         -------
         Study
         """
-        data = copy.deepcopy(self._data)
+        touched = {str(_split_path(p)[0]) for p in (*changes, *remove)}
+        # unchanged tables are shared with this study (neither ever edits its data in place)
+        data = {k: copy.deepcopy(v) if k in touched else v for k, v in self._data.items()}
         for path, value in changes.items():
             node, key = _parent(data, path)
             try:
@@ -252,7 +254,16 @@ class Study:
             node, key = _parent(data, path)
             if isinstance(node, dict):
                 node.pop(key, None)
-        return Study(data, where=self.where, base_dir=self.base_dir)
+        if not touched <= FUEL_SECTIONS:
+            return Study(data, where=self.where, base_dir=self.base_dir)
+        # only prices, escalation or upstream changed: re-check those tables alone
+        inputs = self.inputs
+        fuels = {co.fuel.id: co.fuel for o in inputs.options for co in o.per_class.values()}
+        sections = _fuel_sections(_Reader(data, ""), fuels, inputs.currency, touched)
+        study = object.__new__(Study)
+        study._data, study.where, study.base_dir = data, self.where, self.base_dir
+        study.inputs = _with_uncertain(replace(inputs, **sections))
+        return study
 
     def to_toml(self) -> str:
         """The study as TOML text; reading it back gives an equal study."""
@@ -519,16 +530,7 @@ def _parse(data: Mapping[str, Any], base_dir: Path) -> StudyInputs:
     if len(set(names)) != len(names):
         raise InputError("candidates", "option names (baseline and candidates) must be unique")
     fuels = {co.fuel.id: co.fuel for o in (baseline, *candidates) for co in o.per_class.values()}
-    prices = _prices(_Reader(top.raw("prices"), "prices"), fuels, currency)
-    escalation = {}
-    esc = _Reader(top.raw("escalation", {}), "escalation")
-    for fid in esc.table:
-        if fid not in fuels:
-            raise InputError(esc.at(fid), "names no fuel of the study")
-        escalation[fid] = esc.uncertain(fid, _fraction, low=-0.5, high=1.0, unit=PERCENT)
-    for fid in fuels:
-        escalation.setdefault(fid, Uncertain(0.0, None, f"escalation.{fid}"))
-    upstream, sources = _upstream(_Reader(top.raw("upstream"), "upstream"), fuels)
+    sections = _fuel_sections(top, fuels, currency, FUEL_SECTIONS)
     inputs = StudyInputs(
         title=top.text("title"),
         currency=currency,
@@ -547,14 +549,43 @@ def _parse(data: Mapping[str, Any], base_dir: Path) -> StudyInputs:
         classes=classes,
         baseline=baseline,
         candidates=candidates,
-        prices=prices,
-        escalation=escalation,
-        upstream=upstream,
-        upstream_sources=sources,
+        **sections,
     )
+    return _with_uncertain(inputs)
+
+
+#: Top-level tables whose values depend only on the study's fuels and currency: an edit
+#: inside them re-checks those tables alone (:meth:`Study.with_values`).
+FUEL_SECTIONS = frozenset({"prices", "escalation", "upstream"})
+
+
+def _fuel_sections(top: _Reader, fuels: Mapping[str, Fuel], currency: str,
+                   sections: Iterable[str]) -> dict[str, Any]:
+    """Check the named tables of :data:`FUEL_SECTIONS`; StudyInputs fields by name."""
+    out: dict[str, Any] = {}
+    if "prices" in sections:
+        out["prices"] = _prices(_Reader(top.raw("prices"), "prices"), fuels, currency)
+    if "escalation" in sections:
+        escalation = {}
+        esc = _Reader(top.raw("escalation", {}), "escalation")
+        for fid in esc.table:
+            if fid not in fuels:
+                raise InputError(esc.at(fid), "names no fuel of the study")
+            escalation[fid] = esc.uncertain(fid, _fraction, low=-0.5, high=1.0, unit=PERCENT)
+        for fid in fuels:
+            escalation.setdefault(fid, Uncertain(0.0, None, f"escalation.{fid}"))
+        out["escalation"] = escalation
+    if "upstream" in sections:
+        out["upstream"], out["upstream_sources"] = _upstream(
+            _Reader(top.raw("upstream"), "upstream"), fuels)
+    return out
+
+
+def _with_uncertain(inputs: StudyInputs) -> StudyInputs:
+    """``inputs`` with its table of uncertain inputs (those with a spread) filled in."""
     uncertain = {u.path: u.dist for u in all_uncertain(inputs) if u.dist is not None
                  and not u.dist.spread_is_zero}
-    return StudyInputs(**{**inputs.__dict__, "uncertain": uncertain})
+    return replace(inputs, uncertain=uncertain)
 
 
 def all_uncertain(inputs: StudyInputs) -> list[Uncertain]:

@@ -2,16 +2,17 @@
 
 Each chart sits in a :class:`FigurePane`, an Output widget made once, whose single output is
 the chart as Plotly's JSON mimetype (drawn by the ``jupyterlab-plotly`` renderer that ships with
-plotly, in JupyterLab and Voilà alike). After every good run the chart builders of
-:mod:`workbench.interfaces.charts` draw the new result
- into the same pane, so the numbers change where the
-user is looking. (A ``FigureWidget`` updated in place lost updates now and then under Voilà,
+plotly, in JupyterLab and Voilà alike). After every good run
+:func:`workbench.interfaces.charts.figure_dict` draws the new result as a plain figure dict
+(no per-edit validation) into the same pane, so the numbers change where the user is
+looking. (A ``FigureWidget`` updated in place lost updates now and then under Voilà,
 and carries about 5 MB of JavaScript per widget; a pane carries the figure only.)
 """
 
 from __future__ import annotations
 
 import math
+from typing import Any
 
 import ipywidgets as widgets
 import plotly.graph_objects as go
@@ -22,16 +23,16 @@ from workbench.interfaces.panels.fields import esc
 from workbench.interfaces.panels.state import StudyState
 from workbench.study.results import StudyResult
 
-#: Charts the panel can show, by chart key: (menu label, builder).
+#: Charts the panel can show: chart key of :func:`charts.figure_dict` -> menu label.
 CHARTS = {
-    "cost_per_km": ("Cost per km", charts.cost_per_km_chart),
-    "cash_flow": ("Cumulative discounted cash flow (NPV)", charts.cash_flow_chart),
-    "co2_per_km": ("CO2 per km", charts.co2_per_km_chart),
-    "energy_density": ("Energy density and tanks", charts.energy_density_chart),
-    "nox_monthly": ("Tailpipe NOx as catalysts age", charts.nox_monthly_chart),
-    "tornado": ("What moves the NPV (tornado)", charts.tornado_chart),
-    "monte_carlo": ("NPV over the Monte Carlo draws", charts.monte_carlo_chart),
-    "flame": ("Flame temperature and thermal NO", charts.flame_chart),
+    "cost_per_km": "Cost per km",
+    "cash_flow": "Cumulative discounted cash flow (NPV)",
+    "co2_per_km": "CO2 per km",
+    "energy_density": "Energy density and tanks",
+    "nox_monthly": "Tailpipe NOx as catalysts age",
+    "tornado": "What moves the NPV (tornado)",
+    "monte_carlo": "NPV over the Monte Carlo draws",
+    "flame": "Flame temperature and thermal NO",
 }
 #: Charts shown side by side when the panel opens.
 DEFAULT_CHARTS = ("cost_per_km", "cash_flow")
@@ -53,27 +54,35 @@ class FigurePane(widgets.Output):
 
     Parameters
     ----------
-    figure : plotly.graph_objects.Figure, optional
+    figure : plotly.graph_objects.Figure or dict, optional
         The first chart to show.
     **kwargs
         Passed to :class:`ipywidgets.Output` (layout …).
-
-    Attributes
-    ----------
-    figure : plotly.graph_objects.Figure
-        The chart shown now (empty before the first one).
     """
 
-    def __init__(self, figure: go.Figure | None = None, **kwargs: object) -> None:
+    def __init__(self, figure: go.Figure | dict[str, Any] | None = None,
+                 **kwargs: object) -> None:
         super().__init__(**kwargs)
-        self.figure = go.Figure()
+        self._shown: go.Figure | dict[str, Any] = {"data": [], "layout": {}}
         if figure is not None:
             self.show(figure)
 
-    def show(self, figure: go.Figure) -> None:
-        """Show ``figure`` in place of the chart shown before (one message to the page)."""
-        self.figure = figure
-        bundle = pio.renderers["plotly_mimetype"].to_mimebundle(figure.to_dict())
+    @property
+    def figure(self) -> go.Figure:
+        """The chart shown now, as a ``go.Figure`` (validated on first access, for tests and
+        scripts; the redraw itself never validates)."""
+        if isinstance(self._shown, dict):
+            self._shown = go.Figure(self._shown)
+        return self._shown
+
+    def show(self, figure: go.Figure | dict[str, Any]) -> None:
+        """Show ``figure`` in place of the chart shown before (one message to the page).
+
+        A plain figure dict (:func:`workbench.interfaces.charts.figure_dict`) is sent as it is.
+        """
+        self._shown = figure
+        fig_dict = figure if isinstance(figure, dict) else figure.to_dict()
+        bundle = pio.renderers["plotly_mimetype"].to_mimebundle(dict(fig_dict))
         self.outputs = ({"output_type": "display_data", "data": bundle, "metadata": {}},)
 
 
@@ -107,10 +116,10 @@ class ChartSlot(widgets.VBox):
 
     def __init__(self, state: StudyState, key: str) -> None:
         self.state = state
-        self.choice = widgets.Dropdown(options=[(title, k) for k, (title, _) in CHARTS.items()],
+        self.choice = widgets.Dropdown(options=[(title, k) for k, title in CHARTS.items()],
                                        value=key, layout=widgets.Layout(width="360px"))
         result = state.result
-        self.pane = FigurePane(CHARTS[key][1](result) if result is not None else None)
+        self.pane = FigurePane(charts.figure_dict(key, result) if result is not None else None)
         self.choice.observe(lambda _ch: self.draw(), names="value")
         super().__init__([self.choice, self.pane], layout=widgets.Layout(min_width="0"))
 
@@ -122,7 +131,7 @@ class ChartSlot(widgets.VBox):
     def draw(self) -> None:
         """Draw the chosen chart of the state's last good result (nothing before a run)."""
         if self.state.result is not None:
-            self.pane.show(CHARTS[self.choice.value][1](self.state.result))
+            self.pane.show(charts.figure_dict(self.choice.value, self.state.result))
 
 
 class ResultsPanel(widgets.VBox):
