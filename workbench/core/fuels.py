@@ -174,26 +174,97 @@ def load_fuel(ref: str | Path | Fuel) -> Fuel:
     """
     if isinstance(ref, Fuel):
         return ref
+    return _load_path(_resolve(ref))
+
+
+def _resolve(ref: str | Path) -> str:
+    """A library id or a path -> the absolute path of the fuel file."""
     text = str(ref)
     if text.endswith(".toml") or "/" in text or "\\" in text:
-        return _load_path(str(Path(text).resolve()))
+        return str(Path(text).resolve())
     path = LIBRARY / f"{text}.toml"
     if not path.is_file():
         known = ", ".join(list_fuels())
         raise InputError(text, f"unknown fuel id; pick one of {known}, or give a .toml path")
-    return _load_path(str(path))
+    return str(path)
 
 
-@memoize(maxsize=None)
-def _load_path(path: str) -> Fuel:
+def _read(path: str) -> dict[str, Any]:
     p = Path(path)
     if not p.is_file():
         raise InputError(path, "no such fuel file; check the path")
     try:
-        data = tomllib.loads(p.read_text(encoding="utf-8"))
+        return tomllib.loads(p.read_text(encoding="utf-8"))
     except (tomllib.TOMLDecodeError, UnicodeDecodeError) as exc:
         raise InputError(path, f"not valid TOML ({exc}); fix the syntax") from None
-    return fuel_from_dict(data, fuel_id=p.stem, where=path)
+
+
+@memoize(maxsize=None)
+def _load_path(path: str) -> Fuel:
+    return fuel_from_dict(_read(path), fuel_id=Path(path).stem, where=path)
+
+
+@dataclass(frozen=True)
+class FuelEntry:
+    """What a fuel file says of itself, checked, without its chemistry (for listings).
+
+    Attributes
+    ----------
+    id : str
+        Library id (the file stem).
+    name : str
+        Human-readable name.
+    is_gas : bool
+        Gaseous at 15 °C and 1 atm.
+    storage : StorageSpec or None
+        On-board storage.
+    """
+
+    id: str
+    name: str
+    is_gas: bool
+    storage: StorageSpec | None
+
+
+def fuel_entry(ref: str | Path) -> FuelEntry:
+    """Read a fuel file's name, state and storage without Cantera (fast; for listings).
+
+    Parameters
+    ----------
+    ref : str or pathlib.Path
+        A library id or a path to a fuel TOML file.
+
+    Returns
+    -------
+    FuelEntry
+
+    Raises
+    ------
+    InputError
+        As :func:`load_fuel` for these fields; the chemistry is checked when the fuel loads.
+    """
+    path = _resolve(ref)
+    fuel_id = Path(path).stem
+    _, name, state, storage = _entry(_read(path), fuel_id, path)
+    return FuelEntry(id=fuel_id, name=name, is_gas=state == "gas", storage=storage)
+
+
+def _entry(data: Mapping[str, Any], fuel_id: str, where: str
+           ) -> tuple[str, str, str, StorageSpec | None]:
+    """Kind, name, state and storage of a fuel file's contents, checked."""
+    kinds = [k for k in ("species", "blend", "pseudo") if k in data]
+    if len(kinds) != 1:
+        raise InputError(where, "needs exactly one of the tables [species], [blend], [pseudo]")
+    name = data.get("name", fuel_id)
+    if not isinstance(name, str):
+        raise InputError(f"{where}: name", "must be a string")
+    state = data.get("state")
+    if state not in ("gas", "liquid"):
+        raise InputError(f"{where}: state", 'must be "gas" or "liquid" (phase at 15 °C, 1 atm)')
+    storage = None
+    if "storage" in data:
+        storage = _storage(_table(data, "storage", where), f"{where}: [storage]", state)
+    return kinds[0], name, state, storage
 
 
 def fuel_from_dict(data: Mapping[str, Any], *, fuel_id: str, where: str) -> Fuel:
@@ -212,16 +283,7 @@ def fuel_from_dict(data: Mapping[str, Any], *, fuel_id: str, where: str) -> Fuel
     -------
     Fuel
     """
-    kinds = [k for k in ("species", "blend", "pseudo") if k in data]
-    if len(kinds) != 1:
-        raise InputError(where, "needs exactly one of the tables [species], [blend], [pseudo]")
-    name = data.get("name", fuel_id)
-    if not isinstance(name, str):
-        raise InputError(f"{where}: name", "must be a string")
-    state = data.get("state")
-    if state not in ("gas", "liquid"):
-        raise InputError(f"{where}: state", 'must be "gas" or "liquid" (phase at 15 °C, 1 atm)')
-    kind = kinds[0]
+    kind, name, state, storage = _entry(data, fuel_id, where)
     table = _table(data, kind, where)
     sources = [(kind, _source(table, f"{where}: [{kind}]"))]
     liquid = None
@@ -229,9 +291,7 @@ def fuel_from_dict(data: Mapping[str, Any], *, fuel_id: str, where: str) -> Fuel
         ltable = _table(data, "liquid", where)
         liquid = _positive(ltable, "density_kg_per_m3", f"{where}: [liquid]")
         sources.append(("liquid", _source(ltable, f"{where}: [liquid]")))
-    storage = None
-    if "storage" in data:
-        storage = _storage(_table(data, "storage", where), f"{where}: [storage]", state)
+    if storage is not None:
         sources.append(("storage", storage.source))
     common = dict(name=name, liquid_density=liquid, storage=storage)
     if kind == "blend":

@@ -4,7 +4,8 @@ Every fuel's chemistry runs in one ideal-gas phase: the 53 species of GRI-Mech 3
 (``gri30.yaml``, which carry the nitrogen chemistry and every major product), plus the fuel's
 own species taken from ``nasa_gas.yaml`` or ``nDodecane_Reitz.yaml``, plus one species per
 pseudo-component. Phases are created once per species set and reused; callers never keep
-state on them between calls.
+state on them between calls. Cantera and numpy are imported on first use, so that reading a
+fuel file's header (``workbench fuels list``) does not load them.
 
 References
 ----------
@@ -17,16 +18,18 @@ from __future__ import annotations
 
 from collections.abc import Iterable
 from dataclasses import dataclass
-
-import cantera as ct
-import numpy as np
+from typing import TYPE_CHECKING
 
 from workbench.core.cache import memoize
+
+if TYPE_CHECKING:
+    import cantera as ct
+    import numpy as np
 
 #: Reference temperature of heating values and enthalpies of formation [K].
 T_REF = 298.15
 #: Reference pressure [Pa].
-P_REF = ct.one_atm
+P_REF = 101325.0  # one standard atmosphere, exact by definition (Cantera's ct.one_atm)
 #: Species databases searched for a name, in order.
 DATABASES = ("gri30.yaml", "nasa_gas.yaml", "nDodecane_Reitz.yaml")
 #: Enthalpy of vaporisation of water at 298.15 K [J/kmol]: hf(H2O, g) - hf(H2O, l)
@@ -59,6 +62,8 @@ class PseudoSpecies:
 
     def to_cantera(self) -> ct.Species:
         """The Cantera species with constant-cp thermo [NASA-free, 200–6000 K]."""
+        import cantera as ct
+
         sp = ct.Species(self.name, dict(self.elements))
         # Entropy only matters for equilibrium shares of the unburnt fuel, which are nil at
         # flame temperatures; 400 kJ/kmol/K is of the order of C8–C16 vapours.
@@ -70,6 +75,8 @@ class PseudoSpecies:
 
 @memoize(maxsize=None, kind="resource")
 def _database(name: str) -> dict[str, ct.Species]:
+    import cantera as ct
+
     if name == "gri30.yaml":
         species = ct.Solution(name, transport_model=None).species()
     else:
@@ -121,6 +128,8 @@ def phase(extra: tuple[str, ...] = (), pseudo: tuple[PseudoSpecies, ...] = ()) -
     species = base_species()
     species += [_database_species(n) for n in extra]
     species += [p.to_cantera() for p in pseudo]
+    import cantera as ct
+
     return ct.Solution(thermo="ideal-gas", species=species)
 
 
@@ -133,6 +142,8 @@ def _database_species(name: str) -> ct.Species:
 
 def atomic_weight(symbol: str) -> float:
     """Atomic weight of an element [kg/kmol]."""
+    import cantera as ct
+
     return ct.Element(symbol).weight
 
 
@@ -143,6 +154,9 @@ def molar_mass(elements: dict[str, float]) -> float:
 
 def standard_enthalpies(gas: ct.Solution, names: Iterable[str]) -> np.ndarray:
     """Standard molar enthalpies at 298.15 K of the named species of ``gas`` [J/kmol]."""
+    import cantera as ct
+    import numpy as np
+
     gas.TP = T_REF, P_REF
     h = gas.standard_enthalpies_RT * ct.gas_constant * T_REF
     return np.array([h[gas.species_index(n)] for n in names])

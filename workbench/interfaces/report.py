@@ -284,5 +284,27 @@ def write_study_report(study: Study, result: StudyResult, path: str | os.PathLik
     pathlib.Path
         The path written.
     """
-    maps = {c.id: read_map(c.engine_map) for c in study.inputs.classes}
-    return write_report(result, path, study_text=study.to_toml(), map_grid=maps)
+    return write_report(result, path, study_text=study.to_toml(), map_grid=_maps(study))
+
+
+def study_report_html(study: Study, result: StudyResult) -> str:
+    """The report of a study's result as text (what :func:`write_study_report` writes).
+
+    Parameters
+    ----------
+    study : Study
+        The study that was run.
+    result : StudyResult
+        Its result.
+
+    Returns
+    -------
+    str
+        The HTML document.
+    """
+    return html_report(result, study_text=study.to_toml(), map_grid=_maps(study))
+
+
+def _maps(study: Study) -> dict[str, EngineMap]:
+    """Each vehicle class's efficiency map, by class id."""
+    return {c.id: read_map(c.engine_map) for c in study.inputs.classes}

@@ -317,13 +317,36 @@ def read_study(path: str | Path) -> Study:
     if not p.is_file():
         raise InputError(str(path), "no such study file; check the path")
     try:
-        data = tomllib.loads(p.read_text(encoding="utf-8"))
-    except (tomllib.TOMLDecodeError, UnicodeDecodeError) as exc:
+        text = p.read_text(encoding="utf-8")
+    except UnicodeDecodeError as exc:
         raise InputError(str(p), f"not valid TOML ({exc}); fix the syntax") from None
+    return parse_study(text, where=str(p), base_dir=p.resolve().parent)
+
+
+def parse_study(text: str, *, where: str, base_dir: Path) -> Study:
+    """Check the text of a study file (read from a file, or from standard input).
+
+    Parameters
+    ----------
+    text : str
+        The TOML text.
+    where : str
+        Name of the file (or ``<stdin>``) that errors name.
+    base_dir : pathlib.Path
+        Folder the study's relative paths are resolved from.
+
+    Returns
+    -------
+    Study
+    """
     try:
-        return Study(data, where=str(p), base_dir=p.resolve().parent)
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(where, f"not valid TOML ({exc}); fix the syntax") from None
+    try:
+        return Study(data, where=where, base_dir=base_dir)
     except InputError as exc:
-        raise InputError(f"{p.name}: {exc.where}", exc.message) from None
+        raise InputError(f"{Path(where).name}: {exc.where}", exc.message) from None
 
 
 def write_study(study: Study, path: str | Path) -> Path:

@@ -8,9 +8,13 @@ from __future__ import annotations
 
 import argparse
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from workbench.core.errors import InputError
-from workbench.models.duty import DutySettings, DutyTrace, duty_stats, read_profile
+from workbench.interfaces.cli import command
+
+if TYPE_CHECKING:
+    from workbench.models.duty import DutySettings
 
 DATA = Path(__file__).resolve().parents[2] / "data"
 
@@ -21,16 +25,31 @@ _DEMOS = {"profile": ("profiles", ".csv"), "vehicle": ("vehicles", ".toml"),
 
 def register(sub: argparse._SubParsersAction) -> None:
     """Add the ``duty`` command group to the top-level parser."""
-    group = sub.add_parser("duty", help="duty profiles: statistics and fuel per km")
-    dsub = group.add_subparsers(dest="duty_command", required=True, parser_class=type(group))
+    group = command(sub, "duty", help="duty profiles: statistics and fuel per km",
+                    description="A fleet's duty as a speed trace or a time-at-mode table: its "
+                    "statistics, and the fuel, energy and CO2 per km of fuels on it.",
+                    example=["workbench duty stats taxi-shift",
+                             "workbench duty fuel taxi-shift --vehicle taxi --map taxi-si-1.8l "
+                             "--fuel gasoline --fuel lpg"])
+    dsub = group.add_subparsers(dest="duty_command", required=True, parser_class=type(group),
+                                metavar="COMMAND")
 
-    p = dsub.add_parser("stats", help="summary statistics of a speed trace")
+    p = command(dsub, "stats", help="summary statistics of a speed trace",
+                description="Distance, duration, mean and top speed, idle share, stops per km "
+                "and positive kinetic energy of a speed trace.",
+                example=["workbench duty stats taxi-shift",
+                         "workbench duty stats my-day.csv --json"])
     p.add_argument("profile", metavar="PROFILE",
                    help=f"demo profile ({', '.join(demo_names('profile'))}) or a CSV path")
     p.add_argument("--json", action="store_true", help="print JSON")
     p.set_defaults(func=_stats)
 
-    p = dsub.add_parser("fuel", help="fuel, energy and CO2 per km of one or more fuels on a duty")
+    p = command(dsub, "fuel", help="fuel, energy and CO2 per km of one or more fuels on a duty",
+                description="Run a duty through a vehicle's road load and an engine's "
+                "efficiency map: fuel, energy and CO2 per km of each fuel, the first being the "
+                "engine's original fuel.",
+                example="workbench duty fuel taxi-shift --vehicle taxi --map taxi-si-1.8l "
+                        "--fuel gasoline --fuel lpg --derate 0.05")
     p.add_argument("profile", metavar="PROFILE", help="demo profile or a trace/mode-table CSV")
     p.add_argument("--vehicle", metavar="V",
                    help=f"demo vehicle ({', '.join(demo_names('vehicle'))}) or a TOML path; "
@@ -89,6 +108,7 @@ def resolve(ref: str, kind: str, option: str) -> Path:
 
 def _stats(args: argparse.Namespace) -> None:
     from workbench.interfaces.cli import print_json
+    from workbench.models.duty import DutyTrace, duty_stats, read_profile
 
     trace = read_profile(resolve(args.profile, "profile", "PROFILE"))
     if not isinstance(trace, DutyTrace):
@@ -111,6 +131,8 @@ def _stats(args: argparse.Namespace) -> None:
 
 
 def _settings(args: argparse.Namespace) -> DutySettings:
+    from workbench.models.duty import DutySettings
+
     options = {"accessory_power": "--accessory-kw", "extra_idle_share": "--extra-idle-share"}
     try:
         return DutySettings(accessory_power=args.accessory_kw * 1e3,
@@ -124,6 +146,7 @@ def _fuel(args: argparse.Namespace) -> None:
     from workbench.core.fuels import load_fuel
     from workbench.interfaces.cli import print_json
     from workbench.models.combustion import fuel_sheet
+    from workbench.models.duty import DutyTrace, read_profile
     from workbench.models.engine import duty_energy, fuel_per_km_for, mode_energy, read_map
     from workbench.models.vehicle import read_vehicle
 

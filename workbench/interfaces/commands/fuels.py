@@ -7,43 +7,61 @@ import json
 from pathlib import Path
 
 from workbench.core.errors import InputError
-from workbench.core.fuels import BASES, blend, list_fuels, load_fuel
-from workbench.interfaces.sheets import SHEET_FIELDS, format_table, fuel_record
+from workbench.core.fuels import BASES, fuel_entry, list_fuels, load_fuel
+from workbench.interfaces.cli import STDIO, command
 from workbench.io.files import write_text_atomic
 
 
 def register(sub: argparse._SubParsersAction) -> None:
     """Add the ``fuels`` command group to the top-level parser."""
-    group = sub.add_parser("fuels", help="fuel library, sheets, blends and comparisons")
+    group = command(sub, "fuels", help="fuel library, sheets, blends and comparisons",
+                    description="The fuel library (fuels/*.toml, format in fuels/README.md): "
+                    "list it, show a fuel's property sheet, compare fuels, mix blends, and "
+                    "size a fuel's on-board storage.",
+                    example=["workbench fuels list", "workbench fuels compare lpg diesel"])
     fsub = group.add_subparsers(dest="fuels_command", required=True,
-                                parser_class=type(group))
+                                parser_class=type(group), metavar="COMMAND")
 
     from workbench.interfaces.commands.storage import register_storage
 
     register_storage(fsub)
 
-    p = fsub.add_parser("list", help="list the fuels in the library")
+    p = command(fsub, "list", help="list the fuels in the library",
+                description="Id, state at 15 °C, storage kind and name of every fuel in the "
+                "library (read from the files' headers, no chemistry).",
+                example=["workbench fuels list", "workbench fuels list --json"])
     p.add_argument("--json", action="store_true", help="print JSON")
     p.set_defaults(func=_list)
 
-    p = fsub.add_parser("show", help="the property sheet of one fuel")
+    p = command(fsub, "show", help="the property sheet of one fuel",
+                description="Heating values, stoichiometry, CO2 per MJ, Wobbe index, "
+                "adiabatic flame and storage figures of one fuel.",
+                example=["workbench fuels show lpg", "workbench fuels show my-fuel.toml --phi 0.9"])
     p.add_argument("fuel", help="library id or path to a fuel .toml file")
     _flame_options(p)
     p.set_defaults(func=_show)
 
-    p = fsub.add_parser("compare", help="the sheets of several fuels side by side")
+    p = command(fsub, "compare", help="the sheets of several fuels side by side",
+                description="The property sheets of several fuels as one table, a column "
+                "per fuel.", example="workbench fuels compare gasoline lpg natural-gas")
     p.add_argument("fuels", nargs="+", metavar="FUEL", help="library ids or .toml paths")
     _flame_options(p)
     p.set_defaults(func=_compare)
 
-    p = fsub.add_parser("blend", help="the sheet of a blend; optionally write it as a fuel file")
+    p = command(fsub, "blend", help="the sheet of a blend; optionally write it as a fuel file",
+                description="Mix library fuels by mole, mass or liquid-volume fraction and "
+                "show the blend's sheet; --write saves it as a [blend] fuel file.",
+                example=["workbench fuels blend propane=0.6 n-butane=0.4 --basis liquid-volume",
+                         "workbench fuels blend propane=0.3 n-butane=0.7 --write winter.toml"])
     p.add_argument("parts", nargs="+", metavar="FUEL=FRACTION",
                    help="parts of the blend, e.g. propane=0.6 n-butane=0.4")
     p.add_argument("--basis", choices=[b.replace("_", "-") for b in BASES], default="mole",
                    help="what the fractions measure (default: mole)")
     p.add_argument("--id", dest="blend_id", help="id of the blend (the file stem when written)")
     p.add_argument("--name", help="name of the blend")
-    p.add_argument("--write", metavar="PATH", help="write the blend as a fuel .toml file")
+    p.add_argument("--write", metavar="PATH",
+                   help=f"write the blend as a fuel .toml file ('{STDIO}': print the file "
+                        "instead of the sheet)")
     _flame_options(p)
     p.set_defaults(func=_blend)
 
@@ -77,6 +95,7 @@ STORED_UNITS = {
 
 
 def _records(fuels: list, args: argparse.Namespace) -> list[dict]:
+    from workbench.interfaces.sheets import fuel_record
     from workbench.models.storage import storage_summary
 
     if args.pressure <= 0:
@@ -95,6 +114,7 @@ def _records(fuels: list, args: argparse.Namespace) -> list[dict]:
 
 def _emit(records: list[dict], args: argparse.Namespace, *, many: bool) -> None:
     from workbench.interfaces.cli import print_json
+    from workbench.interfaces.sheets import SHEET_FIELDS, format_table
 
     if args.json:
         print_json(records if many else records[0])
@@ -107,9 +127,9 @@ def _list(args: argparse.Namespace) -> None:
 
     rows = []
     for fid in list_fuels():
-        fuel = load_fuel(fid)
-        rows.append({"id": fid, "name": fuel.name, "state": "gas" if fuel.is_gas else "liquid",
-                     "storage": fuel.storage.kind if fuel.storage else None})
+        entry = fuel_entry(fid)
+        rows.append({"id": fid, "name": entry.name, "state": "gas" if entry.is_gas else "liquid",
+                     "storage": entry.storage.kind if entry.storage else None})
     if args.json:
         print_json(rows)
         return
@@ -127,6 +147,8 @@ def _compare(args: argparse.Namespace) -> None:
 
 
 def _blend(args: argparse.Namespace) -> None:
+    from workbench.core.fuels import blend
+
     parts: dict[str, float] = {}
     for text in args.parts:
         ref, sep, frac = text.rpartition("=")
@@ -139,6 +161,9 @@ def _blend(args: argparse.Namespace) -> None:
     basis = args.basis.replace("-", "_")
     fuel = blend(parts, basis, id=args.blend_id, name=args.name, where="blend")
     records = _records([fuel], args)
+    if args.write == STDIO:
+        print(blend_file_text(parts, basis, name=fuel.name), end="")
+        return
     if args.write:
         write_blend_file(Path(args.write), parts, basis, name=fuel.name)
     _emit(records, args, many=False)
@@ -158,7 +183,13 @@ def write_blend_file(path: Path, parts: dict[str, float], basis: str, *, name: s
     name : str
         Name written into the file.
     """
-    state = "gas" if load_fuel(next(iter(parts))).is_gas else "liquid"
+    write_text_atomic(path, blend_file_text(parts, basis, name=name), suffix=".toml",
+                      option="--write")
+
+
+def blend_file_text(parts: dict[str, float], basis: str, *, name: str) -> str:
+    """The text of a ``[blend]`` fuel file (see :func:`write_blend_file`)."""
+    state = "gas" if fuel_entry(next(iter(parts))).is_gas else "liquid"
     lines = [
         f"name = {json.dumps(name, ensure_ascii=False)}",
         f'state = "{state}"',
@@ -168,4 +199,4 @@ def write_blend_file(path: Path, parts: dict[str, float], basis: str, *, name: s
         'source = "user blend written by workbench fuels blend"',
     ]
     lines += [f"{json.dumps(ref, ensure_ascii=False)} = {frac!r}" for ref, frac in parts.items()]
-    write_text_atomic(path, "\n".join(lines) + "\n", suffix=".toml", option="--write")
+    return "\n".join(lines) + "\n"

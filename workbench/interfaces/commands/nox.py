@@ -6,9 +6,7 @@ import argparse
 from dataclasses import replace
 
 from workbench.core.errors import InputError
-from workbench.core.fuels import load_fuel
-from workbench.interfaces.sheets import format_table
-from workbench.models.nox import ENGINE_PRESETS, nox_propensity
+from workbench.interfaces.cli import LazyChoices, command
 
 #: Keys of :meth:`workbench.models.nox.NOxPropensity.to_record` shown, with their units.
 NOX_FIELDS: dict[str, str] = {
@@ -41,16 +39,19 @@ _OPTIONS = {
 
 def register(sub: argparse._SubParsersAction) -> None:
     """Add the ``nox`` command to the top-level parser."""
-    p = sub.add_parser(
-        "nox",
+    p = command(
+        sub, "nox",
         help="thermal-NO propensity of a fuel's flame (Zeldovich chemistry, GRI-Mech 3.0)",
         description="Thermal NO formed in a fuel's burnt gas at an engine-like setting, and its "
         "index relative to a baseline fuel. A screening model: see docs/nox.md.",
+        example=["workbench nox lpg --baseline gasoline",
+                 "workbench nox natural-gas --engine lean-burn-gas --rpm 1800 --json"],
     )
     p.add_argument("fuel", help="library id or path to a fuel .toml file")
     p.add_argument("--baseline", help="fuel of index 1 (default: the fuel itself)")
-    p.add_argument("--engine", choices=sorted(ENGINE_PRESETS), default="spark-ignition",
-                   help="engine setting preset (default spark-ignition)")
+    p.add_argument("--engine", choices=LazyChoices(_presets), default="spark-ignition",
+                   metavar="PRESET",
+                   help="engine setting preset: %(choices)s (default spark-ignition)")
     p.add_argument("--compression-ratio", type=float, metavar="R",
                    help="compression ratio (default: the preset's)")
     p.add_argument("--phi", type=float, metavar="X",
@@ -65,8 +66,17 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.set_defaults(func=_run)
 
 
+def _presets() -> list[str]:
+    from workbench.models.nox import ENGINE_PRESETS
+
+    return sorted(ENGINE_PRESETS)
+
+
 def _run(args: argparse.Namespace) -> None:
+    from workbench.core.fuels import load_fuel
     from workbench.interfaces.cli import print_json
+    from workbench.interfaces.sheets import format_table
+    from workbench.models.nox import ENGINE_PRESETS, nox_propensity
 
     changes = {k: getattr(args, k) for k in _OPTIONS if getattr(args, k) is not None}
     if "residence_time" in changes:

@@ -11,6 +11,7 @@ from typing import Any
 
 from workbench.core.errors import InputError
 from workbench.core.fuels import STORAGE_KINDS
+from workbench.interfaces.cli import command
 
 #: Model argument names and the options that set them, for error messages.
 _OPTIONS = {
@@ -33,13 +34,16 @@ def register_storage(fuels_sub: argparse._SubParsersAction) -> None:
     fuels_sub : argparse._SubParsersAction
         The sub-parsers of ``workbench fuels``.
     """
-    p = fuels_sub.add_parser(
-        "storage",
+    p = command(
+        fuels_sub, "storage",
         help="density, energy per litre and kg, tank size for a range, LPG cold start",
         description="A fuel as stored on board at a temperature (and pressure for a "
         "compressed gas): density, energy density of the fuel and of the tank system, tank "
         "size for a range or range of a tank, and for liquefied gases the vapour pressure and "
-        "the temperature below which the tank no longer feeds the engine.",
+        "the temperature below which the tank no longer feeds the engine. Pressurised "
+        "storage is fitted by licensed installers; local codes decide.",
+        example=["workbench fuels storage lpg --temperature -10",
+                 "workbench fuels storage natural-gas --range 400 --energy-per-km 2.6"],
     )
     p.add_argument("fuel", metavar="FUEL", help="library id (lpg, natural-gas, ...) or .toml path")
     p.add_argument("--kind", choices=STORAGE_KINDS, help="storage model (default: the fuel's)")

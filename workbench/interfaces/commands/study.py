@@ -4,14 +4,17 @@ from __future__ import annotations
 
 import argparse
 import math
+import sys
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from workbench.core.errors import InputError
-from workbench.interfaces.sheets import format_table
+from workbench.interfaces.cli import STDIO, add_quiet, command, open_in_browser, progress
 from workbench.io.files import check_target, write_text_atomic
-from workbench.study.results import StudyResult
-from workbench.study.studyfile import DEMO_STUDY, Study, read_study
+
+if TYPE_CHECKING:
+    from workbench.study.results import StudyResult
+    from workbench.study.studyfile import Study
 
 #: Keys of each candidate in ``study run --json``, from the candidates table.
 JSON_KEYS = {
@@ -30,39 +33,85 @@ JSON_KEYS = {
 
 def register(sub: argparse._SubParsersAction) -> None:
     """Add the ``study`` group and the ``demo`` command."""
-    group = sub.add_parser("study", help="check, run and report a study file")
-    ssub = group.add_subparsers(dest="study_command", required=True, parser_class=type(group))
+    group = command(sub, "study", help="check, run and report a study file",
+                    description="A study file (docs/study-file.md) names a fleet, its duties, "
+                    "the baseline and candidate fuels, prices and the programme; check it, "
+                    "run it, or write its HTML report.",
+                    example=["workbench study check my-fleet.toml",
+                             "workbench study report my-fleet.toml -o my-fleet.html --open"])
+    ssub = group.add_subparsers(dest="study_command", required=True, parser_class=type(group),
+                                metavar="COMMAND")
 
-    p = ssub.add_parser("check", help="check a study file and say what it holds")
-    p.add_argument("file", help="study .toml file (docs/study-file.md)")
+    p = command(ssub, "check", help="check a study file and say what it holds",
+                description="Check every value of a study file and the profile, vehicle and "
+                "map files it names; say what it holds. Each error names its key path or file.",
+                example=["workbench study check my-fleet.toml",
+                         "cat my-fleet.toml | workbench study check -"])
+    _file_argument(p)
     p.set_defaults(func=_check)
 
-    p = ssub.add_parser("run", help="run a study: candidates side by side")
-    p.add_argument("file", help="study .toml file")
+    p = command(ssub, "run", help="run a study: candidates side by side",
+                description="Run a study and print the candidates side by side: energy, CO2, "
+                "NOx, cost per km, NPV and payback against the baseline, and the Monte Carlo "
+                "odds.",
+                example=["workbench study run my-fleet.toml --draws 0",
+                         "workbench study run my-fleet.toml --csv results/",
+                         "workbench study run my-fleet.toml --csv - > all-tables.csv"])
+    _file_argument(p)
     _run_options(p)
-    p.add_argument("--csv", metavar="DIR", help="also write every result table as CSV here")
+    p.add_argument("--csv", metavar="DIR",
+                   help=f"also write every result table as CSV here ('{STDIO}': every table "
+                        "to standard output instead of the summary, each after a '# name' line)")
     p.set_defaults(func=_run)
 
-    p = ssub.add_parser("report", help="write the study's self-contained HTML report")
-    p.add_argument("file", help="study .toml file")
-    p.add_argument("-o", "--output", required=True, metavar="HTML", help="report file (.html)")
+    p = command(ssub, "report", help="write the study's self-contained HTML report",
+                description="Run a study and write its report: one HTML file with every chart "
+                "and table, the assumptions, sources and the study file's SHA-256.",
+                example=["workbench study report my-fleet.toml -o my-fleet.html --open",
+                         f"workbench study report my-fleet.toml -o {STDIO} > my-fleet.html"])
+    _file_argument(p)
+    p.add_argument("-o", "--output", required=True, metavar="HTML",
+                   help=f"report file (.html); '{STDIO}' writes it to standard output")
+    _report_options(p)
     _run_options(p)
     p.set_defaults(func=_report)
 
-    p = sub.add_parser("demo", help="run the shipped demo study of a fictional fleet")
+    p = command(sub, "demo", help="run the shipped demo study of a fictional fleet",
+                description="Run the shipped demo study (the fictional port city Kestrel Bay; "
+                "every number is invented) and print its candidates.",
+                example=["workbench demo", "workbench demo -o kestrel-bay.html --open"])
     p.add_argument("-o", "--output", metavar="HTML",
-                   help="also write its HTML report to this file")
+                   help=f"also write its HTML report to this file ('{STDIO}': to standard "
+                        "output, instead of the table)")
+    _report_options(p)
     _run_options(p)
     p.set_defaults(func=_demo)
+
+
+def _file_argument(p: argparse.ArgumentParser) -> None:
+    p.add_argument("file", help=f"study .toml file (docs/study-file.md); '{STDIO}' reads it "
+                   "from standard input (relative paths in it from the working folder)")
+
+
+def _report_options(p: argparse.ArgumentParser) -> None:
+    p.add_argument("--open", action="store_true",
+                   help="open the written report in the web browser")
 
 
 def _run_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--draws", type=int, metavar="N",
                    help="Monte Carlo draws (default: the study's; 0 skips the Monte Carlo)")
     p.add_argument("--json", action="store_true", help="print JSON")
+    add_quiet(p)
 
 
 def _study(path: str) -> Study:
+    from workbench.study.studyfile import parse_study, read_study
+
+    if path == STDIO:
+        from workbench.interfaces.cli import read_text_arg
+
+        return parse_study(read_text_arg(path, "FILE"), where="<stdin>", base_dir=Path.cwd())
     return read_study(path)
 
 
@@ -71,7 +120,7 @@ def _result(study: Study, args: argparse.Namespace) -> StudyResult:
 
     if args.draws is not None and args.draws < 0:
         raise InputError("--draws", f"must be 0 or more, got {args.draws}")
-    return run(study, draws=args.draws)
+    return run(study, draws=args.draws, progress=progress(args))
 
 
 def _check(args: argparse.Namespace) -> None:
@@ -120,6 +169,7 @@ def result_json(result: StudyResult) -> dict[str, Any]:
 
 def _print_result(result: StudyResult, args: argparse.Namespace) -> None:
     from workbench.interfaces.cli import print_json
+    from workbench.interfaces.sheets import format_table
 
     if args.json:
         print_json(result_json(result))
@@ -141,10 +191,17 @@ def _print_result(result: StudyResult, args: argparse.Namespace) -> None:
 
 
 def _run(args: argparse.Namespace) -> None:
-    study = _study(args.file)
-    if args.csv and not Path(args.csv).is_dir():
+    if args.csv == STDIO and args.json:
+        raise InputError("--csv", f"'{STDIO}' and --json both print to standard output; "
+                         "pick one")
+    if args.csv and args.csv != STDIO and not Path(args.csv).is_dir():
         raise InputError("--csv", f"folder {args.csv} does not exist; create it first")
+    study = _study(args.file)
     result = _result(study, args)
+    if args.csv == STDIO:
+        print("\n".join(f"# {name}\n{table.to_csv(index=False)}"
+                        for name, table in result.tables().items()), end="")
+        return
     if args.csv:
         for name, table in result.tables().items():
             write_text_atomic(Path(args.csv) / f"{name}.csv", table.to_csv(index=False),
@@ -152,32 +209,56 @@ def _run(args: argparse.Namespace) -> None:
     _print_result(result, args)
 
 
-def _write_report(study: Study, result: StudyResult, output: str) -> Path:
+def _write_report(study: Study, result: StudyResult, args: argparse.Namespace,
+                  note: str = "") -> None:
+    """Write the report to ``-o`` (or standard output), say so, and open it if asked."""
+    if args.output == STDIO:
+        from workbench.interfaces.report import study_report_html
+
+        sys.stdout.write(study_report_html(study, result))
+        return
     from workbench.interfaces.report import write_study_report
 
-    return write_study_report(study, result, output)
+    path = write_study_report(study, result, args.output)
+    if not (args.json or args.quiet):
+        print(f"report written: {path}{note}")
+    if args.open:
+        open_in_browser(path)
 
 
 def _report(args: argparse.Namespace) -> None:
+    _check_output(args)
     study = _study(args.file)
-    _check_output(args.output)
     result = _result(study, args)
-    path = _write_report(study, result, args.output)
-    if not args.json:
-        print(f"report written: {path}")
+    _write_report(study, result, args)
 
 
-def _check_output(output: str) -> None:
-    check_target(Path(output), suffix=".html", option="-o")
+def _check_output(args: argparse.Namespace) -> None:
+    """Refuse a report target that cannot be written, before any work."""
+    if args.output == STDIO:
+        if args.json:
+            raise InputError("-o", f"'{STDIO}' and --json both print to standard output; "
+                             "pick one")
+        if args.open:
+            raise InputError("--open", "opens a report file; give -o a file name, not "
+                             f"'{STDIO}'")
+        return
+    if args.output is None:
+        if args.open:
+            raise InputError("--open", "needs -o HTML: the report file to write and open")
+        return
+    check_target(Path(args.output), suffix=".html", option="-o")
 
 
 def _demo(args: argparse.Namespace) -> None:
-    if args.output:
-        _check_output(args.output)
+    from workbench.study.studyfile import DEMO_STUDY
+
+    _check_output(args)
     study = _study(str(DEMO_STUDY))
     result = _result(study, args)
-    _print_result(result, args)
+    if args.output != STDIO:
+        _print_result(result, args)
     if args.output:
-        path = _write_report(study, result, args.output)
-        if not args.json:
-            print(f"\nreport written: {path} (fictional demo: every number is invented)")
+        if args.output != STDIO and not (args.json or args.quiet):
+            print()
+        _write_report(study, result, args, " (fictional demo: every number is invented)")
