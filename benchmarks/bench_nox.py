@@ -7,8 +7,8 @@ Run ``python benchmarks/bench_nox.py``. Prints the best of several repeats of
 * the bare Cantera work the sheet cannot avoid, in the same process: per fuel the HP
   equilibria of the flame (two when the charge is diluted: the diluent's and the flame's),
   the NO-free GRI-Mech 3.0 reactor run and the TP equilibrium for the equilibrium NO;
-* their ratio (target at most 1.5) and the warm repeat: the same five results again,
-  served from the cache.
+* their ratio (target at most ``TARGET_RATIO``, 1.2) and the warm repeat: the same five
+  results again, served from the cache.
 """
 
 from __future__ import annotations
@@ -24,6 +24,8 @@ from workbench.models import combustion, nox
 
 FUELS = ("gasoline", "diesel", "lpg", "natural-gas", "hydrogen")
 REPEATS = 7
+#: Goal of issue 10: the cold sheet at most this many times the bare Cantera calls.
+TARGET_RATIO = 1.2
 
 
 def _clear() -> None:
@@ -78,7 +80,7 @@ def main() -> None:
     print(f"NOx sheet, {len(fuels)} fuels, spark-ignition preset (best of {REPEATS})")
     print(f"  cold sheet            {t_cold * 1e3:9.2f} ms")
     print(f"  bare Cantera calls    {t_bare * 1e3:9.2f} ms")
-    print(f"  ratio cold / bare     {t_cold / t_bare:9.2f}   (target <= 1.5)")
+    print(f"  ratio cold / bare     {t_cold / t_bare:9.2f}   (target <= {TARGET_RATIO})")
     per_fuel = t_warm / len(fuels) * 1e6
     print(f"  warm repeat           {t_warm * 1e6:9.1f} us   ({per_fuel:.1f} us per cached result)")
     print(f"  median cold / bare    {np.median(cold) / np.median(bare):9.2f}")
