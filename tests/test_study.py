@@ -181,14 +181,18 @@ SECTION_EDITS = [
     ("escalation.lpg", "300 %"),  # bad: above the range
     ("upstream.lpg.wtt_co2e_g_per_mj", 9.5),
     ("upstream.lpg.wtt_co2e_g_per_mj", -1.0),  # bad
+    ("programme.discount_rate", "6 %"),
+    ("programme.horizon_years", 12),
+    ("programme.horizon_years", 0),  # bad
+    ("programme.carbon_price", "90 per t"),
 ]
 
 
 @pytest.mark.parametrize(("path", "value"), SECTION_EDITS,
                          ids=[f"{p}={v}" for p, v in SECTION_EDITS])
-def test_an_edit_of_prices_checks_like_a_whole_file(demo, path, value):
-    # An edit inside prices/escalation/upstream re-checks those tables alone; the reference is
-    # the full check of the same edited file: same inputs, or the same one-line error.
+def test_an_edit_of_money_tables_checks_like_a_whole_file(demo, path, value):
+    # An edit inside programme/prices/escalation/upstream re-checks those tables alone; the
+    # reference is the full check of the same edited file: same inputs, or the same error.
     data = demo.data
     node, _, key = path.rpartition(".")
     target = data

@@ -254,12 +254,12 @@ class Study:
             node, key = _parent(data, path)
             if isinstance(node, dict):
                 node.pop(key, None)
-        if not touched <= FUEL_SECTIONS:
+        if not touched <= LOCAL_SECTIONS:
             return Study(data, where=self.where, base_dir=self.base_dir)
-        # only prices, escalation or upstream changed: re-check those tables alone
+        # only programme, prices, escalation or upstream changed: re-check those tables alone
         inputs = self.inputs
         fuels = {co.fuel.id: co.fuel for o in inputs.options for co in o.per_class.values()}
-        sections = _fuel_sections(_Reader(data, ""), fuels, inputs.currency, touched)
+        sections = _local_sections(_Reader(data, ""), fuels, inputs.currency, touched)
         study = object.__new__(Study)
         study._data, study.where, study.base_dir = data, self.where, self.base_dir
         study.inputs = _with_uncertain(replace(inputs, **sections))
@@ -529,8 +529,7 @@ def _parse(data: Mapping[str, Any], base_dir: Path) -> StudyInputs:
     currency = top.text("currency")
     if not re.fullmatch(r"[A-Z]{3}", currency):
         raise InputError("currency", f"must be a three-letter code such as EUR, got {currency!r}")
-    prog = _Reader(top.raw("programme"), "programme")
-    horizon = prog.integer("horizon_years", low=1)
+    programme = _local_sections(top, {}, currency, {"programme"})
     classes_raw = top.raw("classes")
     if not isinstance(classes_raw, list) or not classes_raw:
         raise InputError("classes", "needs at least one [[classes]] table")
@@ -553,22 +552,13 @@ def _parse(data: Mapping[str, Any], base_dir: Path) -> StudyInputs:
     if len(set(names)) != len(names):
         raise InputError("candidates", "option names (baseline and candidates) must be unique")
     fuels = {co.fuel.id: co.fuel for o in (baseline, *candidates) for co in o.per_class.values()}
-    sections = _fuel_sections(top, fuels, currency, FUEL_SECTIONS)
+    sections = _local_sections(top, fuels, currency, LOCAL_SECTIONS - {"programme"})
     inputs = StudyInputs(
         title=top.text("title"),
         currency=currency,
         fictional=top.flag("fictional", False),
         notes=str(top.raw("notes", "")),
-        start_year=prog.integer("start_year", 2027, low=1900),
-        horizon_years=horizon,
-        discount_rate=prog.uncertain("discount_rate", _fraction, low=-0.99, high=1.0,
-                                     unit=PERCENT),
-        carbon_price=prog.uncertain("carbon_price", _per_mass("t"), 0.0, low=0.0,
-                                    unit=(f"{currency}/t", 1e3)),
-        nox_damage_cost=prog.uncertain("nox_damage_cost", _per_mass("kg"), 0.0, low=0.0,
-                                       unit=(f"{currency}/kg", 1.0)),
-        draws=prog.integer("monte_carlo_draws", 10_000, low=0),
-        seed=prog.integer("seed", 12345, low=0),
+        **programme,
         classes=classes,
         baseline=baseline,
         candidates=candidates,
@@ -577,15 +567,28 @@ def _parse(data: Mapping[str, Any], base_dir: Path) -> StudyInputs:
     return _with_uncertain(inputs)
 
 
-#: Top-level tables whose values depend only on the study's fuels and currency: an edit
-#: inside them re-checks those tables alone (:meth:`Study.with_values`).
-FUEL_SECTIONS = frozenset({"prices", "escalation", "upstream"})
+#: Top-level tables whose values depend only on the study's fuels and currency (and that no
+#: other table depends on): an edit inside them re-checks those tables alone
+#: (:meth:`Study.with_values`).
+LOCAL_SECTIONS = frozenset({"programme", "prices", "escalation", "upstream"})
 
 
-def _fuel_sections(top: _Reader, fuels: Mapping[str, Fuel], currency: str,
-                   sections: Iterable[str]) -> dict[str, Any]:
-    """Check the named tables of :data:`FUEL_SECTIONS`; StudyInputs fields by name."""
+def _local_sections(top: _Reader, fuels: Mapping[str, Fuel], currency: str,
+                    sections: Iterable[str]) -> dict[str, Any]:
+    """Check the named tables of :data:`LOCAL_SECTIONS`; StudyInputs fields by name."""
     out: dict[str, Any] = {}
+    if "programme" in sections:
+        prog = _Reader(top.raw("programme"), "programme")
+        out["horizon_years"] = prog.integer("horizon_years", low=1)
+        out["start_year"] = prog.integer("start_year", 2027, low=1900)
+        out["discount_rate"] = prog.uncertain("discount_rate", _fraction, low=-0.99, high=1.0,
+                                              unit=PERCENT)
+        out["carbon_price"] = prog.uncertain("carbon_price", _per_mass("t"), 0.0, low=0.0,
+                                             unit=(f"{currency}/t", 1e3))
+        out["nox_damage_cost"] = prog.uncertain("nox_damage_cost", _per_mass("kg"), 0.0,
+                                                low=0.0, unit=(f"{currency}/kg", 1.0))
+        out["draws"] = prog.integer("monte_carlo_draws", 10_000, low=0)
+        out["seed"] = prog.integer("seed", 12345, low=0)
     if "prices" in sections:
         out["prices"] = _prices(_Reader(top.raw("prices"), "prices"), fuels, currency)
     if "escalation" in sections:
