@@ -17,19 +17,17 @@ from numpy.typing import ArrayLike
 
 from workbench.core.cache import memoize
 from workbench.core.errors import InputError
-from workbench.core.fuels import Fuel, load_fuel
+from workbench.core.fuels import Fuel
 from workbench.models.storage.fluids import (
     _celsius,
+    _check_above_freezing,
     _check_pressure,
     _coolprop,
     _critical_temperature,
-    _elementwise,
-    _freezing_limit,
-    _gaseous,
     _heos,
     _Mixture,
-    _mixture,
     _molar_mass,
+    _per_point,
     _pure,
 )
 
@@ -72,22 +70,16 @@ def _gas(mix: _Mixture, temperature: float, pressure: float) -> _GasState:
 
 def _gas_property(fuel: Fuel | str, temperature: ArrayLike, pressure: ArrayLike,
                   read: Callable[[_GasState], float]) -> float | np.ndarray:
-    fuel = _gaseous(load_fuel(fuel))
-    mix = _mixture(fuel)
-
-    def one(t: float, p: float) -> float:
+    def one(mix: _Mixture, fuel: Fuel, t: float, p: float) -> float:
         _check_compressed(mix, fuel, t, p)
         return read(_gas(mix, t, p))
 
-    return _elementwise(one, temperature, pressure)
+    return _per_point(fuel, one, temperature, pressure)
 
 
 def _check_compressed(mix: _Mixture, fuel: Fuel, t: float, p: float) -> None:
     _check_pressure(p)
-    t_freeze = _freezing_limit(mix)
-    if t <= t_freeze:
-        raise InputError("temperature", f"{_celsius(t)} is at or below the freezing point "
-                         f"of a component of {fuel.id} ({_celsius(t_freeze)})")
+    _check_above_freezing(mix, fuel, t)
     t_crit = _critical_temperature(mix)
     if t <= t_crit:
         raise InputError("temperature", f"{_celsius(t)} is below the critical temperature "

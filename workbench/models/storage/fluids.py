@@ -132,7 +132,7 @@ def critical_temperature(fuel: Fuel | str) -> float:
         mixture critical-point search of CoolProp 8.0 took 65 s and then failed for the
         library's natural gas, so it is not used.
     """
-    return _critical_temperature(_mixture(_gaseous(load_fuel(fuel))))
+    return _critical_temperature(_gas_mixture(fuel)[1])
 
 
 def freezing_limit(fuel: Fuel | str) -> float:
@@ -149,7 +149,7 @@ def freezing_limit(fuel: Fuel | str) -> float:
         The highest triple-point temperature among the fuel's components: conservative, since
         a dissolved component freezes out below its own triple point.
     """
-    return _freezing_limit(_mixture(_gaseous(load_fuel(fuel))))
+    return _freezing_limit(_gas_mixture(fuel)[1])
 
 
 def _gaseous(fuel: Fuel) -> Fuel:
@@ -157,6 +157,28 @@ def _gaseous(fuel: Fuel) -> Fuel:
         raise InputError(fuel.id, "is a liquid fuel; vapour pressure and gas storage apply to "
                          "gaseous fuels")
     return fuel
+
+
+def _gas_mixture(fuel: Fuel | str) -> tuple[Fuel, _Mixture]:
+    """A gaseous fuel, loaded, and its CoolProp mixture."""
+    fuel = _gaseous(load_fuel(fuel))
+    return fuel, _mixture(fuel)
+
+
+def _check_above_freezing(mix: _Mixture, fuel: Fuel, t: float) -> None:
+    """Refuse a temperature at or below the freezing point of one of the fuel's components."""
+    t_freeze = _freezing_limit(mix)
+    if t <= t_freeze:
+        raise InputError("temperature", f"{_celsius(t)} is at or below the freezing point "
+                         f"of a component of {fuel.id} ({_celsius(t_freeze)}); use a "
+                         "higher temperature")
+
+
+def _per_point(fuel: Fuel | str, one: Callable[..., float],
+               *conditions: ArrayLike) -> float | np.ndarray:
+    """``one(mix, fuel, *values)`` of a gaseous fuel over broadcast arrays of conditions."""
+    fuel, mix = _gas_mixture(fuel)
+    return _elementwise(lambda *values: one(mix, fuel, *values), *conditions)
 
 
 def _elementwise(func: Callable[..., float], *arrays: ArrayLike) -> float | np.ndarray:

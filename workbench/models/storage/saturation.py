@@ -19,19 +19,19 @@ from scipy.optimize import brentq
 from workbench.core.cache import memoize
 from workbench.core.constants import P_STANDARD
 from workbench.core.errors import InputError
-from workbench.core.fuels import Fuel, load_fuel
+from workbench.core.fuels import Fuel
 from workbench.models.storage.fluids import (
     _celsius,
+    _check_above_freezing,
     _check_pressure,
     _coolprop,
     _critical_temperature,
-    _elementwise,
     _freezing_limit,
-    _gaseous,
+    _gas_mixture,
     _heos,
     _Mixture,
-    _mixture,
     _molar_mass,
+    _per_point,
     _pure,
 )
 
@@ -86,11 +86,7 @@ def _ideal_saturated(mix: _Mixture, temperature: float) -> _Saturation:
 def _check_saturation_temperature(mix: _Mixture, fuel: Fuel, t: float) -> None:
     if not math.isfinite(t):
         return
-    t_freeze = _freezing_limit(mix)
-    if t <= t_freeze:
-        raise InputError("temperature", f"{_celsius(t)} is at or below the freezing point "
-                         f"of a component of {fuel.id} ({_celsius(t_freeze)}); use a "
-                         "higher temperature")
+    _check_above_freezing(mix, fuel, t)
     t_crit = _critical_temperature(mix)
     if t >= t_crit:
         raise InputError("temperature", f"{_celsius(t)} is above the critical "
@@ -98,17 +94,13 @@ def _check_saturation_temperature(mix: _Mixture, fuel: Fuel, t: float) -> None:
                          "stay liquid; use a lower temperature")
 
 
-
 def _saturation_property(fuel: Fuel | str, temperature: ArrayLike,
                          read: Callable[[_Saturation], float]) -> float | np.ndarray:
-    fuel = _gaseous(load_fuel(fuel))
-    mix = _mixture(fuel)
-
-    def one(t: float) -> float:
+    def one(mix: _Mixture, fuel: Fuel, t: float) -> float:
         _check_saturation_temperature(mix, fuel, t)
         return read(_saturated(mix, t))
 
-    return _elementwise(one, temperature)
+    return _per_point(fuel, one, temperature)
 
 
 def vapour_pressure(fuel: Fuel | str, temperature: ArrayLike) -> float | np.ndarray:
@@ -192,9 +184,8 @@ def bubble_temperature(fuel: Fuel | str, pressure: float, *, where: str = "press
     CoolProp's ``PQ_INPUTS`` flash; where it fails, the root of the ideal-solution vapour
     pressure between the freezing limit and the lowest critical temperature of the components.
     """
-    fuel = _gaseous(load_fuel(fuel))
+    fuel, mix = _gas_mixture(fuel)
     _check_pressure(pressure, where)
-    mix = _mixture(fuel)
     t_freeze = _freezing_limit(mix)
     t = _heos_bubble_temperature(mix, pressure)
     if t is None:
@@ -295,8 +286,7 @@ def vapour_pressure_table(
         ``vapour_pressure_gauge_pa`` [Pa], ``liquid_density_kg_per_m3`` [kg/m3],
         ``feeds_engine`` (gauge vapour pressure at least ``feed_pressure``) and ``method``.
     """
-    fuel = _gaseous(load_fuel(fuel))
-    mix = _mixture(fuel)
+    fuel, mix = _gas_mixture(fuel)
     t = np.atleast_1d(np.asarray(temperature, dtype=float)).ravel()
     p = np.atleast_1d(vapour_pressure(fuel, t))
     rho = np.atleast_1d(saturated_liquid_density(fuel, t))
