@@ -73,7 +73,6 @@ __all__ = [
     "ureg",
 ]
 
-
 _POUND = 0.45359237  # [kg], exact (NIST SP 811 B.8)
 _BTU_IT_PER_LB = 2326.0  # [J/kg per Btu_IT/lb], exact by the definition of the IT Btu
 #: Mass of natural gas in one gasoline gallon equivalent, 5.660 lb [kg] (NIST Handbook 44 App. D).
