@@ -157,10 +157,12 @@ def test_study_read_from_standard_input(run_cli, monkeypatch):
     assert code == 0 and out.startswith("ok: -: ") and err == ""
 
 
-def test_standard_input_from_a_terminal_is_refused(run_cli, monkeypatch):
-    monkeypatch.setattr(sys, "stdin", Terminal())
-    code, _, err = run_cli("study", "check", "-")
-    assert code == 2 and "FILE" in err and err.count("\n") == 1
+def test_standard_input_from_a_terminal_or_empty_is_refused(run_cli, monkeypatch):
+    for stdin in (Terminal(), io.StringIO("")):
+        monkeypatch.setattr(sys, "stdin", stdin)
+        code, _, err = run_cli("study", "check", "-")
+        assert code == 2 and "FILE" in err and "standard input" in err
+        assert err.count("\n") == 1
 
 
 @pytest.mark.slow

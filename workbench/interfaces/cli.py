@@ -191,10 +191,13 @@ def read_text_arg(ref: str, option: str) -> str:
     -------
     str
     """
+    hint = "pipe the file in (workbench ... - < file)"
     if sys.stdin is None or sys.stdin.isatty():
-        raise InputError(option, f"'{ref}' reads standard input: pipe the file in "
-                                 "(workbench ... - < file)")
-    return sys.stdin.read()
+        raise InputError(option, f"'{ref}' reads standard input: {hint}")
+    text = sys.stdin.read()
+    if not text.strip():
+        raise InputError(option, f"'{ref}' read nothing from standard input: {hint}")
+    return text
 
 
 def open_in_browser(path: Any) -> None:
