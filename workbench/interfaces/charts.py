@@ -246,14 +246,16 @@ class _Style:
     def colour(self, candidate: str) -> str:
         return self.colours.get(candidate, NEUTRAL)
 
-    def order(self, table: pd.DataFrame) -> list[str]:
-        """Candidates present in ``table``, in the order of the candidates table."""
+    def order(self, table: pd.DataFrame | Iterable[str]) -> list[str]:
+        """Candidates present in ``table`` (or in a list of ids), in the order of the
+        candidates table."""
         return _order(self.names, table)
 
 
-def _order(names: Iterable[str], table: pd.DataFrame) -> list[str]:
-    """Candidates present in ``table``: those of ``names`` in its order, then any others."""
-    present = set(table["candidate"])
+def _order(names: Iterable[str], table: pd.DataFrame | Iterable[str]) -> list[str]:
+    """Candidates present in ``table`` (a table or candidate ids): those of ``names`` in its
+    order, then any others."""
+    present = set(table["candidate"] if isinstance(table, pd.DataFrame) else table)
     known = [c for c in names if c in present]
     return known + sorted(present.difference(known), key=str)
 
@@ -315,12 +317,15 @@ def _facet_titles(values: Iterable[object]) -> tuple[str, ...]:
 # ----------------------------------------------------------------------------- cost and CO2
 
 
-def _class_facets(table: pd.DataFrame) -> tuple[list[str], _Fig]:
-    """Vehicle classes of a per-km table and a figure with one panel per class."""
-    classes = list(dict.fromkeys(table["vehicle_class"]))
-    fig = _Fig(rows=1, cols=len(classes), shared_yaxes=True,
-               subplot_titles=_facet_titles(classes), horizontal_spacing=0.04)
-    return classes, fig
+def _class_facets(table: pd.DataFrame) -> tuple[dict[str, dict[str, dict]], _Fig]:
+    """Rows of a per-km table by vehicle class and candidate (first row of each kept), and
+    a figure with one panel per class."""
+    by_class: dict[str, dict[str, dict]] = {}
+    for row in table.to_dict("records"):
+        by_class.setdefault(row["vehicle_class"], {}).setdefault(row["candidate"], row)
+    fig = _Fig(rows=1, cols=len(by_class), shared_yaxes=True,
+               subplot_titles=_facet_titles(by_class), horizontal_spacing=0.04)
+    return by_class, fig
 
 
 def _cost_per_km(result: StudyResult) -> _Fig:
@@ -329,14 +334,13 @@ def _cost_per_km(result: StudyResult) -> _Fig:
     if table.empty:
         return _no_data(title, "per_km")
     st = _style(result)
-    classes, fig = _class_facets(table)
+    by_class, fig = _class_facets(table)
     parts = {"fuel": "cost_fuel_per_km", "upkeep": "cost_upkeep_per_km",
              "capital": "cost_capital_per_km"}
     shown: set[str] = set()
-    for col, vclass in enumerate(classes, start=1):
-        rows = table[table["vehicle_class"] == vclass].set_index("candidate")
-        for cand in st.order(rows.reset_index()):
-            row = rows.loc[cand]
+    for col, rows in enumerate(by_class.values(), start=1):
+        for cand in st.order(rows):
+            row = rows[cand]
             for part, column in parts.items():
                 fig.add_trace(_bar(
                     x=[st.name(cand)], y=[row[column]], name=st.name(cand),
@@ -377,16 +381,15 @@ def _co2_per_km(result: StudyResult) -> _Fig:
     if table.empty:
         return _no_data(title, "per_km")
     st = _style(result)
-    classes, fig = _class_facets(table)
+    by_class, fig = _class_facets(table)
     kinds = {"tank-to-wheel CO2": ("co2_ttw_g_per_km", ""),
              "well-to-wheel CO2e": ("co2e_wtw_g_per_km", "/")}
     shown: set[str] = set()
-    for col, vclass in enumerate(classes, start=1):
-        rows = table[table["vehicle_class"] == vclass].set_index("candidate")
-        for cand in st.order(rows.reset_index()):
+    for col, rows in enumerate(by_class.values(), start=1):
+        for cand in st.order(rows):
             for kind, (column, shape) in kinds.items():
                 fig.add_trace(_bar(
-                    x=[st.name(cand)], y=[rows.loc[cand, column]], name=st.name(cand),
+                    x=[st.name(cand)], y=[rows[cand][column]], name=st.name(cand),
                     legendgroup=_group(cand), showlegend=cand not in shown, offsetgroup=kind,
                     marker=dict(color=st.colour(cand), pattern=_pattern(shape)),
                     hovertemplate=f"{kind}: %{{y:.1f}} g/km",
@@ -539,23 +542,25 @@ def _cash_flow(result: StudyResult) -> _Fig:
     if table.empty:
         return _no_data(title, "cash_flows")
     st = _style(result)
-    cands = result.candidates.set_index("candidate")
-    baseline = set(cands.index[cands["is_baseline"].astype(bool)])
+    cands = {r["candidate"]: r for r in result.candidates.to_dict("records")}
+    ids, years = _values(table["candidate"]), _values(table["year"])
+    cumulative = _values(table["cumulative_discounted_vs_baseline"])
     fig = _Fig()
     for cand in st.order(table):
-        if cand in baseline:
+        if cand in cands and bool(cands[cand]["is_baseline"]):
             continue
-        d = table[table["candidate"] == cand].sort_values("year")
+        rows = np.flatnonzero(ids == cand)
+        rows = rows[np.argsort(years[rows], kind="stable")]
         common = dict(name=st.name(cand), legendgroup=_group(cand))
         fig.add_trace(_scatter(
-            x=_values(d["year"]), y=_values(d["cumulative_discounted_vs_baseline"]),
+            x=years[rows], y=cumulative[rows],
             mode="lines+markers", line=dict(color=st.colour(cand), width=2),
             marker=dict(size=5),
             hovertemplate=f"year %{{x}}: %{{y:,.0f}} {st.currency}", **common))
-        payback = cands.loc[cand, "discounted_payback_years"] if cand in cands.index else np.nan
+        payback = cands[cand]["discounted_payback_years"] if cand in cands else np.nan
         if np.isfinite(payback):  # counted from the conversion year, the table's first
             fig.add_trace(_scatter(
-                x=[d["year"].iloc[0] + payback], y=[0.0], mode="markers", showlegend=False,
+                x=[years[rows[0]] + payback], y=[0.0], mode="markers", showlegend=False,
                 marker=dict(symbol="star", size=16, color=st.colour(cand),
                             line=dict(color="black", width=1)),
                 customdata=[payback],
