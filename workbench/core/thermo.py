@@ -122,11 +122,11 @@ def phase(extra: tuple[str, ...] = (), pseudo: tuple[PseudoSpecies, ...] = ()) -
     cantera.Solution
         A thermo-only phase (no kinetics). Set its state before each use.
     """
+    import cantera as ct
+
     species = base_species()
     species += [_database_species(n) for n in extra]
     species += [p.to_cantera() for p in pseudo]
-    import cantera as ct
-
     return ct.Solution(thermo="ideal-gas", species=species)
 
 
