@@ -9,7 +9,7 @@ import numpy_financial as npf
 import pytest
 from numpy.testing import assert_allclose
 
-from workbench.core.cache import cache_info
+from workbench.core.cache import cache_info, clear_caches
 from workbench.core.errors import InputError
 from workbench.study.results import check_columns
 from workbench.study.runner import run
@@ -222,3 +222,15 @@ def test_catalyst_life_uncertainty_moves_catalyst_costs(demo):
     assert "[km]" in row["input"]
     # a shorter-lived catalyst is replaced more often: the NPV is lower at the low end
     assert row["npv_at_low"] < row["npv_at_high"]
+
+
+def test_checking_a_study_runs_no_chemistry():
+    # The study file only parses and checks (issue 10): fuel sheets (Cantera) are worked out
+    # when the study runs, not when it is read. A price whose basis does not fit the fuel is
+    # still refused at check time, from the fuel's storage alone.
+    clear_caches()
+    s = read_study("demo")
+    assert cache_info()["workbench.models.combustion._sheet"].misses == 0
+    with pytest.raises(InputError, match="not sold as a liquid"):
+        s.with_value("prices.natural-gas", "1.2 per L")
+    assert cache_info()["workbench.models.combustion._sheet"].misses == 0

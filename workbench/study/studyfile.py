@@ -34,13 +34,12 @@ from workbench.core.fuels import BASES, Fuel, blend, load_fuel
 from workbench.core.units import (
     HEATING_VALUE_MARK,
     Price,
+    check_price_basis,
     parse_price,
     parse_quantity,
-    price_per_energy,
 )
 from workbench.io.files import write_text_atomic
 from workbench.models.aftertreatment import DEVICE_PRESETS, Aftertreatment
-from workbench.models.combustion import fuel_sheet
 from workbench.models.economics import Distribution
 from workbench.models.nox import ENGINE_PRESETS, EngineOutNOx
 
@@ -906,7 +905,8 @@ def _prices(r: _Reader, fuels: Mapping[str, Fuel], currency: str
             return price.value
 
         unc = _uncertain(raw, parse, where, 0.0)
-        price_factor(bases[0], fuels[fid])  # the basis must fit the fuel
+        check_price_basis(bases[0], liquid=sold_as_liquid(fuels[fid]),
+                          gas=fuels[fid].is_gas)  # the basis must fit the fuel
         if bases[0].basis == "energy" and not fuels[fid].is_gas and not any(
                 HEATING_VALUE_MARK.search(b.text) for b in bases):
             raise InputError(where, f"{bases[0].text!r} prices a liquid fuel per energy; "
@@ -920,32 +920,11 @@ def _prices(r: _Reader, fuels: Mapping[str, Fuel], currency: str
     return out
 
 
-def price_factor(price: Price, fuel: Fuel) -> float:
-    """Currency per joule (LHV) of a fuel per unit of the price's value.
-
-    Parameters
-    ----------
-    price : Price
-        The price, on any basis.
-    fuel : Fuel
-        The fuel it is the price of.
-
-    Returns
-    -------
-    float
-        Multiply :attr:`Price.value` by this to get [currency/J].
-
-    Raises
-    ------
-    InputError
-        The basis does not fit the fuel (per L of a compressed gas, per Sm3 of a liquid).
-    """
-    sheet = fuel_sheet(fuel)
-    liquid = fuel.storage is None or fuel.storage.kind in ("liquid", "liquefied")
-    return float(price_per_energy(
-        replace(price, value=1.0), lhv_mass=sheet.lhv_mass,
-        density=fuel.liquid_density if liquid else None,
-        molar_mass=sheet.molar_mass if fuel.is_gas else None, hhv_mass=sheet.hhv_mass))
+def sold_as_liquid(fuel: Fuel) -> bool:
+    """True when the fuel can be priced by liquid volume: stored as a liquid (or no storage
+    given) and with a liquid density."""
+    return fuel.liquid_density is not None and (
+        fuel.storage is None or fuel.storage.kind in ("liquid", "liquefied"))
 
 
 def _upstream(r: _Reader, fuels: Mapping[str, Fuel]) -> tuple[dict[str, Uncertain],

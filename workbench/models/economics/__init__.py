@@ -1,0 +1,66 @@
+"""Money of a programme: finance (discounting, escalation, payback, levelised and abatement
+cost), uncertainty (distributions, sampling, sensitivity) and the programme's cash flows.
+
+Everything is re-exported here, so ``from workbench.models import economics as econ;
+econ.npv(...)`` works whichever module a function lives in.
+"""
+
+from workbench.models.economics.cashflow import (
+    ClassLine,
+    Money,
+    OptionLines,
+    Response,
+    inspection_years,
+    physics_draws,
+    programme_money,
+)
+from workbench.models.economics.finance import (
+    abatement_cost,
+    annuity_factor,
+    capital_recovery_factor,
+    discount_factors,
+    discounted_payback,
+    escalate,
+    levelised_cost,
+    npv,
+    residual_value,
+    simple_payback,
+)
+from workbench.models.economics.uncertainty import (
+    DISTRIBUTION_PARAMETERS,
+    Distribution,
+    probability_payback_within,
+    probability_positive,
+    sample,
+    sample_inputs,
+    summarise,
+    tornado,
+)
+
+__all__ = [
+    "DISTRIBUTION_PARAMETERS",
+    "ClassLine",
+    "Distribution",
+    "Money",
+    "OptionLines",
+    "Response",
+    "abatement_cost",
+    "annuity_factor",
+    "capital_recovery_factor",
+    "discount_factors",
+    "discounted_payback",
+    "escalate",
+    "inspection_years",
+    "levelised_cost",
+    "npv",
+    "physics_draws",
+    "probability_payback_within",
+    "probability_positive",
+    "programme_money",
+    "residual_value",
+    "sample",
+    "sample_inputs",
+    "simple_payback",
+    "summarise",
+    "tornado",
+]
