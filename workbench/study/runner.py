@@ -374,8 +374,9 @@ def _vary(c: FleetClass, co: ClassOption, field: str, value: float
 # ----------------------------------------------------------------------------- money
 
 
-def _money(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> econ.Money:
-    """The programme's money for ``n`` draws of the uncertain inputs (nominal where absent)."""
+def _lines(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> dict[str, econ.OptionLines]:
+    """What the cash flows of each option need, for ``n`` draws of the uncertain inputs
+    (nominal where absent)."""
     inputs = plan.inputs
 
     def val(u: Uncertain) -> np.ndarray:
@@ -402,10 +403,21 @@ def _money(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> econ.Money:
                 tank_inspection_cost=val(co.tank_inspection_cost),
                 tank_inspection_interval=co.tank_inspection_interval, converts=co.converts,
                 conversion_cost=val(co.conversion_cost), downtime_days=val(co.downtime_days),
-                daily_revenue=val(c.daily_revenue), remaining_life_years=c.remaining_life_years))
+                daily_revenue=val(c.daily_revenue), remaining_life_years=c.remaining_life_years,
+                nox_mass=plan.nox_t[o.id, c.id] * 1e3))
         options[o.id] = econ.OptionLines(lines, val(o.programme_capital),
                                          val(o.programme_upkeep_per_year))
-    return econ.programme_money(options, baseline=inputs.baseline.id,
+    return options
+
+
+def _money(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> econ.Money:
+    """The programme's money for ``n`` draws of the uncertain inputs (nominal where absent)."""
+    inputs = plan.inputs
+
+    def val(u: Uncertain) -> np.ndarray:
+        return np.broadcast_to(np.asarray(params.get(u.path, u.nominal), dtype=float), (n,))
+
+    return econ.programme_money(_lines(plan, params, n), baseline=inputs.baseline.id,
                                 rate=val(inputs.discount_rate),
                                 carbon_price=val(inputs.carbon_price),
                                 horizon=inputs.horizon_years, n=n)
@@ -441,17 +453,19 @@ def run(study: Study, *, draws: int | None = None,
     plan = _plan(inputs)
     say("money")
     det = _money(plan, {}, 1)
-    mc: dict[str, np.ndarray] = {}
-    paybacks: dict[str, np.ndarray] = {}
+    draws_of: dict[str, econ.Comparison] = {}
     sensitivity: dict[str, pd.DataFrame] = {}
     if n > 0:
         say(f"Monte Carlo, {n} draws")
-        money = _money(plan, econ.sample_inputs(inputs.uncertain, n, inputs.seed), n)
+        samples = econ.sample_inputs(inputs.uncertain, n, inputs.seed,
+                                     correlation=inputs.correlation)
+        money = _money(plan, samples, n)
         for o in inputs.candidates:
-            mc[o.id], paybacks[o.id] = _npv_and_payback(money, o.id, inputs.baseline.id)
+            draws_of[o.id] = econ.compare(money, o.id, inputs.baseline.id)
             if inputs.uncertain:
                 sensitivity[o.id] = _sensitivity(plan, o.id)
-    result = tables.study_result(study, plan, det, mc, paybacks, sensitivity, n)
+    result = tables.study_result(study, plan, _lines(plan, {}, 1), det, draws_of,
+                                 sensitivity, n)
     say("done")
     return result
 
@@ -462,15 +476,6 @@ def _sensitivity(plan: Plan, option: str) -> pd.DataFrame:
 
     def npv_of(params: dict[str, np.ndarray]) -> np.ndarray:
         n = len(next(iter(params.values())))
-        return _npv_and_payback(_money(plan, params, n), option, base)[0]
+        return econ.compare(_money(plan, params, n), option, base).npv
 
     return econ.tornado(npv_of, plan.inputs.uncertain)
-
-
-def _npv_and_payback(money: econ.Money, option: str, baseline: str
-                     ) -> tuple[np.ndarray, np.ndarray]:
-    """NPV [currency] and discounted payback [year] of an option against the baseline, per
-    draw."""
-    diff = money.cash[option] - money.cash[baseline]
-    return (np.asarray(econ.npv(money.rate, diff)).reshape(-1),
-            np.asarray(econ.discounted_payback(money.rate, diff)).reshape(-1))

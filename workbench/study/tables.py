@@ -23,9 +23,9 @@ if TYPE_CHECKING:
 FLAME_PHI = (0.7, 0.8, 0.9, 1.0, 1.1, 1.2, 1.3)
 
 
-def study_result(study: Study, plan: Plan, det: econ.Money, mc: Mapping[str, np.ndarray],
-                 paybacks: Mapping[str, np.ndarray], sensitivity: Mapping[str, pd.DataFrame],
-                 draws: int) -> StudyResult:
+def study_result(study: Study, plan: Plan, lines: Mapping[str, econ.OptionLines],
+                 det: econ.Money, draws: Mapping[str, econ.Comparison],
+                 sensitivity: Mapping[str, pd.DataFrame], n: int) -> StudyResult:
     """Lay a run's plan and money out as a :class:`StudyResult`.
 
     Parameters
@@ -34,15 +34,15 @@ def study_result(study: Study, plan: Plan, det: econ.Money, mc: Mapping[str, np.
         The study run.
     plan : Plan
         Its physics.
+    lines : mapping of str to OptionLines
+        What the nominal cash flows of each option were built from (one draw).
     det : Money
         The deterministic money (one draw at the nominal inputs).
-    mc : mapping of str to ndarray
-        NPV vs baseline of each draw, by candidate [currency]; empty without Monte Carlo.
-    paybacks : mapping of str to ndarray
-        Payback of each draw, by candidate [year].
+    draws : mapping of str to Comparison
+        Each candidate against the baseline over the Monte Carlo draws; empty without them.
     sensitivity : mapping of str to DataFrame
         :func:`workbench.models.economics.tornado` of the NPV, by candidate.
-    draws : int
+    n : int
         Monte Carlo draws.
 
     Returns
@@ -51,22 +51,22 @@ def study_result(study: Study, plan: Plan, det: econ.Money, mc: Mapping[str, np.
     """
     inputs = plan.inputs
     colours = {o.id: PALETTE[i % len(PALETTE)] for i, o in enumerate(inputs.options)}
-    per_km = _frame("per_km", _per_km_rows(plan, det))
+    per_km = _frame("per_km", _per_km_rows(plan, lines, det))
     return StudyResult(
         title=inputs.title,
         currency=inputs.currency,
-        candidates=_candidates_table(plan, det, per_km, mc, paybacks, colours),
+        candidates=_candidates_table(plan, det, per_km, draws, colours),
         per_km=per_km,
         cash_flows=_cash_flow_table(plan, det),
         fleet_years=_fleet_years_table(plan, det),
         nox_monthly=_nox_monthly_table(plan),
         storage=_storage_table(plan),
-        monte_carlo=_monte_carlo_table(mc),
+        monte_carlo=_monte_carlo_table({k: v.npv for k, v in draws.items()}),
         tornado=_tornado_table(plan, sensitivity),
         operating_points=_operating_points_table(plan),
         flame=_flame_table(plan),
         catalyst=_catalyst_table(plan),
-        assumptions=_assumptions(study, draws),
+        assumptions=_assumptions(study, n),
         sources=_sources(inputs),
     )
 
@@ -79,46 +79,32 @@ def _frame(name: str, rows: list[dict]) -> pd.DataFrame:
     return pd.DataFrame(rows, columns=list(COLUMNS[name])) if rows else _empty(name)
 
 
-def _per_km_rows(plan: Plan, det: econ.Money) -> list[dict]:
+def _per_km_rows(plan: Plan, lines: Mapping[str, econ.OptionLines],
+                 det: econ.Money) -> list[dict]:
     inputs = plan.inputs
     rate = float(det.rate[0])
+    carbon = inputs.carbon_price.nominal
     rows = []
     for o in inputs.options:
-        for c in inputs.classes:
+        for c, line in zip(inputs.classes, lines[o.id].classes, strict=True):
             co = o.per_class[c.id]
             ph = plan.physics[o.id, c.id]
-            km_m = c.km_per_year.nominal
-            fid = co.fuel.id
-            price = inputs.prices[fid][1].nominal * plan.price_factor[fid]
-            co2e_m = (inputs.upstream[fid].nominal * ph.fuel_energy_per_m
+            cost = econ.cost_per_m(line, rate=rate, carbon_price=carbon)
+            co2e_m = (inputs.upstream[co.fuel.id].nominal * ph.fuel_energy_per_m
                       + ph.tailpipe_co2e_per_m)
-            run_years = int(plan.active[c.id].sum())
-            cat_year = plan.catalyst_cost[o.id, c.id].sum() / max(run_years, 1) / c.count
-            inspections = econ.inspection_years(co.tank_inspection_interval,
-                                                inputs.horizon_years)
-            cat_year += (co.tank_inspection_cost.nominal
-                         * float((inspections * plan.active[c.id]).sum()) / max(run_years, 1))
-            fuel_cost = ph.fuel_energy_per_m * price + co2e_m * inputs.carbon_price.nominal
-            upkeep = (c.upkeep_per_year.nominal + co.upkeep_change_per_year.nominal
-                      + cat_year) / km_m
-            capital = 0.0
-            if co.converts:
-                crf = float(econ.capital_recovery_factor(rate, c.remaining_life_years))
-                capital = co.conversion_cost.nominal * crf / km_m
-            nox_mean = float(ph.monthly["tailpipe_g_per_km"].mean())
             rows.append({
-                "candidate": o.id, "vehicle_class": c.id, "fuel": fid,
+                "candidate": o.id, "vehicle_class": c.id, "fuel": co.fuel.id,
                 "fuel_energy_mj_per_km": ph.fuel_energy_per_m * 1e-3,
                 "fuel_l_per_100km": ph.fuel_volume_per_m * 1e8,
                 "fuel_kg_per_100km": ph.fuel_mass_per_m * 1e5,
                 "co2_ttw_g_per_km": ph.co2_ttw_per_m * 1e6,
                 "co2e_wtw_g_per_km": co2e_m * 1e6,
                 "nox_engine_out_g_per_km": ph.engine_out_nox_per_m * 1e6,
-                "nox_g_per_km": nox_mean,
-                "cost_fuel_per_km": fuel_cost * 1e3,
-                "cost_upkeep_per_km": upkeep * 1e3,
-                "cost_capital_per_km": capital * 1e3,
-                "cost_per_km": (fuel_cost + upkeep + capital) * 1e3,
+                "nox_g_per_km": float(ph.monthly["tailpipe_g_per_km"].mean()),
+                "cost_fuel_per_km": cost["fuel"] * 1e3,
+                "cost_upkeep_per_km": cost["upkeep"] * 1e3,
+                "cost_capital_per_km": cost["capital"] * 1e3,
+                "cost_per_km": (cost["fuel"] + cost["upkeep"] + cost["capital"]) * 1e3,
                 "share_out_of_map": ph.share_out_of_map,
                 "share_full_load": ph.share_full_load,
             })
@@ -126,15 +112,15 @@ def _per_km_rows(plan: Plan, det: econ.Money) -> list[dict]:
 
 
 def _candidates_table(plan: Plan, det: econ.Money, per_km: pd.DataFrame,
-                      mc: Mapping[str, np.ndarray], paybacks: Mapping[str, np.ndarray],
+                      draws: Mapping[str, econ.Comparison],
                       colours: Mapping[str, str]) -> pd.DataFrame:
     inputs = plan.inputs
     per_km = per_km.copy()
     weights = {c.id: c.count * c.km_per_year.nominal for c in inputs.classes}
     per_km["w"] = per_km["vehicle_class"].map(weights)
-    rate = det.rate[0]
     base = inputs.baseline.id
     h = inputs.horizon_years
+    nan = float("nan")
     rows = []
     for o in inputs.options:
         sub = per_km[per_km["candidate"] == o.id]
@@ -142,36 +128,33 @@ def _candidates_table(plan: Plan, det: econ.Money, per_km: pd.DataFrame,
         def avg(col: str, _sub: pd.DataFrame = sub) -> float:
             return float(np.average(_sub[col], weights=_sub["w"]))
 
-        diff = det.cash[o.id][0] - det.cash[base][0]
-        is_base = o.is_baseline
-        nox_year = sum(plan.nox_t[o.id, c.id] for c in inputs.classes) * 1e3
-        nox_base = sum(plan.nox_t[base, c.id] for c in inputs.classes) * 1e3
-        draws = mc.get(o.id)
-        pct = np.percentile(draws, [10, 50, 90]) if draws is not None else [np.nan] * 3
+        vs = None if o.is_baseline else econ.compare(det, o.id, base)
+        mc = draws.get(o.id)
+        pct = np.percentile(mc.npv, [10, 50, 90]) if mc is not None else [nan] * 3
         rows.append({
             "candidate": o.id, "name": o.name,
             "fuel": "/".join(dict.fromkeys(co.fuel.id for co in o.per_class.values())),
-            "is_baseline": is_base, "colour": colours[o.id],
+            "is_baseline": o.is_baseline, "colour": colours[o.id],
             "fuel_energy_mj_per_km": avg("fuel_energy_mj_per_km"),
             "co2_ttw_g_per_km": avg("co2_ttw_g_per_km"),
             "co2e_wtw_g_per_km": avg("co2e_wtw_g_per_km"),
             "nox_g_per_km": avg("nox_g_per_km"),
             "cost_per_km": avg("cost_per_km"),
-            "levelised_cost_per_km": float(econ.levelised_cost(rate, det.costs[o.id][0],
-                                                               det.km[0])) * 1e3,
-            "npv_vs_baseline": np.nan if is_base else float(econ.npv(rate, diff)),
-            "payback_years": np.nan if is_base else float(econ.simple_payback(diff)),
-            "discounted_payback_years": np.nan if is_base else float(
-                econ.discounted_payback(rate, diff)),
-            "cost_per_t_co2e_avoided": np.nan if is_base else float(econ.abatement_cost(
-                rate, det.costs[o.id][0] - det.costs[base][0],
-                det.co2e[base][0] - det.co2e[o.id][0])) * 1e3,
-            "cost_per_kg_nox_avoided": np.nan if is_base else float(econ.abatement_cost(
-                rate, det.costs[o.id][0] - det.costs[base][0], nox_base - nox_year)),
-            "p_npv_positive": np.nan if draws is None else float(
-                econ.probability_positive(draws)),
-            "p_payback_within_horizon": np.nan if draws is None else float(
-                econ.probability_payback_within(paybacks[o.id], h)),
+            "levelised_cost_per_km": float(econ.levelised_cost_per_m(det, o.id)[0]) * 1e3,
+            "npv_vs_baseline": nan if vs is None else float(vs.npv[0]),
+            "payback_years": nan if vs is None else float(vs.simple_payback[0]),
+            "discounted_payback_years": nan if vs is None else float(vs.discounted_payback[0]),
+            "co2e_avoided_t": nan if vs is None else float(vs.co2e_avoided[0]) * 1e-3,
+            "raises_co2e": False if vs is None else bool(vs.co2e_avoided[0] < 0),
+            "cost_per_t_co2e_avoided": nan if vs is None else float(
+                vs.cost_per_kg_co2e_avoided[0]) * 1e3,
+            "nox_avoided_kg": nan if vs is None else float(vs.nox_avoided[0]),
+            "raises_nox": False if vs is None else bool(vs.nox_avoided[0] < 0),
+            "cost_per_kg_nox_avoided": nan if vs is None else float(
+                vs.cost_per_kg_nox_avoided[0]),
+            "p_npv_positive": nan if mc is None else float(econ.probability_positive(mc.npv)),
+            "p_discounted_payback_within_horizon": nan if mc is None else float(
+                econ.probability_payback_within(mc.discounted_payback, h)),
             "npv_p10": pct[0], "npv_p50": pct[1], "npv_p90": pct[2],
         })
     return _frame("candidates", rows)
@@ -323,6 +306,9 @@ def _assumptions(study: Study, draws: int) -> dict[str, str]:
                            "shown beside each device's own policy; not in the NPV",
         "Monte Carlo": f"{draws} draws, seed {i.seed}; uncertain inputs: "
                        f"{', '.join(i.uncertain) or 'none'}",
+        "correlations": _correlation_text(i),
+        "normal distributions": "cut to each input's range (no price, distance or cost draws "
+                                "below 0); the nominal is the mean of the cut distribution",
         "input hash": study.digest(),
         "uncertain physics inputs": "evaluated at P1, P10, P30, P50, P70, P90 and P99 and "
                                     "interpolated per draw; effects of several such inputs "
@@ -333,6 +319,16 @@ def _assumptions(study: Study, draws: int) -> dict[str, str]:
                                              "vehicles are outside the study)",
     }
     return out
+
+
+def _correlation_text(inputs: StudyInputs) -> str:
+    """The correlations of the uncertain inputs as text (Gaussian copula)."""
+    corr = inputs.correlation
+    if corr is None:
+        return "none: uncertain inputs drawn independently"
+    pairs = [f"{a} ~ {b} {corr.matrix[i][j]:g}" for i, a in enumerate(corr.names)
+             for j, b in enumerate(corr.names) if j > i and corr.matrix[i][j] != 0.0]
+    return "Gaussian copula over each input's own distribution: " + "; ".join(pairs)
 
 
 def _sources(inputs: StudyInputs) -> dict[str, str]:

@@ -7,10 +7,15 @@ econ.npv(...)`` works whichever module a function lives in.
 
 from workbench.models.economics.cashflow import (
     ClassLine,
+    Comparison,
     Money,
     OptionLines,
     Response,
+    compare,
+    cost_per_m,
     inspection_years,
+    levelised_cost_per_m,
+    net_cost,
     physics_draws,
     programme_money,
 )
@@ -28,6 +33,7 @@ from workbench.models.economics.finance import (
 )
 from workbench.models.economics.uncertainty import (
     DISTRIBUTION_PARAMETERS,
+    Correlation,
     Distribution,
     probability_payback_within,
     probability_positive,
@@ -40,6 +46,8 @@ from workbench.models.economics.uncertainty import (
 __all__ = [
     "DISTRIBUTION_PARAMETERS",
     "ClassLine",
+    "Comparison",
+    "Correlation",
     "Distribution",
     "Money",
     "OptionLines",
@@ -47,11 +55,15 @@ __all__ = [
     "abatement_cost",
     "annuity_factor",
     "capital_recovery_factor",
+    "compare",
+    "cost_per_m",
     "discount_factors",
     "discounted_payback",
     "escalate",
     "inspection_years",
     "levelised_cost",
+    "levelised_cost_per_m",
+    "net_cost",
     "npv",
     "physics_draws",
     "probability_payback_within",

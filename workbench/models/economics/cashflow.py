@@ -19,14 +19,29 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.typing import ArrayLike
 
-from workbench.models.economics.finance import FloatArray, escalate, residual_value
+from workbench.models.economics.finance import (
+    FloatArray,
+    abatement_cost,
+    capital_recovery_factor,
+    discounted_payback,
+    escalate,
+    levelised_cost,
+    npv,
+    residual_value,
+    simple_payback,
+)
 
 __all__ = [
     "ClassLine",
+    "Comparison",
     "Money",
     "OptionLines",
     "Response",
+    "compare",
+    "cost_per_m",
     "inspection_years",
+    "levelised_cost_per_m",
+    "net_cost",
     "physics_draws",
     "programme_money",
 ]
@@ -194,6 +209,8 @@ class ClassLine:
     remaining_life_years : int
         Years the vehicles run from now; the conversion keeps value in proportion to the life
         left after the horizon (:func:`residual_value`, straight line).
+    nox_mass : numpy.ndarray
+        Fleet tailpipe NOx by year at the nominal distance, shape (H+1,) [kg].
     """
 
     count: int
@@ -214,6 +231,7 @@ class ClassLine:
     downtime_days: ArrayLike
     daily_revenue: ArrayLike
     remaining_life_years: int
+    nox_mass: np.ndarray
 
 
 @dataclass(frozen=True)
@@ -255,6 +273,8 @@ class Money:
         Fleet distance by year, shape (n, H+1) [m].
     co2e : dict of str to ndarray
         Well-to-wheel CO2e by option, shape (n, H+1) [kg].
+    nox : dict of str to ndarray
+        Fleet tailpipe NOx by option at the nominal distance, shape (H+1,) [kg].
     rate : ndarray
         Discount rate per draw, shape (n,).
     """
@@ -265,6 +285,7 @@ class Money:
     cash: dict[str, np.ndarray]
     km: np.ndarray
     co2e: dict[str, np.ndarray]
+    nox: dict[str, np.ndarray]
     rate: np.ndarray
 
 
@@ -316,12 +337,13 @@ def programme_money(options: Mapping[str, OptionLines], *, baseline: str, rate: 
     rate_n = np.broadcast_to(np.asarray(rate, dtype=float), (n,))
     carbon = _column(carbon_price, n)
     km_total = np.zeros((n, horizon + 1))
-    costs, residuals, carbons, cash, co2e = {}, {}, {}, {}, {}
+    costs, residuals, carbons, cash, co2e, nox = {}, {}, {}, {}, {}, {}
     for oid, option in options.items():
         cost = np.zeros((n, horizon + 1))
         residual = np.zeros((n, horizon + 1))
         paid = np.zeros((n, horizon + 1))
         emissions = np.zeros((n, horizon + 1))
+        nox_mass = np.zeros(horizon + 1)
         any_active = np.zeros(horizon + 1)
         for c in option.classes:
             act = c.active
@@ -334,6 +356,7 @@ def programme_money(options: Mapping[str, OptionLines], *, baseline: str, rate: 
             co2e_m = (_column(c.upstream_co2e_per_j, n) * energy
                       + _column(np.asarray(c.tailpipe_co2e_per_m).reshape(-1), n))
             emissions += km * co2e_m
+            nox_mass = nox_mass + c.nox_mass
             price = escalate(np.broadcast_to(np.asarray(c.price_per_j, dtype=float), (n,)),
                              np.broadcast_to(np.asarray(c.escalation, dtype=float), (n,)),
                              years)
@@ -356,4 +379,162 @@ def programme_money(options: Mapping[str, OptionLines], *, baseline: str, rate: 
         costs[oid], residuals[oid], carbons[oid] = cost, residual, paid
         cash[oid] = residual - cost
         co2e[oid] = emissions
-    return Money(costs, residuals, carbons, cash, km_total, co2e, rate_n)
+        nox[oid] = nox_mass
+    return Money(costs, residuals, carbons, cash, km_total, co2e, nox, rate_n)
+
+
+def net_cost(money: Money, option: str, *, carbon: bool = True) -> np.ndarray:
+    """An option's yearly net cost: costs minus residual value, the negative of its cash flow.
+
+    Parameters
+    ----------
+    money : Money
+        The programme's money.
+    option : str
+        Option id.
+    carbon : bool, optional
+        Keep the carbon payments in (the NPV's cost, the default) or take them out (the cost
+        an abatement cost divides, which must not pay for the carbon it avoids).
+
+    Returns
+    -------
+    numpy.ndarray
+        Shape (n, H+1) [currency].
+    """
+    cost = money.costs[option] - money.residual[option]
+    return cost if carbon else cost - money.carbon[option]
+
+
+def levelised_cost_per_m(money: Money, option: str) -> FloatArray:
+    """Levelised cost of an option: PV of its net cost (residual credited) over PV of distance.
+
+    Parameters
+    ----------
+    money : Money
+        The programme's money.
+    option : str
+        Option id.
+
+    Returns
+    -------
+    numpy.ndarray
+        Per draw, shape (n,) [currency/m].
+
+    Notes
+    -----
+    ``LC = sum_t (C_t - V_t) (1+r)^-t / sum_t D_t (1+r)^-t``: the costs ``C`` (carbon
+    payments in) less the residual value ``V`` at the horizon, as in the NPV.
+    """
+    return np.asarray(levelised_cost(money.rate, net_cost(money, option), money.km)).reshape(-1)
+
+
+@dataclass(frozen=True)
+class Comparison:
+    """A candidate against the baseline, one value per draw (shape (n,)).
+
+    Attributes
+    ----------
+    npv : numpy.ndarray
+        NPV of the candidate's cash flows minus the baseline's [currency].
+    simple_payback, discounted_payback : numpy.ndarray
+        Undiscounted and discounted payback of that difference [year]; NaN when not within
+        the horizon.
+    co2e_avoided, nox_avoided : numpy.ndarray
+        Baseline's well-to-wheel CO2e (tailpipe NOx) minus the candidate's over the programme,
+        undiscounted [kg]; negative when the candidate raises it.
+    cost_per_kg_co2e_avoided, cost_per_kg_nox_avoided : numpy.ndarray
+        Abatement cost [currency/kg]; NaN when nothing is avoided (see ``co2e_avoided``).
+    """
+
+    npv: np.ndarray
+    simple_payback: np.ndarray
+    discounted_payback: np.ndarray
+    co2e_avoided: np.ndarray
+    nox_avoided: np.ndarray
+    cost_per_kg_co2e_avoided: np.ndarray
+    cost_per_kg_nox_avoided: np.ndarray
+
+
+def compare(money: Money, option: str, baseline: str) -> Comparison:
+    """NPV, paybacks, emissions avoided and abatement costs of a candidate against the baseline.
+
+    Parameters
+    ----------
+    money : Money
+        The programme's money.
+    option, baseline : str
+        Option ids.
+
+    Returns
+    -------
+    Comparison
+
+    Notes
+    -----
+    With ``CF`` the cash flows (residual value minus costs) and ``P`` the carbon payments:
+
+    - ``NPV = sum_t (CF_cand - CF_base)_t (1+r)^-t``;
+    - the abatement cost divides the NPV's own net cost difference, without the carbon
+      payments, by the discounted emission avoided ``A_t = E_base,t - E_cand,t``:
+      ``(sum_t ((C - V - P)_cand - (C - V - P)_base)_t (1+r)^-t) / sum_t A_t (1+r)^-t``,
+      defined when the denominator is positive.
+    """
+    rate = money.rate
+    diff = money.cash[option] - money.cash[baseline]
+    extra = net_cost(money, option, carbon=False) - net_cost(money, baseline, carbon=False)
+    co2e = money.co2e[baseline] - money.co2e[option]
+    nox = np.broadcast_to(money.nox[baseline] - money.nox[option], diff.shape)
+
+    def flat(x: ArrayLike) -> np.ndarray:
+        return np.asarray(x, dtype=float).reshape(-1)
+
+    return Comparison(
+        npv=flat(npv(rate, diff)), simple_payback=flat(simple_payback(diff)),
+        discounted_payback=flat(discounted_payback(rate, diff)),
+        co2e_avoided=flat(co2e.sum(axis=-1)), nox_avoided=flat(nox.sum(axis=-1)),
+        cost_per_kg_co2e_avoided=flat(abatement_cost(rate, extra, co2e)),
+        cost_per_kg_nox_avoided=flat(abatement_cost(rate, extra, nox)))
+
+
+def cost_per_m(line: ClassLine, *, rate: float, carbon_price: float) -> dict[str, float]:
+    """Cost per distance of one option on one class in year 1, by item, at nominal values.
+
+    Parameters
+    ----------
+    line : ClassLine
+        The option-class, one draw (nominal).
+    rate : float
+        Discount rate [-], for the capital recovery factor.
+    carbon_price : float
+        [currency/kg CO2e].
+
+    Returns
+    -------
+    dict of str to float
+        ``fuel``: fuel at today's prices plus the carbon payment on its well-to-wheel CO2e;
+        ``upkeep``: upkeep per vehicle-year, with catalysts, reductant and tank inspections
+        averaged over the years the class runs; ``capital``: the conversion (capital and
+        downtime) as a level yearly payment over the class's remaining life (capital recovery
+        factor at the discount rate); all per distance [currency/m]. Programme capital and
+        upkeep (option-wide) and the residual value are not in it; the NPV and the levelised
+        cost carry them.
+    """
+    def one(x: ArrayLike) -> float:
+        return float(np.asarray(x, dtype=float).reshape(-1)[0])
+
+    km = one(line.km_per_year)
+    energy = one(line.fuel_energy_per_m)
+    co2e_m = one(line.upstream_co2e_per_j) * energy + one(line.tailpipe_co2e_per_m)
+    run_years = max(float(line.active.sum()), 1.0)
+    horizon = len(line.active) - 1
+    catalyst = float(np.asarray(line.catalyst_cost).reshape(-1, horizon + 1)[0].sum())
+    inspections = float((inspection_years(line.tank_inspection_interval, horizon)
+                         * line.active).sum())
+    upkeep_year = (one(line.upkeep_per_year) + catalyst / line.count / run_years
+                   + one(line.tank_inspection_cost) * inspections / run_years)
+    capital = 0.0
+    if line.converts:
+        outlay = one(line.conversion_cost) + one(line.downtime_days) * one(line.daily_revenue)
+        capital = outlay * float(capital_recovery_factor(rate, line.remaining_life_years)) / km
+    return {"fuel": energy * one(line.price_per_j) + co2e_m * carbon_price,
+            "upkeep": upkeep_year / km, "capital": capital}

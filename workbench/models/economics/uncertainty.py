@@ -12,13 +12,14 @@ from typing import Literal
 import numpy as np
 import pandas as pd
 from numpy.typing import ArrayLike
-from scipy.special import ndtri
+from scipy.special import ndtr, ndtri
 
 from workbench.core.errors import InputError
 from workbench.models.economics.finance import FloatArray, _out
 
 __all__ = [
     "DISTRIBUTION_PARAMETERS",
+    "Correlation",
     "Distribution",
     "probability_payback_within",
     "probability_positive",
@@ -51,6 +52,11 @@ class Distribution:
         input itself (for the lognormal, ``mean > 0``).
     value, low, mode, high, mean, sd : float or None
         In the input's own unit.
+    lower, upper : float or None
+        Range of the input [input unit]: a ``normal`` distribution is truncated to it (its
+        quantile function renormalised over the range, so no draw leaves it; a price, a
+        distance or a cost cannot draw below 0). The study file sets them from each input's
+        valid range; other kinds must lie within it already.
     where : str
         Key path used in error messages (``"uncertainty.diesel_price"``).
 
@@ -68,6 +74,8 @@ class Distribution:
     high: float | None = None
     mean: float | None = None
     sd: float | None = None
+    lower: float | None = None
+    upper: float | None = None
     where: str = field(default="distribution", compare=False)
 
     def __post_init__(self) -> None:
@@ -98,6 +106,12 @@ class Distribution:
             )
         if self.sd is not None and self.sd < 0:
             raise InputError(f"{w}.sd", f"sd ({self.sd}) must be zero or positive")
+        if (self.lower is not None and self.upper is not None
+                and not self.lower < self.upper):
+            raise InputError(w, f"range {self.lower}..{self.upper} is empty")
+        if self.kind == "normal" and not self._in_range(self.mean):  # type: ignore[arg-type]
+            raise InputError(f"{w}.mean", f"mean ({self.mean}) lies outside the input's "
+                             f"range {self.lower}..{self.upper}")
         if self.kind == "lognormal" and self.mean <= 0:  # type: ignore[operator]
             raise InputError(
                 f"{w}.mean",
@@ -124,7 +138,7 @@ class Distribution:
             return cls("fixed", value=float(spec), where=where)
         if not isinstance(spec, Mapping):
             raise InputError(where, f"expected a number or a table with 'kind', got {spec!r}")
-        names = {f.name for f in fields(cls)} - {"where"}
+        names = {f.name for f in fields(cls)} - {"where", "lower", "upper"}
         unknown = set(spec) - names
         if unknown:
             raise InputError(
@@ -135,6 +149,24 @@ class Distribution:
             kinds = ", ".join(DISTRIBUTION_PARAMETERS)
             raise InputError(f"{where}.kind", f"missing; use one of {kinds}")
         return cls(**spec, where=where)  # type: ignore[arg-type]
+
+    def _in_range(self, x: float) -> bool:
+        return ((self.lower is None or x >= self.lower)
+                and (self.upper is None or x <= self.upper))
+
+    @property
+    def truncated(self) -> bool:
+        """True for a normal distribution cut to its input's range."""
+        return (self.kind == "normal" and bool(self.sd)
+                and (self.lower is not None or self.upper is not None))
+
+    @property
+    def _standard_range(self) -> tuple[float, float]:
+        """Ends of the range in standard units of the normal (infinite when open)."""
+        mean, sd = float(self.mean), float(self.sd)  # type: ignore[arg-type]
+        alpha = -np.inf if self.lower is None else (self.lower - mean) / sd
+        beta = np.inf if self.upper is None else (self.upper - mean) / sd
+        return alpha, beta
 
     @property
     def _lognormal_mu_sigma(self) -> tuple[float, float]:
@@ -149,13 +181,24 @@ class Distribution:
         return self.kind == "fixed" or self.sd == 0
 
     def expected_value(self) -> float:
-        """Analytic mean of the distribution [input unit]."""
+        """Analytic mean of the distribution [input unit] (of the truncated normal when cut).
+
+        Notes
+        -----
+        Truncated to ``[a, b]`` in standard units ``alpha, beta``:
+        ``mean + sd (phi(alpha) - phi(beta)) / (Phi(beta) - Phi(alpha))``.
+        """
         if self.kind == "fixed":
             return float(self.value)  # type: ignore[arg-type]
         if self.kind == "uniform":
             return (self.low + self.high) / 2.0  # type: ignore[operator]
         if self.kind == "triangular":
             return (self.low + self.mode + self.high) / 3.0  # type: ignore[operator]
+        if self.truncated:
+            alpha, beta = self._standard_range
+            density = np.exp(-0.5 * np.square([alpha, beta])) / np.sqrt(2.0 * np.pi)
+            mass = ndtr(beta) - ndtr(alpha)
+            return float(self.mean + self.sd * (density[0] - density[1]) / mass)  # type: ignore[operator]
         return float(self.mean)  # type: ignore[arg-type]
 
     def ppf(self, q: ArrayLike) -> FloatArray | float:
@@ -183,6 +226,9 @@ class Distribution:
             right = hi - np.sqrt((1.0 - p) * (hi - lo) * (hi - c))  # type: ignore[operator]
             return _out(np.where(p <= f_c, left, right))
         if self.kind == "normal":
+            if self.truncated:
+                pa, pb = ndtr(self._standard_range)
+                p = pa + p * (pb - pa)
             return _out(self.mean + self.sd * ndtri(p))  # type: ignore[operator]
         mu, sigma = self._lognormal_mu_sigma
         return _out(np.exp(mu + sigma * ndtri(p)))
@@ -211,16 +257,87 @@ def sample(dist: Distribution, n: int, rng: np.random.Generator) -> FloatArray:
         return rng.uniform(dist.low, dist.high, n)
     if dist.kind == "triangular":
         return rng.triangular(dist.low, dist.mode, dist.high, n)
+    if dist.truncated:
+        return np.asarray(dist.ppf(rng.uniform(0.0, 1.0, n)), dtype=float)
     if dist.kind == "normal":
         return rng.normal(dist.mean, dist.sd, n)
     mu, sigma = dist._lognormal_mu_sigma
     return rng.lognormal(mu, sigma, n)
 
 
+@dataclass(frozen=True)
+class Correlation:
+    """Rank-style correlation between uncertain inputs, drawn through a Gaussian copula.
+
+    Attributes
+    ----------
+    names : tuple of str
+        The correlated inputs, in the matrix's order.
+    matrix : tuple of tuple of float
+        Correlation matrix of the inputs' normal scores [-]: symmetric, ones on the diagonal,
+        entries in [-1, 1], positive semi-definite.
+    where : str
+        Key path named in errors (``"correlations"``).
+
+    Raises
+    ------
+    InputError
+        A matrix that is not square over ``names``, not symmetric, has a diagonal other than 1,
+        an entry outside [-1, 1], or is not positive semi-definite (the correlations contradict
+        each other); a name given twice.
+
+    Notes
+    -----
+    Each draw takes standard normal scores ``z ~ N(0, R)`` (``z = A g`` with ``A A^T = R``
+    from the eigen-decomposition, ``g`` independent standard normals), turns them into
+    probabilities ``u = Phi(z)`` and each input into its own quantile ``x_i = F_i^-1(u_i)``.
+    Every input keeps its own distribution; ``R`` is the correlation of the normal scores
+    (for two inputs, Spearman's rank correlation is ``(6 / pi) asin(R / 2)``, within 0.02 of
+    ``R``).
+    """
+
+    names: tuple[str, ...]
+    matrix: tuple[tuple[float, ...], ...]
+    where: str = field(default="correlations", compare=False)
+
+    def __post_init__(self) -> None:
+        w = self.where
+        if len(set(self.names)) != len(self.names):
+            dup = next(x for x in self.names if self.names.count(x) > 1)
+            raise InputError(w, f"{dup} is named twice; name each input once")
+        m = np.asarray(self.matrix, dtype=float)
+        k = len(self.names)
+        if m.shape != (k, k):
+            raise InputError(w, f"the matrix must be {k} x {k}, one row and column per input "
+                             f"({', '.join(self.names)})")
+        if not np.all(np.isfinite(m)):
+            raise InputError(w, "correlations must be finite numbers")
+        if not np.allclose(m, m.T, rtol=0, atol=1e-12):
+            i, j = np.argwhere(np.abs(m - m.T) > 1e-12)[0]
+            raise InputError(w, f"not symmetric: {self.names[i]} ~ {self.names[j]} is {m[i, j]} "
+                             f"one way and {m[j, i]} the other")
+        if not np.allclose(np.diag(m), 1.0, rtol=0, atol=1e-12):
+            raise InputError(w, "the diagonal (an input with itself) must be 1")
+        if np.any(np.abs(m) > 1.0):
+            raise InputError(w, "a correlation must lie between -1 and 1")
+        smallest = float(np.linalg.eigvalsh(m).min())
+        if smallest < -1e-9:
+            raise InputError(w, f"the correlations contradict each other (the matrix is not "
+                             f"positive semi-definite, smallest eigenvalue {smallest:.3g}); "
+                             "lower some of them")
+
+    def scores(self, n: int, rng: np.random.Generator) -> FloatArray:
+        """Correlated standard normal scores, shape (n, len(names))."""
+        values, vectors = np.linalg.eigh(np.asarray(self.matrix, dtype=float))
+        root = vectors * np.sqrt(np.clip(values, 0.0, None))
+        return rng.standard_normal((n, len(self.names))) @ root.T
+
+
 def sample_inputs(
-    dists: Mapping[str, Distribution], n: int, rng: np.random.Generator | int | None
+    dists: Mapping[str, Distribution], n: int, rng: np.random.Generator | int | None,
+    *, correlation: Correlation | None = None,
 ) -> dict[str, FloatArray]:
-    """Draw ``n`` values of every input, in the mapping's order, from one generator.
+    """Draw ``n`` values of every input from one generator, correlated ones through a copula.
 
     Parameters
     ----------
@@ -230,14 +347,32 @@ def sample_inputs(
         Number of draws.
     rng : numpy.random.Generator or int or None
         A generator, or a seed for ``np.random.default_rng``.
+    correlation : Correlation, optional
+        Correlation between some of the inputs (names of ``dists``); the others are drawn
+        independently.
 
     Returns
     -------
     dict of str to ndarray
-        Each of shape ``(n,)``.
+        Each of shape ``(n,)``, in the mapping's order.
+
+    Notes
+    -----
+    Independent inputs are drawn first, in the mapping's order, then the correlated ones
+    (:class:`Correlation`): the same seed gives the same draws, and a study without
+    correlations draws what it drew before they existed.
     """
     gen = np.random.default_rng(rng)
-    return {name: sample(d, n, gen) for name, d in dists.items()}
+    together = () if correlation is None else correlation.names
+    unknown = [k for k in together if k not in dists]
+    if unknown:
+        raise InputError(correlation.where, f"{unknown[0]} is not an uncertain input")  # type: ignore[union-attr]
+    out = {name: sample(d, n, gen) for name, d in dists.items() if name not in together}
+    if correlation is not None:
+        u = ndtr(correlation.scores(n, gen))
+        for i, name in enumerate(together):
+            out[name] = np.asarray(dists[name].ppf(u[:, i]), dtype=float).reshape(n)
+    return {name: out[name] for name in dists}
 
 
 def tornado(
