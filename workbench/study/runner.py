@@ -453,7 +453,7 @@ def run(study: Study, *, draws: int | None = None,
     plan = _plan(inputs)
     say("money")
     det = _money(plan, {}, 1)
-    draws_of: dict[str, econ.Comparison] = {}
+    draws_of: dict[str, econ.NPVDraws] = {}
     sensitivity: dict[str, pd.DataFrame] = {}
     if n > 0:
         say(f"Monte Carlo, {n} draws")
@@ -461,7 +461,7 @@ def run(study: Study, *, draws: int | None = None,
                                      correlation=inputs.correlation)
         money = _money(plan, samples, n)
         for o in inputs.candidates:
-            draws_of[o.id] = econ.compare(money, o.id, inputs.baseline.id)
+            draws_of[o.id] = econ.npv_draws(money, o.id, inputs.baseline.id)
             if inputs.uncertain:
                 sensitivity[o.id] = _sensitivity(plan, o.id)
     result = tables.study_result(study, plan, _lines(plan, {}, 1), det, draws_of,
@@ -476,6 +476,6 @@ def _sensitivity(plan: Plan, option: str) -> pd.DataFrame:
 
     def npv_of(params: dict[str, np.ndarray]) -> np.ndarray:
         n = len(next(iter(params.values())))
-        return econ.compare(_money(plan, params, n), option, base).npv
+        return econ.npv_draws(_money(plan, params, n), option, base).npv
 
     return econ.tornado(npv_of, plan.inputs.uncertain)

@@ -24,7 +24,7 @@ FLAME_PHI = (0.7, 0.8, 0.9, 1.0, 1.1, 1.2, 1.3)
 
 
 def study_result(study: Study, plan: Plan, lines: Mapping[str, econ.OptionLines],
-                 det: econ.Money, draws: Mapping[str, econ.Comparison],
+                 det: econ.Money, draws: Mapping[str, econ.NPVDraws],
                  sensitivity: Mapping[str, pd.DataFrame], n: int) -> StudyResult:
     """Lay a run's plan and money out as a :class:`StudyResult`.
 
@@ -38,8 +38,8 @@ def study_result(study: Study, plan: Plan, lines: Mapping[str, econ.OptionLines]
         What the nominal cash flows of each option were built from (one draw).
     det : Money
         The deterministic money (one draw at the nominal inputs).
-    draws : mapping of str to Comparison
-        Each candidate against the baseline over the Monte Carlo draws; empty without them.
+    draws : mapping of str to NPVDraws
+        Each candidate's NPV and payback over the Monte Carlo draws; empty without them.
     sensitivity : mapping of str to DataFrame
         :func:`workbench.models.economics.tornado` of the NPV, by candidate.
     n : int
@@ -112,7 +112,7 @@ def _per_km_rows(plan: Plan, lines: Mapping[str, econ.OptionLines],
 
 
 def _candidates_table(plan: Plan, det: econ.Money, per_km: pd.DataFrame,
-                      draws: Mapping[str, econ.Comparison],
+                      draws: Mapping[str, econ.NPVDraws],
                       colours: Mapping[str, str]) -> pd.DataFrame:
     inputs = plan.inputs
     per_km = per_km.copy()

@@ -35,6 +35,7 @@ __all__ = [
     "ClassLine",
     "Comparison",
     "Money",
+    "NPVDraws",
     "OptionLines",
     "Response",
     "compare",
@@ -42,6 +43,7 @@ __all__ = [
     "inspection_years",
     "levelised_cost_per_m",
     "net_cost",
+    "npv_draws",
     "physics_draws",
     "programme_money",
 ]
@@ -429,6 +431,42 @@ def levelised_cost_per_m(money: Money, option: str) -> FloatArray:
 
 
 @dataclass(frozen=True)
+class NPVDraws:
+    """NPV and discounted payback of a candidate against the baseline, one value per draw.
+
+    Attributes
+    ----------
+    npv : numpy.ndarray
+        NPV of the candidate's cash flows minus the baseline's, shape (n,) [currency].
+    discounted_payback : numpy.ndarray
+        Discounted payback of that difference, shape (n,) [year]; NaN when not within the
+        horizon.
+    """
+
+    npv: np.ndarray
+    discounted_payback: np.ndarray
+
+
+def npv_draws(money: Money, option: str, baseline: str) -> NPVDraws:
+    """NPV ``sum_t (CF_cand - CF_base)_t (1+r)^-t`` and discounted payback, per draw.
+
+    Parameters
+    ----------
+    money : Money
+        The programme's money.
+    option, baseline : str
+        Option ids.
+
+    Returns
+    -------
+    NPVDraws
+    """
+    diff = money.cash[option] - money.cash[baseline]
+    return NPVDraws(np.asarray(npv(money.rate, diff), dtype=float).reshape(-1),
+                    np.asarray(discounted_payback(money.rate, diff), dtype=float).reshape(-1))
+
+
+@dataclass(frozen=True)
 class Comparison:
     """A candidate against the baseline, one value per draw (shape (n,)).
 
@@ -481,6 +519,7 @@ def compare(money: Money, option: str, baseline: str) -> Comparison:
     """
     rate = money.rate
     diff = money.cash[option] - money.cash[baseline]
+    headline = npv_draws(money, option, baseline)
     extra = net_cost(money, option, carbon=False) - net_cost(money, baseline, carbon=False)
     co2e = money.co2e[baseline] - money.co2e[option]
     nox = np.broadcast_to(money.nox[baseline] - money.nox[option], diff.shape)
@@ -489,8 +528,8 @@ def compare(money: Money, option: str, baseline: str) -> Comparison:
         return np.asarray(x, dtype=float).reshape(-1)
 
     return Comparison(
-        npv=flat(npv(rate, diff)), simple_payback=flat(simple_payback(diff)),
-        discounted_payback=flat(discounted_payback(rate, diff)),
+        npv=headline.npv, simple_payback=flat(simple_payback(diff)),
+        discounted_payback=headline.discounted_payback,
         co2e_avoided=flat(co2e.sum(axis=-1)), nox_avoided=flat(nox.sum(axis=-1)),
         cost_per_kg_co2e_avoided=flat(abatement_cost(rate, extra, co2e)),
         cost_per_kg_nox_avoided=flat(abatement_cost(rate, extra, nox)))
