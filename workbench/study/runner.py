@@ -380,7 +380,7 @@ def _lines(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> dict[str, ec
     inputs = plan.inputs
 
     def val(u: Uncertain) -> np.ndarray:
-        return np.broadcast_to(np.asarray(params.get(u.path, u.nominal), dtype=float), (n,))
+        return _values(u, params, n)
 
     options = {}
     for o in inputs.options:
@@ -413,14 +413,15 @@ def _lines(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> dict[str, ec
 def _money(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> econ.Money:
     """The programme's money for ``n`` draws of the uncertain inputs (nominal where absent)."""
     inputs = plan.inputs
-
-    def val(u: Uncertain) -> np.ndarray:
-        return np.broadcast_to(np.asarray(params.get(u.path, u.nominal), dtype=float), (n,))
-
     return econ.programme_money(_lines(plan, params, n), baseline=inputs.baseline.id,
-                                rate=val(inputs.discount_rate),
-                                carbon_price=val(inputs.carbon_price),
+                                rate=_values(inputs.discount_rate, params, n),
+                                carbon_price=_values(inputs.carbon_price, params, n),
                                 horizon=inputs.horizon_years, n=n)
+
+
+def _values(u: Uncertain, params: Mapping[str, np.ndarray], n: int) -> np.ndarray:
+    """An input's value in each of ``n`` draws: drawn when ``params`` has it, else nominal."""
+    return np.broadcast_to(np.asarray(params.get(u.path, u.nominal), dtype=float), (n,))
 
 
 # ----------------------------------------------------------------------------- run
