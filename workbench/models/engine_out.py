@@ -19,8 +19,9 @@ from collections.abc import Sequence
 
 import numpy as np
 
+from workbench.core.constants import J_PER_KWH, M_NO2
 from workbench.core.fuels import Fuel, load_fuel
-from workbench.models.combustion import M_NO2, exhaust, fuel_sheet
+from workbench.models.combustion import exhaust, fuel_sheet
 from workbench.models.engine import DutyEnergy
 from workbench.models.nox import (
     DEFAULT_ENGINE_OUT,
@@ -36,8 +37,6 @@ __all__ = ["DEFAULT_REFERENCE_FUEL", "engine_out_per_m", "nox_per_m"]
 #: (:data:`workbench.models.nox.DEFAULT_ENGINE_OUT`).
 DEFAULT_REFERENCE_FUEL = {"spark-ignition": "gasoline", "lean-burn-gas": "natural-gas",
                           "compression-ignition": "diesel"}
-_J_PER_KWH = 3.6e6
-
 
 def nox_per_m(value: float, unit: str, *, fuel: Fuel, lambda_overall: float,
               energy: DutyEnergy, fuel_energy_per_m: float) -> float:
@@ -67,7 +66,7 @@ def nox_per_m(value: float, unit: str, *, fuel: Fuel, lambda_overall: float,
     if unit == "g/km":
         return value * 1e-6
     if unit == "g/kWh":
-        return value * 1e-3 * energy.engine_energy / energy.distance / _J_PER_KWH
+        return value * 1e-3 * energy.engine_energy / energy.distance / J_PER_KWH
     ex = exhaust(fuel, lambda_overall)  # ppm of NO in the wet exhaust, as NO2 mass
     fuel_kg_per_m = fuel_energy_per_m / fuel_sheet(fuel).lhv_mass
     return value * 1e-6 * ex.moles_per_kg_fuel * M_NO2 * fuel_kg_per_m
