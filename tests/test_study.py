@@ -244,13 +244,16 @@ def test_correlated_fuel_prices_narrow_the_lpg_npv_band(demo):
     # gasoline and LPG prices, so an assumed 0.8 correlation between the prices must narrow
     # its P10-P90 band; for two triangular prices of similar spread, Var(a - b) falls by about
     # the factor (1 - r) (common practice, no source), so by ~45 % in standard deviation.
-    def band(s):
-        c = run(s, draws=4000).candidates.set_index("candidate")
+    def band(res):
+        c = res.candidates.set_index("candidate")
         return c.at["lpg-taxis", "npv_p90"] - c.at["lpg-taxis", "npv_p10"]
 
     together = demo.with_value("correlations", [{"inputs": FUEL_PRICES, "coefficient": 0.8}])
-    narrowing = 1 - band(together) / band(demo)
+    res = run(together, draws=4000)
+    narrowing = 1 - band(res) / band(run(demo, draws=4000))
     assert 0.35 < narrowing < 0.55
+    # the report lists them (its assumptions)
+    assert "prices.gasoline ~ prices.lpg 0.8" in res.assumptions["correlations"]
 
 
 @pytest.mark.parametrize(("entry", "message"), [
