@@ -39,7 +39,7 @@ DEFAULT_CHARTS = ("cost_per_km", "cash_flow")
 #: Summary columns: candidates-table column -> (heading, format).
 SUMMARY = {
     "fuel": ("fuel", "{}"),
-    "cost_per_km": ("cost per km [{cur}/km]", "{:.4f}"),
+    "cost_per_km": ("cost per km, year 1 [{cur}/km]", "{:.4f}"),
     "co2e_wtw_g_per_km": ("CO2e well-to-wheel [g/km]", "{:.0f}"),
     "nox_g_per_km": ("tailpipe NOx [g/km]", "{:.3f}"),
     "npv_vs_baseline": ("NPV vs baseline [{cur}]", "{:,.0f}"),
