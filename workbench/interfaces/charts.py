@@ -355,7 +355,7 @@ def _cost_per_km(result: StudyResult) -> _Fig:
                                    strict=True):
         fig.add_trace(_legend_key(f"{part}: {look}", pattern=shape))
     fig.update_layout(barmode="stack")
-    fig.update_yaxes(title=dict(text=f"cost per km [{st.currency}/km]"), row=1, col=1)
+    fig.update_yaxes(title=dict(text=f"cost per km, year 1 [{st.currency}/km]"), row=1, col=1)
     return _finish(fig, title, height=460)
 
 
