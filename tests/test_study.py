@@ -212,6 +212,26 @@ def test_an_edit_of_money_tables_checks_like_a_whole_file(demo, path, value):
     assert demo.get(path) != value  # the study edited from is unchanged
 
 
+def test_an_edit_of_prices_rechecks_the_correlations(demo):
+    # A correlation names uncertain inputs: fixing one of them by an edit of the prices must
+    # fail as the whole file fails (the reference), and a spread kept must keep the matrix.
+    data = demo.data
+    data["correlations"] = [{"inputs": ["prices.diesel", "prices.lpg"], "coefficient": 0.7}]
+    correlated = Study(data, base_dir=demo.base_dir)
+    fixed = demo.data | {"correlations": data["correlations"]}
+    fixed["prices"] = dict(fixed["prices"], lpg="0.8 per L")
+    with pytest.raises(InputError) as whole:
+        Study(fixed, base_dir=demo.base_dir)
+    with pytest.raises(InputError) as edited:
+        correlated.with_value("prices.lpg", "0.8 per L")
+    assert (edited.value.where, edited.value.message) == (whole.value.where, whole.value.message)
+    spread = {"kind": "uniform", "low": "0.7 per L", "high": "0.9 per L"}
+    kept = correlated.with_value("prices.lpg", spread)
+    assert kept.inputs.correlation == correlated.inputs.correlation
+    assert kept.inputs == correlated.with_values({"prices.lpg": spread,
+                                                   "classes[0].count": 640}).inputs
+
+
 def test_unknown_keys_are_refused(demo):
     with pytest.raises(InputError, match="unknown key"):
         demo.with_value("candidates[0].conversoin_cost", 100)
