@@ -332,10 +332,11 @@ def _plan(inputs: StudyInputs) -> tuple[Plan, dict[str, pd.DataFrame]]:
     """The plan of a run (physics from the cache when only money changed), and the
     physics-only tables."""
     cached = _physics_plan(inputs)
-    factors = {}
+    factors: dict[str, float] = {}
     for o in inputs.options:
         for co in o.per_class.values():
-            factors[co.fuel.id] = price_factor(inputs.prices[co.fuel.id][0], co.fuel)
+            if co.fuel.id not in factors:
+                factors[co.fuel.id] = price_factor(inputs.prices[co.fuel.id][0], co.fuel)
     return replace(cached.plan, inputs=inputs, price_factor=factors), cached.tables
 
 

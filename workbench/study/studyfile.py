@@ -187,6 +187,7 @@ class Study:
     def __init__(self, data: Mapping[str, Any], *, where: str = "study",
                  base_dir: Path | None = None) -> None:
         self._data = copy.deepcopy(dict(data))
+        self._digest: str | None = None
         self.where = where
         self.base_dir = base_dir or Path.cwd()
         self.inputs = _parse(self._data, self.base_dir)
@@ -261,7 +262,8 @@ class Study:
         fuels = {co.fuel.id: co.fuel for o in inputs.options for co in o.per_class.values()}
         sections = _local_sections(_Reader(data, ""), fuels, inputs.currency, touched)
         study = object.__new__(Study)
-        study._data, study.where, study.base_dir = data, self.where, self.base_dir
+        study._data, study._digest = data, None
+        study.where, study.base_dir = self.where, self.base_dir
         study.inputs = _with_uncertain(replace(inputs, **sections),
                                        data.get("correlations", []))
         return study
@@ -271,8 +273,11 @@ class Study:
         return tomli_w.dumps(self._data)
 
     def digest(self) -> str:
-        """SHA-256 of the study's TOML text (identifies the inputs in reports)."""
-        return sha256_hex(self.to_toml())
+        """SHA-256 of the study's TOML text (identifies the inputs in reports); worked out
+        once per study (its data never changes)."""
+        if self._digest is None:
+            self._digest = sha256_hex(self.to_toml())
+        return self._digest
 
 
 def _parent(data: dict[str, Any], path: str) -> tuple[Any, str | int]:
