@@ -186,40 +186,46 @@ def _cash_flow_table(plan: Plan, det: econ.Money) -> pd.DataFrame:
     inputs = plan.inputs
     rate = float(det.rate[0])
     factors = np.asarray(econ.discount_factors(rate, inputs.horizon_years)).reshape(-1)
-    rows = []
     base = det.cash[inputs.baseline.id][0]
+    parts: list[dict[str, np.ndarray]] = []
     for o in inputs.options:
         flows = det.cash[o.id][0]
         diff = flows - base
         disc = diff * factors
-        cum = np.cumsum(disc)
-        for y in range(inputs.horizon_years + 1):
-            rows.append({"candidate": o.id, "year": inputs.start_year + y,
-                         "cash_flow": flows[y], "cash_flow_vs_baseline": diff[y],
-                         "discounted_vs_baseline": disc[y],
-                         "cumulative_discounted_vs_baseline": cum[y]})
-    return _frame("cash_flows", rows)
+        parts.append({"cash_flow": flows, "cash_flow_vs_baseline": diff,
+                      "discounted_vs_baseline": disc,
+                      "cumulative_discounted_vs_baseline": np.cumsum(disc)})
+    return _by_year("cash_flows", inputs, parts)
 
 
 def _fleet_years_table(plan: Plan, det: econ.Money) -> pd.DataFrame:
     inputs = plan.inputs
-    rows = []
+    parts: list[dict[str, np.ndarray]] = []
     for o in inputs.options:
-        for y in range(inputs.horizon_years + 1):
-            energy = ttw = nox = 0.0
-            repl = 0.0
-            for c in inputs.classes:
-                ph = plan.physics[o.id, c.id]
-                km = c.km_per_year.nominal * c.count * plan.active[c.id][y]
-                energy += km * ph.fuel_energy_per_m
-                ttw += km * ph.co2_ttw_per_m
-                nox += plan.nox_t[o.id, c.id][y]
-                repl += plan.replacements[o.id, c.id][y]
-            rows.append({"candidate": o.id, "year": inputs.start_year + y,
-                         "fuel_energy_gj": energy / 1e9, "co2_ttw_t": ttw / 1e3,
-                         "co2e_wtw_t": det.co2e[o.id][0][y] / 1e3, "nox_t": nox,
-                         "catalyst_replacements": repl, "cost_total": det.costs[o.id][0][y]})
-    return _frame("fleet_years", rows)
+        energy = ttw = nox = repl = np.zeros(inputs.horizon_years + 1)
+        for c in inputs.classes:
+            ph = plan.physics[o.id, c.id]
+            km = c.km_per_year.nominal * c.count * plan.active[c.id]
+            energy = energy + km * ph.fuel_energy_per_m
+            ttw = ttw + km * ph.co2_ttw_per_m
+            nox = nox + plan.nox_t[o.id, c.id]
+            repl = repl + plan.replacements[o.id, c.id]
+        parts.append({"fuel_energy_gj": energy / 1e9, "co2_ttw_t": ttw / 1e3,
+                      "co2e_wtw_t": det.co2e[o.id][0] / 1e3, "nox_t": nox,
+                      "catalyst_replacements": repl, "cost_total": det.costs[o.id][0]})
+    return _by_year("fleet_years", inputs, parts)
+
+
+def _by_year(name: str, inputs: StudyInputs, parts: list[dict[str, np.ndarray]]
+             ) -> pd.DataFrame:
+    """A table of one row per option x programme year from each option's yearly columns."""
+    n = inputs.horizon_years + 1
+    columns: dict[str, object] = {
+        "candidate": [o.id for o in inputs.options for _ in range(n)],
+        "year": np.tile(inputs.start_year + np.arange(n), len(inputs.options))}
+    for key in parts[0]:
+        columns[key] = np.concatenate([p[key] for p in parts])
+    return pd.DataFrame(columns)[list(COLUMNS[name])]
 
 
 def _nox_monthly_table(plan: Plan) -> pd.DataFrame:
