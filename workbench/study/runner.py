@@ -42,6 +42,7 @@ from workbench.models.nox import (
 )
 from workbench.models.storage import tank_for_range
 from workbench.models.vehicle import FIRED, IDLE, operating_points, read_vehicle, road_load
+from workbench.study.naming import display_unit, input_label, input_rows, study_names
 from workbench.study.results import COLUMNS, PALETTE, StudyResult
 from workbench.study.studyfile import (
     ClassOption,
@@ -589,6 +590,7 @@ def run(study: Study, *, draws: int | None = None,
     result = StudyResult(
         title=inputs.title,
         currency=inputs.currency,
+        names=study_names(inputs),
         candidates=_candidates_table(plan, det, per_km, mc, paybacks, colours),
         per_km=per_km,
         cash_flows=_cash_flow_table(plan, det),
@@ -597,6 +599,9 @@ def run(study: Study, *, draws: int | None = None,
         storage=_storage_table(plan),
         monte_carlo=_monte_carlo_table(mc),
         tornado=_tornado_table(plan) if n > 0 else _empty("tornado"),
+        breakeven=_breakeven_table(plan),
+        inputs=_frame("inputs", input_rows(study.data, inputs)),
+        fictional=inputs.fictional,
         operating_points=_operating_points_table(plan),
         flame=_flame_table(plan),
         catalyst=_catalyst_table(plan),
@@ -809,11 +814,57 @@ def _tornado_table(plan: _Plan) -> pd.DataFrame:
         scale = t["input"].map(lambda p: units[p][1])
         frames.append(pd.DataFrame({
             "candidate": o.id,
-            "input": t["input"].map(lambda p: f"{p} [{units[p][0]}]" if units[p][0] else p),
+            "input": t["input"],
+            "label": t["input"].map(lambda p: input_label(p, inputs)),
+            "unit": t["input"].map(lambda p: display_unit(units[p][0], inputs.currency)),
             "low_value": t["low_value"] * scale, "high_value": t["high_value"] * scale,
             "npv_at_low": t["output_low"], "npv_at_high": t["output_high"],
             "swing": t["swing"]}))
     return pd.concat(frames, ignore_index=True)
+
+
+def _breakeven_table(plan: _Plan) -> pd.DataFrame:
+    """Where each candidate's NPV against the baseline crosses zero, one input at a time.
+
+    The inputs are the prices of the fuels a candidate brings in and each class's km per
+    year; the others held at their nominal values. The NPV is linear in each of them (fuel and
+    carbon costs scale with price and distance), so a secant step from two evaluations finds
+    the root; two more steps guard against any curvature. Values are in the unit the user
+    wrote; NaN where the NPV does not depend on the input or crosses zero only below zero.
+    """
+    inputs = plan.inputs
+    base = inputs.baseline.id
+    rows = []
+    for o in inputs.candidates:
+        base_fuels = {co.fuel.id for co in inputs.baseline.per_class.values()}
+        fuels = dict.fromkeys(co.fuel.id for co in o.per_class.values() if co.converts)
+        subjects = [inputs.prices[f][1] for f in fuels if f not in base_fuels]
+        subjects += [c.km_per_year for c in inputs.classes if o.per_class[c.id].converts]
+
+        def npv_at(u: Uncertain, x: float, _oid: str = o.id) -> float:
+            money = _money(plan, {u.path: np.array([x])}, 1)
+            return float(np.asarray(econ.npv(money.rate, money.cash[_oid] - money.cash[base]
+                                             )).reshape(-1)[0])
+
+        for u in subjects:
+            x0 = u.nominal
+            x1 = x0 * 1.25 if x0 else 1.0
+            y0, y1 = npv_at(u, x0), npv_at(u, x1)
+            root = np.nan
+            for _ in range(3):
+                if abs(y1 - y0) <= 1e-12 * max(abs(y0), 1.0):
+                    break
+                x0, x1 = x1, x1 - y1 * (x1 - x0) / (y1 - y0)
+                y0, y1 = y1, npv_at(u, x1)
+                root = x1
+            if not np.isfinite(root) or root < 0:
+                root = np.nan
+            rows.append({"candidate": o.id, "input": u.path,
+                         "label": input_label(u.path, inputs),
+                         "unit": display_unit(u.unit, inputs.currency),
+                         "nominal_value": u.nominal * u.scale,
+                         "breakeven_value": root * u.scale})
+    return _frame("breakeven", rows)
 
 
 def _operating_points_table(plan: _Plan) -> pd.DataFrame:
@@ -863,9 +914,8 @@ def _assumptions(study: Study, draws: int) -> dict[str, str]:
     i = study.inputs
     out = {
         "study": i.title,
-        "demo": "yes" if i.fictional else "no",
         "question": i.notes,
-        "fictional demo data": "yes: every number is invented" if i.fictional else "no",
+        "fictional data": "yes: every number is invented" if i.fictional else "no",
         "currency": i.currency,
         "programme": f"{i.start_year}, {i.horizon_years} years",
         "discount rate": f"{i.discount_rate.nominal:.1%} a year, real (prices in today's "
@@ -875,8 +925,8 @@ def _assumptions(study: Study, draws: int) -> dict[str, str]:
         "NOx damage cost": f"{i.nox_damage_cost.nominal:g} {i.currency}/kg: finds the catalyst "
                            "replacement interval that would minimise upkeep plus NOx damage, "
                            "shown beside each device's own policy; not in the NPV",
-        "Monte Carlo": f"{draws} draws, seed {i.seed}; uncertain inputs: "
-                       f"{', '.join(i.uncertain) or 'none'}",
+        "Monte Carlo": f"{draws:,} draws, seed {i.seed}; uncertain inputs: "
+                       f"{'; '.join(input_label(p, i) for p in i.uncertain) or 'none'}",
         "input hash": study.digest(),
         "uncertain physics inputs": "evaluated at P1, P10, P30, P50, P70, P90 and P99 and "
                                     "interpolated per draw; effects of several such inputs "
