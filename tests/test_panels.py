@@ -359,3 +359,19 @@ def test_import_workbench_does_not_import_widgets():
     code = ("import sys, workbench; assert 'ipywidgets' not in sys.modules; "
             "assert callable(workbench.open_study); assert 'ipywidgets' in sys.modules")
     subprocess.run([sys.executable, "-c", code], check=True)
+
+
+def test_the_answer_is_on_top_in_the_report_s_words(app):
+    from workbench.interfaces.report import SAFETY_CAUTION
+    from workbench.interfaces.summary import verdicts
+
+    top = app.children[1]
+    assert top is app.results.verdict
+    for v in verdicts(app.state.result):
+        assert html.escape(v.headline) in top.value
+    # the safety note once, in the title block
+    shown = "".join(getattr(w, "value", "") for w in app.children)
+    assert shown.count(html.escape(SAFETY_CAUTION)) == 1
+    before = top.value
+    app.economics.prices["lpg"].params["mode"].value = "0.70 per L"
+    assert top.value != before
