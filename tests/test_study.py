@@ -222,3 +222,15 @@ def test_catalyst_life_uncertainty_moves_catalyst_costs(demo):
     assert "[km]" in row["input"]
     # a shorter-lived catalyst is replaced more often: the NPV is lower at the low end
     assert row["npv_at_low"] < row["npv_at_high"]
+
+
+@pytest.mark.parametrize("dist, message", [
+    ({"kind": "triangular", "low": "0.70 per L", "mode": "1.10 per L", "high": "1.05 per L"},
+     "mode 1.10 per L must lie between low 0.70 per L and high 1.05 per L"),
+    ({"kind": "uniform", "low": "1.20 per L", "high": "1.05 per L"},
+     "low 1.20 per L is above high 1.05 per L; swap them"),
+])
+def test_distribution_errors_speak_the_unit_the_user_typed(demo, dist, message):
+    with pytest.raises(InputError) as err:
+        demo.with_value("prices.lpg", dist)
+    assert err.value.message == message

@@ -438,13 +438,36 @@ def _uncertain(raw: Any, parse: Callable[[Any, str], float], where: str,
             raise InputError(f"{where}.{k}", f"unknown key; a distribution takes "
                              f"{', '.join(_DIST_PARAMS)}")
         params[k] = parse(v, f"{where}.{k}")
-    dist = Distribution.from_mapping({"kind": raw["kind"], **params}, where=where)
+    try:
+        dist = Distribution.from_mapping({"kind": raw["kind"], **params}, where=where)
+    except InputError as exc:
+        raise InputError(exc.where, _as_written(exc, raw)) from None
     nominal = dist.mode if dist.kind == "triangular" else dist.expected_value()
     _check_range(float(nominal), where, low, high, unit)
     for k in ("low", "high", "value"):
         if params.get(k) is not None:
             _check_range(params[k], f"{where}.{k}", low, high, unit)
     return Uncertain(float(nominal), dist, where, *unit)
+
+
+#: Messages of a distribution's order checks, in the user's own text (not SI values).
+_ORDER_MESSAGES = {
+    "low": "low {low} is above high {high}; swap them",
+    "mode": "mode {mode} must lie between low {low} and high {high}",
+    "sd": "sd {sd} must be zero or positive",
+    "mean": "a lognormal input must have a positive mean, got {mean}; use a normal "
+            "distribution",
+}
+
+
+def _as_written(exc: InputError, raw: Mapping[str, Any]) -> str:
+    """A distribution's order error with the values as the user wrote them, units included."""
+    key = exc.where.rsplit(".", 1)[-1]
+    template = _ORDER_MESSAGES.get(key)
+    try:
+        return template.format(**{k: str(v) for k, v in raw.items()}) if template else exc.message
+    except KeyError:
+        return exc.message
 
 
 def _money(raw: Any, where: str) -> float:
