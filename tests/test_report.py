@@ -10,6 +10,7 @@ import gzip
 import io
 import os
 import re
+from functools import partial
 
 import numpy as np
 import pandas as pd
@@ -20,6 +21,7 @@ from study_fixture import XSS_NAME, make_map_grid, make_result
 from workbench.core.errors import InputError
 from workbench.interfaces import report
 from workbench.interfaces.charts import all_figures
+from workbench.interfaces.present import column_label, reader_table
 
 STUDY_TEXT = "abc"
 #: SHA-256("abc") from FIPS 180-2, Appendix B.1 (the standard's own worked example).
@@ -158,3 +160,18 @@ def test_failed_write_leaves_the_old_file_and_no_temp_file(tmp_path, monkeypatch
         report.write_report(make_result(), target, study_text="")
     assert target.read_text(encoding="utf-8") == "old report"
     assert [p.name for p in tmp_path.iterdir()] == ["r.html"]
+
+
+def test_missing_numbers_say_why_in_the_candidates_table():
+    # Issue 13: "not applicable", "no payback" and "raises the emission" must not look alike.
+    res = make_result()
+    cands = res.candidates.copy()
+    cands.loc[2, ["discounted_payback_years", "cost_per_t_co2e_avoided"]] = float("nan")
+    cands.loc[2, ["co2e_avoided_t", "raises_co2e"]] = (-300.0, True)
+    shown = reader_table("candidates", res, cands)
+    label = partial(column_label, currency=res.currency)
+    assert shown.at[0, label("npv_vs_baseline")] == "n/a (baseline)"
+    assert shown.at[2, label("discounted_payback_years")] == "not within horizon"
+    assert shown.at[2, label("cost_per_t_co2e_avoided")] == "raises CO2e"
+    assert shown.at[2, label("co2e_avoided_t")] == "-300"
+    assert shown.at[2, label("raises_co2e")] == "yes"

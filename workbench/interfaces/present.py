@@ -15,7 +15,7 @@ import re
 
 import pandas as pd
 
-from workbench.study.results import StudyResult
+from workbench.study.results import StudyResult, missing_reason
 
 #: Columns that only drive charts or code; never shown to a reader.
 HIDDEN = frozenset({"colour", "is_baseline", "input", "draw"})
@@ -25,13 +25,16 @@ LABELS = {
     "name": "option", "npv_vs_baseline": "NPV vs baseline [{cur}]",
     "npv_p10": "NPV P10 [{cur}]", "npv_p50": "NPV P50 [{cur}]", "npv_p90": "NPV P90 [{cur}]",
     "p_npv_positive": "chance NPV > 0 [%]",
-    "p_payback_within_horizon": "chance of discounted payback within the horizon [%]",
+    "p_discounted_payback_within_horizon": "chance of discounted payback within the horizon "
+                                           "[%]",
+    "co2e_avoided_t": "CO2e avoided over the programme [t]", "raises_co2e": "raises CO2e",
+    "nox_avoided_kg": "NOx avoided over the programme [kg]", "raises_nox": "raises NOx",
     "payback_years": "simple payback [years]",
     "discounted_payback_years": "discounted payback [years]",
     "cost_per_t_co2e_avoided": "cost per t CO2e avoided [{cur}/t]",
     "cost_per_kg_nox_avoided": "cost per kg NOx avoided [{cur}/kg]",
     "levelised_cost_per_km": "levelised cost [{cur}/km]",
-    "cost_per_km": "cost per km, capital annualised [{cur}/km]",
+    "cost_per_km": "cost per km in year 1, conversion annualised [{cur}/km]",
     "cost_fuel_per_km": "fuel and carbon [{cur}/km]",
     "cost_upkeep_per_km": "upkeep [{cur}/km]",
     "cost_capital_per_km": "conversion capital [{cur}/km]",
@@ -202,10 +205,11 @@ def reader_table(name: str, result: StudyResult, table: pd.DataFrame | None = No
         t["vehicle_class"] = t["vehicle_class"].map(names.vehicle_class)
     if "fuel" in t:
         t["fuel"] = t["fuel"].map(lambda f: " / ".join(names.fuel(x) for x in str(f).split("/")))
-    t = t[[c for c in t.columns if c not in HIDDEN]]
-    out = pd.DataFrame({column_label(c, result.currency): [_cell(c, v) for v in t[c]]
-                        for c in t.columns})
-    return out
+    records = t.to_dict("records")
+    shown = [c for c in t.columns if c not in HIDDEN]
+    return pd.DataFrame({column_label(c, result.currency):
+                         [(missing_reason(r, c) if name == "candidates" else None)
+                          or _cell(c, r[c]) for r in records] for c in shown})
 
 
 def side_by_side(result: StudyResult, name: str = "candidates",

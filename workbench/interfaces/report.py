@@ -17,8 +17,6 @@ from __future__ import annotations
 
 import base64
 import gzip
-import hashlib
-import html
 import os
 import platform
 from collections.abc import Mapping
@@ -30,6 +28,8 @@ import pandas as pd
 import plotly.offline
 
 import workbench
+from workbench.core.text import escape_html as _esc
+from workbench.core.text import sha256_hex
 from workbench.interfaces.charts import MapGrid, all_figures
 from workbench.interfaces.present import TABLE_TITLES, reader_table, side_by_side
 from workbench.interfaces.summary import best_option, verdicts
@@ -142,7 +142,7 @@ _PRINT_JS = """
 
 def input_hash(study_text: str) -> str:
     """SHA-256 of the study file's text (UTF-8), as 64 hex digits."""
-    return hashlib.sha256(study_text.encode("utf-8")).hexdigest()
+    return sha256_hex(study_text)
 
 
 def software_versions() -> dict[str, str]:
@@ -160,10 +160,6 @@ def software_versions() -> dict[str, str]:
         except metadata.PackageNotFoundError:
             versions[label] = "not installed"
     return versions
-
-
-def _esc(text: object) -> str:
-    return html.escape(str(text), quote=True)
 
 
 def _key_value_table(items: Mapping[str, object], head: tuple[str, str]) -> str:
