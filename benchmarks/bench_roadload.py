@@ -20,9 +20,12 @@ from pathlib import Path
 
 import numpy as np
 
-from workbench.models.duty import DutySettings, DutyTrace, read_trace
-from workbench.models.engine import duty_energy, read_map
-from workbench.models.vehicle import G, Vehicle, read_vehicle, road_load
+from workbench.io.maps import read_map
+from workbench.io.profiles import read_trace
+from workbench.io.vehicles import read_vehicle
+from workbench.models.duty import DutySettings, DutyTrace
+from workbench.models.engine import duty_energy
+from workbench.models.vehicle import G, Vehicle, road_load
 
 DATA = Path(__file__).resolve().parent.parent / "workbench" / "data"
 YEAR = 365 * 24 * 3600

@@ -10,15 +10,8 @@ from numpy.testing import assert_allclose
 
 from workbench.core.errors import InputError
 from workbench.io import demo_profiles
-from workbench.models.duty import (
-    DutySettings,
-    DutyTrace,
-    ModeTable,
-    duty_stats,
-    read_mode_table,
-    read_profile,
-    read_trace,
-)
+from workbench.io.profiles import read_mode_table, read_profile, read_trace
+from workbench.models.duty import DutySettings, DutyTrace, ModeTable, duty_stats
 
 PROFILES = demo_profiles.DATA / "profiles"
 
@@ -72,7 +65,7 @@ def test_side_file_units(tmp_path):
         ("time_s,speed_km_per_h\n0,10\n1,-3\n", r"p.csv row 3: speed is negative"),
         ("time_s,speed_km_per_h\n0,10\n1,\n", r"p.csv row 3: speed is missing"),
         ("time_s,speed_km_per_h\n0,10\n1,fast\n",
-         r"p.csv row 3: speed_km_per_h 'fast' is not a number"),
+         r"p.csv row 3 column 2: speed_km_per_h 'fast' is not a number"),
         ("time_s,grade_percent\n0,1\n1,1\n", r"p.csv: missing column speed"),
         ("time_s,speed_kmh\n0,1\n1,1\n", r"p.csv column speed_kmh: unknown unit 'kmh'"),
         ("time_s,speed_km_per_h\n0,1\n1,1,3\n", r"p.csv row 3: has 3 fields"),

@@ -10,22 +10,23 @@ import pytest
 from numpy.testing import assert_allclose
 
 from workbench.core.errors import InputError
-from workbench.models.duty import DutySettings, DutyTrace, ModeTable, read_trace
+from workbench.io.maps import format_map_csv, read_map
+from workbench.io.profiles import read_trace
+from workbench.io.vehicles import read_vehicle
+from workbench.models.duty import DutySettings, DutyTrace, ModeTable
 from workbench.models.engine import (
     WILLANS_SHAPES,
     DutyEnergy,
     EngineMap,
     duty_energy,
-    format_map_csv,
     fuel_per_km,
     fuel_per_km_for,
     mode_energy,
-    read_map,
     willans_efficiency,
     willans_map,
     willans_parameters,
 )
-from workbench.models.vehicle import Vehicle, read_vehicle
+from workbench.models.vehicle import Vehicle
 
 DATA = Path(__file__).resolve().parent.parent / "workbench" / "data"
 RPM = math.pi / 30.0

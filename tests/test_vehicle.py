@@ -11,6 +11,7 @@ import pytest
 from numpy.testing import assert_allclose
 
 from workbench.core.errors import InputError
+from workbench.io.vehicles import read_vehicle
 from workbench.models.duty import DutySettings, DutyTrace
 from workbench.models.vehicle import (
     ENGINE_OFF,
@@ -19,7 +20,6 @@ from workbench.models.vehicle import (
     OVERRUN,
     Vehicle,
     operating_points,
-    read_vehicle,
     road_load,
 )
 

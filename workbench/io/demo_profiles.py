@@ -19,8 +19,10 @@ from pathlib import Path
 
 import numpy as np
 
-from workbench.models.duty import DutyTrace, format_trace_csv
-from workbench.models.engine import format_map_csv, willans_map, willans_parameters
+from workbench.io.maps import format_map_csv
+from workbench.io.profiles import format_trace_csv
+from workbench.models.duty import DutyTrace
+from workbench.models.engine import willans_map, willans_parameters
 
 DATA = Path(__file__).resolve().parents[1] / "data"
 
