@@ -134,9 +134,8 @@ def parse_csv(data: bytes, name: str, numeric: NumericColumns, *,
         Not UTF-8, no header or data rows, a row with the wrong number of fields, a cell of a
         numeric column that is not a number; the message names the file and row.
     """
-    if data.startswith(_BOM):
-        data = data[len(_BOM):]
-    heads, head_lines, comments, offset, lineno = _heads(data, name, head_rows)
+    bom = len(_BOM) if data.startswith(_BOM) else 0
+    heads, head_lines, comments, offset, lineno = _heads(data, bom, name, head_rows)
     header = tuple(c.lower() for c in heads[0])
     width = len(header)
     for cells, ln in zip(heads[1:], head_lines[1:], strict=True):
@@ -144,10 +143,9 @@ def parse_csv(data: bytes, name: str, numeric: NumericColumns, *,
             raise InputError(f"{name} row {ln}", f"has {len(cells)} fields, the header has "
                                                  f"{width}; make every row as wide as it")
     wanted = sorted(set(numeric(header)))
-    body = data[offset:]
-    table = _fast(body, name, header, wanted, lineno)
+    table = _fast(data, offset, header, wanted, lineno)
     if table is None:
-        columns, rows, more = _slow(body, name, header, wanted, lineno)
+        columns, rows, more = _slow(data[offset:], name, header, wanted, lineno)
     else:
         columns, rows, more = table
     if rows.size == 0:
@@ -169,14 +167,14 @@ def _split(line: str) -> list[str]:
     return [c.strip() for c in next(csv.reader([line]))]
 
 
-def _heads(data: bytes, name: str, head_rows: int
+def _heads(data: bytes, offset: int, name: str, head_rows: int
            ) -> tuple[tuple[tuple[str, ...], ...], tuple[int, ...], list[tuple[int, str]], int,
                       int]:
     """Head rows and the comments before the data; byte offset and line number of the rest."""
     heads: list[tuple[str, ...]] = []
     lines: list[int] = []
     comments: list[tuple[int, str]] = []
-    offset, lineno = 0, 1
+    lineno = 1
     while len(heads) < head_rows:
         if offset >= len(data):
             raise InputError(name, "no header and data rows found")
@@ -192,25 +190,25 @@ def _heads(data: bytes, name: str, head_rows: int
     return tuple(heads), tuple(lines), comments, offset, lineno
 
 
-def _fast(body: bytes, name: str, header: tuple[str, ...], wanted: list[int], first: int
+def _fast(data: bytes, offset: int, header: tuple[str, ...], wanted: list[int], first: int
           ) -> tuple[dict[int, np.ndarray], np.ndarray, list[tuple[int, str]]] | None:
-    """pandas' C parser; None when it fails or the file needs a closer look."""
+    """pandas' C parser on the data from line ``first`` (at byte ``offset``) on; None when it
+    fails or the file needs a closer look."""
     width = len(header)
     try:
-        frame = pd.read_csv(io.BytesIO(body), header=None, names=list(range(width)),
+        frame = pd.read_csv(io.BytesIO(data[offset:]), header=None, names=list(range(width)),
                             index_col=False, comment="#", skip_blank_lines=True,
                             dtype=dict.fromkeys(wanted, np.float64), engine="c",
                             encoding="utf-8")
     except (ValueError, pd.errors.ParserError, UnicodeDecodeError, pd.errors.EmptyDataError):
         return None
     columns = {j: frame[j].to_numpy(dtype=np.float64) for j in wanted}
-    if any(np.isnan(c).any() for c in columns.values()):
+    if any(math.isnan(c.sum()) for c in columns.values()):  # NaN (or +inf and -inf)
         return None  # an empty cell, or a short row: the slow pass tells them apart
     n = len(frame)
-    lines = body.count(b"\n") + (0 if not body or body.endswith(b"\n") else 1)
-    if n == lines:
-        return columns, first + np.arange(n), []
-    buf = np.frombuffer(body, dtype=np.uint8)
+    if n == data.count(b"\n", offset) + (0 if data.endswith(b"\n") else 1):
+        return columns, first + np.arange(n), []  # every line is a data row
+    buf = np.frombuffer(data, dtype=np.uint8)[offset:]
     starts = np.concatenate(([0], np.flatnonzero(buf == 10) + 1))
     starts = starts[starts < buf.size]
     ends = np.concatenate((starts[1:], [buf.size]))
@@ -220,7 +218,7 @@ def _fast(body: bytes, name: str, header: tuple[str, ...], wanted: list[int], fi
     data_line = (count > 0) & ~comment
     if int(data_line.sum()) != n:
         return None
-    more = [(first + int(i), body[starts[i]:ends[i]].decode("utf-8").strip()[1:].strip())
+    more = [(first + int(i), bytes(buf[starts[i]:ends[i]]).decode("utf-8").strip()[1:].strip())
             for i in np.flatnonzero(comment)]
     return columns, first + np.flatnonzero(data_line), more
 

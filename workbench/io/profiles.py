@@ -116,7 +116,8 @@ def _parse_profile(name: str, data: bytes, side: str | None) -> DutyTrace | Mode
     if missing:
         q = missing[0]
         raise InputError(name, f"missing column {q} (e.g. {q}_{next(iter(spec[q]))})")
-    cols = {q: table.columns[j] * factor for q, (j, factor) in found.items()}
+    cols = {q: table.columns[j] if factor == 1.0 else table.columns[j] * factor
+            for q, (j, factor) in found.items()}
     if kind == "mode":
         return _mode_table(table, cols)
     return DutyTrace(time=cols["time"], speed=cols["speed"], grade=cols.get("grade"),
