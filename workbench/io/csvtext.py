@@ -49,8 +49,8 @@ class CsvTable:
         The header, normalised (stripped, lower case).
     columns : dict of int to numpy.ndarray
         Values of each numeric column by column index; NaN where a cell is empty.
-    rows : numpy.ndarray
-        File line number (1-based) of each data row.
+    rows : numpy.ndarray or range
+        File line number (1-based) of each data row (a range when they follow each other).
     comments : tuple of (int, str)
         Line number and text (after ``#``, stripped) of each comment line.
     head_lines : tuple of int
@@ -61,7 +61,7 @@ class CsvTable:
     heads: tuple[tuple[str, ...], ...]
     header: tuple[str, ...]
     columns: dict[int, np.ndarray] = field(repr=False)
-    rows: np.ndarray = field(repr=False)
+    rows: np.ndarray | range = field(repr=False)
     comments: tuple[tuple[int, str], ...] = ()
     head_lines: tuple[int, ...] = ()
 
@@ -148,7 +148,7 @@ def parse_csv(data: bytes, name: str, numeric: NumericColumns, *,
         columns, rows, more = _slow(data[offset:], name, header, wanted, lineno)
     else:
         columns, rows, more = table
-    if rows.size == 0:
+    if len(rows) == 0:
         raise InputError(name, "no header and data rows found")
     return CsvTable(name=name, heads=heads, header=header, columns=columns, rows=rows,
                     comments=(*comments, *more), head_lines=head_lines)
@@ -190,25 +190,50 @@ def _heads(data: bytes, offset: int, name: str, head_rows: int
     return tuple(heads), tuple(lines), comments, offset, lineno
 
 
+class _Window(io.RawIOBase):
+    """A read-only stream over part of a bytes object, without copying it."""
+
+    def __init__(self, view: memoryview) -> None:
+        self._view = view
+        self._pos = 0
+
+    def readable(self) -> bool:
+        return True
+
+    def readinto(self, buffer: memoryview) -> int:  # type: ignore[override]
+        n = min(len(buffer), len(self._view) - self._pos)
+        buffer[:n] = self._view[self._pos:self._pos + n]
+        self._pos += n
+        return n
+
+
 def _fast(data: bytes, offset: int, header: tuple[str, ...], wanted: list[int], first: int
-          ) -> tuple[dict[int, np.ndarray], np.ndarray, list[tuple[int, str]]] | None:
+          ) -> tuple[dict[int, np.ndarray], np.ndarray | range, list[tuple[int, str]]] | None:
     """pandas' C parser on the data from line ``first`` (at byte ``offset``) on; None when it
     fails or the file needs a closer look."""
     width = len(header)
+    end = len(data)
+    while end > offset and data[end - 1] in b" \t\r\n":
+        end -= 1
+    body = memoryview(data)[offset:end]
+    # Without a '#' after the header, every line must be a data row: blank lines are then
+    # read as rows of NaN (and sent to the slow pass), so row i is line first + i.
+    plain = data.find(b"#", offset, end) < 0
     try:
-        frame = pd.read_csv(io.BytesIO(data[offset:]), header=None, names=list(range(width)),
-                            index_col=False, comment="#", skip_blank_lines=True,
-                            dtype=dict.fromkeys(wanted, np.float64), engine="c",
-                            encoding="utf-8")
+        frame = pd.read_csv(io.BufferedReader(_Window(body)), header=None,
+                            names=list(range(width)),
+                            index_col=False, comment=None if plain else "#",
+                            skip_blank_lines=not plain, dtype=dict.fromkeys(wanted, np.float64),
+                            engine="c", encoding="utf-8")
     except (ValueError, pd.errors.ParserError, UnicodeDecodeError, pd.errors.EmptyDataError):
         return None
     columns = {j: frame[j].to_numpy(dtype=np.float64) for j in wanted}
     if any(math.isnan(c.sum()) for c in columns.values()):  # NaN (or +inf and -inf)
         return None  # an empty cell, or a short row: the slow pass tells them apart
     n = len(frame)
-    if n == data.count(b"\n", offset) + (0 if data.endswith(b"\n") else 1):
-        return columns, first + np.arange(n), []  # every line is a data row
-    buf = np.frombuffer(data, dtype=np.uint8)[offset:]
+    if plain:
+        return columns, range(first, first + n), []
+    buf = np.frombuffer(body, dtype=np.uint8)
     starts = np.concatenate(([0], np.flatnonzero(buf == 10) + 1))
     starts = starts[starts < buf.size]
     ends = np.concatenate((starts[1:], [buf.size]))

@@ -76,7 +76,7 @@ def _parse_map(name: str, data: bytes) -> EngineMap:
     if value_kind not in _VALUE_KINDS:
         raise InputError(f"{name}: value", f"unknown '{value_kind}'; use one of "
                                            f"{', '.join(_VALUE_KINDS)}")
-    if table.rows.size < 2:
+    if len(table.rows) < 2:
         raise InputError(name, "needs a header, a full_load row and >= 2 torque rows")
     (header, full_row), (hline, fline) = table.heads, table.head_lines
     m = re.fullmatch(r"torque_n_m/speed_([a-z_]+)", table.header[0].replace(" ", ""))

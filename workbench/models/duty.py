@@ -23,7 +23,7 @@ stop.
 from __future__ import annotations
 
 import math
-from collections.abc import Iterator
+from collections.abc import Iterator, Sequence
 from dataclasses import dataclass, field
 from functools import cached_property
 
@@ -44,7 +44,7 @@ def _readonly(a: np.ndarray) -> np.ndarray:
     return a
 
 
-def _label(name: str, rows: np.ndarray | None, offset: int, i: int) -> str:
+def _label(name: str, rows: Sequence[int] | None, offset: int, i: int) -> str:
     if rows is not None:
         return f"{name} row {int(rows[i])}"
     return f"{name} sample {offset + i}"
@@ -66,7 +66,7 @@ class DutyTrace:
         Payload carried at each sample [kg]; the vehicle's default payload when omitted.
     name : str
         What error messages call the trace (usually the file path).
-    rows : numpy.ndarray, optional
+    rows : numpy.ndarray or range, optional
         File line number of each sample, for error messages.
     offset : int
         Index of the first sample in the whole trace (set on chunks).
@@ -87,7 +87,7 @@ class DutyTrace:
     grade: np.ndarray | None = None
     payload: np.ndarray | None = None
     name: str = "trace"
-    rows: np.ndarray | None = field(default=None, repr=False)
+    rows: Sequence[int] | None = field(default=None, repr=False)
     offset: int = 0
 
     def __post_init__(self) -> None:
