@@ -16,18 +16,18 @@ import argparse
 import resource
 import time
 from collections.abc import Iterator
-from pathlib import Path
 
 import numpy as np
 
+from workbench.core.constants import STANDARD_GRAVITY as G
+from workbench.core.paths import DATA
 from workbench.io.maps import read_map
 from workbench.io.profiles import read_trace
 from workbench.io.vehicles import read_vehicle
 from workbench.models.duty import DutySettings, DutyTrace
 from workbench.models.engine import duty_energy
-from workbench.models.vehicle import G, Vehicle, road_load
+from workbench.models.vehicle import Vehicle, road_load
 
-DATA = Path(__file__).resolve().parent.parent / "workbench" / "data"
 YEAR = 365 * 24 * 3600
 
 

@@ -106,9 +106,9 @@ def test_bad_files_raise_one_line(data, match):
 
 
 def test_map_with_bom_and_crlf(tmp_path):
-    text = ("# value: brake_efficiency\r\n# idle_speed_rpm: 800\r\n# idle_fuel_power_kw: 3\r\n"
-            "torque_n_m/speed_rpm,800,2000\r\nfull_load,200,250\r\n20,0.15,0.16\r\n"
-            "200,0.33,0.35\r\n").encode()
+    text = (b"# value: brake_efficiency\r\n# idle_speed_rpm: 800\r\n# idle_fuel_power_kw: 3\r\n"
+            b"torque_n_m/speed_rpm,800,2000\r\nfull_load,200,250\r\n20,0.15,0.16\r\n"
+            b"200,0.33,0.35\r\n")
     m = read_map(write(tmp_path, BOM + text, "m.csv"))
     assert_allclose(m.efficiency, [[0.15, 0.16], [0.33, 0.35]], rtol=1e-15)
 

@@ -18,13 +18,13 @@ from pathlib import Path
 import numpy as np
 
 from workbench.core.cache import memoize
+from workbench.core.constants import J_PER_KWH, RPM, to_rpm
 from workbench.core.errors import InputError
 from workbench.io.csvtext import CsvTable, parse_csv, read_file_bytes
 from workbench.models.engine import EngineMap
 
-_RPM = 2.0 * math.pi / 60.0
 _MAP_KEYS = ("value", "idle_speed_rpm", "idle_fuel_power_kw", "bsfc_lhv_mj_per_kg")
-_SPEED_UNITS = {"rpm": _RPM, "rad_per_s": 1.0}
+_SPEED_UNITS = {"rpm": RPM, "rad_per_s": 1.0}
 _VALUE_KINDS = ("brake_efficiency", "bsfc_g_per_kwh")
 
 
@@ -111,7 +111,7 @@ def _parse_map(name: str, data: bytes) -> EngineMap:
         lhv = _meta_number(name, meta, "bsfc_lhv_mj_per_kg") * 1e6
         if np.any(grid <= 0):
             raise InputError(name, "BSFC cells must be positive")
-        grid = 3.6e9 / (grid * lhv)  # g/kWh -> kg/J is 1/3.6e9
+        grid = J_PER_KWH * 1e3 / (grid * lhv)  # g/kWh -> kg/J is 1e-3/J_PER_KWH
     bad_cells = ~((grid > 0.0) & (grid < 1.0))
     if bad_cells.any():
         i, j = np.argwhere(bad_cells)[0]
@@ -120,7 +120,7 @@ def _parse_map(name: str, data: bytes) -> EngineMap:
     try:
         return EngineMap(name=name, speed=speed, torque=torque, efficiency=grid,
                          full_load_torque=full,
-                         idle_speed=_meta_number(name, meta, "idle_speed_rpm") * _RPM,
+                         idle_speed=_meta_number(name, meta, "idle_speed_rpm") * RPM,
                          idle_fuel_power=_meta_number(name, meta, "idle_fuel_power_kw") * 1e3)
     except InputError as exc:
         raise InputError(f"{name}: {exc.where.split(': ')[-1]}", exc.message) from None
@@ -165,9 +165,9 @@ def format_map_csv(engine_map: EngineMap, *, comments: tuple[str, ...] = ()) -> 
     """
     lines = [f"# {c}" for c in comments] + [
         "# value: brake_efficiency",
-        f"# idle_speed_rpm: {engine_map.idle_speed / _RPM:.0f}",
+        f"# idle_speed_rpm: {to_rpm(engine_map.idle_speed):.0f}",
         f"# idle_fuel_power_kw: {engine_map.idle_fuel_power / 1e3:.3f}",
-        "torque_n_m/speed_rpm," + ",".join(f"{n / _RPM:.0f}" for n in engine_map.speed),
+        "torque_n_m/speed_rpm," + ",".join(f"{to_rpm(n):.0f}" for n in engine_map.speed),
         "full_load," + ",".join(f"{t:.1f}" for t in engine_map.full_load_torque),
     ]
     for t, row in zip(engine_map.torque, engine_map.efficiency, strict=True):

@@ -14,13 +14,13 @@ edited file is read again.
 from __future__ import annotations
 
 import hashlib
-import math
 import tomllib
 from pathlib import Path
 
 import numpy as np
 
 from workbench.core.cache import memoize
+from workbench.core.constants import RPM
 from workbench.core.errors import InputError
 from workbench.io.csvtext import CsvTable, parse_csv, read_file_bytes
 from workbench.models.duty import DutyTrace, ModeTable
@@ -37,7 +37,7 @@ TRACE_COLUMNS: dict[str, dict[str, float]] = {
 
 #: Known time-at-mode columns: quantity -> {unit token: factor to SI}.
 MODE_COLUMNS: dict[str, dict[str, float]] = {
-    "engine_speed": {"rpm": 2.0 * math.pi / 60.0, "rad_per_s": 1.0},
+    "engine_speed": {"rpm": RPM, "rad_per_s": 1.0},
     "torque": {"n_m": 1.0, "kn_m": 1000.0},
     "time": _TIME_UNITS,
 }

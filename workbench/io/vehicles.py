@@ -7,15 +7,13 @@ dataclass of numbers, so it is compared and hashed by its content.
 
 from __future__ import annotations
 
-import math
 import tomllib
 from pathlib import Path
 
+from workbench.core.constants import RPM
 from workbench.core.errors import InputError
 from workbench.io.csvtext import read_file_bytes
 from workbench.models.vehicle import Vehicle
-
-_RPM = 2.0 * math.pi / 60.0
 
 #: TOML key -> (Vehicle field, factor to SI). Values may be plain numbers or
 #: ``{ value = ..., source = "..." }`` tables.
@@ -28,8 +26,8 @@ _TOML_FIELDS: dict[str, tuple[str, float]] = {
     "driveline_efficiency": ("driveline_efficiency", 1.0),
     "wheel_radius_m": ("wheel_radius", 1.0),
     "final_drive": ("final_drive", 1.0),
-    "shift_speed_rpm": ("shift_speed", _RPM),
-    "max_engine_speed_rpm": ("max_engine_speed", _RPM),
+    "shift_speed_rpm": ("shift_speed", RPM),
+    "max_engine_speed_rpm": ("max_engine_speed", RPM),
     "air_density_kg_per_m3": ("air_density", 1.0),
     "rotating_mass_factor": ("rotating_mass_factor", 1.0),
 }

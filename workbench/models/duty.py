@@ -267,9 +267,9 @@ class DutyStats:
         Highest sample speed [m/s].
     idle_share : float
         Share of the time spent stopped [-].
-    stops_per_km : float
+    stops_per_m : float
         Number of stops (moving -> standing transitions, a trace that starts standing counts
-        one) per kilometre [1/km].
+        one) per metre driven [1/m] (the interfaces show it per km).
     positive_kinetic_energy : float
         Sum of positive changes of v² divided by distance [m/s²].
     """
@@ -279,7 +279,7 @@ class DutyStats:
     mean_speed: float
     max_speed: float
     idle_share: float
-    stops_per_km: float
+    stops_per_m: float
     positive_kinetic_energy: float
 
 
@@ -294,7 +294,7 @@ def duty_stats(trace: DutyTrace) -> DutyStats:
     Returns
     -------
     DutyStats
-        Distance, duration, mean and maximum speed, idle share, stops per km and positive
+        Distance, duration, mean and maximum speed, idle share, stops per metre and positive
         kinetic energy.
 
     Notes
@@ -312,13 +312,12 @@ def duty_stats(trace: DutyTrace) -> DutyStats:
     stops = int(np.count_nonzero(stopped[1:] & ~stopped[:-1]) + int(stopped[0]))
     dv2 = np.diff(v * v)
     pke = float(np.sum(dv2[dv2 > 0.0]))
-    per_km = distance / 1000.0
     return DutyStats(
         distance=distance,
         duration=duration,
         mean_speed=distance / duration,
         max_speed=float(v.max()),
         idle_share=float(np.sum(dt[stopped])) / duration,
-        stops_per_km=stops / per_km if per_km > 0.0 else math.nan,
+        stops_per_m=stops / distance if distance > 0.0 else math.nan,
         positive_kinetic_energy=pke / distance if distance > 0.0 else math.nan,
     )

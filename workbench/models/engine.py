@@ -1,4 +1,4 @@
-"""Engine efficiency maps, fuel over a duty, and fuel and energy per km.
+"""Engine efficiency maps, fuel over a duty, and fuel and energy per distance.
 
 An :class:`EngineMap` holds brake efficiency on a grid of engine speed × torque, the full-load
 torque curve, idle speed and idle fuel power. It comes from a CSV grid
@@ -9,9 +9,10 @@ options (power derate, efficiency offset) are derived maps (:meth:`EngineMap.adj
 :func:`duty_energy` runs a trace through a vehicle and a map, in chunks so that a year of 1 Hz
 data stays in bounded memory, and returns fuel energy (LHV) and the shares of time out of map
 and at full load; :func:`mode_energy` does the same for a time-at-mode table.
-:func:`fuel_per_km` turns the fuel energy into per-km figures for any fuel from three plain
-numbers (LHV, stored density, CO2 per kg); :func:`fuel_per_km_for` takes them from a
-:class:`~workbench.core.fuels.Fuel` and its fuel sheet.
+:func:`fuel_per_distance` turns the fuel energy into figures per metre (SI, like every model
+quantity; per km and per 100 km only in :meth:`FuelPerDistance.trade_units`) for any fuel from
+three plain numbers (LHV, stored density, CO2 per kg); :func:`fuel_per_distance_for` takes them
+from a :class:`~workbench.core.fuels.Fuel` and its fuel sheet.
 
 Fuel power at an operating point (engine speed ``n``, brake torque ``T``)
 ------------------------------------------------------------------------
@@ -39,6 +40,7 @@ import pandas as pd
 from scipy.interpolate import RegularGridInterpolator
 
 from workbench.core.cache import content_digest
+from workbench.core.constants import RPM, to_rpm
 from workbench.core.errors import InputError
 from workbench.models.duty import DutySettings, DutyTrace, ModeTable
 from workbench.models.vehicle import FIRED, IDLE, Vehicle, operating_points, road_load
@@ -46,8 +48,6 @@ from workbench.models.vehicle import FIRED, IDLE, Vehicle, operating_points, roa
 if TYPE_CHECKING:
     from workbench.core.fuels import Fuel
     from workbench.models.combustion import FuelSheet
-
-_RPM = 2.0 * math.pi / 60.0
 
 #: Gasoline (E0) energy per litre used for gasoline-litre equivalents [J/m3]:
 #: LHV 43.2 MJ/kg × 745 kg/m3 (JEC Well-to-Wheels report v5, 2020, fuel properties table;
@@ -666,57 +666,56 @@ def run_duty(duty: DutyTrace | ModeTable, vehicle: Vehicle | None, engine_map: E
         speed, torque = ops.engine_speed[burning], ops.engine_torque[burning]
         dt = load.duration[burning]
     fuel_power = engine_map.fuel_power(speed, torque).fuel_power
-    rpm = speed * 60 / (2 * math.pi)
+    rpm = to_rpm(speed)
     edges = np.linspace(rpm.min(), rpm.max() + 1e-9, NOX_SPEED_BINS + 1)
     weights, _ = np.histogram(rpm, edges, weights=fuel_power * dt)
     centres = (edges[:-1] + edges[1:]) / 2
     keep = weights > 0
     n_speed, n_torque = HISTOGRAM_BINS
-    s_edges = np.linspace(engine_map.speed.min(), engine_map.speed.max(), n_speed + 1) * 60 / (
-        2 * math.pi)
+    s_edges = to_rpm(np.linspace(engine_map.speed.min(), engine_map.speed.max(), n_speed + 1))
     t_edges = np.linspace(0.0, float(engine_map.full_load_torque.max()), n_torque + 1)
     seconds, _, _ = np.histogram2d(rpm, np.clip(torque, 0, None), [s_edges, t_edges],
                                    weights=dt)
     sc, tc = np.meshgrid((s_edges[:-1] + s_edges[1:]) / 2, (t_edges[:-1] + t_edges[1:]) / 2,
                          indexing="ij")
     mask = seconds > 0
-    eff = engine_map.efficiency_at(sc[mask] * 2 * math.pi / 60, tc[mask])
+    eff = engine_map.efficiency_at(sc[mask] * RPM, tc[mask])
     points = pd.DataFrame({"engine_speed_rpm": sc[mask], "torque_nm": tc[mask],
                            "seconds": seconds[mask], "brake_efficiency": eff})
     return DutyRun(energy, centres[keep], weights[keep], points)
 
 
-# ----------------------------------------------------------------------------- per km
+# ----------------------------------------------------------------------------- per distance
 
 
 @dataclass(frozen=True)
-class FuelPerKm:
-    """Fuel, energy and tank-to-wheel CO2 per km for one fuel on one duty.
+class FuelPerDistance:
+    """Fuel, energy and tank-to-wheel CO2 per metre driven for one fuel on one duty.
 
     Attributes
     ----------
-    fuel_energy_per_km : float
-        Fuel energy, LHV basis [J/km].
-    fuel_mass_per_km : float
-        [kg/km].
-    fuel_volume_per_km : float
-        Volume as stored on board [m3/km]; NaN when no stored density is known.
-    co2_ttw_per_km : float
-        Tank-to-wheel CO2 from the fuel's carbon [kg/km].
-    gasoline_equivalent_per_km : float
-        Volume of gasoline with the same energy [m3/km].
-    diesel_equivalent_per_km : float
-        Volume of diesel with the same energy [m3/km].
+    fuel_energy_per_m : float
+        Fuel energy, LHV basis [J/m] (1 MJ/km = 1000 J/m).
+    fuel_mass_per_m : float
+        [kg/m].
+    fuel_volume_per_m : float
+        Volume as stored on board [m3/m]; NaN when no stored density is known.
+    co2_ttw_per_m : float
+        Tank-to-wheel CO2 from the fuel's carbon [kg/m].
+    gasoline_equivalent_per_m : float
+        Volume of gasoline with the same energy [m3/m].
+    diesel_equivalent_per_m : float
+        Volume of diesel with the same energy [m3/m].
     share_idle, share_out_of_map, share_at_full_load : float
         From the duty [-].
     """
 
-    fuel_energy_per_km: float
-    fuel_mass_per_km: float
-    fuel_volume_per_km: float
-    co2_ttw_per_km: float
-    gasoline_equivalent_per_km: float
-    diesel_equivalent_per_km: float
+    fuel_energy_per_m: float
+    fuel_mass_per_m: float
+    fuel_volume_per_m: float
+    co2_ttw_per_m: float
+    gasoline_equivalent_per_m: float
+    diesel_equivalent_per_m: float
     share_idle: float
     share_out_of_map: float
     share_at_full_load: float
@@ -732,24 +731,24 @@ class FuelPerKm:
             ``diesel_l_equivalent_per_100km``, ``co2_ttw_g_per_km``, ``share_idle``,
             ``share_out_of_map``, ``share_at_full_load``.
         """
-        litres_per_km = self.fuel_volume_per_km * 1e3
+        litres_per_km = self.fuel_volume_per_m * 1e6  # 1e3 L/m3 x 1e3 m/km
         km_per_l = 1.0 / litres_per_km if litres_per_km > 0 else math.nan
         return {
-            "fuel_energy_mj_per_km": self.fuel_energy_per_km / 1e6,
-            "fuel_kg_per_100km": self.fuel_mass_per_km * 100.0,
+            "fuel_energy_mj_per_km": self.fuel_energy_per_m * 1e-3,  # 1e3 m/km / 1e6 J/MJ
+            "fuel_kg_per_100km": self.fuel_mass_per_m * 1e5,
             "fuel_l_per_100km": litres_per_km * 100.0,
             "fuel_km_per_l": km_per_l,
             "fuel_mpg_us": km_per_l * US_GALLON_L / MILE_KM,
-            "gasoline_l_equivalent_per_100km": self.gasoline_equivalent_per_km * 1e5,
-            "diesel_l_equivalent_per_100km": self.diesel_equivalent_per_km * 1e5,
-            "co2_ttw_g_per_km": self.co2_ttw_per_km * 1e3,
+            "gasoline_l_equivalent_per_100km": self.gasoline_equivalent_per_m * 1e8,
+            "diesel_l_equivalent_per_100km": self.diesel_equivalent_per_m * 1e8,
+            "co2_ttw_g_per_km": self.co2_ttw_per_m * 1e6,
             "share_idle": self.share_idle,
             "share_out_of_map": self.share_out_of_map,
             "share_at_full_load": self.share_at_full_load,
         }
 
 
-def fuel_per_km(
+def fuel_per_distance(
     energy: DutyEnergy,
     *,
     lhv_mass: float,
@@ -757,8 +756,8 @@ def fuel_per_km(
     co2_mass: float,
     gasoline_energy_per_volume: float = GASOLINE_ENERGY_PER_VOLUME,
     diesel_energy_per_volume: float = DIESEL_ENERGY_PER_VOLUME,
-) -> FuelPerKm:
-    """Per-km fuel figures for one fuel.
+) -> FuelPerDistance:
+    """Fuel figures per metre driven for one fuel.
 
     Parameters
     ----------
@@ -775,36 +774,36 @@ def fuel_per_km(
 
     Returns
     -------
-    FuelPerKm
+    FuelPerDistance
 
     Raises
     ------
     InputError
         The duty covers no distance.
     """
-    km = energy.distance / 1000.0
-    if not (math.isfinite(km) and km > 0.0):
+    distance = energy.distance
+    if not (math.isfinite(distance) and distance > 0.0):
         raise InputError("profile", "covers no distance; per-km figures need a moving trace "
                                     "or '# distance_km: ...' in a mode table")
     if not (lhv_mass > 0.0 and co2_mass >= 0.0):
         raise InputError("fuel", "needs a positive LHV and a CO2 factor >= 0")
-    energy_km = energy.fuel_energy / km
-    mass_km = energy_km / lhv_mass
-    return FuelPerKm(
-        fuel_energy_per_km=energy_km,
-        fuel_mass_per_km=mass_km,
-        fuel_volume_per_km=mass_km / density if density > 0.0 else math.nan,
-        co2_ttw_per_km=mass_km * co2_mass,
-        gasoline_equivalent_per_km=energy_km / gasoline_energy_per_volume,
-        diesel_equivalent_per_km=energy_km / diesel_energy_per_volume,
+    energy_m = energy.fuel_energy / distance
+    mass_m = energy_m / lhv_mass
+    return FuelPerDistance(
+        fuel_energy_per_m=energy_m,
+        fuel_mass_per_m=mass_m,
+        fuel_volume_per_m=mass_m / density if density > 0.0 else math.nan,
+        co2_ttw_per_m=mass_m * co2_mass,
+        gasoline_equivalent_per_m=energy_m / gasoline_energy_per_volume,
+        diesel_equivalent_per_m=energy_m / diesel_energy_per_volume,
         share_idle=energy.share_idle,
         share_out_of_map=energy.share_out_of_map,
         share_at_full_load=energy.share_at_full_load,
     )
 
 
-def fuel_per_km_for(energy: DutyEnergy, fuel: Fuel, sheet: FuelSheet) -> FuelPerKm:
-    """Per-km fuel figures for a library fuel.
+def fuel_per_distance_for(energy: DutyEnergy, fuel: Fuel, sheet: FuelSheet) -> FuelPerDistance:
+    """Fuel figures per metre driven for a library fuel.
 
     Parameters
     ----------
@@ -818,9 +817,9 @@ def fuel_per_km_for(energy: DutyEnergy, fuel: Fuel, sheet: FuelSheet) -> FuelPer
 
     Returns
     -------
-    FuelPerKm
+    FuelPerDistance
     """
     liquid = fuel.storage is None or fuel.storage.kind in ("liquid", "liquefied")
     density = fuel.liquid_density if liquid and fuel.liquid_density else math.nan
-    return fuel_per_km(energy, lhv_mass=sheet.lhv_mass, density=density,
+    return fuel_per_distance(energy, lhv_mass=sheet.lhv_mass, density=density,
                        co2_mass=sheet.co2_mass)

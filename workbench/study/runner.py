@@ -22,15 +22,16 @@ import numpy as np
 import pandas as pd
 
 from workbench.core.cache import memoize
+from workbench.core.constants import J_PER_KWH, M_NO2
 from workbench.core.errors import InputError
 from workbench.core.fuels import Fuel, load_fuel
 from workbench.core.thermo import molar_mass
 from workbench.models import economics as econ
 from workbench.models.aftertreatment import Aftertreatment, optimal_interval, programme_nox
-from workbench.models.combustion import M_NO2, FuelSheet, exhaust, fuel_sheet
+from workbench.models.combustion import FuelSheet, exhaust, fuel_sheet
 from workbench.models.duty import DutySettings, DutyTrace, ModeTable
 from workbench.models.emissions import co2e
-from workbench.models.engine import DutyRun, EngineMap, fuel_per_km_for, run_duty
+from workbench.models.engine import DutyRun, EngineMap, fuel_per_distance_for, run_duty
 from workbench.models.nox import (
     DEFAULT_ENGINE_OUT,
     duty_propensity,
@@ -56,7 +57,6 @@ _DEFAULT_REFERENCE_FUEL = {"spark-ignition": "gasoline", "lean-burn-gas": "natur
                            "compression-ignition": "diesel"}
 #: Equivalence ratios of the flame table [-].
 FLAME_PHI = (0.7, 0.8, 0.9, 1.0, 1.1, 1.2, 1.3)
-_J_PER_KWH = 3.6e6
 
 
 # ----------------------------------------------------------------------------- physics
@@ -158,7 +158,7 @@ def _nox_per_m(value: float, unit: str, co: ClassOption, duty: DutyRun,
     if unit == "g/km":
         return value * 1e-6
     if unit == "g/kWh":
-        return value * 1e-3 * duty.energy.engine_energy / duty.energy.distance / _J_PER_KWH
+        return value * 1e-3 * duty.energy.engine_energy / duty.energy.distance / J_PER_KWH
     ex = exhaust(co.fuel, co.lambda_overall)  # ppm of NO in the wet exhaust, as NO2 mass
     fuel_kg_per_m = fuel_energy_per_m / fuel_sheet(co.fuel).lhv_mass
     return value * 1e-6 * ex.moles_per_kg_fuel * M_NO2 * fuel_kg_per_m
@@ -188,9 +188,9 @@ def class_physics(c: FleetClass, co: ClassOption, base: ClassOption, months: int
     """
     duty = _duty_for(c, co)
     sheet = fuel_sheet(co.fuel)
-    per_km = fuel_per_km_for(duty.energy, co.fuel, sheet)
-    energy_m = per_km.fuel_energy_per_km / 1000.0
-    mass_m = per_km.fuel_mass_per_km / 1000.0
+    per_m = fuel_per_distance_for(duty.energy, co.fuel, sheet)
+    energy_m = per_m.fuel_energy_per_m
+    mass_m = per_m.fuel_mass_per_m
     eo, source = _engine_out(c, co, base, duty, energy_m)
     km_month = c.km_per_year.nominal / 12.0
     damage = nox_damage_cost
@@ -202,8 +202,8 @@ def class_physics(c: FleetClass, co: ClassOption, base: ClassOption, months: int
         sheet=sheet,
         fuel_energy_per_m=energy_m,
         fuel_mass_per_m=mass_m,
-        fuel_volume_per_m=per_km.fuel_volume_per_km / 1000.0,
-        co2_ttw_per_m=per_km.co2_ttw_per_km / 1000.0,
+        fuel_volume_per_m=per_m.fuel_volume_per_m,
+        co2_ttw_per_m=per_m.co2_ttw_per_m,
         ch4_per_m=co.methane_slip * ch4_share * mass_m,
         engine_out_nox_per_m=eo,
         nox_source=source,
@@ -212,8 +212,8 @@ def class_physics(c: FleetClass, co: ClassOption, base: ClassOption, months: int
         replacements=prog.replacements,
         best_interval_months=best[0],
         best_total_cost=best[1],
-        share_out_of_map=per_km.share_out_of_map,
-        share_full_load=per_km.share_at_full_load,
+        share_out_of_map=per_m.share_out_of_map,
+        share_full_load=per_m.share_at_full_load,
         duty=duty,
         storage=_storage(co.fuel, energy_m, c.range),
     )

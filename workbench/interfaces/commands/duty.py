@@ -10,10 +10,9 @@ import argparse
 from pathlib import Path
 
 from workbench.core.errors import InputError
+from workbench.core.paths import DATA
 from workbench.io.profiles import read_profile
 from workbench.models.duty import DutySettings, DutyTrace, duty_stats
-
-DATA = Path(__file__).resolve().parents[2] / "data"
 
 #: Demo kind -> (data sub-directory, file suffix).
 _DEMOS = {"profile": ("profiles", ".csv"), "vehicle": ("vehicles", ".toml"),
@@ -102,7 +101,7 @@ def _stats(args: argparse.Namespace) -> None:
         "mean_speed_km_per_h": s.mean_speed * 3.6,
         "max_speed_km_per_h": s.max_speed * 3.6,
         "idle_share": s.idle_share,
-        "stops_per_km": s.stops_per_km,
+        "stops_per_km": s.stops_per_m * 1e3,
         "positive_kinetic_energy_m_per_s2": s.positive_kinetic_energy,
     }
     if args.json:
@@ -127,7 +126,7 @@ def _fuel(args: argparse.Namespace) -> None:
     from workbench.io.maps import read_map
     from workbench.io.vehicles import read_vehicle
     from workbench.models.combustion import fuel_sheet
-    from workbench.models.engine import fuel_per_km_for, run_duty
+    from workbench.models.engine import fuel_per_distance_for, run_duty
 
     settings = _settings(args)
     profile = read_profile(resolve(args.profile, "profile", "PROFILE"))
@@ -146,7 +145,7 @@ def _fuel(args: argparse.Namespace) -> None:
     rows = []
     for k, fuel in enumerate(fuels):
         energy = energies[min(k, len(maps) - 1)]
-        result = fuel_per_km_for(energy, fuel, fuel_sheet(fuel))
+        result = fuel_per_distance_for(energy, fuel, fuel_sheet(fuel))
         rows.append({"fuel": fuel.id,
                      "derate": 0.0 if k == 0 else args.derate,
                      "efficiency_offset": 0.0 if k == 0 else args.efficiency_offset,

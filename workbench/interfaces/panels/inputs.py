@@ -17,6 +17,7 @@ import numpy as np
 import plotly.graph_objects as go
 
 from workbench.core.errors import InputError
+from workbench.core.paths import DATA
 from workbench.interfaces.charts import TEMPLATE, MapGrid, efficiency_map_chart
 from workbench.interfaces.panels.fields import error_widget, esc, label, save_upload, show_error
 from workbench.interfaces.panels.results import FigurePane
@@ -24,7 +25,7 @@ from workbench.interfaces.panels.state import StudyState
 from workbench.io.maps import read_map
 from workbench.io.profiles import read_profile
 from workbench.models.duty import DutyTrace, ModeTable, duty_stats
-from workbench.study.studyfile import DATA, FleetClass
+from workbench.study.studyfile import FleetClass
 
 
 class ClassFileChoice(widgets.VBox):
@@ -121,7 +122,7 @@ def stats_html(duty: DutyTrace | ModeTable) -> str:
         "mean speed, stops included [km/h]": f"{s.mean_speed * 3.6:.1f}",
         "maximum speed [km/h]": f"{s.max_speed * 3.6:.1f}",
         "time stopped [%]": f"{s.idle_share * 100:.1f}",
-        "stops per km [1/km]": f"{s.stops_per_km:.2f}",
+        "stops per km [1/km]": f"{s.stops_per_m * 1e3:.2f}",
         "positive kinetic energy [m/s²]": f"{s.positive_kinetic_energy:.3f}",
     }
     body = "".join(f"<tr><td>{esc(k)}</td><td style='text-align:right'>{esc(v)}</td></tr>"
