@@ -2,14 +2,17 @@
 
 The keys are listed in ``docs/duty.md``; each number may be written plainly or as
 ``{ value = 1450, source = "typical value, example" }``. A :class:`Vehicle` is a frozen
-dataclass of numbers, so it is compared and hashed by its content.
+dataclass of numbers, so it is compared and hashed by its content; reading is keyed by the
+file's content.
 """
 
 from __future__ import annotations
 
+import hashlib
 import tomllib
 from pathlib import Path
 
+from workbench.core.cache import memoize
 from workbench.core.constants import RPM
 from workbench.core.errors import InputError
 from workbench.io.csvtext import read_file_bytes
@@ -60,31 +63,41 @@ def read_vehicle(path: str | Path) -> Vehicle:
     InputError
         Unreadable file, unknown or missing keys, values out of range.
     """
-    path = Path(path)
+    return _parse_vehicle(str(path), read_file_bytes(path))
+
+
+def _key(name: str, data: bytes) -> tuple[str, bytes]:
+    return name, hashlib.sha256(data).digest()
+
+
+@memoize(maxsize=32, key=_key)
+def _parse_vehicle(name: str, data: bytes) -> Vehicle:
+    """A vehicle from the file's bytes (cached by their content)."""
+    path = Path(name)
     try:
-        data = tomllib.loads(read_file_bytes(path).decode("utf-8-sig"))
+        tree = tomllib.loads(data.decode("utf-8-sig"))
     except UnicodeDecodeError:
         raise InputError(str(path), "is not UTF-8 text; save it as UTF-8") from None
     except tomllib.TOMLDecodeError as exc:
         raise InputError(str(path), f"not a readable TOML file ({exc}); fix the syntax"
                          ) from None
     known = {"name", "description", "invented", "source", "gear_ratios", *_TOML_FIELDS}
-    for key in data:
+    for key in tree:
         if key not in known:
             raise InputError(f"{path}: {key}", f"unknown key; known keys: {', '.join(known)}")
-    kwargs: dict[str, object] = {"name": str(data.get("name", path.stem))}
+    kwargs: dict[str, object] = {"name": str(tree.get("name", path.stem))}
     for key, (attr, factor) in _TOML_FIELDS.items():
-        if key not in data:
+        if key not in tree:
             if key in _OPTIONAL:
                 continue
             raise InputError(str(path), f"missing key {key}")
-        value = _number(path, key, data[key])
+        value = _number(path, key, tree[key])
         if isinstance(value, list):
             raise InputError(f"{path}: {key}", "must be a single number")
         kwargs[attr] = float(value) * factor
-    if "gear_ratios" not in data:
+    if "gear_ratios" not in tree:
         raise InputError(str(path), "missing key gear_ratios")
-    gears = _number(path, "gear_ratios", data["gear_ratios"])
+    gears = _number(path, "gear_ratios", tree["gear_ratios"])
     if not isinstance(gears, list) or not all(
             isinstance(g, int | float) and not isinstance(g, bool) for g in gears):
         raise InputError(f"{path}: gear_ratios", "must be a list of numbers, first gear first")

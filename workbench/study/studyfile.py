@@ -627,24 +627,29 @@ def resolve_data_file(raw: Any, where: str, kind: str, base_dir: Path) -> Path:
         Not a text, wrong suffix, or no such file; the message names the path tried.
     """
     folder, suffixes = DATA_FILE_KINDS[kind]
-    shipped = sorted(p.stem for p in (DATA / folder).glob(f"*{suffixes[0]}")) if folder else []
-    names = f" or a shipped {kind} ({', '.join(shipped)})" if shipped else ""
+
+    def names() -> str:  # only for the error message
+        shipped = sorted(p.stem for p in (DATA / folder).glob(f"*{suffixes[0]}")) if folder else []
+        return f" or a shipped {kind} ({', '.join(shipped)})" if shipped else ""
+
     if not isinstance(raw, str) or not raw.strip() or "\x00" in raw or len(raw) > 4096:
-        raise InputError(where, f"must name a {'/'.join(suffixes)} file{names}")
-    if folder and raw in shipped:
-        return DATA / folder / f"{raw}{suffixes[0]}"
+        raise InputError(where, f"must name a {'/'.join(suffixes)} file{names()}")
+    if folder and re.fullmatch(r"[A-Za-z0-9_.-]+", raw) and not raw.endswith(suffixes):
+        shipped = DATA / folder / f"{raw}{suffixes[0]}"
+        if shipped.is_file():
+            return shipped
     path = Path(raw).expanduser()
     tried = path if path.is_absolute() else base_dir / path
     if tried.suffix.lower() not in suffixes:
         raise InputError(where, f"{raw!r} is not a {kind} file: name a "
-                         f"{'/'.join(suffixes)} file{names}")
+                         f"{'/'.join(suffixes)} file{names()}")
     try:
         found = tried.is_file()
     except (OSError, ValueError):
         found = False
     if not found:
         raise InputError(where, f"no {kind} file at {tried} (relative paths are read from the "
-                         f"study's folder); fix the path{names}")
+                         f"study's folder); fix the path{names()}")
     return tried.resolve()
 
 
