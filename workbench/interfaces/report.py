@@ -34,7 +34,7 @@ from workbench.interfaces.charts import MapGrid, all_figures
 from workbench.interfaces.present import TABLE_TITLES, reader_table, side_by_side
 from workbench.interfaces.summary import best_option, verdicts
 from workbench.io.files import check_target, write_text_atomic
-from workbench.models.engine import EngineMap, read_map
+from workbench.models.engine import EngineMap
 from workbench.study.results import StudyResult
 from workbench.study.studyfile import Study
 
@@ -438,5 +438,5 @@ def write_study_report(study: Study, result: StudyResult, path: str | os.PathLik
     pathlib.Path
         The path written.
     """
-    maps = {c.id: read_map(c.engine_map) for c in study.inputs.classes}
+    maps = {c.id: c.map_data for c in study.inputs.classes}
     return write_report(result, path, study_text=study.to_toml(), map_grid=maps)
