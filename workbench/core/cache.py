@@ -30,9 +30,10 @@ import hashlib
 from collections import OrderedDict
 from collections.abc import Callable, Hashable
 from dataclasses import dataclass
-from typing import Any, Literal, ParamSpec, TypeVar
+from typing import TYPE_CHECKING, Any, Literal, ParamSpec, TypeVar
 
-import numpy as np
+if TYPE_CHECKING:
+    import numpy as np
 
 P = ParamSpec("P")
 R = TypeVar("R")
@@ -177,6 +178,8 @@ def content_digest(*parts: np.ndarray | float | str | None) -> str:
     str
         Hex digest.
     """
+    import numpy as np  # here, so that importing the cache (the CLI's parser) spares numpy
+
     h = hashlib.sha256()
     for part in parts:
         if part is None:
