@@ -367,3 +367,20 @@ def test_break_even_finds_the_root_of_a_linear_npv():
 def test_break_even_is_nan_without_a_root_at_or_above_zero():
     assert np.isnan(econ.break_even(lambda x: 5.0, 1.0))  # does not depend on the input
     assert np.isnan(econ.break_even(lambda x: 1.0 + x, 2.0))  # zero only at x = -1
+
+
+def test_break_even_of_several_functions_in_one_call_each_step():
+    # The same four closed forms as above, solved together: roots a / b = 1.5, the quadratic
+    # formula's, none (flat), none (only below zero); f sees every input of a step at once.
+    quadratic_root = (-4 + (16 + 4) ** 0.5) / 0.2
+    calls = []
+
+    def f(x):
+        calls.append(x.copy())
+        return np.array([3.0 - 2.0 * x[0], 10 - 4 * x[1] - 0.1 * x[1] ** 2, 5.0, 1.0 + x[3]])
+
+    roots = econ.break_even(f, [0.8, 1.0, 1.0, 2.0])
+    assert roots[0] == pytest.approx(1.5, rel=1e-12)
+    assert roots[1] == pytest.approx(quadratic_root, rel=1e-9)
+    assert np.isnan(roots[2]) and np.isnan(roots[3])
+    assert len(calls) <= 2 + 4 and all(c.shape == (4,) for c in calls)  # 2 starts, 4 steps

@@ -450,19 +450,30 @@ def _break_even(plan: Plan) -> dict[str, list[tuple[Uncertain, float]]]:
     inputs = plan.inputs
     base = inputs.baseline.id
     base_fuels = {co.fuel.id for co in inputs.baseline.per_class.values()}
-    out: dict[str, list[tuple[Uncertain, float]]] = {}
+    subjects: list[tuple[str, Uncertain]] = []  # (candidate, input), one draw each
     for o in inputs.candidates:
         converted = [co for co in o.per_class.values() if co.converts]
-        subjects = [inputs.prices[f][1] for f in dict.fromkeys(co.fuel.id for co in converted)
-                    if f not in base_fuels]
-        subjects += [c.km_per_year for c in inputs.classes if o.per_class[c.id].converts]
+        found = [inputs.prices[f][1] for f in dict.fromkeys(co.fuel.id for co in converted)
+                 if f not in base_fuels]
+        found += [c.km_per_year for c in inputs.classes if o.per_class[c.id].converts]
+        subjects += [(o.id, u) for u in found]
+    out: dict[str, list[tuple[Uncertain, float]]] = {o.id: [] for o in inputs.candidates}
+    if not subjects:
+        return out
+    n = len(subjects)
+    nominal = {u.path: u.nominal for _, u in subjects}
+    varies = {p: np.array([u.path == p for _, u in subjects]) for p in nominal}
 
-        def npv_at(x: float, u: Uncertain, _oid: str = o.id) -> float:
-            money = _money(plan, {u.path: np.array([x])}, 1)
-            return float(econ.npv_draws(money, _oid, base).npv[0])
+    def npv_at(x: np.ndarray) -> np.ndarray:
+        # draw i moves subject i's input alone; money inputs only, so a path held at its
+        # nominal value in the other draws is the same as not naming it
+        money = _money(plan, {p: np.where(m, x, nominal[p]) for p, m in varies.items()}, n)
+        npv = {oid: econ.npv_draws(money, oid, base).npv for oid, _ in subjects}
+        return np.array([npv[oid][i] for i, (oid, _) in enumerate(subjects)])
 
-        out[o.id] = [(u, econ.break_even(lambda x, _u=u: npv_at(x, _u), u.nominal))
-                     for u in subjects]
+    roots = econ.break_even(npv_at, np.array([u.nominal for _, u in subjects]))
+    for (oid, u), root in zip(subjects, roots, strict=True):
+        out[oid].append((u, float(root)))
     return out
 
 

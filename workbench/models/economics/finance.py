@@ -17,7 +17,7 @@ Conventions
 from __future__ import annotations
 
 from collections.abc import Callable
-from typing import Literal
+from typing import Any, Literal
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
@@ -269,14 +269,18 @@ def abatement_cost(
         return _out(np.where(amount > 0.0, np.asarray(npv(rate, extra_cost)) / amount, np.nan))
 
 
-def break_even(f: Callable[[float], float], x0: float, *, steps: int = 4) -> float:
+def break_even(f: Callable[[Any], Any], x0: float | ArrayLike, *, steps: int = 4
+               ) -> float | NDArray[np.float64]:
     """Where a function of one input, linear or nearly so, crosses zero (secant steps).
 
     Parameters
     ----------
     f : callable
-        The output (e.g. an NPV [currency]) as a function of the input.
-    x0 : float
+        The output (e.g. an NPV [currency]) as a function of the input. Several functions
+        at once: give ``x0`` as an array, one start per function, and ``f`` maps an array of
+        inputs (one per function) to the array of their outputs; each secant step is then one
+        call of ``f`` for all of them.
+    x0 : float or array_like
         Starting value of the input (its nominal value); the second point is 25 % above it
         (1 when it is 0).
     steps : int, optional
@@ -284,24 +288,38 @@ def break_even(f: Callable[[float], float], x0: float, *, steps: int = 4) -> flo
 
     Returns
     -------
-    float
+    float or numpy.ndarray
         The input value where ``f`` is zero; NaN when ``f`` does not change with the input,
-        or crosses zero only below zero.
+        or crosses zero only below zero. An array (one root per function) for an array
+        ``x0``.
 
     Notes
     -----
-    Secant step: :math:`x_{k+1} = x_k - f(x_k) (x_k - x_{k-1}) / (f(x_k) - f(x_{k-1}))`.
+    Secant step: :math:`x_{k+1} = x_k - f(x_k) (x_k - x_{k-1}) / (f(x_k) - f(x_{k-1}))`;
+    a function whose last two outputs no longer differ stops moving.
     """
-    x1 = x0 * 1.25 if x0 else 1.0
-    y0, y1 = f(x0), f(x1)
-    root = float("nan")
+    xa = np.asarray(x0, dtype=float)
+    scalar = xa.ndim == 0
+
+    def at(x: NDArray[np.float64]) -> NDArray[np.float64]:
+        return np.asarray(f(float(x) if scalar else x), dtype=float)
+
+    xb = np.where(xa != 0.0, xa * 1.25, 1.0)
+    ya, yb = at(xa), at(xb)
+    root = np.full(xa.shape, np.nan)
+    moving = np.ones(xa.shape, dtype=bool)
     for _ in range(steps):
-        if abs(y1 - y0) <= 1e-12 * max(abs(y0), abs(y1), 1.0):
+        moving &= ~(np.abs(yb - ya) <= 1e-12 * np.maximum(np.maximum(np.abs(ya), np.abs(yb)),
+                                                          1.0))
+        if not moving.any():
             break
-        x0, x1 = x1, x1 - y1 * (x1 - x0) / (y1 - y0)
-        y0, y1 = y1, f(x1)
-        root = x1
-    return root if np.isfinite(root) and root >= 0 else float("nan")
+        with np.errstate(divide="ignore", invalid="ignore"):
+            step = np.where(moving, xb - yb * (xb - xa) / (yb - ya), xb)
+        xa, xb = xb, step
+        ya, yb = yb, np.where(moving, at(xb), yb)
+        root = np.where(moving, xb, root)
+    out = np.where(np.isfinite(root) & (root >= 0), root, np.nan)
+    return float(out) if scalar else out
 
 
 def residual_value(
