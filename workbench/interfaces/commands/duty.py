@@ -10,6 +10,7 @@ import argparse
 from pathlib import Path
 
 from workbench.core.errors import InputError
+from workbench.interfaces.cli import add_fuels_option
 from workbench.models.duty import DutySettings, DutyTrace, duty_stats, read_profile
 
 DATA = Path(__file__).resolve().parents[2] / "data"
@@ -51,6 +52,7 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--extra-idle-share", type=float, default=0.0, metavar="X",
                    help="share of time idling beyond the trace, e.g. waiting at a rank")
     p.add_argument("--json", action="store_true", help="print JSON")
+    add_fuels_option(p)
     p.set_defaults(func=_fuel)
 
 
