@@ -313,19 +313,31 @@ def _load_path(path: Path) -> Fuel:
         raise InputError(str(path), "no such fuel file; check the path") from None
     token = _LOADING.set((*chain, path))
     try:
-        data = _parse_fuel_file(raw, str(path))
-        return fuel_from_dict(data, fuel_id=path.stem, where=str(path), folder=path.parent)
+        digest = hashlib.sha256(raw).digest()
+        data = _parse_fuel_file(digest, raw, str(path))
+        table = data.get("blend")
+        parts = tuple(load_fuel(ref, folder=path.parent) for ref in table
+                      if ref not in ("basis", "source")) if isinstance(table, Mapping) else ()
+        return _fuel_of_file(digest, str(path), parts, data)
     finally:
         _LOADING.reset(token)
 
 
-@memoize(maxsize=512, key=lambda raw, where: hashlib.sha256(raw).digest())
-def _parse_fuel_file(raw: bytes, where: str) -> dict[str, Any]:
+@memoize(maxsize=512, key=lambda digest, raw, where: digest)
+def _parse_fuel_file(digest: bytes, raw: bytes, where: str) -> dict[str, Any]:
     """The parsed TOML of a fuel file's bytes, cached by their digest (do not mutate it)."""
     try:
         return tomllib.loads(raw.decode("utf-8"))
     except (tomllib.TOMLDecodeError, UnicodeDecodeError) as exc:
         raise InputError(where, f"not valid TOML ({exc}); fix the syntax") from None
+
+
+@memoize(maxsize=512, key=lambda digest, where, parts, data: (digest, where, parts))
+def _fuel_of_file(digest: bytes, where: str, parts: tuple[Fuel, ...],
+                  data: Mapping[str, Any]) -> Fuel:
+    """The fuel of a file, cached by its bytes' digest and, for a blend, by its parts."""
+    path = Path(where)
+    return fuel_from_dict(data, fuel_id=path.stem, where=where, folder=path.parent)
 
 
 def fuel_from_dict(data: Mapping[str, Any], *, fuel_id: str, where: str,
