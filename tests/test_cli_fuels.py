@@ -96,8 +96,11 @@ def test_fuels_option_puts_a_user_folder_first(run_cli, tmp_path):
     code, out, _ = run_cli("fuels", "show", "propane", "--fuels", str(tmp_path), "--json")
     assert code == 0
     assert abs(json.loads(out)["lhv_mj_per_kg"] - 50.016) < 0.1
+    (tmp_path / "loop.toml").write_text('state = "gas"\n[blend]\nsource = "t"\nloop = 1\n',
+                                        encoding="utf-8")
     code, out, _ = run_cli("fuels", "list", "--fuels", str(tmp_path))
     assert code == 0 and "house gas" in out and str(tmp_path) in out
+    assert "blend cycle loop.toml -> loop.toml" in out and "Natural gas" in out  # others stay
     code, out, _ = run_cli("fuels", "show", "propane", "--json")  # gone after the call
     assert abs(json.loads(out)["lhv_mj_per_kg"] - 46.357) < 0.1
     code, _, err = run_cli("nox", "propane", "--fuels", str(tmp_path / "nope"))

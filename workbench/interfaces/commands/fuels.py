@@ -7,7 +7,15 @@ import json
 from pathlib import Path
 
 from workbench.core.errors import InputError
-from workbench.core.fuels import BASES, LIBRARY, blend, fuel_folders, list_fuels, load_fuel
+from workbench.core.fuels import (
+    BASES,
+    LIBRARY,
+    blend,
+    find_fuel,
+    fuel_folders,
+    list_fuels,
+    load_fuel,
+)
 from workbench.interfaces.cli import add_fuels_option
 from workbench.interfaces.sheets import SHEET_FIELDS, format_table, fuel_record
 from workbench.io.files import write_text_atomic
@@ -111,10 +119,16 @@ def _list(args: argparse.Namespace) -> None:
 
     rows = []
     for fid in list_fuels():
-        fuel = load_fuel(fid)
+        path = find_fuel(fid)
+        try:
+            fuel = load_fuel(fid)
+        except InputError as exc:  # one bad file of the user's does not hide the others
+            rows.append({"id": fid, "name": None, "state": None, "storage": None,
+                         "path": str(path), "error": str(exc)})
+            continue
         rows.append({"id": fid, "name": fuel.name, "state": "gas" if fuel.is_gas else "liquid",
                      "storage": fuel.storage.kind if fuel.storage else None,
-                     "path": fuel.path})
+                     "path": str(path), "error": None})
     if args.json:
         print_json(rows)
         return
@@ -122,13 +136,15 @@ def _list(args: argparse.Namespace) -> None:
         searched = ", ".join(str(f) for f in fuel_folders())
         raise InputError("fuels list", f"no fuel files found in {searched}; reinstall the "
                          "package or give --fuels DIR")
-    shipped = LIBRARY.resolve()
     w = max(len(r["id"]) for r in rows)
     for r in rows:
         folder = Path(r["path"]).parent
-        where = "" if folder == shipped else f"  ({folder})"
-        print(f"{r['id'].ljust(w)}  {r['state']:<6}  {r['storage'] or '—':<10}  {r['name']}"
-              f"{where}")
+        where = "" if folder == LIBRARY else f"  ({folder})"
+        if r["error"]:
+            print(f"{r['id'].ljust(w)}  error: {r['error']}")
+        else:
+            print(f"{r['id'].ljust(w)}  {r['state']:<6}  {r['storage'] or '—':<10}  "
+                  f"{r['name']}{where}")
 
 
 def _show(args: argparse.Namespace) -> None:
