@@ -23,16 +23,17 @@ import tomllib
 from collections.abc import Iterable, Mapping
 from contextvars import ContextVar
 from dataclasses import dataclass, field
-from importlib import resources
 from pathlib import Path
 from typing import Any, Literal
 
 from workbench.core import thermo
 from workbench.core.cache import memoize
+from workbench.core.constants import T_STANDARD, ZERO_CELSIUS
 from workbench.core.errors import InputError
+from workbench.core.paths import DATA
 
 #: Folder of the shipped fuel library, inside the package (the checkout's ``fuels/`` is it).
-LIBRARY = Path(resources.files("workbench").joinpath("data", "fuels"))
+LIBRARY = DATA / "fuels"
 #: Environment variable naming the user's fuel folders, searched before the shipped library.
 FUELS_ENV = "WORKBENCH_FUELS"
 #: Folders given by :func:`use_fuel_folders` (the CLI's ``--fuels``), searched first.
@@ -69,7 +70,7 @@ class StorageSpec:
 
     kind: StorageKind
     pressure: float | None = None
-    temperature: float = 288.15
+    temperature: float = T_STANDARD
     source: str = ""
 
 
@@ -531,9 +532,9 @@ def _storage(table: Mapping[str, Any], where: str, state: str) -> StorageSpec:
     pressure = None
     if kind == "compressed":
         pressure = _positive(table, "pressure_bar", where) * 1e5
-    temperature = 288.15
+    temperature = T_STANDARD
     if "temperature_c" in table:
-        temperature = _number(table, "temperature_c", where) + 273.15
+        temperature = _number(table, "temperature_c", where) + ZERO_CELSIUS
         if temperature <= 0:
             raise InputError(f"{where}.temperature_c", "must be above -273.15")
     return StorageSpec(kind=kind, pressure=pressure, temperature=temperature,

@@ -18,7 +18,6 @@ range, hours per day, lambda for ppm conversion, N2O) and the files a study name
 from __future__ import annotations
 
 import copy
-import hashlib
 import math
 import re
 import tomllib
@@ -32,6 +31,8 @@ import tomlkit.items
 
 from workbench.core.errors import InputError
 from workbench.core.fuels import BASES, Fuel, blend, load_fuel
+from workbench.core.paths import DATA
+from workbench.core.text import sha256_hex
 from workbench.core.units import (
     HEATING_VALUE_MARK,
     Price,
@@ -45,8 +46,6 @@ from workbench.models.combustion import fuel_sheet
 from workbench.models.economics import Distribution
 from workbench.models.nox import ENGINE_PRESETS, EngineOutNOx
 
-#: Folder of shipped demo inputs (profiles, vehicles, maps, studies).
-DATA = Path(__file__).resolve().parents[1] / "data"
 #: The demo study of a fictional port city.
 DEMO_STUDY = DATA / "studies" / "kestrel-bay.toml"
 
@@ -284,7 +283,7 @@ class Study:
     def digest(self) -> str:
         """SHA-256 of :meth:`to_bytes` (identifies the inputs in reports; ``sha256sum`` of the
         file for a study read from one and not edited)."""
-        return hashlib.sha256(self.to_bytes()).hexdigest()
+        return sha256_hex(self.to_bytes())
 
 
 def _split_bom(text: str) -> tuple[str, str]:

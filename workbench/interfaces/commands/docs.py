@@ -8,13 +8,13 @@ point at them in an installed copy without a checkout.
 from __future__ import annotations
 
 import argparse
-from importlib import resources
 from pathlib import Path
 
 from workbench.core.errors import InputError
+from workbench.core.paths import DATA
 
 #: Folder of the shipped documentation pages.
-DOCS = Path(resources.files("workbench").joinpath("data", "docs"))
+DOCS = DATA / "docs"
 
 
 def pages() -> dict[str, Path]:
