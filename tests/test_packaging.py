@@ -14,9 +14,24 @@ ROOT = Path(__file__).resolve().parents[1]
 def test_fuels_and_docs_in_the_checkout_are_the_package_data():
     # One copy: the package's data folders are links to the checkout's fuels/ and docs/, which
     # setuptools copies as real files into the wheel (.ci/run lists the wheel to check it).
-    for name in ("fuels", "docs"):
+    for name in ("fuels", "docs", "notebooks"):
         link = ROOT / "workbench" / "data" / name
         assert link.is_symlink() and link.resolve() == (ROOT / name).resolve()
+
+
+def test_notebooks_are_copied_out_whole(run_cli, tmp_path):
+    import json
+
+    code, _, _ = run_cli("notebooks", str(tmp_path / "nb"))
+    assert code == 0
+    names = sorted(p.name for p in (tmp_path / "nb").iterdir())
+    assert names == ["case-study.ipynb", "chemistry.ipynb", "study.ipynb"]
+    for name in names:  # the files of the checkout, byte for byte, and valid notebooks
+        copied = (tmp_path / "nb" / name).read_bytes()
+        assert copied == (ROOT / "notebooks" / name).read_bytes()
+        assert json.loads(copied)["nbformat"] == 4
+    code, _, err = run_cli("notebooks", str(tmp_path / "nb"))
+    assert code == 2 and "exists" in err
 
 
 def test_metadata_is_spdx_and_plotly_is_bounded():
