@@ -79,3 +79,19 @@ def test_report_hash_matches_the_study_file(tmp_path, run_cli):
     html = (tmp_path / "r.html").read_text(encoding="utf-8")
     shown = re.search(r'id="input-hash">([0-9a-f]{64})<', html).group(1)
     assert shown == hashlib.sha256(path.read_bytes()).hexdigest()
+
+
+def test_saving_from_the_panels_changes_only_the_edited_line(tmp_path):
+    from workbench.interfaces.panels import open_study
+
+    path = commented_study(tmp_path)
+    before = path.read_text(encoding="utf-8")
+    app = open_study(read_study(path), draws=50, upload_dir=tmp_path / "uploads",
+                     export_dir=tmp_path)
+    app.economics.prices["lpg"].params["mode"].value = "0.77 per L"
+    app.export.study_name.value = "saved.toml"
+    app.export.save_button.click()
+    after = (tmp_path / "saved.toml").read_text(encoding="utf-8")
+    diff = changed_lines(before, after)
+    assert len(diff) == 2 and diff[0].startswith("-lpg = ") and diff[1].startswith("+lpg = ")
+    assert 'mode = "0.77 per L"' in diff[1] and after.startswith(HEADER)
