@@ -288,31 +288,37 @@ def load_fuel(ref: str | Path | Fuel, *, folder: Path | None = None) -> Fuel:
         path = Path(text)
         if folder is not None and not path.is_absolute() and (folder / path).is_file():
             path = folder / path
-        return _load_path(path.resolve())
+        return _load_path(Path(os.path.abspath(path)))
     found = find_fuel(text, folder=folder)
     if found is None:
         known = ", ".join(list_fuels()) or "none"
         searched = ", ".join(str(f) for f in fuel_folders(folder))
         raise InputError(text, f"unknown fuel id; pick one of {known} (searched {searched}), "
                          "or give a .toml path")
-    return _load_path(found.resolve())
+    return _load_path(Path(os.path.abspath(found)))
 
 
-#: Fuel files being loaded in this context, outermost first (to refuse blend cycles).
-_LOADING: ContextVar[tuple[Path, ...]] = ContextVar("workbench_fuels_loading", default=())
+#: Fuel files being loaded in this context, outermost first, as (device, inode) and path:
+#: to refuse blend cycles, however each file was named.
+_LOADING: ContextVar[tuple[tuple[tuple[int, int], Path], ...]] = ContextVar(
+    "workbench_fuels_loading", default=())
 
 
 def _load_path(path: Path) -> Fuel:
-    chain = _LOADING.get()
-    if path in chain:
-        cycle = " -> ".join(p.name for p in (*chain[chain.index(path):], path))
-        raise InputError(str(path), f"blend cycle {cycle}: a blend cannot contain itself; "
-                         "name other fuels as its parts")
     try:
-        raw = path.read_bytes()
+        with path.open("rb") as fh:
+            stat = os.fstat(fh.fileno())
+            raw = fh.read()
     except OSError:
         raise InputError(str(path), "no such fuel file; check the path") from None
-    token = _LOADING.set((*chain, path))
+    chain = _LOADING.get()
+    ids = [file_id for file_id, _ in chain]
+    file_id = (stat.st_dev, stat.st_ino)
+    if file_id in ids:
+        names = [p.name for _, p in chain[ids.index(file_id):]]
+        raise InputError(str(path), f"blend cycle {' -> '.join([*names, path.name])}: a blend "
+                         "cannot contain itself; name other fuels as its parts")
+    token = _LOADING.set((*chain, (file_id, path)))
     try:
         digest = hashlib.sha256(raw).digest()
         data = _parse_fuel_file(digest, raw, str(path))
