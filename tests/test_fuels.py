@@ -217,3 +217,11 @@ def test_two_blends_naming_each_other_are_refused(tmp_path):
     # and nothing is left half-loaded: the same files load once the cycle is broken
     write(tmp_path, "b.toml", ETHANE)
     assert load_fuel(str(tmp_path / "a.toml")).mole_fractions == {"C2H6": 0.5, "CH4": 0.5}
+
+
+def test_a_cycle_through_a_link_is_refused(tmp_path):
+    # The same file under two names (a symbolic link) is still the same blend.
+    write(tmp_path, "a.toml", 'state = "gas"\n[blend]\nsource = "t"\n"./alias.toml" = 1.0\n')
+    (tmp_path / "alias.toml").symlink_to(tmp_path / "a.toml")
+    with pytest.raises(InputError, match=r"blend cycle a\.toml -> alias\.toml"):
+        load_fuel(str(tmp_path / "a.toml"))
