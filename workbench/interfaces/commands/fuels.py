@@ -8,8 +8,16 @@ from pathlib import Path
 
 from workbench.core.constants import ZERO_CELSIUS
 from workbench.core.errors import InputError
-from workbench.core.fuels import BASES, fuel_entry, list_fuels, load_fuel
-from workbench.interfaces.cli import STDIO, command
+from workbench.core.fuels import (
+    BASES,
+    LIBRARY,
+    find_fuel,
+    fuel_entry,
+    fuel_folders,
+    list_fuels,
+    load_fuel,
+)
+from workbench.interfaces.cli import STDIO, add_fuels_option, command
 from workbench.io.files import write_text_atomic
 
 
@@ -27,11 +35,14 @@ def register(sub: argparse._SubParsersAction) -> None:
 
     register_storage(fsub)
 
-    p = command(fsub, "list", help="list the fuels in the library",
-                description="Id, state at 15 °C, storage kind and name of every fuel in the "
-                "library (read from the files' headers, no chemistry).",
-                example=["workbench fuels list", "workbench fuels list --json"])
+    p = command(fsub, "list", help="list the fuels: your folders (--fuels, WORKBENCH_FUELS), "
+                "then the shipped library",
+                description="Id, state at 15 °C, storage kind and name of every fuel in your "
+                "folders (--fuels, WORKBENCH_FUELS), then in the shipped library; read from "
+                "the files' headers, no chemistry.",
+                example=["workbench fuels list", "workbench fuels list --fuels my-fuels --json"])
     p.add_argument("--json", action="store_true", help="print JSON")
+    add_fuels_option(p)
     p.set_defaults(func=_list)
 
     p = command(fsub, "show", help="the property sheet of one fuel",
@@ -68,6 +79,7 @@ def register(sub: argparse._SubParsersAction) -> None:
 
 
 def _flame_options(p: argparse.ArgumentParser) -> None:
+    add_fuels_option(p)
     p.add_argument("--phi", type=float, default=1.0,
                    help="fuel-air equivalence ratio of the flame (default 1)")
     p.add_argument("--t-unburnt", type=float, default=25.0, metavar="C",
@@ -128,15 +140,32 @@ def _list(args: argparse.Namespace) -> None:
 
     rows = []
     for fid in list_fuels():
-        entry = fuel_entry(fid)
+        path = find_fuel(fid)
+        try:
+            entry = fuel_entry(fid)
+        except InputError as exc:  # one bad file of the user's does not hide the others
+            rows.append({"id": fid, "name": None, "state": None, "storage": None,
+                         "path": str(path), "error": str(exc)})
+            continue
         rows.append({"id": fid, "name": entry.name, "state": "gas" if entry.is_gas else "liquid",
-                     "storage": entry.storage.kind if entry.storage else None})
+                     "storage": entry.storage.kind if entry.storage else None,
+                     "path": str(path), "error": None})
     if args.json:
         print_json(rows)
         return
+    if not rows:
+        searched = ", ".join(str(f) for f in fuel_folders())
+        raise InputError("fuels list", f"no fuel files found in {searched}; reinstall the "
+                         "package or give --fuels DIR")
     w = max(len(r["id"]) for r in rows)
     for r in rows:
-        print(f"{r['id'].ljust(w)}  {r['state']:<6}  {r['storage'] or '—':<10}  {r['name']}")
+        folder = Path(r["path"]).parent
+        where = "" if folder == LIBRARY else f"  ({folder})"
+        if r["error"]:
+            print(f"{r['id'].ljust(w)}  error: {r['error']}")
+        else:
+            print(f"{r['id'].ljust(w)}  {r['state']:<6}  {r['storage'] or '—':<10}  "
+                  f"{r['name']}{where}")
 
 
 def _show(args: argparse.Namespace) -> None:

@@ -6,7 +6,7 @@ import argparse
 from dataclasses import replace
 
 from workbench.core.errors import InputError
-from workbench.interfaces.cli import LazyChoices, command
+from workbench.interfaces.cli import LazyChoices, add_fuels_option, command
 
 #: Keys of :meth:`workbench.models.nox.NOxPropensity.to_record` shown, with their units.
 NOX_FIELDS: dict[str, str] = {
@@ -43,7 +43,7 @@ def register(sub: argparse._SubParsersAction) -> None:
         sub, "nox",
         help="thermal-NO propensity of a fuel's flame (Zeldovich chemistry, GRI-Mech 3.0)",
         description="Thermal NO formed in a fuel's burnt gas at an engine-like setting, and its "
-        "index relative to a baseline fuel. A screening model: see docs/nox.md.",
+        "index relative to a baseline fuel. A screening model: see `workbench docs nox`.",
         example=["workbench nox lpg --baseline gasoline",
                  "workbench nox natural-gas --engine lean-burn-gas --rpm 1800 --json"],
     )
@@ -63,6 +63,7 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--residence-time", type=float, metavar="MS",
                    help="residence time in ms (overrides the crank-angle window)")
     p.add_argument("--json", action="store_true", help="print JSON")
+    add_fuels_option(p)
     p.set_defaults(func=_run)
 
 

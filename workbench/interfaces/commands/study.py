@@ -9,7 +9,14 @@ from typing import TYPE_CHECKING, Any
 
 from workbench.core.errors import InputError
 from workbench.core.text import json_safe
-from workbench.interfaces.cli import STDIO, add_quiet, command, open_in_browser, progress
+from workbench.interfaces.cli import (
+    STDIO,
+    add_fuels_option,
+    add_quiet,
+    command,
+    open_in_browser,
+    progress,
+)
 from workbench.io.files import check_target, write_text_atomic
 
 if TYPE_CHECKING:
@@ -37,9 +44,9 @@ JSON_KEYS = {
 def register(sub: argparse._SubParsersAction) -> None:
     """Add the ``study`` group and the ``demo`` command."""
     group = command(sub, "study", help="check, run and report a study file",
-                    description="A study file (docs/study-file.md) names a fleet, its duties, "
-                    "the baseline and candidate fuels, prices and the programme; check it, "
-                    "run it, or write its HTML report.",
+                    description="A study file (format: `workbench docs study-file`) names a "
+                    "fleet, its duties, the baseline and candidate fuels, prices and the "
+                    "programme; check it, run it, or write its HTML report.",
                     example=["workbench study check my-fleet.toml",
                              "workbench study report my-fleet.toml -o my-fleet.html --open"])
     ssub = group.add_subparsers(dest="study_command", required=True, parser_class=type(group),
@@ -51,6 +58,7 @@ def register(sub: argparse._SubParsersAction) -> None:
                 example=["workbench study check my-fleet.toml",
                          "cat my-fleet.toml | workbench study check -"])
     _file_argument(p)
+    add_fuels_option(p)
     p.set_defaults(func=_check)
 
     p = command(ssub, "run", help="run a study: candidates side by side",
@@ -65,6 +73,7 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--csv", metavar="DIR",
                    help=f"also write every result table as CSV here ('{STDIO}': every table "
                         "to standard output instead of the summary, each after a '# name' line)")
+    add_fuels_option(p)
     p.set_defaults(func=_run)
 
     p = command(ssub, "report", help="write the study's self-contained HTML report",
@@ -77,6 +86,7 @@ def register(sub: argparse._SubParsersAction) -> None:
                    help=f"report file (.html); '{STDIO}' writes it to standard output")
     _report_options(p)
     _run_options(p)
+    add_fuels_option(p)
     p.set_defaults(func=_report)
 
     p = command(sub, "demo", help="run the shipped demo study of a fictional fleet",
@@ -92,8 +102,9 @@ def register(sub: argparse._SubParsersAction) -> None:
 
 
 def _file_argument(p: argparse.ArgumentParser) -> None:
-    p.add_argument("file", help=f"study .toml file (docs/study-file.md); '{STDIO}' reads it "
-                   "from standard input (relative paths in it from the working folder)")
+    p.add_argument("file", help="study .toml file (format: `workbench docs study-file`); "
+                   f"'{STDIO}' reads it from standard input (relative paths in it from the "
+                   "working folder)")
 
 
 def _report_options(p: argparse.ArgumentParser) -> None:
