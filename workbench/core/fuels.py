@@ -20,7 +20,8 @@ from __future__ import annotations
 import hashlib
 import os
 import tomllib
-from collections.abc import Iterable, Mapping
+from collections.abc import Iterable, Iterator, Mapping
+from contextlib import contextmanager
 from contextvars import ContextVar
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -325,13 +326,15 @@ class FuelEntry:
     storage: StorageSpec | None
 
 
-def fuel_entry(ref: str | Path) -> FuelEntry:
+def fuel_entry(ref: str | Path, *, folder: Path | None = None) -> FuelEntry:
     """Read a fuel file's name, state and storage without Cantera (fast; for listings).
 
     Parameters
     ----------
     ref : str or pathlib.Path
         A library id (searched as by :func:`load_fuel`) or a path to a fuel TOML file.
+    folder : pathlib.Path, optional
+        Folder searched first, as for :func:`load_fuel`.
 
     Returns
     -------
@@ -342,13 +345,11 @@ def fuel_entry(ref: str | Path) -> FuelEntry:
     InputError
         As :func:`load_fuel` for these fields; the chemistry is checked when the fuel loads.
     """
-    path = _fuel_path(ref)
-    try:
-        raw = path.read_bytes()
-    except OSError:
-        raise InputError(str(path), "no such fuel file; check the path") from None
-    data = _parse_fuel_file(hashlib.sha256(raw).digest(), raw, str(path))
-    _, name, state, storage = _entry(data, path.stem, str(path))
+    path = _fuel_path(ref, folder)
+    with _opened(path) as (_, data):
+        for part in _part_refs(data):  # a blend's parts must be there, and no cycle
+            fuel_entry(part, folder=path.parent)
+        _, name, state, storage = _entry(data, path.stem, str(path))
     return FuelEntry(id=path.stem, name=name, is_gas=state == "gas", storage=storage)
 
 
@@ -376,7 +377,10 @@ _LOADING: ContextVar[tuple[tuple[tuple[int, int], Path], ...]] = ContextVar(
     "workbench_fuels_loading", default=())
 
 
-def _load_path(path: Path) -> Fuel:
+@contextmanager
+def _opened(path: Path) -> Iterator[tuple[bytes, dict[str, Any]]]:
+    """A fuel file's digest and parsed contents, the file counted as being loaded meanwhile
+    (a blend that reaches it again is a cycle, refused)."""
     try:
         with path.open("rb") as fh:
             stat = os.fstat(fh.fileno())
@@ -393,13 +397,22 @@ def _load_path(path: Path) -> Fuel:
     token = _LOADING.set((*chain, (file_id, path)))
     try:
         digest = hashlib.sha256(raw).digest()
-        data = _parse_fuel_file(digest, raw, str(path))
-        table = data.get("blend")
-        parts = tuple(load_fuel(ref, folder=path.parent) for ref in table
-                      if ref not in ("basis", "source")) if isinstance(table, Mapping) else ()
-        return _fuel_of_file(digest, str(path), parts, data)
+        yield digest, _parse_fuel_file(digest, raw, str(path))
     finally:
         _LOADING.reset(token)
+
+
+def _part_refs(data: Mapping[str, Any]) -> list[str]:
+    """The fuels a blend file names as its parts (none for another kind of file)."""
+    table = data.get("blend")
+    return [ref for ref in table if ref not in ("basis", "source")] if isinstance(
+        table, Mapping) else []
+
+
+def _load_path(path: Path) -> Fuel:
+    with _opened(path) as (digest, data):
+        parts = tuple(load_fuel(ref, folder=path.parent) for ref in _part_refs(data))
+        return _fuel_of_file(digest, str(path), parts, data)
 
 
 @memoize(maxsize=512, key=lambda digest, raw, where: digest)

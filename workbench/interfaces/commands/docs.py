@@ -13,6 +13,7 @@ from pathlib import Path
 
 from workbench.core.errors import InputError
 from workbench.core.paths import DATA
+from workbench.interfaces.cli import command
 
 #: Folder of the shipped documentation pages.
 DOCS = DATA / "docs"
@@ -36,20 +37,21 @@ def pages() -> dict[str, Path]:
 
 def register(sub: argparse._SubParsersAction) -> None:
     """Add the ``docs`` command to the top-level parser."""
-    p = sub.add_parser(
-        "docs", help="print a documentation page (study file, fuel files, glossary, ...)",
+    p = command(
+        sub, "docs", help="print a documentation page (study file, fuel files, glossary, ...)",
         description="Print one of the documentation pages shipped with the workbench, as "
-        "Markdown; without a topic, list them. Example: workbench docs study-file",
+        "Markdown; without a topic, list them.",
+        example=["workbench docs", "workbench docs study-file"],
     )
     p.add_argument("topic", nargs="?", help="page to print (e.g. study-file, fuels, glossary)")
     p.add_argument("--path", action="store_true", help="print the page's file path instead")
     p.set_defaults(func=_run)
 
-    p = sub.add_parser(
-        "notebooks", help="copy the shipped notebooks into a folder, to open in JupyterLab",
+    p = command(
+        sub, "notebooks", help="copy the shipped notebooks into a folder, to open in JupyterLab",
         description="Copy the workbench notebooks (chemistry, case study, interactive study) "
-        "into a folder, created if missing; files already there are left alone. Example: "
-        "workbench notebooks my-notebooks && jupyter lab my-notebooks",
+        "into a folder, created if missing; files already there are left alone.",
+        example="workbench notebooks my-notebooks && jupyter lab my-notebooks",
     )
     p.add_argument("folder", metavar="DIR", help="folder to copy them into")
     p.set_defaults(func=_copy_notebooks)
