@@ -27,7 +27,7 @@ import workbench
 from workbench.interfaces.charts import MapGrid, all_figures
 from workbench.io.files import check_target, write_text_atomic
 from workbench.models.engine import EngineMap, read_map
-from workbench.study.results import StudyResult
+from workbench.study.results import StudyResult, notice_lines
 from workbench.study.studyfile import Study
 
 #: The caution every report carries, word for word.
@@ -136,6 +136,20 @@ def _job(result: StudyResult) -> str:
         "programme, and how sure those figures are.</p>" + asked)
 
 
+def defaults_html(result: StudyResult) -> str:
+    """Every default the run took, with value and source, as HTML (report and panels)."""
+    if result.defaults.empty:
+        return "<p>The study gave every value the run used.</p>"
+    return ("<p>The study did not give these values; the run took typical defaults. "
+            "Replace them with the fleet's own where known.</p>"
+            f'<div class="scroll" id="defaults-table">{_table_html(result.defaults)}</div>')
+
+
+def _notices_html(result: StudyResult) -> str:
+    return "".join(f'<p class="caution notice">{_esc(line)}</p>'
+                   for line in notice_lines(result.notices))
+
+
 def html_report(
     result: StudyResult,
     *,
@@ -201,6 +215,7 @@ def html_report(
 <nav><ul>
 <li><a href="#job">The job and the question</a></li>
 <li><a href="#inputs">Inputs and assumptions</a></li>
+<li><a href="#defaults">Defaults the run applied</a></li>
 <li><a href="#charts">Charts</a></li>
 <li><a href="#tables">Tables</a></li>
 <li><a href="#sources">Sources of reference data</a></li>
@@ -212,6 +227,9 @@ def html_report(
 positive NPV means the candidate saves money.</p>
 <h2 id="inputs">Inputs and assumptions</h2>
 {assumptions}
+<h2 id="defaults">Defaults the run applied</h2>
+{_notices_html(result)}
+{defaults_html(result)}
 <h2 id="charts">Charts</h2>
 {"".join(charts)}
 <h2 id="tables">Tables</h2>

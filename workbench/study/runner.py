@@ -30,9 +30,17 @@ from workbench.core.thermo import molar_mass
 from workbench.models import economics as econ
 from workbench.models.aftertreatment import Aftertreatment, optimal_interval, programme_nox
 from workbench.models.combustion import M_NO2, FuelSheet, exhaust, fuel_sheet
+from workbench.models.conversion import KINDS, convert
 from workbench.models.duty import DutySettings, DutyTrace, read_profile
 from workbench.models.emissions import co2e
-from workbench.models.engine import DutyEnergy, duty_energy, fuel_per_km_for, mode_energy, read_map
+from workbench.models.engine import (
+    DutyEnergy,
+    EngineMap,
+    duty_energy,
+    fuel_per_km_for,
+    mode_energy,
+    read_map,
+)
 from workbench.models.nox import (
     DEFAULT_ENGINE_OUT,
     duty_propensity,
@@ -40,6 +48,7 @@ from workbench.models.nox import (
     engine_preset,
     nox_sweep,
 )
+from workbench.models.pollutants import pollutant_factors
 from workbench.models.storage import tank_for_range
 from workbench.models.vehicle import FIRED, IDLE, operating_points, read_vehicle, road_load
 from workbench.study.results import COLUMNS, PALETTE, StudyResult
@@ -90,8 +99,38 @@ class DutyPhysics:
 
 
 @memoize(maxsize=128)
-def duty_physics(profile: Path, vehicle: Path, engine_map: Path, derate: float,
-                 efficiency_offset: float, settings: DutySettings) -> DutyPhysics:
+def converted_map(engine_map: Path, derate: float, efficiency_offset: float,
+                  conversion: str = "none", fuel: Fuel | None = None
+                  ) -> tuple[EngineMap, dict[str, tuple[float, str, str]]]:
+    """The map a fuel runs on, and the numbers a derived map used (cached by its arguments).
+
+    Parameters
+    ----------
+    engine_map : pathlib.Path
+        Map CSV of the class's engine.
+    derate : float
+        Share of full-load torque lost [-].
+    efficiency_offset : float
+        Added to every map cell [-].
+    conversion : str
+        Conversion kind whose derived map applies (``none``: the map adjusted only).
+    fuel : Fuel, optional
+        The fuel a derived map burns.
+
+    Returns
+    -------
+    (EngineMap, dict)
+    """
+    sheet = fuel_sheet(fuel) if fuel is not None else None
+    out = convert(read_map(engine_map), KINDS[conversion], sheet, None, derate=derate,
+                  efficiency_offset=efficiency_offset)
+    return out.engine_map, out.parameters
+
+
+@memoize(maxsize=128)
+def duty_physics(profile: Path, vehicle: Path | None, engine_map: Path, derate: float,
+                 efficiency_offset: float, settings: DutySettings, conversion: str = "none",
+                 fuel: Fuel | None = None) -> DutyPhysics:
     """Run a profile with a vehicle and an adjusted map (cached by its arguments).
 
     Parameters
@@ -104,12 +143,14 @@ def duty_physics(profile: Path, vehicle: Path, engine_map: Path, derate: float,
         Added to every map cell [-].
     settings : DutySettings
         Accessories, engine-off at stops, extra idling.
+    conversion, fuel
+        Conversion kind whose derived map applies, and its fuel (:func:`converted_map`).
 
     Returns
     -------
     DutyPhysics
     """
-    emap = read_map(engine_map).adjusted(derate=derate, efficiency_offset=efficiency_offset)
+    emap = converted_map(engine_map, derate, efficiency_offset, conversion, fuel)[0]
     duty = read_profile(profile)
     if not isinstance(duty, DutyTrace):
         energy = mode_energy(duty, emap, settings=settings)
@@ -118,6 +159,8 @@ def duty_physics(profile: Path, vehicle: Path, engine_map: Path, derate: float,
         dt = duty.duration
         fuel_power = emap.fuel_power(duty.engine_speed, duty.torque).fuel_power
     else:
+        if vehicle is None:
+            raise InputError(str(profile), "a speed trace needs a vehicle")
         veh = read_vehicle(vehicle)
         energy = duty_energy(duty, veh, emap, settings=settings)
         load = road_load(veh, duty)
@@ -157,6 +200,9 @@ class ClassPhysics:
     ch4_per_m: float  # [kg/m]
     engine_out_nox_per_m: float  # [kg/m]
     nox_source: str
+    pm_per_m: float  # tailpipe particulate mass [kg/m]
+    co_per_m: float  # tailpipe carbon monoxide [kg/m]
+    nmhc_per_m: float  # tailpipe non-methane hydrocarbons [kg/m]
     monthly: pd.DataFrame  # programme_nox monthly table
     yearly: pd.DataFrame  # programme_nox yearly table
     replacements: int
@@ -175,8 +221,9 @@ def _settings(c: FleetClass) -> DutySettings:
 
 
 def _duty_for(c: FleetClass, co: ClassOption) -> DutyPhysics:
+    kind, fuel = (co.conversion, co.fuel) if co.derived_map else ("none", None)
     return duty_physics(c.profile, c.vehicle, co.engine_map, co.derate, co.efficiency_offset,
-                        _settings(c))
+                        _settings(c), kind, fuel)
 
 
 def _engine_out(c: FleetClass, co: ClassOption, base: ClassOption, duty: DutyPhysics,
@@ -253,6 +300,8 @@ def class_physics(c: FleetClass, co: ClassOption, base: ClassOption, months: int
                          fleet_size=c.count, nox_damage_cost=damage)
     best = _best_interval(co.aftertreatment, eo, km_month, months, damage, c.count)
     ch4_share = _methane_mass_share(co.fuel)
+    factors = pollutant_factors(co.engine, co.aftertreatment.name)
+    work_m = duty.energy.engine_energy / duty.energy.distance
     return ClassPhysics(
         sheet=sheet,
         fuel_energy_per_m=energy_m,
@@ -262,6 +311,9 @@ def class_physics(c: FleetClass, co: ClassOption, base: ClassOption, months: int
         ch4_per_m=co.methane_slip * ch4_share * mass_m,
         engine_out_nox_per_m=eo,
         nox_source=source,
+        pm_per_m=factors.pm * work_m,
+        co_per_m=factors.co * work_m,
+        nmhc_per_m=factors.nmhc * work_m,
         monthly=prog.monthly,
         yearly=prog.yearly,
         replacements=prog.replacements,
@@ -600,6 +652,8 @@ def run(study: Study, *, draws: int | None = None,
         operating_points=_operating_points_table(plan),
         flame=_flame_table(plan),
         catalyst=_catalyst_table(plan),
+        defaults=_frame("defaults", defaults_rows(inputs, plan.physics)),
+        notices=_frame("notices", notice_rows(inputs)),
         assumptions=_assumptions(study, n),
         sources=_sources(inputs),
     )
@@ -650,6 +704,9 @@ def _per_km_rows(plan: _Plan, det: Money) -> list[dict]:
                 "co2e_wtw_g_per_km": co2e_m * 1e6,
                 "nox_engine_out_g_per_km": ph.engine_out_nox_per_m * 1e6,
                 "nox_g_per_km": nox_mean,
+                "pm_mg_per_km": ph.pm_per_m * 1e9,
+                "co_g_per_km": ph.co_per_m * 1e6,
+                "thc_g_per_km": (ph.nmhc_per_m + ph.ch4_per_m) * 1e6,
                 "cost_fuel_per_km": fuel_cost * 1e3,
                 "cost_upkeep_per_km": upkeep * 1e3,
                 "cost_capital_per_km": capital * 1e3,
@@ -806,6 +863,8 @@ def _tornado_table(plan: _Plan) -> pd.DataFrame:
 
         t = econ.tornado(f, dists)
         t = t[t["swing"] > 1e-9 * max(float(t["swing"].max()), 1.0)]
+        if t.empty:  # no uncertain input moves this candidate's NPV
+            continue
         scale = t["input"].map(lambda p: units[p][1])
         frames.append(pd.DataFrame({
             "candidate": o.id,
@@ -813,7 +872,7 @@ def _tornado_table(plan: _Plan) -> pd.DataFrame:
             "low_value": t["low_value"] * scale, "high_value": t["high_value"] * scale,
             "npv_at_low": t["output_low"], "npv_at_high": t["output_high"],
             "swing": t["swing"]}))
-    return pd.concat(frames, ignore_index=True)
+    return pd.concat(frames, ignore_index=True) if frames else _empty("tornado")
 
 
 def _operating_points_table(plan: _Plan) -> pd.DataFrame:
@@ -857,6 +916,67 @@ def _catalyst_table(plan: _Plan) -> pd.DataFrame:
                      "best_interval_months": ph.best_interval_months,
                      "best_total_cost": ph.best_total_cost})
     return _frame("catalyst", rows)
+
+
+def _shown(inputs: StudyInputs) -> list[tuple[str, str, ClassOption]]:
+    """(option id, class id, class option) of the baseline and of each class a candidate
+    converts."""
+    return [(o.id, cid, co) for o in inputs.options for cid, co in o.per_class.items()
+            if o.is_baseline or co.converts]
+
+
+def notice_rows(inputs: StudyInputs) -> list[dict]:
+    """Rows of the ``notices`` table: one line each where a fuel runs on a map made for
+    another combustion regime."""
+    return [{"candidate": oid, "vehicle_class": cid, "message": m}
+            for oid, cid, co in _shown(inputs) for m in co.notices]
+
+
+def defaults_rows(inputs: StudyInputs,
+                  physics: Mapping[tuple[str, str], ClassPhysics] | None = None) -> list[dict]:
+    """Rows of the ``defaults`` table: every value a run takes that the study did not give.
+
+    Parameters
+    ----------
+    inputs : StudyInputs
+        The checked study.
+    physics : mapping, optional
+        Physics by (option, class) of a run; with it, the engine-out NOx rows carry the value
+        per km the run used.
+
+    Returns
+    -------
+    list of dict
+        ``candidate``, ``vehicle_class``, ``quantity``, ``value``, ``unit``, ``source``.
+    """
+    rows = []
+    for oid, cid, co in _shown(inputs):
+        def add(quantity: str, value: str, unit: str, source: str,
+                _oid: str = oid, _cid: str = cid) -> None:
+            rows.append({"candidate": _oid, "vehicle_class": _cid, "quantity": quantity,
+                         "value": value, "unit": unit, "source": source})
+
+        for quantity, value, unit, source in co.defaults:
+            add(quantity, value, unit, source)
+        if co.derived_map:
+            for name, (value, unit, source) in converted_map(
+                    co.engine_map, co.derate, co.efficiency_offset, co.conversion,
+                    co.fuel)[1].items():
+                add(name, f"{value:.4g}", unit, source)
+        base = inputs.baseline.per_class[cid]
+        if co.engine_out_nox is None and (base.engine != co.engine or co is base
+                                          or base.engine_out_nox is None):
+            spec = DEFAULT_ENGINE_OUT[co.engine]
+            add("engine-out NOx", f"{spec.value:g}", spec.unit, spec.source)
+            if physics is not None:
+                add("engine-out NOx on the duty",
+                    f"{physics[oid, cid].engine_out_nox_per_m * 1e6:.3g}", "g/km",
+                    "the default above with the class's brake work per km")
+        f = pollutant_factors(co.engine, co.aftertreatment.name)
+        g_kwh = 3.6e9
+        add("PM, CO, NMHC factors", f"{f.pm * g_kwh:g}, {f.co * g_kwh:g}, {f.nmhc * g_kwh:g}",
+            "g/kWh", f.source)
+    return rows
 
 
 def _assumptions(study: Study, draws: int) -> dict[str, str]:

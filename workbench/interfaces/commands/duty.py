@@ -7,9 +7,11 @@ PROFILE, ``--vehicle`` and ``--map`` take the name of a shipped demo (``taxi-shi
 from __future__ import annotations
 
 import argparse
+from dataclasses import replace
 from pathlib import Path
 
 from workbench.core.errors import InputError
+from workbench.models.conversion import KINDS
 from workbench.models.duty import DutySettings, DutyTrace, duty_stats, read_profile
 
 DATA = Path(__file__).resolve().parents[2] / "data"
@@ -39,11 +41,18 @@ def register(sub: argparse._SubParsersAction) -> None:
                    help=f"demo map ({', '.join(demo_names('map'))}) or a map CSV path")
     p.add_argument("--fuel", required=True, action="append", metavar="F",
                    help="fuel id or fuel TOML; repeat for candidates. The first is the engine's "
-                        "original fuel; --derate and --efficiency-offset apply to the others")
-    p.add_argument("--derate", type=float, default=0.0, metavar="X",
-                   help="share of full-load power lost on the candidate fuels (default 0)")
-    p.add_argument("--efficiency-offset", type=float, default=0.0, metavar="X",
-                   help="added to the map's brake efficiency on the candidate fuels, e.g. -0.01")
+                        "original fuel; --conversion, --derate and --efficiency-offset apply "
+                        "to the others")
+    p.add_argument("--conversion", choices=list(KINDS), metavar="KIND",
+                   help=f"how the engine is converted for the other fuels ({', '.join(KINDS)}); "
+                        "default: inferred from the fuels (a gas on a diesel map: "
+                        "dedicated-si; on a gasoline map: bi-fuel-si)")
+    p.add_argument("--derate", type=float, metavar="X",
+                   help="share of full-load power lost on the candidate fuels (default: the "
+                        "conversion's)")
+    p.add_argument("--efficiency-offset", type=float, metavar="X",
+                   help="added to the map's brake efficiency on the candidate fuels, e.g. -0.01 "
+                        "(default: the conversion's)")
     p.add_argument("--accessory-kw", type=float, default=0.0, metavar="KW",
                    help="accessory power while the engine runs, kW (default 0)")
     p.add_argument("--engine-off-at-stops", action="store_true",
@@ -124,57 +133,105 @@ def _fuel(args: argparse.Namespace) -> None:
     from workbench.core.fuels import load_fuel
     from workbench.interfaces.cli import print_json
     from workbench.models.combustion import fuel_sheet
-    from workbench.models.engine import duty_energy, fuel_per_km_for, mode_energy, read_map
-    from workbench.models.vehicle import read_vehicle
+    from workbench.models.conversion import (
+        duty_gas_share,
+        fuel_regime,
+        infer_kind,
+        kind_derate,
+        regime_mismatch,
+    )
+    from workbench.models.engine import fuel_per_km_for
+    from workbench.study.runner import converted_map, duty_physics
 
     settings = _settings(args)
-    profile = read_profile(resolve(args.profile, "profile", "PROFILE"))
-    base_map = read_map(resolve(args.map, "map", "--map"))
+    profile_path = resolve(args.profile, "profile", "PROFILE")
+    map_path = resolve(args.map, "map", "--map")
+    profile = read_profile(profile_path)
     vehicle = None
     if isinstance(profile, DutyTrace):
         if args.vehicle is None:
             raise InputError("--vehicle", "a speed trace needs a vehicle (demo name or TOML)")
-        vehicle = read_vehicle(resolve(args.vehicle, "vehicle", "--vehicle"))
+        vehicle = resolve(args.vehicle, "vehicle", "--vehicle")
     fuels = [load_fuel(f) for f in args.fuel]
-    candidate_map = base_map
-    if (args.derate, args.efficiency_offset) != (0.0, 0.0):
-        candidate_map = base_map.adjusted(derate=args.derate,
-                                          efficiency_offset=args.efficiency_offset)
-    rows = []
-    energies = {}
+    regime = fuel_regime(fuels[0])
+    reference = fuel_sheet(fuels[0])
+    rows, notices, defaults = [], [], []
+    first = None
     for k, fuel in enumerate(fuels):
-        engine_map = base_map if k == 0 else candidate_map
-        if id(engine_map) not in energies:
-            energies[id(engine_map)] = (
-                duty_energy(profile, vehicle, engine_map, settings=settings)
-                if vehicle is not None
-                else mode_energy(profile, engine_map, settings=settings))
-        energy = energies[id(engine_map)]
-        result = fuel_per_km_for(energy, fuel, fuel_sheet(fuel))
-        rows.append({"fuel": fuel.id,
-                     "derate": 0.0 if k == 0 else args.derate,
-                     "efficiency_offset": 0.0 if k == 0 else args.efficiency_offset,
-                     **result.trade_units()})
-    energy = energies[id(base_map)]
+        sheet = fuel_sheet(fuel)
+        kind = KINDS["none"] if k == 0 else KINDS[args.conversion or infer_kind(fuel, regime)]
+        if k and args.conversion is None and kind.name != "none":
+            defaults.append(f"default: {fuel.id}: conversion = {kind.name} (inferred: "
+                            f"{fuel.id} on a {regime} map; --conversion none keeps the map)")
+        derate = args.derate if k and args.derate is not None else (
+            kind_derate(kind, sheet, reference) if k else 0.0)
+        offset = args.efficiency_offset if k and args.efficiency_offset is not None else (
+            kind.efficiency_offset if k else 0.0)
+        for name, value, given in (("derate", derate, args.derate),
+                                   ("efficiency_offset", offset, args.efficiency_offset)):
+            if k and given is None and value:
+                defaults.append(f"default: {fuel.id}: {name} = {value:.3g} "
+                                f"({kind.sources.get(name, kind.source)})")
+        mismatch = regime_mismatch(fuel, kind, regime)
+        if mismatch:
+            notices.append(f"warning: {fuel.id}: {mismatch}")
+        derived = kind.name in ("dedicated-si", "dual-fuel-ci")
+        conv, conv_fuel = (kind.name, fuel) if derived else ("none", None)
+        try:
+            phys = duty_physics(profile_path, vehicle, map_path, derate, offset, settings,
+                                conv, conv_fuel)
+        except InputError as exc:
+            option = {"derate": "--derate", "efficiency_offset": "--efficiency-offset"}
+            raise InputError(option.get(exc.where, exc.where), exc.message) from None
+        if derived:
+            for name, (value, unit, source) in converted_map(map_path, derate, offset, conv,
+                                                             conv_fuel)[1].items():
+                defaults.append(f"default: {fuel.id}: {name} = {value:.4g} {unit} ({source})")
+        first = first or phys
+        record = {"fuel": fuel.id, "conversion": kind.name, "derate": derate,
+                  "efficiency_offset": offset}
+        if kind.name == "dual-fuel-ci":
+            pts = phys.points
+            work = pts["torque_nm"] * pts["engine_speed_rpm"] * pts["seconds"]
+            share = duty_gas_share(pts["engine_speed_rpm"] * 2 * 3.141592653589793 / 60,
+                                   pts["torque_nm"], work / pts["brake_efficiency"],
+                                   converted_map(map_path, derate, offset, conv, conv_fuel)[0])
+            record["gas_energy_share"] = share
+            gas = fuel_per_km_for(replace(phys.energy,
+                                          fuel_energy=phys.energy.fuel_energy * share),
+                                  fuel, sheet)
+            pilot = fuel_per_km_for(replace(phys.energy, fuel_energy=phys.energy.fuel_energy
+                                            * (1 - share)), fuels[0], reference)
+            rows.append(record | gas.trade_units())
+            rows.append({"fuel": f"{fuels[0].id} pilot", "conversion": kind.name,
+                         "derate": derate, "efficiency_offset": offset,
+                         "gas_energy_share": share} | pilot.trade_units())
+        else:
+            rows.append(record | fuel_per_km_for(phys.energy, fuel, sheet).trade_units())
+    energy = first.energy
     record = {
         "profile": args.profile,
         "vehicle": args.vehicle,
         "map": args.map,
+        "map_regime": regime,
         "distance_km": energy.distance / 1e3,
         "duration_h": energy.duration / 3600.0,
         "wheel_energy_mj_per_km": energy.wheel_energy / energy.distance * 1e-3,
         "fuels": rows,
+        "notices": notices,
+        "defaults": defaults,
     }
     if args.json:
         print_json(record)
         return
-    head = {k: v for k, v in record.items() if k != "fuels"}
+    head = {k: v for k, v in record.items() if k not in ("fuels", "notices", "defaults")}
     lines = [f"{k:34s} {_fmt(v)}" for k, v in head.items()]
-    lines.append(f"{'':34s} " + " ".join(f"{r['fuel']:>12s}" for r in rows))
-    for key in rows[0]:
+    lines.append(f"{'':34s} " + " ".join(f"{r['fuel']:>14s}" for r in rows))
+    keys = list(dict.fromkeys(k for r in rows for k in r))
+    for key in keys:
         if key != "fuel":
-            lines.append(f"{key:34s} " + " ".join(f"{_fmt(r[key]):>12s}" for r in rows))
-    print("\n".join(lines))
+            lines.append(f"{key:34s} " + " ".join(f"{_fmt(r.get(key)):>14s}" for r in rows))
+    print("\n".join(lines + notices + defaults))
 
 
 def _fmt(value: object) -> str:

@@ -10,7 +10,7 @@ from typing import Any
 from workbench.core.errors import InputError
 from workbench.interfaces.sheets import format_table
 from workbench.io.files import check_target, write_text_atomic
-from workbench.study.results import StudyResult
+from workbench.study.results import StudyResult, default_lines, notice_lines
 from workbench.study.studyfile import DEMO_STUDY, Study, read_study
 
 #: Keys of each candidate in ``study run --json``, from the candidates table.
@@ -33,8 +33,10 @@ def register(sub: argparse._SubParsersAction) -> None:
     group = sub.add_parser("study", help="check, run and report a study file")
     ssub = group.add_subparsers(dest="study_command", required=True, parser_class=type(group))
 
-    p = ssub.add_parser("check", help="check a study file and say what it holds")
+    p = ssub.add_parser("check", help="check a study file and say what it holds and assumes")
     p.add_argument("file", help="study .toml file (docs/study-file.md)")
+    p.add_argument("--quiet-defaults", action="store_true",
+                   help="leave out the list of defaults applied (warnings are still shown)")
     p.set_defaults(func=_check)
 
     p = ssub.add_parser("run", help="run a study: candidates side by side")
@@ -78,6 +80,7 @@ def _check(args: argparse.Namespace) -> None:
     from workbench.models.duty import read_profile
     from workbench.models.engine import read_map
     from workbench.models.vehicle import read_vehicle
+    from workbench.study.runner import defaults_rows, notice_rows
 
     i = _study(args.file).inputs
     for c in i.classes:  # the files a run reads: each error names its file, row or field
@@ -89,6 +92,14 @@ def _check(args: argparse.Namespace) -> None:
           f"({sum(c.count for c in i.classes)} vehicles), baseline {i.baseline.id!r}, "
           f"{len(i.candidates)} candidates, {len(i.uncertain)} uncertain inputs, "
           f"{i.horizon_years} years from {i.start_year}")
+    _print_lines(notice_lines(notice_rows(i)))
+    if not args.quiet_defaults:
+        _print_lines(default_lines(defaults_rows(i)))
+
+
+def _print_lines(lines: list[str]) -> None:
+    if lines:
+        print("\n".join(lines))
 
 
 def result_json(result: StudyResult) -> dict[str, Any]:
@@ -104,7 +115,8 @@ def result_json(result: StudyResult) -> dict[str, Any]:
     dict
         ``title``, ``currency``, ``candidates`` (one object per option, baseline first,
         keys of :data:`JSON_KEYS`; missing values and payback that never comes are null) and
-        ``per_km`` (one object per option and vehicle class).
+        ``per_km`` (one object per option and vehicle class), ``defaults`` (one object per
+        value the run took that the study did not give) and ``notices`` (one-line warnings).
     """
     def clean(v: Any) -> Any:
         if hasattr(v, "item"):
@@ -114,8 +126,11 @@ def result_json(result: StudyResult) -> dict[str, Any]:
     cands = [{k: clean(row[col]) for k, col in JSON_KEYS.items()}
              for row in result.candidates.to_dict("records")]
     per_km = [{k: clean(v) for k, v in row.items()} for row in result.per_km.to_dict("records")]
+    tables = {name: [{k: clean(v) for k, v in row.items()}
+                     for row in getattr(result, name).to_dict("records")]
+              for name in ("defaults", "notices")}
     return {"title": result.title, "currency": result.currency, "candidates": cands,
-            "per_km": per_km}
+            "per_km": per_km, **tables}
 
 
 def _print_result(result: StudyResult, args: argparse.Namespace) -> None:
@@ -138,6 +153,11 @@ def _print_result(result: StudyResult, args: argparse.Namespace) -> None:
     print(result.title)
     print(format_table([{k: r.get(k) for k in units} | {"name": r["id"]} for r in records],
                        units))
+    _print_lines(notice_lines(result.notices))
+    if len(result.defaults):
+        print(f"{len(result.defaults)} defaults applied (the study did not give them); "
+              "`workbench study check FILE` lists each with its source, --json has them as "
+              "'defaults'")
 
 
 def _run(args: argparse.Namespace) -> None:

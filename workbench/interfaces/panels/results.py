@@ -20,7 +20,8 @@ import plotly.io as pio
 from workbench.interfaces import charts
 from workbench.interfaces.panels.fields import esc
 from workbench.interfaces.panels.state import StudyState
-from workbench.study.results import StudyResult
+from workbench.interfaces.report import defaults_html
+from workbench.study.results import StudyResult, notice_lines
 
 #: Charts the panel can show, by chart key: (menu label, builder).
 CHARTS = {
@@ -102,6 +103,18 @@ def summary_html(result: StudyResult) -> str:
             f'<tbody>{"".join(rows)}</tbody></table>')
 
 
+def _defaults(result: StudyResult | None) -> str:
+    """Warnings in full, the defaults applied folded under one line (as in the report)."""
+    if result is None:
+        return ""
+    body = defaults_html(result)
+    n = len(result.defaults)
+    lines = "".join(f'<p style="color:#D55E00">{esc(line)}</p>'
+                    for line in notice_lines(result.notices))
+    return (f'{lines}<details class="wb-defaults"><summary>{n} defaults applied '
+            f"(values the study did not give)</summary>{body}</details>")
+
+
 class ChartSlot(widgets.VBox):
     """A chart menu above one :class:`FigurePane`; picking a chart redraws the same pane."""
 
@@ -149,11 +162,12 @@ class ResultsPanel(widgets.VBox):
     def __init__(self, state: StudyState, *, charts: tuple[str, ...] = DEFAULT_CHARTS) -> None:
         self.state = state
         self.summary = widgets.HTML(summary_html(state.result) if state.result else "")
+        self.defaults = widgets.HTML(_defaults(state.result))
         self.slots = [ChartSlot(state, key) for key in charts]
         grid = widgets.GridBox(self.slots, layout=widgets.Layout(
             grid_template_columns="repeat(2, minmax(0, 1fr))", grid_gap="8px", width="100%"))
         state.on_change(self.show)
-        super().__init__([widgets.HTML("<h3>Results</h3>"), self.summary, grid])
+        super().__init__([widgets.HTML("<h3>Results</h3>"), self.summary, self.defaults, grid])
 
     def figure(self, key: str) -> go.Figure | None:
         """The widget showing chart ``key``, or None when no slot shows it."""
@@ -164,5 +178,6 @@ class ResultsPanel(widgets.VBox):
         if state.result is None:
             return
         self.summary.value = summary_html(state.result)
+        self.defaults.value = _defaults(state.result)
         for slot in self.slots:
             slot.draw()
