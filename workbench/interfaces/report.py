@@ -27,6 +27,7 @@ import workbench
 from workbench.interfaces.charts import MapGrid, all_figures
 from workbench.io.files import check_target, write_text_atomic
 from workbench.models.engine import EngineMap, read_map
+from workbench.study.decisions import mix_line
 from workbench.study.results import StudyResult, notice_lines
 from workbench.study.studyfile import Study
 
@@ -145,6 +146,18 @@ def defaults_html(result: StudyResult) -> str:
             f'<div class="scroll" id="defaults-table">{_table_html(result.defaults)}</div>')
 
 
+def _decisions_html(result: StudyResult) -> str:
+    """Each class's conversion on its own, and the best mix with its NPV."""
+    if result.best_mix.empty:
+        return "<p>The result has no per-class decisions.</p>"
+    names = dict(zip(result.candidates["candidate"], result.candidates["name"], strict=True))
+    return (f'<p id="best-mix"><strong>{_esc(mix_line(result.best_mix, names))}</strong> '
+            f"({_esc(result.currency)}). Each class's own conversion below leaves out the "
+            "programme costs (station, workshop); the mix counts those of each candidate it "
+            "uses once.</p>"
+            f'<div class="scroll">{_table_html(result.class_decisions)}</div>')
+
+
 def _notices_html(result: StudyResult) -> str:
     return "".join(f'<p class="caution notice">{_esc(line)}</p>'
                    for line in notice_lines(result.notices))
@@ -216,6 +229,7 @@ def html_report(
 <li><a href="#job">The job and the question</a></li>
 <li><a href="#inputs">Inputs and assumptions</a></li>
 <li><a href="#defaults">Defaults the run applied</a></li>
+<li><a href="#classes">A decision per class</a></li>
 <li><a href="#charts">Charts</a></li>
 <li><a href="#tables">Tables</a></li>
 <li><a href="#sources">Sources of reference data</a></li>
@@ -230,6 +244,8 @@ positive NPV means the candidate saves money.</p>
 <h2 id="defaults">Defaults the run applied</h2>
 {_notices_html(result)}
 {defaults_html(result)}
+<h2 id="classes">A decision per class</h2>
+{_decisions_html(result)}
 <h2 id="charts">Charts</h2>
 {"".join(charts)}
 <h2 id="tables">Tables</h2>

@@ -74,6 +74,19 @@ COLUMNS: dict[str, tuple[str, ...]] = {
     "defaults": ("candidate", "vehicle_class", "quantity", "value", "unit", "source"),
     # one row per line to show beside the results: a fuel on a map of another regime
     "notices": ("candidate", "vehicle_class", "message"),
+    # one row per candidate x class it converts: that class's conversion alone (no programme
+    # costs) against the baseline
+    "class_decisions": (
+        "candidate", "vehicle_class", "npv_vs_baseline", "discounted_payback_years",
+        "co2e_avoided_t", "nox_avoided_kg", "npv_p10", "npv_p50", "npv_p90", "p_npv_positive",
+        "in_best_mix",
+    ),
+    # one row per class: the option the best mix gives it, and the mix's own figures (with
+    # the programme costs of each candidate it uses)
+    "best_mix": (
+        "vehicle_class", "candidate", "npv_vs_baseline", "discounted_payback_years",
+        "co2e_avoided_t", "nox_avoided_kg", "npv_p10", "npv_p50", "npv_p90", "p_npv_positive",
+    ),
 }
 
 
@@ -92,7 +105,9 @@ class StudyResult:
         The tables of :data:`COLUMNS`. ``defaults`` lists every value the run took that the
         study did not give (conversion kind, engine setting, engine-out NOx, catalyst, lambda,
         methane slip, derate, efficiency, pollutant factors) with its source; ``notices`` the
-        one-line warnings (a fuel on a map made for another combustion regime).
+        one-line warnings (a fuel on a map made for another combustion regime);
+        ``class_decisions`` each class's conversion on its own and ``best_mix`` the best
+        choice per class (``workbench.study.decisions``).
     assumptions : dict
         Flat record of the inputs that shaped the result (for the report), values as text.
     sources : dict
@@ -117,6 +132,10 @@ class StudyResult:
         columns=list(COLUMNS["defaults"])))
     notices: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
         columns=list(COLUMNS["notices"])))
+    class_decisions: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
+        columns=list(COLUMNS["class_decisions"])))
+    best_mix: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
+        columns=list(COLUMNS["best_mix"])))
     assumptions: dict[str, str] = field(default_factory=dict)
     sources: dict[str, str] = field(default_factory=dict)
 

@@ -627,6 +627,7 @@ def run(study: Study, *, draws: int | None = None,
     base = inputs.baseline.id
     mc: dict[str, np.ndarray] = {}
     paybacks: dict[str, np.ndarray] = {}
+    samples: dict[str, np.ndarray] = {}
     if n > 0:
         say(f"Monte Carlo, {n} draws")
         samples = econ.sample_inputs(inputs.uncertain, n, inputs.seed)
@@ -638,6 +639,10 @@ def run(study: Study, *, draws: int | None = None,
                                         ).reshape(n)
     colours = {o.id: PALETTE[i % len(PALETTE)] for i, o in enumerate(inputs.options)}
     per_km = _frame("per_km", _per_km_rows(plan, det))
+    from workbench.study.decisions import decision_tables  # it builds on this module
+
+    say("decisions per class")
+    decisions, mix = decision_tables(plan, samples, n)
     result = StudyResult(
         title=inputs.title,
         currency=inputs.currency,
@@ -654,6 +659,8 @@ def run(study: Study, *, draws: int | None = None,
         catalyst=_catalyst_table(plan),
         defaults=_frame("defaults", defaults_rows(inputs, plan.physics)),
         notices=_frame("notices", notice_rows(inputs)),
+        class_decisions=_frame("class_decisions", decisions),
+        best_mix=_frame("best_mix", mix),
         assumptions=_assumptions(study, n),
         sources=_sources(inputs),
     )

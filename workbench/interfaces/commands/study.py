@@ -116,7 +116,9 @@ def result_json(result: StudyResult) -> dict[str, Any]:
         ``title``, ``currency``, ``candidates`` (one object per option, baseline first,
         keys of :data:`JSON_KEYS`; missing values and payback that never comes are null) and
         ``per_km`` (one object per option and vehicle class), ``defaults`` (one object per
-        value the run took that the study did not give) and ``notices`` (one-line warnings).
+        value the run took that the study did not give), ``notices`` (one-line warnings),
+        ``class_decisions`` (each class's conversion alone) and ``best_mix`` (the best option
+        per class, one object per class with the mix's figures).
     """
     def clean(v: Any) -> Any:
         if hasattr(v, "item"):
@@ -128,7 +130,7 @@ def result_json(result: StudyResult) -> dict[str, Any]:
     per_km = [{k: clean(v) for k, v in row.items()} for row in result.per_km.to_dict("records")]
     tables = {name: [{k: clean(v) for k, v in row.items()}
                      for row in getattr(result, name).to_dict("records")]
-              for name in ("defaults", "notices")}
+              for name in ("defaults", "notices", "class_decisions", "best_mix")}
     return {"title": result.title, "currency": result.currency, "candidates": cands,
             "per_km": per_km, **tables}
 
@@ -153,6 +155,16 @@ def _print_result(result: StudyResult, args: argparse.Namespace) -> None:
     print(result.title)
     print(format_table([{k: r.get(k) for k in units} | {"name": r["id"]} for r in records],
                        units))
+    from workbench.study.decisions import mix_line
+
+    if len(result.class_decisions):
+        print("\nEach class converted on its own (no programme costs):")
+        decisions = [{"name": f"{r['candidate']}/{r['vehicle_class']}", **r}
+                     for r in result_json(result)["class_decisions"]]
+        print(format_table(decisions, {
+            "name": "", "npv_vs_baseline": cur, "discounted_payback_years": "year",
+            "co2e_avoided_t": "t", "nox_avoided_kg": "kg", "p_npv_positive": "-"}))
+    _print_lines([mix_line(result.best_mix)] if len(result.best_mix) else [])
     _print_lines(notice_lines(result.notices))
     if len(result.defaults):
         print(f"{len(result.defaults)} defaults applied (the study did not give them); "

@@ -109,8 +109,13 @@ def _defaults(result: StudyResult | None) -> str:
         return ""
     body = defaults_html(result)
     n = len(result.defaults)
-    lines = "".join(f'<p style="color:#D55E00">{esc(line)}</p>'
-                    for line in notice_lines(result.notices))
+    from workbench.study.decisions import mix_line
+
+    names = dict(zip(result.candidates["candidate"], result.candidates["name"], strict=True))
+    mix = (f'<p class="wb-best-mix">{esc(mix_line(result.best_mix, names))}</p>'
+           if len(result.best_mix) else "")
+    lines = mix + "".join(f'<p style="color:#D55E00">{esc(line)}</p>'
+                          for line in notice_lines(result.notices))
     return (f'{lines}<details class="wb-defaults"><summary>{n} defaults applied '
             f"(values the study did not give)</summary>{body}</details>")
 

@@ -1,0 +1,178 @@
+"""A decision per vehicle class, and the best mix of options across classes.
+
+Each candidate is split into one option per class it converts (the other classes as the
+baseline has them, no programme costs): its NPV, payback and emissions against the baseline are
+the class's own. The best mix then picks, for every class, the baseline or one candidate's
+conversion, counting each chosen candidate's programme costs (capital and upkeep) once, and
+keeps the mix with the highest NPV; every combination is tried (up to :data:`MAX_MIXES`). The
+mix's uncertainty comes from the same Monte Carlo draws as the candidates'.
+
+The cash flows are the study's own (:func:`workbench.study.runner._money`), run on synthetic
+options whose physics are the existing (candidate, class) results: nothing is recomputed.
+"""
+
+from __future__ import annotations
+
+import itertools
+from collections.abc import Mapping
+from dataclasses import replace
+
+import numpy as np
+import pandas as pd
+
+from workbench.models import economics as econ
+from workbench.study.runner import Money, _money, _Plan
+from workbench.study.studyfile import Option, Uncertain
+
+#: Most combinations of (baseline or candidate) per class the best-mix search tries; beyond it
+#: each class takes its own best option (the programme costs then counted as they fall).
+MAX_MIXES = 4096
+
+
+def _zero(path: str) -> Uncertain:
+    return Uncertain(0.0, None, path)
+
+
+def _synthetic(plan: _Plan, choice: Mapping[str, str], oid: str, *, programme: bool) -> Option:
+    """An option giving each class the class option of the option named in ``choice``."""
+    inputs = plan.inputs
+    by_id = {o.id: o for o in inputs.options}
+    per_class = {c: by_id[o].per_class[c] for c, o in choice.items()}
+    chosen = [by_id[o] for o in dict.fromkeys(choice.values()) if o != inputs.baseline.id]
+    capital = sum(o.programme_capital.nominal for o in chosen) if programme else 0.0
+    upkeep = sum(o.programme_upkeep_per_year.nominal for o in chosen) if programme else 0.0
+    # programme inputs of the chosen candidates keep their own paths so draws reach them
+    if programme and len(chosen) == 1:
+        cap_u, up_u = chosen[0].programme_capital, chosen[0].programme_upkeep_per_year
+    else:
+        cap_u, up_u = (replace(_zero(f"{oid}.programme_capital"), nominal=capital),
+                       replace(_zero(f"{oid}.programme_upkeep"), nominal=upkeep))
+    return Option(id=oid, name=oid, is_baseline=False, per_class=per_class,
+                  programme_capital=cap_u, programme_upkeep_per_year=up_u)
+
+
+def _extend(plan: _Plan, options: dict[str, tuple[Option, Mapping[str, str]]]) -> _Plan:
+    """The plan with synthetic options added; their physics point at the chosen options'."""
+    keyed = {}
+    for field in ("physics", "catalyst_cost", "nox_t", "replacements", "responses"):
+        table = dict(getattr(plan, field))
+        for oid, (_, choice) in options.items():
+            for cid, src in choice.items():
+                table[oid, cid] = table[src, cid]
+        keyed[field] = table
+    inputs = replace(plan.inputs, candidates=(*plan.inputs.candidates,
+                                              *(o for o, _ in options.values())))
+    return replace(plan, inputs=inputs, **keyed)
+
+
+def _row(money: Money, plan: _Plan, oid: str, base: str, choice: Mapping[str, str]) -> dict:
+    rate = money.rate
+    diff = money.cash[oid] - money.cash[base]
+    nox_kg = sum(float((plan.nox_t[base, c] - plan.nox_t[o, c]).sum()) for c, o in
+                 choice.items()) * 1e3
+    return {
+        "npv_vs_baseline": float(np.asarray(econ.npv(rate[0], diff[0]))),
+        "discounted_payback_years": float(np.asarray(econ.discounted_payback(rate[0],
+                                                                               diff[0]))),
+        "co2e_avoided_t": float((money.co2e[base][0] - money.co2e[oid][0]).sum()) / 1e3,
+        "nox_avoided_kg": nox_kg,
+    }
+
+
+def _spread(draws: Money | None, oid: str, base: str) -> dict:
+    if draws is None:
+        return {"npv_p10": np.nan, "npv_p50": np.nan, "npv_p90": np.nan,
+                "p_npv_positive": np.nan}
+    npv = np.asarray(econ.npv(draws.rate, draws.cash[oid] - draws.cash[base])).reshape(-1)
+    p10, p50, p90 = np.percentile(npv, [10, 50, 90])
+    return {"npv_p10": p10, "npv_p50": p50, "npv_p90": p90,
+            "p_npv_positive": float(econ.probability_positive(npv))}
+
+
+def decision_tables(plan: _Plan, samples: Mapping[str, np.ndarray], n: int
+                    ) -> tuple[list[dict], list[dict]]:
+    """Rows of the ``class_decisions`` and ``best_mix`` tables.
+
+    Parameters
+    ----------
+    plan : _Plan
+        The study's physics and yearly arrays.
+    samples : mapping
+        Monte Carlo draws by input path (empty for none).
+    n : int
+        Number of draws (0 for none).
+
+    Returns
+    -------
+    (list of dict, list of dict)
+        One row per candidate x class it converts; one row per class of the best mix (the
+        mix's own figures repeated on each row, its choice for that class in ``candidate``).
+    """
+    inputs = plan.inputs
+    base = inputs.baseline.id
+    classes = [c.id for c in inputs.classes]
+    keep = dict.fromkeys(classes, base)
+    single: dict[str, tuple[Option, Mapping[str, str]]] = {}
+    for o in inputs.candidates:
+        for cid, co in o.per_class.items():
+            if co.converts:
+                choice = {**keep, cid: o.id}
+                oid = f"{o.id}@{cid}"
+                single[oid] = (_synthetic(plan, choice, oid, programme=False), choice)
+    per_class = {cid: [base, *(o.id for o in inputs.candidates if o.per_class[cid].converts)]
+                 for cid in classes}
+    combos = list(itertools.islice(itertools.product(*per_class.values()), MAX_MIXES + 1))
+    if len(combos) > MAX_MIXES:
+        combos = []
+    mixes = {}
+    for k, combo in enumerate(combos):
+        choice = dict(zip(classes, combo, strict=True))
+        mixes[f"mix{k}"] = (_synthetic(plan, choice, f"mix{k}", programme=True), choice)
+    ext = _extend(plan, {**single, **mixes})
+    det = _money(ext, {}, 1)
+    if mixes:
+        best_id = max(mixes, key=lambda m: _row(det, ext, m, base, mixes[m][1])
+                      ["npv_vs_baseline"])
+    else:  # too many to try: each class its own best conversion
+        choice = {}
+        for cid in classes:
+            options = [(oid, ch) for oid, (_, ch) in single.items() if ch[cid] != base]
+            scores = [(_row(det, ext, oid, base, ch)["npv_vs_baseline"], ch[cid])
+                      for oid, ch in options]
+            choice[cid] = max([(0.0, base), *scores])[1]
+        mixes = {"mix": (_synthetic(plan, choice, "mix", programme=True), choice)}
+        ext = _extend(plan, {**single, **mixes})
+        det = _money(ext, {}, 1)
+        best_id = "mix"
+    wanted = {**single, best_id: mixes[best_id]}
+    draws = None
+    if n > 0:
+        sub = _extend(plan, wanted)
+        draws = _money(sub, samples, n)
+    best_choice = mixes[best_id][1]
+    rows = []
+    for oid, (_, choice) in single.items():
+        src, cid = oid.split("@", 1)
+        rows.append({"candidate": src, "vehicle_class": cid,
+                     **_row(det, ext, oid, base, choice), **_spread(draws, oid, base),
+                     "in_best_mix": best_choice[cid] == src})
+    mix = {**_row(det, ext, best_id, base, best_choice), **_spread(draws, best_id, base)}
+    mix_rows = [{"vehicle_class": cid, "candidate": best_choice[cid], **mix} for cid in classes]
+    return rows, mix_rows
+
+
+def mix_line(best_mix: pd.DataFrame, names: Mapping[str, str] | None = None) -> str:
+    """One line naming the best mix and its NPV, for the command line and the panels."""
+    if best_mix.empty:
+        return ""
+    names = names or {}
+    parts = [f"{r.vehicle_class}: {names.get(r.candidate, r.candidate)}"
+             for r in best_mix.itertuples(index=False)]
+    r = best_mix.iloc[0]
+    spread = ("" if not np.isfinite(r["npv_p10"]) else
+              f", P10 {r['npv_p10']:,.0f} to P90 {r['npv_p90']:,.0f}, "
+              f"P(NPV > 0) {r['p_npv_positive']:.0%}")
+    return f"best mix by class ({'; '.join(parts)}): NPV {r['npv_vs_baseline']:,.0f}{spread}"
+
+
+__all__ = ["MAX_MIXES", "decision_tables", "mix_line"]
