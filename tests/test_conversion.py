@@ -8,17 +8,17 @@ import numpy as np
 import pytest
 from numpy.testing import assert_allclose
 
+from workbench.core.constants import RPM
 from workbench.core.errors import InputError
 from workbench.core.fuels import load_fuel
+from workbench.core.paths import DATA
 from workbench.models import conversion as cv
 from workbench.models.aftertreatment import DEVICE_PRESETS
 from workbench.models.combustion import fuel_sheet
 from workbench.models.engine import read_map, willans_map, willans_parameters
 from workbench.models.nox import DEFAULT_ENGINE_OUT
-from workbench.study.studyfile import DATA
 
 VAN_MAP = DATA / "maps" / "van-ci-2.3l.csv"
-RPM = 2 * math.pi / 60
 
 
 def test_otto_efficiency_closed_form():

@@ -7,7 +7,7 @@ import pytest
 from workbench.core.errors import InputError
 from workbench.models.pollutants import FACTORS, pollutant_factors
 
-G_PER_KWH = 1e-3 / 3.6e6  # [kg/J]
+G_PER_KWH = 1e-3 / 3.6e6  # [kg/J] per g/kWh (1 kWh = 3.6 MJ, by definition)
 #: Euro VI WHTC limits [g/kWh] (Regulation (EC) 595/2009 Annex I, from memory): CO 4.0,
 #: THC 0.16 for compression ignition, NMHC 0.16 for positive ignition, PM 0.010.
 EURO_VI = {"co": 4.0, "hc": 0.16, "pm": 0.010}

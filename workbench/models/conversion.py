@@ -41,6 +41,7 @@ from typing import Literal
 
 import numpy as np
 
+from workbench.core.constants import ATMOSPHERE, GAS_CONSTANT
 from workbench.core.errors import InputError
 from workbench.core.fuels import Fuel
 from workbench.models.combustion import FuelSheet
@@ -49,10 +50,10 @@ from workbench.models.engine import EngineMap
 Regime = Literal["spark-ignition", "compression-ignition", "lean-burn-gas"]
 KindName = Literal["none", "bi-fuel-si", "dedicated-si", "dual-fuel-ci"]
 
-#: Standard atmosphere at sea level [Pa] (ISO 2533).
-P_AMBIENT = 101325.0
-#: Specific gas constant of dry air [J/(kg K)] (8.314462618 / 0.0289647).
-R_AIR = 287.05
+#: Ambient pressure of the naturally aspirated charge [Pa]: the standard atmosphere.
+P_AMBIENT = ATMOSPHERE
+#: Specific gas constant of dry air [J/(kg K)]: R over 28.9647 kg/kmol (dry air, ISO 2533).
+R_AIR = GAS_CONSTANT / 28.9647
 
 _SOURCE_GS = ("Willans approximation, Guzzella & Sciarretta, Vehicle Propulsion Systems, 3rd "
               "ed. 2013, ch. 3, from memory")

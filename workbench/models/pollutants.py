@@ -17,6 +17,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+from workbench.core.constants import J_PER_KWH
 from workbench.core.errors import InputError
 
 #: Euro VI WHTC limits [g/kWh] (Regulation (EC) 595/2009 Annex I, from memory).
@@ -45,7 +46,7 @@ class PollutantFactors:
     source: str
 
 
-_G_PER_KWH = 1e-3 / 3.6e6  # [kg/J] per g/kWh
+_G_PER_KWH = 1e-3 / J_PER_KWH  # [kg/J] per g/kWh
 
 
 def _f(pm: float, co: float, nmhc: float, source: str) -> PollutantFactors:

@@ -10,11 +10,11 @@ import argparse
 from dataclasses import replace
 from pathlib import Path
 
+from workbench.core.constants import RPM
 from workbench.core.errors import InputError
+from workbench.core.paths import DATA
 from workbench.models.conversion import KINDS
 from workbench.models.duty import DutySettings, DutyTrace, duty_stats, read_profile
-
-DATA = Path(__file__).resolve().parents[2] / "data"
 
 #: Demo kind -> (data sub-directory, file suffix).
 _DEMOS = {"profile": ("profiles", ".csv"), "vehicle": ("vehicles", ".toml"),
@@ -110,7 +110,7 @@ def _stats(args: argparse.Namespace) -> None:
         "mean_speed_km_per_h": s.mean_speed * 3.6,
         "max_speed_km_per_h": s.max_speed * 3.6,
         "idle_share": s.idle_share,
-        "stops_per_km": s.stops_per_km,
+        "stops_per_km": s.stops_per_m * 1e3,
         "positive_kinetic_energy_m_per_s2": s.positive_kinetic_energy,
     }
     if args.json:
@@ -140,7 +140,7 @@ def _fuel(args: argparse.Namespace) -> None:
         kind_derate,
         regime_mismatch,
     )
-    from workbench.models.engine import fuel_per_km_for
+    from workbench.models.engine import fuel_per_distance_for
     from workbench.study.runner import converted_map, duty_physics
 
     settings = _settings(args)
@@ -193,21 +193,21 @@ def _fuel(args: argparse.Namespace) -> None:
         if kind.name == "dual-fuel-ci":
             pts = phys.points
             work = pts["torque_nm"] * pts["engine_speed_rpm"] * pts["seconds"]
-            share = duty_gas_share(pts["engine_speed_rpm"] * 2 * 3.141592653589793 / 60,
+            share = duty_gas_share(pts["engine_speed_rpm"] * RPM,
                                    pts["torque_nm"], work / pts["brake_efficiency"],
                                    converted_map(map_path, derate, offset, conv, conv_fuel)[0])
             record["gas_energy_share"] = share
-            gas = fuel_per_km_for(replace(phys.energy,
+            gas = fuel_per_distance_for(replace(phys.energy,
                                           fuel_energy=phys.energy.fuel_energy * share),
                                   fuel, sheet)
-            pilot = fuel_per_km_for(replace(phys.energy, fuel_energy=phys.energy.fuel_energy
+            pilot = fuel_per_distance_for(replace(phys.energy, fuel_energy=phys.energy.fuel_energy
                                             * (1 - share)), fuels[0], reference)
             rows.append(record | gas.trade_units())
             rows.append({"fuel": f"{fuels[0].id} pilot", "conversion": kind.name,
                          "derate": derate, "efficiency_offset": offset,
                          "gas_energy_share": share} | pilot.trade_units())
         else:
-            rows.append(record | fuel_per_km_for(phys.energy, fuel, sheet).trade_units())
+            rows.append(record | fuel_per_distance_for(phys.energy, fuel, sheet).trade_units())
     energy = first.energy
     record = {
         "profile": args.profile,
