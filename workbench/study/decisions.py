@@ -33,26 +33,36 @@ def _zero(path: str) -> Uncertain:
     return Uncertain(0.0, None, path)
 
 
+def _programme(options: list[Option], field: str, path: str) -> Uncertain:
+    """The summed programme input of ``options``; one that alone carries a value keeps its own
+    (so Monte Carlo draws reach it), several are summed at their nominal values."""
+    given = [getattr(o, field) for o in options]
+    given = [u for u in given if u.nominal != 0.0 or u.dist is not None]
+    if len(given) == 1:
+        return given[0]
+    return replace(_zero(path), nominal=sum(u.nominal for u in given))
+
+
 def _synthetic(plan: _Plan, choice: Mapping[str, str], oid: str, *, programme: bool) -> Option:
-    """An option giving each class the class option of the option named in ``choice``."""
+    """An option giving each class the class option of the option named in ``choice``, with
+    the baseline's programme costs and (``programme``) those of each candidate it uses."""
     inputs = plan.inputs
     by_id = {o.id: o for o in inputs.options}
     per_class = {c: by_id[o].per_class[c] for c, o in choice.items()}
-    chosen = [by_id[o] for o in dict.fromkeys(choice.values()) if o != inputs.baseline.id]
-    capital = sum(o.programme_capital.nominal for o in chosen) if programme else 0.0
-    upkeep = sum(o.programme_upkeep_per_year.nominal for o in chosen) if programme else 0.0
-    # programme inputs of the chosen candidates keep their own paths so draws reach them
-    if programme and len(chosen) == 1:
-        cap_u, up_u = chosen[0].programme_capital, chosen[0].programme_upkeep_per_year
-    else:
-        cap_u, up_u = (replace(_zero(f"{oid}.programme_capital"), nominal=capital),
-                       replace(_zero(f"{oid}.programme_upkeep"), nominal=upkeep))
+    payers = [inputs.baseline]
+    if programme:
+        payers += [by_id[o] for o in dict.fromkeys(choice.values()) if o != inputs.baseline.id]
     return Option(id=oid, name=oid, is_baseline=False, per_class=per_class,
-                  programme_capital=cap_u, programme_upkeep_per_year=up_u)
+                  programme_capital=_programme(payers, "programme_capital",
+                                               f"{oid}.programme_capital"),
+                  programme_upkeep_per_year=_programme(payers, "programme_upkeep_per_year",
+                                                       f"{oid}.programme_upkeep"))
 
 
-def _extend(plan: _Plan, options: dict[str, tuple[Option, Mapping[str, str]]]) -> _Plan:
-    """The plan with synthetic options added; their physics point at the chosen options'."""
+def _extend(plan: _Plan, options: dict[str, tuple[Option, Mapping[str, str]]], *,
+            keep: bool = True) -> _Plan:
+    """The plan with synthetic options added (``keep``: after the study's candidates, else in
+    their place); their physics point at the chosen options'."""
     keyed = {}
     for field in ("physics", "catalyst_cost", "nox_t", "replacements", "responses"):
         table = dict(getattr(plan, field))
@@ -60,8 +70,8 @@ def _extend(plan: _Plan, options: dict[str, tuple[Option, Mapping[str, str]]]) -
             for cid, src in choice.items():
                 table[oid, cid] = table[src, cid]
         keyed[field] = table
-    inputs = replace(plan.inputs, candidates=(*plan.inputs.candidates,
-                                              *(o for o, _ in options.values())))
+    own = plan.inputs.candidates if keep else ()
+    inputs = replace(plan.inputs, candidates=(*own, *(o for o, _ in options.values())))
     return replace(plan, inputs=inputs, **keyed)
 
 
@@ -79,17 +89,37 @@ def _row(money: Money, plan: _Plan, oid: str, base: str, choice: Mapping[str, st
     }
 
 
-def _spread(draws: Money | None, oid: str, base: str) -> dict:
-    if draws is None:
+def _spread(draws: Mapping[str, np.ndarray], oid: str) -> dict:
+    if oid not in draws:
         return {"npv_p10": np.nan, "npv_p50": np.nan, "npv_p90": np.nan,
                 "p_npv_positive": np.nan}
-    npv = np.asarray(econ.npv(draws.rate, draws.cash[oid] - draws.cash[base])).reshape(-1)
+    npv = draws[oid]
     p10, p50, p90 = np.percentile(npv, [10, 50, 90])
     return {"npv_p10": p10, "npv_p50": p50, "npv_p90": p90,
             "p_npv_positive": float(econ.probability_positive(npv))}
 
 
-def decision_tables(plan: _Plan, samples: Mapping[str, np.ndarray], n: int
+def _single_draws(plan: _Plan, single: Mapping[str, tuple[Option, Mapping[str, str]]],
+                  samples: Mapping[str, np.ndarray], n: int) -> dict[str, np.ndarray]:
+    """NPV draws of each one-class option, the money run on that class alone (the other
+    classes are the baseline's in both, so they cancel)."""
+    out = {}
+    for c in plan.inputs.classes:
+        mine = {oid: v for oid, v in single.items() if oid.endswith(f"@{c.id}")}
+        if not mine:
+            continue
+        sub = _extend(plan, mine, keep=False)
+        sub = replace(sub, inputs=replace(sub.inputs, classes=(c,)))
+        money = _money(sub, samples, n)
+        base = plan.inputs.baseline.id
+        for oid in mine:
+            out[oid] = np.asarray(econ.npv(money.rate, money.cash[oid] - money.cash[base])
+                                  ).reshape(-1)
+    return out
+
+
+def decision_tables(plan: _Plan, samples: Mapping[str, np.ndarray], n: int,
+                    candidate_draws: Mapping[str, np.ndarray] | None = None
                     ) -> tuple[list[dict], list[dict]]:
     """Rows of the ``class_decisions`` and ``best_mix`` tables.
 
@@ -101,6 +131,9 @@ def decision_tables(plan: _Plan, samples: Mapping[str, np.ndarray], n: int
         Monte Carlo draws by input path (empty for none).
     n : int
         Number of draws (0 for none).
+    candidate_draws : mapping, optional
+        NPV draws of the study's candidates on the same samples: a mix that is one of them
+        takes its draws instead of running them again.
 
     Returns
     -------
@@ -144,19 +177,25 @@ def decision_tables(plan: _Plan, samples: Mapping[str, np.ndarray], n: int
         ext = _extend(plan, {**single, **mixes})
         det = _money(ext, {}, 1)
         best_id = "mix"
-    wanted = {**single, best_id: mixes[best_id]}
-    draws = None
-    if n > 0:
-        sub = _extend(plan, wanted)
-        draws = _money(sub, samples, n)
     best_choice = mixes[best_id][1]
+    draws: dict[str, np.ndarray] = {}
+    if n > 0:
+        draws = _single_draws(plan, single, samples, n)
+        same = [o.id for o in inputs.candidates if best_choice == {
+            c: (o.id if co.converts else base) for c, co in o.per_class.items()}]
+        if same and candidate_draws is not None and same[0] in candidate_draws:
+            draws[best_id] = np.asarray(candidate_draws[same[0]]).reshape(-1)
+        else:
+            money = _money(_extend(plan, {best_id: mixes[best_id]}, keep=False), samples, n)
+            draws[best_id] = np.asarray(econ.npv(
+                money.rate, money.cash[best_id] - money.cash[base])).reshape(-1)
     rows = []
     for oid, (_, choice) in single.items():
         src, cid = oid.split("@", 1)
         rows.append({"candidate": src, "vehicle_class": cid,
-                     **_row(det, ext, oid, base, choice), **_spread(draws, oid, base),
+                     **_row(det, ext, oid, base, choice), **_spread(draws, oid),
                      "in_best_mix": best_choice[cid] == src})
-    mix = {**_row(det, ext, best_id, base, best_choice), **_spread(draws, best_id, base)}
+    mix = {**_row(det, ext, best_id, base, best_choice), **_spread(draws, best_id)}
     mix_rows = [{"vehicle_class": cid, "candidate": best_choice[cid], **mix} for cid in classes]
     return rows, mix_rows
 

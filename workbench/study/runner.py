@@ -641,7 +641,7 @@ def run(study: Study, *, draws: int | None = None,
     from workbench.study.decisions import decision_tables  # it builds on this module
 
     say("decisions per class")
-    decisions, mix = decision_tables(plan, samples, n)
+    decisions, mix = decision_tables(plan, samples, n, mc)
     result = StudyResult(
         title=inputs.title,
         currency=inputs.currency,
