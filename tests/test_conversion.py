@@ -129,6 +129,10 @@ def test_infer_kind_and_regime_lines():
     assert cv.infer_kind(ng, "spark-ignition") == "bi-fuel-si"
     assert cv.infer_kind(gasoline, "spark-ignition") == "none"
     assert cv.infer_kind(diesel, "compression-ignition") == "none"
+    # a gas on an engine that burns gas today is no conversion (lean-burn or stoichiometric)
+    assert cv.infer_kind(ng, "lean-burn-gas") == "none"
+    assert cv.infer_kind(lpg, "spark-ignition", ng) == "none"
+    assert cv.regime_mismatch(ng, cv.KINDS["none"], "lean-burn-gas") is None
     line = cv.regime_mismatch(lpg, cv.KINDS["none"], "compression-ignition")
     assert line is not None and "lpg" in line and "\n" not in line
     assert cv.regime_mismatch(lpg, cv.KINDS["dedicated-si"], "compression-ignition") is None

@@ -184,18 +184,35 @@ def fuel_regime(fuel: Fuel) -> Regime:
     return "compression-ignition"
 
 
-def infer_kind(fuel: Fuel, map_regime: str) -> str:
+#: Combustion family of each engine setting: a lean-burn gas engine is spark-ignited.
+_FAMILY = {"lean-burn-gas": "spark-ignition"}
+
+
+def infer_kind(fuel: Fuel, map_regime: str, original: Fuel | None = None) -> str:
     """The conversion a fuel needs on an engine of ``map_regime`` when none is named.
 
-    A spark-ignition fuel on a compression-ignition map: ``dedicated-si``; a gas on a
-    spark-ignition (gasoline) map: ``bi-fuel-si``; otherwise ``none`` (the engine's own kind of
-    fuel, or a diesel-like fuel on a spark-ignition map, which no kind converts: see
-    :func:`regime_mismatch`).
+    Parameters
+    ----------
+    fuel : Fuel
+        The new fuel.
+    map_regime : str
+        Engine setting the map was made for.
+    original : Fuel, optional
+        The fuel the engine burns today.
+
+    Returns
+    -------
+    str
+        A spark-ignition fuel on a compression-ignition map: ``dedicated-si``; a gas on a
+        gasoline engine's map: ``bi-fuel-si``; otherwise ``none``: the engine's own kind of
+        fuel (a gas on a gas engine, gasoline on a gasoline engine), or a diesel-like fuel on a
+        spark-ignition map, which no kind converts (see :func:`regime_mismatch`).
     """
     regime = fuel_regime(fuel)
     if map_regime == "compression-ignition" and regime == "spark-ignition":
         return "dedicated-si"
-    if map_regime == "spark-ignition" and fuel.is_gas:
+    gas_engine = map_regime == "lean-burn-gas" or (original is not None and original.is_gas)
+    if map_regime == "spark-ignition" and fuel.is_gas and not gas_engine:
         return "bi-fuel-si"
     return "none"
 
@@ -206,7 +223,7 @@ def regime_mismatch(fuel: Fuel, kind: ConversionKind, map_regime: str) -> str | 
         return (f"conversion {kind.name} converts a {kind.base_regime} engine but the map is "
                 f"{map_regime}: the derived map is not meaningful; give the converted "
                 "engine's engine_map")
-    if kind.name == "none" and fuel_regime(fuel) != map_regime:
+    if kind.name == "none" and fuel_regime(fuel) != _FAMILY.get(map_regime, map_regime):
         return (f"{fuel.id} ({fuel_regime(fuel)}) runs unchanged on a map made for "
                 f"{map_regime}: name a conversion kind or give the converted engine's map")
     return None

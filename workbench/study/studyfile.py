@@ -741,7 +741,7 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOpt
         kind = conversion_kind(_per_class(r, "conversion", c.id, class_ids, None),
                                where=at("conversion"))
     else:
-        kind = KINDS[infer_kind(fuel, map_regime)]
+        kind = KINDS[infer_kind(fuel, map_regime, None if base is None else base.fuel)]
         if kind.name != "none":
             defaults.append(("conversion", kind.name, "", f"inferred: {fuel.id} on a "
                              f"{map_regime} map ({kind.summary})"))

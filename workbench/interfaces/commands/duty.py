@@ -159,7 +159,8 @@ def _fuel(args: argparse.Namespace) -> None:
     first = None
     for k, fuel in enumerate(fuels):
         sheet = fuel_sheet(fuel)
-        kind = KINDS["none"] if k == 0 else KINDS[args.conversion or infer_kind(fuel, regime)]
+        name = args.conversion or infer_kind(fuel, regime, fuels[0])
+        kind = KINDS["none"] if k == 0 else KINDS[name]
         if k and args.conversion is None and kind.name != "none":
             defaults.append(f"default: {fuel.id}: conversion = {kind.name} (inferred: "
                             f"{fuel.id} on a {regime} map; --conversion none keeps the map)")
