@@ -67,6 +67,16 @@ def test_explicit_map_and_offset_override_the_kind():
     assert co.efficiency_offset == pytest.approx(-0.01)
 
 
+def test_an_engine_setting_named_overrides_the_kinds_defaults():
+    # a diesel rebuilt as a lean-burn gas engine: no three-way catalyst (lean exhaust), lambda
+    # of a lean-burn engine (common practice, no source)
+    study = _lpg_vans(fuel="natural-gas", engine="lean-burn-gas")
+    co = study.inputs.candidates[0].per_class["van"]
+    assert co.conversion == "dedicated-si" and co.derived_map
+    assert co.aftertreatment.name == "none" and co.lambda_overall == 1.5
+    assert co.methane_slip == pytest.approx(0.01)
+
+
 def test_dual_fuel_and_baseline_conversion_are_refused_in_one_line():
     with pytest.raises(InputError, match="dual-fuel-ci burns two fuels") as err:
         _lpg_vans(conversion="dual-fuel-ci", fuel="natural-gas")

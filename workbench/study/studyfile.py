@@ -47,6 +47,7 @@ from workbench.models.conversion import (
     REGIME_DEVICE,
     REGIME_LAMBDA,
     REGIME_SLIP,
+    ConversionKind,
     conversion_kind,
     fuel_regime,
     infer_kind,
@@ -708,6 +709,7 @@ def _unchanged(base: ClassOption) -> ClassOption:
 def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOption | None,
                   base_dir: Path, currency: str) -> ClassOption:
     is_baseline = base is None
+
     def at(key: str) -> str:
         value = r.raw(key, None)
         if isinstance(value, Mapping) and value and set(value) <= class_ids:
@@ -770,22 +772,18 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOpt
         return _uncertain(value, parse, at(key), low, unit=(unit, 1.0))
 
     nox_raw = _per_class(r, "engine_out_nox", c.id, class_ids, None)
-    lam_default = kind.lambda_overall or REGIME_LAMBDA[engine]
+    lam_default, slip_default, device_default, derate_default = _kind_values(kind, engine,
+                                                                             fuel, base)
     base_ppm = (base is not None and base.engine == engine and base.engine_out_nox is not None
                 and base.engine_out_nox.unit == "ppm")
     if not given("lambda_overall") and ("ppm" in str(nox_raw) or (nox_raw is None and base_ppm)):
         defaults.append(("lambda", f"{lam_default:g}", "-", f"{engine} default "
                          "(Heywood 1988 ch. 1 and 11, from memory)"))
-    slip_default = kind.methane_slip if kind.name != "none" else REGIME_SLIP[engine]
-    if fuel.mole_fractions.get("CH4", 0.0) == 0.0:
-        slip_default = 0.0
-    elif not given("methane_slip"):
+    if slip_default and not given("methane_slip"):
         defaults.append(("methane slip", f"{slip_default:.2%}", "of the fuel's methane",
                          kind.sources.get("methane_slip", f"{engine} default (models/"
                                           "conversion.py REGIME_SLIP)")))
     derived = kind.name == "dedicated-si" and map_raw is None
-    derate_default = kind_derate(kind, fuel_sheet(fuel),
-                                 None if base is None else fuel_sheet(base.fuel))
     if derate_default and not given("derate"):
         defaults.append(("derate", f"{derate_default * 100:.1f}", "%", kind.sources["derate"]))
     if kind.efficiency_offset and not given("efficiency_offset"):
@@ -794,13 +792,11 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOpt
     if derived:
         defaults.append(("engine map", f"{c.engine_map.stem} converted", "",
                          f"{kind.name}: {kind.source}"))
-    device_default = kind.aftertreatment or REGIME_DEVICE[engine]
     at_raw = _per_class(r, "aftertreatment", c.id, class_ids, None)
     if at_raw is None or (isinstance(at_raw, Mapping) and "preset" not in at_raw):
         d = DEVICE_PRESETS[device_default]
-        defaults.append(("aftertreatment", device_default, "",
-                         f"{'conversion ' + kind.name if kind.aftertreatment else engine} "
-                         "default device"))
+        defaults.append(("aftertreatment", device_default, "", f"default device of {engine}"
+                         + (f" (conversion {kind.name})" if kind.aftertreatment else "")))
         if d.efficiency_new > 0:
             given_at = set(at_raw or ())
             for key, label in (("efficiency_new", "catalyst efficiency new"),
@@ -841,6 +837,23 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOpt
         defaults=tuple(defaults),
         notices=() if mismatch is None else (mismatch,),
     )
+
+
+def _kind_values(kind: ConversionKind, engine: str, fuel: Fuel, base: ClassOption | None
+                 ) -> tuple[float, float, str, float]:
+    """Lambda [-], methane slip [-], device and derate [-] a conversion implies for a class.
+
+    The kind's own values hold while the engine setting is the kind's; a setting the study
+    names otherwise takes that setting's defaults. A fuel without methane slips none.
+    """
+    own = kind.nox_engine in (None, engine)
+    lam = kind.lambda_overall if own and kind.lambda_overall else REGIME_LAMBDA[engine]
+    slip = kind.methane_slip if own and kind.name != "none" else REGIME_SLIP[engine]
+    if fuel.mole_fractions.get("CH4", 0.0) == 0.0:
+        slip = 0.0
+    device = kind.aftertreatment if own and kind.aftertreatment else REGIME_DEVICE[engine]
+    derate = kind_derate(kind, fuel_sheet(fuel), None if base is None else fuel_sheet(base.fuel))
+    return lam, slip, device, derate
 
 
 def _whole(value: Any, where: str) -> int:
