@@ -70,11 +70,13 @@ def test_explicit_map_and_offset_override_the_kind():
 def test_an_engine_setting_named_overrides_the_kinds_defaults():
     # a diesel rebuilt as a lean-burn gas engine: no three-way catalyst (lean exhaust), lambda
     # of a lean-burn engine (common practice, no source)
-    study = _lpg_vans(fuel="natural-gas", engine="lean-burn-gas")
+    study = _lpg_vans(engine="lean-burn-gas")
     co = study.inputs.candidates[0].per_class["van"]
     assert co.conversion == "dedicated-si" and co.derived_map
     assert co.aftertreatment.name == "none" and co.lambda_overall == 1.5
-    assert co.methane_slip == pytest.approx(0.01)
+    assert co.methane_slip == 0.0  # LPG carries no methane to slip
+    gas = study.inputs.candidates[1].per_class["van"]  # the demo's natural gas, its own kind
+    assert gas.methane_slip == pytest.approx(0.0015)
 
 
 def test_dual_fuel_and_baseline_conversion_are_refused_in_one_line():
