@@ -537,6 +537,11 @@ def duty_gas_share(points_speed: np.ndarray, points_torque: np.ndarray, fuel_ene
         The map (its full-load curve sets the load).
     share_max : float
         Gas share at high load [-].
+
+    Returns
+    -------
+    float
+        Sum of gas share times fuel energy over the sum of fuel energy [-].
     """
     load = np.asarray(points_torque, float) / engine_map.max_torque(np.asarray(points_speed,
                                                                                float))
