@@ -21,7 +21,7 @@ import numpy as np
 import pandas as pd
 
 from workbench.models import economics as econ
-from workbench.study.runner import Money, _money, _Plan
+from workbench.study.runner import Plan, _money
 from workbench.study.studyfile import Option, Uncertain
 
 #: Most combinations of (baseline or candidate) per class the best-mix search tries; beyond it
@@ -43,7 +43,7 @@ def _programme(options: list[Option], field: str, path: str) -> Uncertain:
     return replace(_zero(path), nominal=sum(u.nominal for u in given))
 
 
-def _synthetic(plan: _Plan, choice: Mapping[str, str], oid: str, *, programme: bool) -> Option:
+def _synthetic(plan: Plan, choice: Mapping[str, str], oid: str, *, programme: bool) -> Option:
     """An option giving each class the class option of the option named in ``choice``, with
     the baseline's programme costs and (``programme``) those of each candidate it uses."""
     inputs = plan.inputs
@@ -59,8 +59,8 @@ def _synthetic(plan: _Plan, choice: Mapping[str, str], oid: str, *, programme: b
                                                        f"{oid}.programme_upkeep"))
 
 
-def _extend(plan: _Plan, options: dict[str, tuple[Option, Mapping[str, str]]], *,
-            keep: bool = True) -> _Plan:
+def _extend(plan: Plan, options: dict[str, tuple[Option, Mapping[str, str]]], *,
+            keep: bool = True) -> Plan:
     """The plan with synthetic options added (``keep``: after the study's candidates, else in
     their place); their physics point at the chosen options'."""
     keyed = {}
@@ -75,7 +75,7 @@ def _extend(plan: _Plan, options: dict[str, tuple[Option, Mapping[str, str]]], *
     return replace(plan, inputs=inputs, **keyed)
 
 
-def _row(money: Money, plan: _Plan, oid: str, base: str, choice: Mapping[str, str]) -> dict:
+def _row(money: econ.Money, plan: Plan, oid: str, base: str, choice: Mapping[str, str]) -> dict:
     rate = money.rate
     diff = money.cash[oid] - money.cash[base]
     nox_kg = sum(float((plan.nox_t[base, c] - plan.nox_t[o, c]).sum()) for c, o in
@@ -99,7 +99,7 @@ def _spread(draws: Mapping[str, np.ndarray], oid: str) -> dict:
             "p_npv_positive": float(econ.probability_positive(npv))}
 
 
-def _single_draws(plan: _Plan, single: Mapping[str, tuple[Option, Mapping[str, str]]],
+def _single_draws(plan: Plan, single: Mapping[str, tuple[Option, Mapping[str, str]]],
                   samples: Mapping[str, np.ndarray], n: int) -> dict[str, np.ndarray]:
     """NPV draws of each one-class option, the money run on that class alone (the other
     classes are the baseline's in both, so they cancel)."""
@@ -118,14 +118,14 @@ def _single_draws(plan: _Plan, single: Mapping[str, tuple[Option, Mapping[str, s
     return out
 
 
-def decision_tables(plan: _Plan, samples: Mapping[str, np.ndarray], n: int,
+def decision_tables(plan: Plan, samples: Mapping[str, np.ndarray], n: int,
                     candidate_draws: Mapping[str, np.ndarray] | None = None
                     ) -> tuple[list[dict], list[dict]]:
     """Rows of the ``class_decisions`` and ``best_mix`` tables.
 
     Parameters
     ----------
-    plan : _Plan
+    plan : Plan
         The study's physics and yearly arrays.
     samples : mapping
         Monte Carlo draws by input path (empty for none).
