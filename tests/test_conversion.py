@@ -12,10 +12,11 @@ from workbench.core.constants import RPM
 from workbench.core.errors import InputError
 from workbench.core.fuels import load_fuel
 from workbench.core.paths import DATA
+from workbench.io.maps import read_map
 from workbench.models import conversion as cv
 from workbench.models.aftertreatment import DEVICE_PRESETS
 from workbench.models.combustion import fuel_sheet
-from workbench.models.engine import read_map, willans_map, willans_parameters
+from workbench.models.engine import willans_map, willans_parameters
 from workbench.models.nox import DEFAULT_ENGINE_OUT
 
 VAN_MAP = DATA / "maps" / "van-ci-2.3l.csv"

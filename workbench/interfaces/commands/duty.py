@@ -13,8 +13,9 @@ from pathlib import Path
 from workbench.core.constants import RPM
 from workbench.core.errors import InputError
 from workbench.core.paths import DATA
+from workbench.io.profiles import read_profile
 from workbench.models.conversion import KINDS
-from workbench.models.duty import DutySettings, DutyTrace, duty_stats, read_profile
+from workbench.models.duty import DutySettings, DutyTrace, duty_stats
 
 #: Demo kind -> (data sub-directory, file suffix).
 _DEMOS = {"profile": ("profiles", ".csv"), "vehicle": ("vehicles", ".toml"),
@@ -132,26 +133,27 @@ def _settings(args: argparse.Namespace) -> DutySettings:
 def _fuel(args: argparse.Namespace) -> None:
     from workbench.core.fuels import load_fuel
     from workbench.interfaces.cli import print_json
+    from workbench.io.maps import read_map
+    from workbench.io.vehicles import read_vehicle
     from workbench.models.combustion import fuel_sheet
     from workbench.models.conversion import (
+        convert,
         duty_gas_share,
         fuel_regime,
         infer_kind,
         kind_derate,
         regime_mismatch,
     )
-    from workbench.models.engine import fuel_per_distance_for
-    from workbench.study.runner import converted_map, duty_physics
+    from workbench.models.engine import fuel_per_distance_for, run_duty
 
     settings = _settings(args)
-    profile_path = resolve(args.profile, "profile", "PROFILE")
-    map_path = resolve(args.map, "map", "--map")
-    profile = read_profile(profile_path)
+    profile = read_profile(resolve(args.profile, "profile", "PROFILE"))
+    base_map = read_map(resolve(args.map, "map", "--map"))
     vehicle = None
     if isinstance(profile, DutyTrace):
         if args.vehicle is None:
             raise InputError("--vehicle", "a speed trace needs a vehicle (demo name or TOML)")
-        vehicle = resolve(args.vehicle, "vehicle", "--vehicle")
+        vehicle = read_vehicle(resolve(args.vehicle, "vehicle", "--vehicle"))
     fuels = [load_fuel(f) for f in args.fuel]
     regime = fuel_regime(fuels[0])
     reference = fuel_sheet(fuels[0])
@@ -168,41 +170,38 @@ def _fuel(args: argparse.Namespace) -> None:
             kind_derate(kind, sheet, reference) if k else 0.0)
         offset = args.efficiency_offset if k and args.efficiency_offset is not None else (
             kind.efficiency_offset if k else 0.0)
-        for name, value, given in (("derate", derate, args.derate),
-                                   ("efficiency_offset", offset, args.efficiency_offset)):
+        for key, value, given in (("derate", derate, args.derate),
+                                  ("efficiency_offset", offset, args.efficiency_offset)):
             if k and given is None and value:
-                defaults.append(f"default: {fuel.id}: {name} = {value:.3g} "
-                                f"({kind.sources.get(name, kind.source)})")
+                defaults.append(f"default: {fuel.id}: {key} = {value:.3g} "
+                                f"({kind.sources.get(key, kind.source)})")
         mismatch = regime_mismatch(fuel, kind, regime)
         if mismatch:
             notices.append(f"warning: {fuel.id}: {mismatch}")
         derived = kind.name in ("dedicated-si", "dual-fuel-ci")
-        conv, conv_fuel = (kind.name, fuel) if derived else ("none", None)
         try:
-            phys = duty_physics(profile_path, vehicle, map_path, derate, offset, settings,
-                                conv, conv_fuel)
+            engine = convert(base_map, kind if derived else KINDS["none"], sheet, reference,
+                             derate=derate, efficiency_offset=offset)
         except InputError as exc:
             option = {"derate": "--derate", "efficiency_offset": "--efficiency-offset"}
             raise InputError(option.get(exc.where, exc.where), exc.message) from None
-        if derived:
-            for name, (value, unit, source) in converted_map(map_path, derate, offset, conv,
-                                                             conv_fuel)[1].items():
-                defaults.append(f"default: {fuel.id}: {name} = {value:.4g} {unit} ({source})")
+        phys = run_duty(profile, vehicle, engine.engine_map, settings=settings)
+        for key, (value, unit, source) in engine.parameters.items():
+            defaults.append(f"default: {fuel.id}: {key} = {value:.4g} {unit} ({source})")
         first = first or phys
         record = {"fuel": fuel.id, "conversion": kind.name, "derate": derate,
                   "efficiency_offset": offset}
         if kind.name == "dual-fuel-ci":
             pts = phys.points
-            work = pts["torque_nm"] * pts["engine_speed_rpm"] * pts["seconds"]
-            share = duty_gas_share(pts["engine_speed_rpm"] * RPM,
-                                   pts["torque_nm"], work / pts["brake_efficiency"],
-                                   converted_map(map_path, derate, offset, conv, conv_fuel)[0])
+            work = pts["torque_nm"] * pts["engine_speed_rpm"] * RPM * pts["seconds"]
+            share = duty_gas_share(pts["engine_speed_rpm"] * RPM, pts["torque_nm"],
+                                   work / pts["brake_efficiency"], engine.engine_map)
             record["gas_energy_share"] = share
-            gas = fuel_per_distance_for(replace(phys.energy,
-                                          fuel_energy=phys.energy.fuel_energy * share),
-                                  fuel, sheet)
-            pilot = fuel_per_distance_for(replace(phys.energy, fuel_energy=phys.energy.fuel_energy
-                                            * (1 - share)), fuels[0], reference)
+            total = phys.energy.fuel_energy
+            gas = fuel_per_distance_for(replace(phys.energy, fuel_energy=total * share), fuel,
+                                        sheet)
+            pilot = fuel_per_distance_for(replace(phys.energy, fuel_energy=total * (1 - share)),
+                                          fuels[0], reference)
             rows.append(record | gas.trade_units())
             rows.append({"fuel": f"{fuels[0].id} pilot", "conversion": kind.name,
                          "derate": derate, "efficiency_offset": offset,

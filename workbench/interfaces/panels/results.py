@@ -21,6 +21,7 @@ from workbench.interfaces import charts
 from workbench.interfaces.panels.fields import esc
 from workbench.interfaces.panels.state import StudyState
 from workbench.interfaces.report import defaults_html
+from workbench.interfaces.summary import best_option, verdicts
 from workbench.study.results import StudyResult, missing_reason, notice_lines
 
 #: Charts the panel can show, by chart key: (menu label, builder).
@@ -120,6 +121,21 @@ def _defaults(result: StudyResult | None) -> str:
             f"(values the study did not give)</summary>{body}</details>")
 
 
+def verdict_html(result: StudyResult) -> str:
+    """The answer first: one verdict per option, the same words as the report's summary.
+
+    Each verdict is a ``<div class="wb-verdict" data-candidate=...>``; user text is escaped.
+    """
+    parts = [f"<p><b>{esc(best_option(result))}</b></p>"]
+    for v in verdicts(result):
+        colour = "#a33a00" if v.raises_emissions else "inherit"
+        parts.append(f'<div class="wb-verdict" data-candidate="{esc(v.candidate)}" '
+                     f'style="margin:4px 0 8px"><b>{esc(v.name)}: {esc(v.word)}.</b> '
+                     f"{esc(v.headline)} <span style='color:{colour}'>{esc(v.emissions)}"
+                     f"</span> {esc(v.breakeven)}</div>")
+    return "".join(parts)
+
+
 class ChartSlot(widgets.VBox):
     """A chart menu above one :class:`FigurePane`; picking a chart redraws the same pane."""
 
@@ -162,12 +178,17 @@ class ResultsPanel(widgets.VBox):
         The chart slots.
     summary : ipywidgets.HTML
         The summary table.
+    verdict : ipywidgets.HTML
+        The verdicts in words (the app shows it on top).
+    defaults : ipywidgets.HTML
+        The best mix by class, the one-line warnings and the defaults the run applied.
     """
 
     def __init__(self, state: StudyState, *, charts: tuple[str, ...] = DEFAULT_CHARTS) -> None:
         self.state = state
         self.summary = widgets.HTML(summary_html(state.result) if state.result else "")
         self.defaults = widgets.HTML(_defaults(state.result))
+        self.verdict = widgets.HTML(verdict_html(state.result) if state.result else "")
         self.slots = [ChartSlot(state, key) for key in charts]
         grid = widgets.GridBox(self.slots, layout=widgets.Layout(
             grid_template_columns="repeat(2, minmax(0, 1fr))", grid_gap="8px", width="100%"))
@@ -184,5 +205,6 @@ class ResultsPanel(widgets.VBox):
             return
         self.summary.value = summary_html(state.result)
         self.defaults.value = _defaults(state.result)
+        self.verdict.value = verdict_html(state.result)
         for slot in self.slots:
             slot.draw()
