@@ -8,6 +8,7 @@ from typing import Any
 
 from workbench.core.errors import InputError
 from workbench.core.text import json_safe
+from workbench.interfaces.cli import add_fuels_option
 from workbench.interfaces.sheets import format_table
 from workbench.io.files import check_target, write_text_atomic
 from workbench.study.results import StudyResult, default_lines, missing_reason, notice_lines
@@ -37,7 +38,8 @@ def register(sub: argparse._SubParsersAction) -> None:
     ssub = group.add_subparsers(dest="study_command", required=True, parser_class=type(group))
 
     p = ssub.add_parser("check", help="check a study file and say what it holds and assumes")
-    p.add_argument("file", help="study .toml file (docs/study-file.md)")
+    p.add_argument("file", help="study .toml file (format: `workbench docs study-file`)")
+    add_fuels_option(p)
     p.add_argument("--quiet-defaults", action="store_true",
                    help="leave out the list of defaults applied (warnings are still shown)")
     p.set_defaults(func=_check)
@@ -46,12 +48,14 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.add_argument("file", help="study .toml file")
     _run_options(p)
     p.add_argument("--csv", metavar="DIR", help="also write every result table as CSV here")
+    add_fuels_option(p)
     p.set_defaults(func=_run)
 
     p = ssub.add_parser("report", help="write the study's self-contained HTML report")
     p.add_argument("file", help="study .toml file")
     p.add_argument("-o", "--output", required=True, metavar="HTML", help="report file (.html)")
     _run_options(p)
+    add_fuels_option(p)
     p.set_defaults(func=_report)
 
     p = sub.add_parser("demo", help="run the shipped demo study of a fictional fleet")
