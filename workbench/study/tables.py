@@ -66,13 +66,13 @@ def study_result(study: Study, plan: Plan, lines: Mapping[str, econ.OptionLines]
         names=study_names(inputs),
         fictional=inputs.fictional,
         candidates=_candidates_table(plan, det, per_km, draws, colours),
-        per_km=_frame("per_km", per_km),
+        per_km=frame("per_km", per_km),
         cash_flows=_cash_flow_table(plan, det),
         fleet_years=_fleet_years_table(plan, det),
         monte_carlo=_monte_carlo_table({k: v.npv for k, v in draws.items()}),
         tornado=_tornado_table(plan, sensitivity),
         breakeven=_breakeven_table(inputs, break_even),
-        inputs=_frame("inputs", input_rows(study.data, inputs)),
+        inputs=frame("inputs", input_rows(study.data, inputs)),
         **{name: table.copy() for name, table in physics.items()},
         assumptions=_assumptions(study, n),
         sources=_sources(inputs),
@@ -106,7 +106,8 @@ def _empty_template(name: str) -> pd.DataFrame:
     return pd.DataFrame({c: pd.Series(dtype=float) for c in COLUMNS[name]})
 
 
-def _frame(name: str, rows: list[dict]) -> pd.DataFrame:
+def frame(name: str, rows: list[dict]) -> pd.DataFrame:
+    """Table ``name`` of :data:`COLUMNS` from its rows (an empty, typed table for none)."""
     return pd.DataFrame(rows, columns=list(COLUMNS[name])) if rows else _empty(name)
 
 
@@ -132,6 +133,9 @@ def _per_km_rows(plan: Plan, lines: Mapping[str, econ.OptionLines],
                 "co2e_wtw_g_per_km": co2e_m * 1e6,
                 "nox_engine_out_g_per_km": ph.engine_out_nox_per_m * 1e6,
                 "nox_g_per_km": float(np.mean(ph.monthly["tailpipe_g_per_km"].to_numpy())),
+                "pm_mg_per_km": ph.pm_per_m * 1e9,
+                "co_g_per_km": ph.co_per_m * 1e6,
+                "thc_g_per_km": (ph.nmhc_per_m + ph.ch4_per_m) * 1e6,
                 "cost_fuel_per_km": cost["fuel"] * 1e3,
                 "cost_upkeep_per_km": cost["upkeep"] * 1e3,
                 "cost_capital_per_km": cost["capital"] * 1e3,
@@ -187,7 +191,7 @@ def _candidates_table(plan: Plan, det: econ.Money, per_km: list[dict],
                 econ.probability_payback_within(mc.discounted_payback, h)),
             "npv_p10": pct[0], "npv_p50": pct[1], "npv_p90": pct[2],
         })
-    return _frame("candidates", rows)
+    return frame("candidates", rows)
 
 
 def _cash_flow_table(plan: Plan, det: econ.Money) -> pd.DataFrame:
@@ -251,7 +255,7 @@ def _storage_table(plan: Plan) -> pd.DataFrame:
     rows = [{"candidate": oid, "vehicle_class": cid,
              "fuel": _fuel(plan.inputs, oid, cid).id, **ph.storage}
             for (oid, cid), ph in plan.physics.items()]
-    return _frame("storage", rows)
+    return frame("storage", rows)
 
 
 def _fuel(inputs: StudyInputs, option_id: str, class_id: str) -> Fuel:
@@ -289,7 +293,7 @@ def _breakeven_table(inputs: StudyInputs,
              "unit": display_unit(u.unit, inputs.currency), "nominal_value": u.nominal * u.scale,
              "breakeven_value": root * u.scale}
             for oid, found in break_even.items() for u, root in found]
-    return _frame("breakeven", rows)
+    return frame("breakeven", rows)
 
 
 def _operating_points_table(plan: Plan) -> pd.DataFrame:
@@ -319,7 +323,7 @@ def _flame_table(plan: Plan) -> pd.DataFrame:
                 rows.append({"candidate": o.id, "fuel": co.fuel.id, "phi": r["phi"],
                              "flame_temperature_k": r["flame_temperature_k"],
                              "no_ppm": r["no_ppm"]})
-    return _frame("flame", rows)
+    return frame("flame", rows)
 
 
 def _catalyst_table(plan: Plan) -> pd.DataFrame:
@@ -332,7 +336,7 @@ def _catalyst_table(plan: Plan) -> pd.DataFrame:
                      "reductant_cost": float(ph.yearly["reductant_cost"].sum()),
                      "best_interval_months": ph.best_interval_months,
                      "best_total_cost": ph.best_total_cost})
-    return _frame("catalyst", rows)
+    return frame("catalyst", rows)
 
 
 def _assumptions(study: Study, draws: int) -> dict[str, str]:
