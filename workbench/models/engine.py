@@ -608,6 +608,29 @@ class DutyEnergy:
         return self.time_at_full_load / self.duration
 
 
+def energy_from_sums(sums: dict[str, float], engine_map: EngineMap,
+                     settings: DutySettings) -> DutyEnergy:
+    """A :class:`DutyEnergy` from the sums of a trace, with the settings' extra idling added.
+
+    Parameters
+    ----------
+    sums : dict of str to float
+        The fields of :class:`DutyEnergy` summed over the trace's intervals
+        (:func:`workbench.models.fused.trace_sums`).
+    engine_map : EngineMap
+        The map (its idle point fuels the extra idling).
+    settings : DutySettings
+        Extra idle share and accessory power.
+
+    Returns
+    -------
+    DutyEnergy
+    """
+    if sums["duration"] == 0.0:
+        raise InputError("trace", "no samples to run")
+    return DutyEnergy(**_with_extra_idle(dict(sums), engine_map, settings))
+
+
 def _with_extra_idle(sums: dict[str, float], engine_map: EngineMap,
                      settings: DutySettings) -> dict[str, float]:
     share = settings.extra_idle_share
@@ -662,9 +685,7 @@ def duty_energy(
     settings = settings or DutySettings()
     pieces = trace.chunks(chunk_size) if isinstance(trace, DutyTrace) else trace
     sums = trace_sums(pieces, vehicle, engine_map, settings=settings).sums
-    if sums["duration"] == 0.0:
-        raise InputError("trace", "no samples to run")
-    return DutyEnergy(**_with_extra_idle(sums, engine_map, settings))
+    return energy_from_sums(sums, engine_map, settings)
 
 
 def mode_energy(table: ModeTable, engine_map: EngineMap, *,
