@@ -31,6 +31,7 @@ import pandas as pd
 
 from workbench.core.errors import InputError
 from workbench.io.logs import CSV_CHUNK_ROWS, VehicleLog, list_vehicles, read_batches
+from workbench.models.calibration import Calibration, FuelRecords, calibrate, observed_use
 from workbench.models.duty import DutySettings
 from workbench.models.engine import EngineMap, energy_from_sums
 from workbench.models.fleet import ClassAggregate, VehicleSummary, aggregate, vehicle_table
@@ -255,3 +256,31 @@ def run_fleet(
         raise InputError(str(source), "no vehicle could be used: " + "; ".join(problems[:3]))
     return FleetRun(summaries, problems, aggregate(summaries),
                     found=len(found.vehicles) + len(found.problems))
+
+
+def calibrate_fleet(run: FleetRun, records: FuelRecords, *, energy_per_amount: float
+                    ) -> tuple[Calibration, tuple[str, ...]]:
+    """Fit the class's calibration factor to the fuel its vehicles bought.
+
+    Parameters
+    ----------
+    run : FleetRun
+        The class's vehicles run from their logs.
+    records : FuelRecords
+        Their fuel-card fills (``workbench.io.fuelcards.read_fuel_cards``).
+    energy_per_amount : float
+        Fuel energy (LHV) per unit of the cards' amount [J/m3 for litres, J/kg for kg].
+
+    Returns
+    -------
+    Calibration
+    tuple of str
+        Vehicles left out of the fit (too few fills, not in the logs, not on the cards).
+    """
+    observed, notes = observed_use(records)
+    modelled = {s.vehicle: s.energy_per_m for s in run.summaries}
+    notes += [f"{records.name}: vehicle {v} is not in the logs" for v in sorted(
+        set(observed) - set(modelled))]
+    notes += [f"vehicle {v} has logs but no usable fuel cards" for v in sorted(
+        set(modelled) - set(observed))]
+    return calibrate(observed, modelled, energy_per_amount=energy_per_amount), tuple(notes)
