@@ -30,7 +30,7 @@ START = pd.Timestamp("2026-03-02T00:00:00")
 #: The vehicle whose logger reports mph (semicolons, decimal commas) and the broken one.
 MPH_VEHICLE, BROKEN_VEHICLE = 7, 13
 #: Invented fuel use of the fleet's taxis, litres of gasoline per 100 km (mean, spread).
-INVENTED_L_PER_100KM = (8.6, 0.7)
+INVENTED_L_PER_100KM = (6.6, 0.5)
 _NOTE = ("# INVENTED demo logger export of the fictional Kestrel Bay taxi fleet; not measured.\n"
          "# Made by workbench.io.demo_fleet (seeded); see docs/fleet-logs.md.\n")
 
