@@ -23,6 +23,7 @@ import numpy as np
 import pandas as pd
 
 from workbench.io.demo_profiles import taxi_shift
+from workbench.models.duty import DutyTrace
 
 DATA = Path(__file__).resolve().parents[1] / "data" / "fleet"
 #: First day of the invented logs (UTC).
@@ -51,12 +52,13 @@ class DemoFleet:
     fuel_cards: Path
 
 
-def _vehicle_log(rng: np.random.Generator, days: int, shift_hours: float
-                 ) -> pd.DataFrame:
+def _vehicle_log(rng: np.random.Generator, days: int, shift_hours: float,
+                 pool: list[DutyTrace]) -> pd.DataFrame:
     """One vehicle's raw samples: times [s from START], speed [m/s], altitude [m]."""
     parts = []
     for day in range(days):
-        trace = taxi_shift(seed=int(rng.integers(1 << 30)), hours=shift_hours)
+        trace = (pool[int(rng.integers(len(pool)))] if pool else
+                 taxi_shift(seed=int(rng.integers(1 << 30)), hours=shift_hours))
         start = day * 86400.0 + 3600.0 * rng.uniform(5.0, 9.0)
         t = start + trace.time
         dist = np.concatenate(([0.0], np.cumsum(np.diff(trace.time) * 0.5
@@ -100,7 +102,7 @@ def _fills(rng: np.random.Generator, vid: str, km_per_day: float, days: int
 
 def write_demo_fleet(directory: str | Path, *, vehicles: int = 40, days: int = 14,
                      shift_hours: float = 8.0, parquet: bool = False, seed: int = 11,
-                     card_days: int | None = None) -> DemoFleet:
+                     card_days: int | None = None, shift_pool: int = 0) -> DemoFleet:
     """Write an invented fleet's logger files (one per vehicle) and fuel cards.
 
     Parameters
@@ -119,6 +121,9 @@ def write_demo_fleet(directory: str | Path, *, vehicles: int = 40, days: int = 1
         Random seed; the same seed writes the same files.
     card_days : int, optional
         Days of fuel cards (``days`` when omitted), at the logged km per day.
+    shift_pool : int
+        When > 0, draw each day's shift from this many shifts made once (faster for big
+        fleets; the logger's irregularities are still drawn afresh each day).
 
     Returns
     -------
@@ -128,10 +133,11 @@ def write_demo_fleet(directory: str | Path, *, vehicles: int = 40, days: int = 1
     logs = out / "logs"
     logs.mkdir(parents=True, exist_ok=True)
     rng = np.random.default_rng(seed)
+    pool = [taxi_shift(seed=seed * 1000 + i, hours=shift_hours) for i in range(shift_pool)]
     cards: list[dict[str, object]] = []
     for k in range(1, vehicles + 1):
         vid = f"KB-T{k:02d}"
-        raw = _vehicle_log(rng, days, shift_hours)
+        raw = _vehicle_log(rng, days, shift_hours, pool)
         stamps = START + pd.to_timedelta(raw["t"], unit="s")
         km_per_day = float(np.sum(np.diff(raw["t"]).clip(0, 60)
                                   * raw["v"].to_numpy()[1:])) / days / 1e3

@@ -9,9 +9,10 @@ sizes, not by the log's length. A vehicle whose file is bad is reported and left
 Engines (same numbers on each; vehicles are summed in id order):
 
 * ``"serial"``: in this process;
-* ``"process"`` (default): a local pool of spawned processes, BLAS pinned to one thread in
-  each (``OPENBLAS_NUM_THREADS=1`` and friends in the environment the workers start with, so it
-  holds before they import numpy; two processes with default BLAS threads ran slower than one);
+* ``"process"`` (default): a local pool of processes, BLAS pinned to one thread in each
+  (``OPENBLAS_NUM_THREADS=1`` and friends in the environment of the fresh server process the
+  workers are forked from — ``forkserver``, or ``spawn`` where there is none — so it holds
+  before numpy is imported there; two processes with default BLAS threads ran slower than one);
 * a dask scheduler address (``"tcp://host:8786"``) or a ``distributed.Client``: the vehicles
   are mapped over the cluster (dask's nanny already starts workers with these variables at 1).
 """
@@ -155,11 +156,21 @@ def _serial(jobs: list[VehicleJob], progress: Progress | None) -> list[VehicleSu
     return out
 
 
+def _context() -> multiprocessing.context.BaseContext:
+    """Workers forked from a server process that started afresh with one BLAS thread and
+    imported this module once (POSIX); spawned processes elsewhere."""
+    if "forkserver" not in multiprocessing.get_all_start_methods():
+        return multiprocessing.get_context("spawn")
+    ctx = multiprocessing.get_context("forkserver")
+    ctx.set_forkserver_preload(["workbench.study.fleet"])
+    return ctx
+
+
 def _pool(jobs: list[VehicleJob], workers: int, progress: Progress | None
           ) -> list[VehicleSummary | str]:
     out: list[VehicleSummary | str | None] = [None] * len(jobs)
-    with _single_thread_env(), ProcessPoolExecutor(
-            max_workers=workers, mp_context=multiprocessing.get_context("spawn")) as pool:
+    with _single_thread_env(), ProcessPoolExecutor(max_workers=workers,
+                                                   mp_context=_context()) as pool:
         futures = {pool.submit(summarise_vehicle, job): i for i, job in enumerate(jobs)}
         for done, fut in enumerate(as_completed(futures), start=1):
             out[futures[fut]] = fut.result()

@@ -806,7 +806,7 @@ def _tornado_table(plan: _Plan) -> pd.DataFrame:
 
         t = econ.tornado(f, dists)
         t = t[t["swing"] > 1e-9 * max(float(t["swing"].max()), 1.0)]
-        scale = t["input"].map(lambda p: units[p][1])
+        scale = np.array([units[p][1] for p in t["input"]], dtype=float)
         frames.append(pd.DataFrame({
             "candidate": o.id,
             "input": t["input"].map(lambda p: f"{p} [{units[p][0]}]" if units[p][0] else p),
