@@ -17,7 +17,7 @@ from typing import Any
 from workbench.core.errors import InputError
 
 #: Command modules, in the order their groups appear in ``workbench --help``.
-COMMAND_MODULES = ("fuels", "nox", "duty", "study")
+COMMAND_MODULES = ("fuels", "nox", "duty", "fleet", "study")
 
 
 class _Parser(argparse.ArgumentParser):
