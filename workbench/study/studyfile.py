@@ -18,7 +18,6 @@ range, hours per day, lambda for ppm conversion, N2O) and the files a study name
 from __future__ import annotations
 
 import copy
-import hashlib
 import math
 import re
 import tomllib
@@ -31,6 +30,8 @@ import tomli_w
 
 from workbench.core.errors import InputError
 from workbench.core.fuels import BASES, Fuel, blend, load_fuel
+from workbench.core.paths import DATA
+from workbench.core.text import sha256_hex
 from workbench.core.units import (
     HEATING_VALUE_MARK,
     Price,
@@ -44,8 +45,6 @@ from workbench.models.combustion import fuel_sheet
 from workbench.models.economics import Distribution
 from workbench.models.nox import ENGINE_PRESETS, EngineOutNOx
 
-#: Folder of shipped demo inputs (profiles, vehicles, maps, studies).
-DATA = Path(__file__).resolve().parents[1] / "data"
 #: The demo study of a fictional port city.
 DEMO_STUDY = DATA / "studies" / "kestrel-bay.toml"
 
@@ -260,7 +259,7 @@ class Study:
 
     def digest(self) -> str:
         """SHA-256 of the study's TOML text (identifies the inputs in reports)."""
-        return hashlib.sha256(self.to_toml().encode("utf-8")).hexdigest()
+        return sha256_hex(self.to_toml())
 
 
 def _parent(data: dict[str, Any], path: str) -> tuple[Any, str | int]:
