@@ -22,8 +22,9 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
+from workbench.core.constants import STANDARD_GRAVITY, to_rpm
 from workbench.models.duty import STOP_SPEED, DutySettings, DutyTrace
-from workbench.models.vehicle import FIRED, IDLE, OVERRUN, G, Vehicle, operating_points, road_load
+from workbench.models.vehicle import FIRED, IDLE, OVERRUN, Vehicle, operating_points, road_load
 
 if TYPE_CHECKING:
     from workbench.models.engine import EngineMap
@@ -37,7 +38,6 @@ except ImportError:  # pragma: no cover - numba is a dependency; the fallback is
 SUMS = ("distance", "duration", "wheel_energy", "braking_energy", "engine_energy",
         "fuel_energy", "time_idle", "time_out_of_map", "time_at_full_load")
 
-_TO_RPM = 60.0 / (2.0 * math.pi)
 
 
 @dataclass(frozen=True, eq=False)
@@ -74,7 +74,7 @@ def histogram_edges(engine_map: EngineMap) -> tuple[np.ndarray, np.ndarray]:
     tuple of numpy.ndarray
         Speed edges [rev/min], torque edges [N m].
     """
-    speed = np.linspace(engine_map.speed.min(), engine_map.speed.max(), 13) * 60 / (2 * math.pi)
+    speed = to_rpm(np.linspace(engine_map.speed.min(), engine_map.speed.max(), 13))
     return speed, np.linspace(0.0, float(engine_map.full_load_torque.max()), 11)
 
 
@@ -141,9 +141,9 @@ def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full,
         if has_grade:
             g = grade[i]
             cos = 1.0 / math.sqrt(1.0 + g * g)
-            slope = G * cos * (crr + g)
+            slope = STANDARD_GRAVITY * cos * (crr + g)
         else:
-            slope = crr * G
+            slope = crr * STANDARD_GRAVITY
         force = mass * (f_rot * accel + slope) + aero
         work = force * vm * dt
         sums[0] += vm * dt
@@ -215,7 +215,7 @@ def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full,
             sums[7] += dt
         if torque >= full:
             sums[8] += dt
-        bs = _bin(s_edges, speed * 60.0 / (2.0 * math.pi))
+        bs = _bin(s_edges, _rpm(speed))
         bt = _bin(t_edges, max(torque, 0.0))
         if bs >= 0 and bt >= 0:
             seconds[bs, bt] += dt
@@ -223,7 +223,10 @@ def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full,
     return -1
 
 
+_rpm = to_rpm
+
 if numba is not None:
+    _rpm = numba.njit(cache=True)(to_rpm)
     _count = numba.njit(cache=True)(_count)
     _bin = numba.njit(cache=True)(_bin)
     _interp = numba.njit(cache=True)(_interp)
@@ -264,7 +267,7 @@ def _reference(piece: DutyTrace, vehicle: Vehicle, engine_map: EngineMap,
     s["time_out_of_map"] += float(dt_b[look.out_of_map].sum())
     s["time_at_full_load"] += float(dt_b[look.at_full_load].sum())
     bins = [out.speed_edges, out.torque_edges]
-    rpm, clipped = speed * 60 / (2 * math.pi), np.clip(torque, 0, None)
+    rpm, clipped = to_rpm(speed), np.clip(torque, 0, None)
     out.seconds[...] += np.histogram2d(rpm, clipped, bins, weights=dt_b)[0]
     out.fuel[...] += np.histogram2d(rpm, clipped, bins, weights=energy)[0]
 
