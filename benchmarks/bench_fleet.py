@@ -117,16 +117,20 @@ def main() -> None:
                   "altitude_m": frame.extras["altitude"]}).to_csv(csv, index=False,
                                                                   float_format="%.2f")
     t0 = time.perf_counter()
-    pd.read_csv(csv)
+    text = pd.read_csv(csv)
     t_pandas = time.perf_counter() - t0
+    pd.to_datetime(text["timestamp"], utc=True, format="ISO8601")
+    t_pandas_times = time.perf_counter() - t0
     t0 = time.perf_counter()
     got = list(read_batches(VehicleLog("KB-T01", str(csv), "csv")))
     t_ours = time.perf_counter() - t0
     rows = sum(b.time.size for b in got)
     assert np.isfinite(got[0].time).all()
-    print(f"CSV read, {rows / 1e6:.2f} M rows        read_batches {t_ours:.2f} s (timestamps "
-          f"parsed), pandas.read_csv {t_pandas:.2f} s (text)")
-    print(f"ratio pandas / ours          {t_pandas / t_ours:8.2f}     (target >= 0.8)")
+    print(f"CSV read, {rows / 1e6:.2f} M rows        read_batches {t_ours:.2f} s (times parsed, "
+          f"SI arrays); pandas.read_csv {t_pandas:.2f} s (times as text), "
+          f"+ to_datetime {t_pandas_times:.2f} s")
+    print(f"ratio read_csv / ours        {t_pandas / t_ours:8.2f}     (target >= 0.8; against "
+          f"read_csv + to_datetime {t_pandas_times / t_ours:.2f})")
 
 
 if __name__ == "__main__":

@@ -64,8 +64,7 @@ def read_fuel_cards(path: str | Path) -> FuelRecords:
         if need not in found:
             raise InputError(str(path), f"no {need} column (name it {hint}); columns are "
                                         f"{', '.join(d.header)}")
-    frame = next(_read_csv(path, d, list(found.values()), None,
-                           {found["date"], found["vehicle"]}))
+    frame = next(_read_csv(path, d, list(found.values()), None))
     first = d.header_line + 1
     where = str(path)
     vehicle = frame[found["vehicle"]].astype("string").str.strip()
