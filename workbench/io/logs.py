@@ -408,6 +408,51 @@ def _vehicles_in(path: Path, kind: str) -> list[VehicleLog]:
     return [VehicleLog(v, str(path), kind, len(ids) > 1) for v in ids]
 
 
+def fleet_source(raw: str, base_dir: Path) -> Path | None:
+    """The logs a study's ``profile`` names, when it names logs rather than one profile CSV.
+
+    Parameters
+    ----------
+    raw : str
+        The ``profile`` value: a folder, a glob pattern or a Parquet file or dataset, relative
+        to the study file's folder unless absolute.
+    base_dir : pathlib.Path
+        The study file's folder.
+
+    Returns
+    -------
+    pathlib.Path or None
+        The resolved source (a pattern stays a pattern), or None for anything else.
+    """
+    path = base_dir / raw
+    if any(ch in raw for ch in "*?["):
+        return path
+    if path.is_dir() or (path.is_file() and path.suffix.lower() in (".parquet", ".pq")):
+        return path.resolve()
+    return None
+
+
+def names_logs(path: Path) -> bool:
+    """Whether a resolved study ``profile`` is a fleet's logs (see :func:`fleet_source`)."""
+    return fleet_source(str(path), Path.cwd()) is not None
+
+
+def fingerprint(source: str | Path) -> tuple[tuple[str, int, int], ...]:
+    """Name, size and modification time of every file of a source, to key cached runs.
+
+    Returns
+    -------
+    tuple
+        ``(path, bytes, mtime_ns)`` per file, sorted; empty when nothing matches.
+    """
+    path = Path(source)
+    if path.is_dir():
+        files = sorted(p for p in path.rglob("*") if p.is_file())
+    else:
+        files = sorted(Path(p) for p in glob.glob(str(source), recursive=True))
+    return tuple((str(f), f.stat().st_size, f.stat().st_mtime_ns) for f in files)
+
+
 def list_vehicles(source: str | Path) -> FleetSource:
     """The vehicles of a fleet's logs; files that cannot be read are reported, not raised.
 

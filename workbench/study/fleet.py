@@ -28,8 +28,10 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+import numpy as np
 import pandas as pd
 
+from workbench.core.constants import RPM
 from workbench.core.errors import InputError
 from workbench.io.logs import CSV_CHUNK_ROWS, VehicleLog, list_vehicles, read_batches
 from workbench.models.calibration import Calibration, FuelRecords, calibrate, observed_use
@@ -295,3 +297,48 @@ def calibrate_fleet(run: FleetRun, records: FuelRecords, *, energy_per_amount: f
     notes += [f"vehicle {v} has logs but no usable fuel cards" for v in sorted(
         set(modelled) - set(observed))]
     return calibrate(observed, modelled, energy_per_amount=energy_per_amount), tuple(notes)
+
+
+def class_tables(agg: ClassAggregate, engine_map: EngineMap, bins: int
+                 ) -> tuple[np.ndarray, np.ndarray, pd.DataFrame]:
+    """NOx weighting bins and the operating-point table of a class from its histograms.
+
+    Parameters
+    ----------
+    agg : ClassAggregate
+        The class's summed histograms (edges of
+        :func:`workbench.models.fused.histogram_edges`).
+    engine_map : EngineMap
+        The map the histograms were built on.
+    bins : int
+        Engine-speed groups for the NOx weighting.
+
+    Returns
+    -------
+    numpy.ndarray
+        Fuel-weighted mean engine speed of each group [rev/min].
+    numpy.ndarray
+        Fuel energy of each group [J].
+    pandas.DataFrame
+        ``engine_speed_rpm``, ``torque_nm``, ``seconds``, ``brake_efficiency`` of each
+        occupied cell (bin centres).
+
+    Notes
+    -----
+    The speed bins holding fuel are split into ``bins`` runs of neighbouring bins; a trace
+    profile bins the speeds of its own points instead (same count, edges from its range).
+    """
+    s_edges, t_edges = histogram_edges(engine_map)
+    s_mid = (s_edges[:-1] + s_edges[1:]) / 2
+    t_mid = (t_edges[:-1] + t_edges[1:]) / 2
+    fuel_by_speed = agg.fuel.sum(axis=1)
+    used = np.flatnonzero(fuel_by_speed > 0)
+    groups = [g for g in np.array_split(used, min(bins, used.size)) if g.size]
+    weights = np.array([fuel_by_speed[g].sum() for g in groups])
+    speeds = np.array([np.average(s_mid[g], weights=fuel_by_speed[g]) for g in groups])
+    sc, tc = np.meshgrid(s_mid, t_mid, indexing="ij")
+    mask = agg.seconds > 0
+    eff = engine_map.efficiency_at(sc[mask] * RPM, tc[mask])
+    points = pd.DataFrame({"engine_speed_rpm": sc[mask], "torque_nm": tc[mask],
+                           "seconds": agg.seconds[mask], "brake_efficiency": eff})
+    return speeds, weights, points

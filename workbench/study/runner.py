@@ -27,6 +27,7 @@ from workbench.core.constants import J_PER_KWH, M_NO2, RPM, to_rpm
 from workbench.core.errors import InputError
 from workbench.core.fuels import Fuel, load_fuel
 from workbench.core.thermo import molar_mass
+from workbench.io.logs import fingerprint, names_logs
 from workbench.models import economics as econ
 from workbench.models.aftertreatment import Aftertreatment, optimal_interval, programme_nox
 from workbench.models.combustion import FuelSheet, exhaust, fuel_sheet
@@ -48,6 +49,7 @@ from workbench.models.nox import (
 )
 from workbench.models.storage import tank_for_range
 from workbench.models.vehicle import FIRED, IDLE, operating_points, read_vehicle, road_load
+from workbench.study.fleet import FleetRun, class_tables, run_fleet
 from workbench.study.results import COLUMNS, PALETTE, StudyResult
 from workbench.study.studyfile import (
     ClassOption,
@@ -92,6 +94,25 @@ class DutyPhysics:
     nox_speeds: np.ndarray
     nox_weights: np.ndarray
     points: pd.DataFrame
+    fleet: FleetRun | None = None  # the vehicles, when the profile is a fleet's logs
+
+
+@memoize(maxsize=32)
+def fleet_physics(source: Path, files: tuple, vehicle: Path, engine_map: Path, derate: float,
+                  efficiency_offset: float, settings: DutySettings) -> DutyPhysics:
+    """Run a fleet's logs with a vehicle and an adjusted map (cached by the files' names,
+    sizes and times in ``files``, from ``workbench.io.logs.fingerprint``).
+
+    Returns
+    -------
+    DutyPhysics
+        The km-weighted class (``workbench.study.fleet.run_fleet``), its vehicles in ``fleet``.
+    """
+    del files  # part of the cache key only
+    emap = read_map(engine_map).adjusted(derate=derate, efficiency_offset=efficiency_offset)
+    run = run_fleet(source, read_vehicle(vehicle), emap, settings=settings)
+    speeds, weights, points = class_tables(run.aggregate, emap, NOX_SPEED_BINS)
+    return DutyPhysics(run.aggregate.energy, speeds, weights, points, run)
 
 
 @memoize(maxsize=128)
@@ -180,6 +201,9 @@ def _settings(c: FleetClass) -> DutySettings:
 
 
 def _duty_for(c: FleetClass, co: ClassOption) -> DutyPhysics:
+    if names_logs(c.profile):
+        return fleet_physics(c.profile, fingerprint(c.profile), c.vehicle, co.engine_map,
+                             co.derate, co.efficiency_offset, _settings(c))
     return duty_physics(c.profile, c.vehicle, co.engine_map, co.derate, co.efficiency_offset,
                         _settings(c))
 
@@ -582,7 +606,8 @@ def run(study: Study, *, draws: int | None = None,
     paybacks: dict[str, np.ndarray] = {}
     if n > 0:
         say(f"Monte Carlo, {n} draws")
-        samples = econ.sample_inputs(inputs.uncertain, n, inputs.seed)
+        samples = econ.sample_inputs({**inputs.uncertain, **_vehicle_spread(plan)}, n,
+                                     inputs.seed)
         money = _money(plan, samples, n)
         for o in inputs.candidates:
             diff = money.cash[o.id] - money.cash[base]
@@ -605,11 +630,61 @@ def run(study: Study, *, draws: int | None = None,
         operating_points=_operating_points_table(plan),
         flame=_flame_table(plan),
         catalyst=_catalyst_table(plan),
-        assumptions=_assumptions(study, n),
+        assumptions={**_assumptions(study, n), **_fleet_notes(plan)},
         sources=_sources(inputs),
     )
     say("done")
     return result
+
+
+#: P90 of the standard normal distribution (scipy.stats.norm.ppf(0.9)).
+_Z90 = 1.2815515655446004
+
+
+def _vehicle_spread(plan: _Plan) -> dict[str, econ.Distribution]:
+    """The spread between a fleet-log class's vehicles as an uncertain physics input.
+
+    A normal factor on the class's fuel energy per km (mean 1) whose P10 and P90 are the
+    vehicles' P10 and P90 over the class's value (baseline option); every option of the class
+    takes the same draw, scaling its fuel energy and tailpipe CO2e per km. Adds the responses
+    to ``plan`` and returns the distributions to draw, by key path.
+    """
+    out = {}
+    for c in plan.inputs.classes:
+        duty = plan.physics[plan.inputs.baseline.id, c.id].duty
+        if duty.fleet is None:
+            continue
+        agg = duty.fleet.aggregate
+        sd = (agg.spread_per_m[1] - agg.spread_per_m[0]) / (2 * _Z90) / agg.energy_per_m
+        if sd <= 0.0:
+            continue
+        path = f"classes.{c.id}.vehicle_spread"
+        dist = econ.Distribution("normal", mean=1.0, sd=sd, where=path)
+        nodes = np.asarray(dist.ppf(np.array(RESPONSE_QUANTILES)), dtype=float)
+        for o in plan.inputs.options:
+            ph, co = plan.physics[o.id, c.id], o.per_class[c.id]
+            plan.responses[o.id, c.id].append(Response(
+                path, nodes, ph.fuel_energy_per_m * nodes, _tailpipe_co2e(ph, co) * nodes,
+                np.tile(plan.catalyst_cost[o.id, c.id], (nodes.size, 1))))
+        out[path] = dist
+    return out
+
+
+def _fleet_notes(plan: _Plan) -> dict[str, str]:
+    """One assumption line per fleet-log class: vehicles used, left out, spread."""
+    out = {}
+    for c in plan.inputs.classes:
+        run = plan.physics[plan.inputs.baseline.id, c.id].duty.fleet
+        if run is None:
+            continue
+        lo, hi = (x / 1e3 for x in run.aggregate.spread_per_m)
+        left = f"; left out: {'; '.join(run.problems)}" if run.problems else ""
+        out[f"vehicle logs, {c.id}"] = (
+            f"{len(run.summaries)} of {run.found} vehicles used, "
+            f"{run.aggregate.energy.distance / 1e3:,.0f} km, km-weighted; between vehicles "
+            f"P10-P90 {lo:.2f}-{hi:.2f} MJ/km on the baseline, drawn in the Monte Carlo as "
+            f"classes.{c.id}.vehicle_spread{left}")
+    return out
 
 
 def _empty(name: str) -> pd.DataFrame:

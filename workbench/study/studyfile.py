@@ -40,6 +40,7 @@ from workbench.core.units import (
     price_per_energy,
 )
 from workbench.io.files import write_text_atomic
+from workbench.io.logs import fleet_source
 from workbench.models.aftertreatment import DEVICE_PRESETS, Aftertreatment
 from workbench.models.combustion import fuel_sheet
 from workbench.models.economics import Distribution
@@ -590,6 +591,12 @@ def _data_file(raw: Any, where: str, folder: str, suffix: str, base_dir: Path) -
                      f"{suffix} file")
 
 
+def _profile(raw: Any, where: str, base_dir: Path) -> Path:
+    """A shipped profile, a profile CSV, or a fleet's logs (folder, glob, Parquet)."""
+    logs = fleet_source(raw, base_dir) if isinstance(raw, str) and raw.strip() else None
+    return logs if logs is not None else _data_file(raw, where, "profiles", ".csv", base_dir)
+
+
 def _watts(raw: Any, where: str) -> float:
     return parse_quantity(raw, "[power]", where=where)
 
@@ -620,7 +627,7 @@ def _fleet_class(r: _Reader, base_dir: Path, currency: str) -> FleetClass:
         km_per_year=r.uncertain("km_per_year", _km_per_year, low=1.0, unit=("km", 1e-3)),
         hours_per_day=r.quantity("hours_per_day", "[]", 8, low=0.0, high=24.0),
         remaining_life_years=r.integer("remaining_life_years", low=1),
-        profile=_data_file(r.raw("profile"), r.at("profile"), "profiles", ".csv", base_dir),
+        profile=_profile(r.raw("profile"), r.at("profile"), base_dir),
         vehicle=_data_file(r.raw("vehicle"), r.at("vehicle"), "vehicles", ".toml", base_dir),
         engine_map=_data_file(r.raw("engine_map"), r.at("engine_map"), "maps", ".csv",
                               base_dir),

@@ -75,13 +75,19 @@ def _result(study: Study, args: argparse.Namespace) -> StudyResult:
 
 
 def _check(args: argparse.Namespace) -> None:
+    from workbench.io.logs import list_vehicles, names_logs
     from workbench.models.duty import read_profile
     from workbench.models.engine import read_map
     from workbench.models.vehicle import read_vehicle
 
     i = _study(args.file).inputs
     for c in i.classes:  # the files a run reads: each error names its file, row or field
-        read_profile(c.profile)
+        if names_logs(c.profile):
+            logs = list_vehicles(c.profile)
+            for line in logs.problems:
+                print(f"left out of class {c.id}: {line}")
+        else:
+            read_profile(c.profile)
         read_vehicle(c.vehicle)
         for path in {c.engine_map, *(o.per_class[c.id].engine_map for o in i.options)}:
             read_map(path)
