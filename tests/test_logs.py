@@ -265,3 +265,19 @@ def test_bad_timestamp_names_the_row(tmp_path):
 def test_missing_source():
     with pytest.raises(InputError, match="no such file, folder or pattern"):
         list_vehicles(Path("/nonexistent/logs/*.csv").parent)
+
+
+def test_trips_stream_before_the_log_ends():
+    # Memory bounded by the buffer: a trip ended by a gap is yielded while later batches are
+    # still unread (a generator that records how far it was consumed).
+    consumed = []
+
+    def batches():
+        for k in range(5):
+            consumed.append(k)
+            t = 1000.0 * k + np.arange(100.0)  # 100 s of driving, then a 900 s gap
+            yield LogBatch(t, np.full(100, 10.0), {})
+
+    stream = clean_log(batches(), LogRules(smoothing=0.0), LogTally(), name="x")
+    next(stream)
+    assert consumed == [0, 1]  # the first trip is out once the second batch shows the gap
