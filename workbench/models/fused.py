@@ -132,6 +132,9 @@ def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full,
     s_lo = m_speed[0]
     s_hi = m_speed[m_speed.size - 1]
     idle_torque = p_acc / idle
+    # sums in locals (registers), written back once
+    s_dist = s_dur = s_wheel = s_brake = s_engine = s_fuel = s_idle = s_oom = s_full = 0.0
+    bad = -1
     for i in range(t.size - 1):
         dt = t[i + 1] - t[i]
         vm = 0.5 * (v[i + 1] + v[i])
@@ -146,12 +149,12 @@ def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full,
             slope = crr * STANDARD_GRAVITY
         force = mass * (f_rot * accel + slope) + aero
         work = force * vm * dt
-        sums[0] += vm * dt
-        sums[1] += dt
+        s_dist += vm * dt
+        s_dur += dt
         if work > 0.0:
-            sums[2] += work
+            s_wheel += work
         elif work < 0.0:
-            sums[3] -= work
+            s_brake -= work
         wheel_torque = force * r
         through = 1.0 / eta if wheel_torque >= 0.0 else eta
         # gear speeds fall with the gear number: the gears under max_engine_speed are j >=
@@ -163,8 +166,9 @@ def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full,
             if n_j <= n_max:
                 if under_lo == k:
                     under_lo = j
-                if n_j >= shift:
-                    band_hi = j
+                if n_j < shift:
+                    break  # and so are all higher gears
+                band_hi = j
         band_lo = under_lo if band_hi >= under_lo else -1
         covered_hi = -1
         if band_lo >= 0:
@@ -178,7 +182,8 @@ def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full,
             under_lo = -1
         moving = vm >= STOP_SPEED
         if moving and under_lo < 0:
-            return i
+            bad = i
+            break
         gear = covered_hi if covered_hi >= 0 else (band_lo if band_lo >= 0 else max(under_lo, 0))
         geared = vm * ratios[gear] / r
         torque = (wheel_torque * through) / ratios[gear] + p_acc / max(geared, idle)
@@ -189,12 +194,12 @@ def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full,
                 continue  # engine off: no fuel, no time idling
             speed = idle
             torque = idle_torque
-            sums[6] += dt
+            s_idle += dt
         elif overrun:
             continue
         else:
             speed = max(geared, idle)
-        sums[4] += speed * torque * dt
+        s_engine += speed * torque * dt
         # map lookup (EngineMap.fuel_power)
         n = min(max(speed, s_lo), s_hi)
         b, wb = _cell(m_speed, n)
@@ -210,17 +215,20 @@ def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full,
             p_zero = p_idle * speed / idle
             p = p_zero + (p - p_zero) * (tq / t_min)
         e = p * dt
-        sums[5] += e
+        s_fuel += e
         if n != speed or torque > cap:
-            sums[7] += dt
+            s_oom += dt
         if torque >= full:
-            sums[8] += dt
+            s_full += dt
         bs = _bin(s_edges, _rpm(speed))
         bt = _bin(t_edges, max(torque, 0.0))
         if bs >= 0 and bt >= 0:
             seconds[bs, bt] += dt
             fuel[bs, bt] += e
-    return -1
+    for j, x in enumerate((s_dist, s_dur, s_wheel, s_brake, s_engine, s_fuel, s_idle, s_oom,
+                           s_full)):
+        sums[j] += x
+    return bad
 
 
 _rpm = to_rpm
