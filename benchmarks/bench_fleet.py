@@ -32,8 +32,8 @@ import pandas as pd
 
 from workbench.io import demo_fleet
 from workbench.io.logs import VehicleLog, read_batches
-from workbench.models.engine import read_map
-from workbench.models.vehicle import read_vehicle
+from workbench.io.maps import read_map
+from workbench.io.vehicles import read_vehicle
 from workbench.study.fleet import SINGLE_THREAD_ENV, run_fleet
 
 DATA = Path(__file__).resolve().parent.parent / "workbench" / "data"

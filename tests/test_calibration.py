@@ -11,9 +11,9 @@ from numpy.testing import assert_allclose
 from workbench.core.errors import InputError
 from workbench.io import demo_fleet, demo_profiles
 from workbench.io.fuelcards import read_fuel_cards
+from workbench.io.maps import read_map
+from workbench.io.vehicles import read_vehicle
 from workbench.models.calibration import ObservedUse, calibrate, observed_use
-from workbench.models.engine import read_map
-from workbench.models.vehicle import read_vehicle
 from workbench.study.fleet import calibrate_fleet, run_fleet
 
 CARDS = """\ufeff# fills of two vehicles

@@ -8,9 +8,10 @@ from numpy.testing import assert_allclose
 
 from workbench.core.errors import InputError
 from workbench.io import demo_fleet, demo_profiles
-from workbench.models.engine import DutyEnergy, read_map
+from workbench.io.maps import read_map
+from workbench.io.vehicles import read_vehicle
+from workbench.models.engine import DutyEnergy
 from workbench.models.fleet import VehicleSummary, aggregate
-from workbench.models.vehicle import read_vehicle
 from workbench.study.fleet import run_fleet
 
 DATA = demo_profiles.DATA

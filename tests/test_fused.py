@@ -14,10 +14,12 @@ from numpy.testing import assert_allclose
 
 from workbench.core.errors import InputError
 from workbench.io import demo_profiles
+from workbench.io.maps import read_map
+from workbench.io.profiles import read_trace
+from workbench.io.vehicles import read_vehicle
 from workbench.models import fused
-from workbench.models.duty import DutySettings, DutyTrace, read_trace
-from workbench.models.engine import duty_energy, read_map
-from workbench.models.vehicle import read_vehicle
+from workbench.models.duty import DutySettings, DutyTrace
+from workbench.models.engine import duty_energy
 
 DATA = demo_profiles.DATA
 CASES = [("taxi-shift", "taxi", "taxi-si-1.8l"), ("van-day", "van", "van-ci-2.3l"),

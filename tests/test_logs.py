@@ -12,10 +12,12 @@ from numpy.testing import assert_allclose
 from workbench.core.errors import InputError
 from workbench.io import demo_profiles
 from workbench.io.logs import list_vehicles, normalise, read_batches
-from workbench.models.duty import DutyTrace, duty_stats, read_trace
-from workbench.models.engine import duty_energy, read_map
+from workbench.io.maps import read_map
+from workbench.io.profiles import read_trace
+from workbench.io.vehicles import read_vehicle
+from workbench.models.duty import DutyTrace, duty_stats
+from workbench.models.engine import duty_energy
 from workbench.models.logs import LogBatch, LogRules, LogTally, clean_log, moving_average
-from workbench.models.vehicle import read_vehicle
 
 DATA = demo_profiles.DATA
 

@@ -8,8 +8,8 @@ from numpy.testing import assert_allclose
 
 from workbench.core.paths import DATA
 from workbench.io import demo_fleet
-from workbench.models.engine import read_map
-from workbench.models.vehicle import read_vehicle
+from workbench.io.maps import read_map
+from workbench.io.vehicles import read_vehicle
 from workbench.study import read_study, run
 from workbench.study.fleet import run_fleet
 from workbench.study.runner import DutySettings

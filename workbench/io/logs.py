@@ -345,10 +345,17 @@ class FleetSource:
     vehicles : tuple of VehicleLog
     problems : tuple of str
         One line per file left out (``file: message``).
+    source : str
+        What was listed.
+    files : tuple
+        :func:`fingerprint` of the source when listed: equal listings of unchanged files are
+        equal (and hash alike), so runs cached on them see edited files.
     """
 
     vehicles: tuple[VehicleLog, ...]
     problems: tuple[str, ...]
+    source: str = ""
+    files: tuple[tuple[str, int, int], ...] = ()
 
 
 def _kind(path: Path) -> str:
@@ -432,11 +439,6 @@ def fleet_source(raw: str, base_dir: Path) -> Path | None:
     return None
 
 
-def names_logs(path: Path) -> bool:
-    """Whether a resolved study ``profile`` is a fleet's logs (see :func:`fleet_source`)."""
-    return fleet_source(str(path), Path.cwd()) is not None
-
-
 def fingerprint(source: str | Path) -> tuple[tuple[str, int, int], ...]:
     """Name, size and modification time of every file of a source, to key cached runs.
 
@@ -473,7 +475,8 @@ def list_vehicles(source: str | Path) -> FleetSource:
     """
     path = Path(source)
     if path.is_dir() and any(p.is_dir() and "=" in p.name for p in path.iterdir()):
-        return FleetSource(tuple(_vehicles_in(path, "dataset")), ())
+        return FleetSource(tuple(_vehicles_in(path, "dataset")), (), str(source),
+                           fingerprint(source))
     vehicles: list[VehicleLog] = []
     problems: list[str] = []
     for f in _files(source):
@@ -495,7 +498,8 @@ def list_vehicles(source: str | Path) -> FleetSource:
     if not unique:
         raise InputError(str(source), "no readable vehicle log: "
                          + ("; ".join(problems[:3]) or "no .csv or .parquet files"))
-    return FleetSource(tuple(sorted(unique, key=lambda v: v.vehicle)), tuple(problems))
+    return FleetSource(tuple(sorted(unique, key=lambda v: v.vehicle)), tuple(problems),
+                       str(source), fingerprint(source))
 
 
 def read_batches(log: VehicleLog, *, batch_rows: int = CSV_CHUNK_ROWS) -> Iterator[LogBatch]:

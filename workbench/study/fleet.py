@@ -33,10 +33,16 @@ import pandas as pd
 
 from workbench.core.constants import RPM
 from workbench.core.errors import InputError
-from workbench.io.logs import CSV_CHUNK_ROWS, VehicleLog, list_vehicles, read_batches
+from workbench.io.logs import (
+    CSV_CHUNK_ROWS,
+    FleetSource,
+    VehicleLog,
+    list_vehicles,
+    read_batches,
+)
 from workbench.models.calibration import Calibration, FuelRecords, calibrate, observed_use
 from workbench.models.duty import DutySettings
-from workbench.models.engine import EngineMap, energy_from_sums
+from workbench.models.engine import NOX_SPEED_BINS, DutyRun, EngineMap, energy_from_sums
 from workbench.models.fleet import ClassAggregate, VehicleSummary, aggregate, vehicle_table
 from workbench.models.fused import histogram_edges, trace_sums
 from workbench.models.logs import LogRules, LogTally, clean_log
@@ -210,7 +216,7 @@ def _dask(jobs: list[VehicleJob], scheduler: Any, progress: Progress | None
 
 
 def run_fleet(
-    source: str | Path,
+    source: str | Path | FleetSource,
     vehicle: Vehicle,
     engine_map: EngineMap,
     *,
@@ -225,8 +231,9 @@ def run_fleet(
 
     Parameters
     ----------
-    source : str or pathlib.Path
-        Logger file, folder, glob pattern or Parquet dataset (``docs/fleet-logs.md``).
+    source : str or pathlib.Path or FleetSource
+        Logger file, folder, glob pattern or Parquet dataset (``docs/fleet-logs.md``), or
+        its vehicles as listed by :func:`workbench.io.logs.list_vehicles`.
     vehicle : Vehicle
         The class's vehicle.
     engine_map : EngineMap
@@ -253,7 +260,7 @@ def run_fleet(
     InputError
         The source names nothing readable, or no vehicle could be used.
     """
-    found = list_vehicles(source)
+    found = source if isinstance(source, FleetSource) else list_vehicles(source)
     jobs = [VehicleJob(log, vehicle, engine_map, settings or DutySettings(),
                        rules or LogRules(), batch_rows) for log in found.vehicles]
     workers = workers or os.cpu_count() or 1
@@ -342,3 +349,43 @@ def class_tables(agg: ClassAggregate, engine_map: EngineMap, bins: int
     points = pd.DataFrame({"engine_speed_rpm": sc[mask], "torque_nm": tc[mask],
                            "seconds": agg.seconds[mask], "brake_efficiency": eff})
     return speeds, weights, points
+
+
+@dataclass(frozen=True, eq=False)
+class FleetDutyRun(DutyRun):
+    """A class's duty from its vehicles' logs: the km-weighted :class:`DutyRun`, and the run.
+
+    Attributes
+    ----------
+    fleet : FleetRun
+        The vehicles used and left out, their summaries and spread.
+    """
+
+    fleet: FleetRun
+
+
+def fleet_duty(logs: FleetSource, vehicle: Vehicle, engine_map: EngineMap, *,
+               settings: DutySettings | None = None, engine: str | Any = "process"
+               ) -> FleetDutyRun:
+    """The study's duty of a class from its vehicles' logs.
+
+    Parameters
+    ----------
+    logs : FleetSource
+        The vehicles, listed when the study was checked.
+    vehicle : Vehicle
+    engine_map : EngineMap
+        Adjusted for the option's fuel.
+    settings : DutySettings, optional
+    engine : str or distributed.Client
+        As :func:`run_fleet`.
+
+    Returns
+    -------
+    FleetDutyRun
+        Energy of the class, NOx weighting over :data:`NOX_SPEED_BINS` groups of its
+        histogram's speed bins, its operating points, and the run.
+    """
+    run = run_fleet(logs, vehicle, engine_map, settings=settings, engine=engine)
+    speeds, weights, points = class_tables(run.aggregate, engine_map, NOX_SPEED_BINS)
+    return FleetDutyRun(run.aggregate.energy, speeds, weights, points, run)

@@ -48,9 +48,9 @@ def _run(args: argparse.Namespace) -> None:
     from workbench.core.fuels import load_fuel
     from workbench.interfaces.cli import print_json
     from workbench.io.fuelcards import read_fuel_cards
+    from workbench.io.maps import read_map
+    from workbench.io.vehicles import read_vehicle
     from workbench.models.combustion import fuel_sheet
-    from workbench.models.engine import read_map
-    from workbench.models.vehicle import read_vehicle
     from workbench.study.fleet import calibrate_fleet, run_fleet
 
     if args.workers is not None and args.workers < 1:

@@ -78,22 +78,14 @@ def _result(study: Study, args: argparse.Namespace) -> StudyResult:
 
 
 def _check(args: argparse.Namespace) -> None:
-    from workbench.io.logs import list_vehicles, names_logs
-    from workbench.models.duty import read_profile
-    from workbench.models.engine import read_map
-    from workbench.models.vehicle import read_vehicle
+    from workbench.io.logs import FleetSource
 
-    i = _study(args.file).inputs
-    for c in i.classes:  # the files a run reads: each error names its file, row or field
-        if names_logs(c.profile):
-            logs = list_vehicles(c.profile)
-            for line in logs.problems:
-                print(f"left out of class {c.id}: {line}")
-        else:
-            read_profile(c.profile)
-        read_vehicle(c.vehicle)
-        for path in {c.engine_map, *(o.per_class[c.id].engine_map for o in i.options)}:
-            read_map(path)
+    i = _study(args.file).inputs  # reads every file the study names: errors name file and row
+    for c in i.classes:
+        if isinstance(c.profile_data, FleetSource):
+            print(f"class {c.id}: {len(c.profile_data.vehicles)} vehicles' logs in {c.profile}")
+            for line in c.profile_data.problems:
+                print(f"class {c.id}: left out: {line}")
     print(f"ok: {args.file}: {len(i.classes)} vehicle classes "
           f"({sum(c.count for c in i.classes)} vehicles), baseline {i.baseline.id!r}, "
           f"{len(i.candidates)} candidates, {len(i.uncertain)} uncertain inputs, "
