@@ -19,7 +19,6 @@ from __future__ import annotations
 import csv
 import glob
 import re
-import tomllib
 from collections.abc import Iterator
 from dataclasses import dataclass
 from pathlib import Path
@@ -28,6 +27,8 @@ import numpy as np
 import pandas as pd
 
 from workbench.core.errors import InputError
+from workbench.io.csvtext import read_file_bytes
+from workbench.io.profiles import _side_units as _profile_units
 from workbench.models.logs import LogBatch
 
 #: Speed units: token -> factor to m/s (mph exact: NIST Handbook 44, Appendix C).
@@ -98,17 +99,16 @@ class Columns:
 
 
 def _side_units(path: Path) -> dict[str, str]:
+    """``<stem>.units.toml`` beside ``path`` (the profiles' format), names and units
+    normalised; empty when there is none."""
     side = path.with_name(path.stem + ".units.toml")
-    if not side.exists():
+    if not side.is_file():
         return {}
     try:
-        data = tomllib.loads(side.read_text(encoding="utf-8"))
-    except (OSError, UnicodeDecodeError, tomllib.TOMLDecodeError) as exc:
-        raise InputError(str(side), f"not valid TOML ({exc})") from None
-    units = data.get("units")
-    if not isinstance(units, dict) or not all(isinstance(u, str) for u in units.values()):
-        raise InputError(str(side), "needs a [units] table of column = \"unit\" strings")
-    return {normalise(k): normalise(v) for k, v in units.items()}
+        text = read_file_bytes(side).decode("utf-8")
+    except UnicodeDecodeError:
+        raise InputError(str(side), "is not UTF-8 text; save it as UTF-8") from None
+    return {normalise(k): normalise(v) for k, v in _profile_units(str(path), text).items()}
 
 
 def _split_unit(key: str, prefixes: tuple[str, ...]) -> tuple[str, str] | None:
