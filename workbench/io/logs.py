@@ -230,7 +230,7 @@ def _read_csv(path: Path, d: _Dialect, usecols: list[str], chunksize: int | None
     pandas' C parser five times slower)."""
     try:
         reader = pd.read_csv(path, sep=d.sep, decimal=d.decimal, comment="#",
-                             encoding="utf-8-sig", usecols=usecols, skip_blank_lines=True,
+                             encoding="utf-8", usecols=usecols, skip_blank_lines=True,
                              skipinitialspace=True, chunksize=chunksize, engine="c")
         if chunksize is None:
             yield reader
@@ -266,8 +266,10 @@ def _arrow_seconds(values: pd.Series) -> np.ndarray | None:
     import pyarrow.compute as pc
 
     try:
-        arr = pa.array(values, type=pa.string(), from_pandas=True)
+        arr = pa.array(values, from_pandas=True)  # pandas' own Arrow strings: no copy
     except (pa.ArrowInvalid, pa.ArrowTypeError):
+        return None
+    if not (pa.types.is_string(arr.type) or pa.types.is_large_string(arr.type)):
         return None
     for kind in (pa.timestamp("ns", tz="UTC"), pa.timestamp("ns")):
         try:
