@@ -72,7 +72,7 @@ def write_text_atomic(path: str | os.PathLike[str], text: str, *, suffix: str,
     check_target(target, suffix=suffix, option=option)
     tmp_name = None
     try:
-        with tempfile.NamedTemporaryFile("w", encoding="utf-8", dir=target.parent,
+        with tempfile.NamedTemporaryFile("w", encoding="utf-8", newline="", dir=target.parent,
                                          prefix=f".{target.name}.", suffix=".tmp",
                                          delete=False) as tmp:
             tmp_name = tmp.name
