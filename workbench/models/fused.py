@@ -125,6 +125,7 @@ def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full,
         par[0], par[1], par[2], par[3], par[4], par[5], par[6], par[7], par[8], par[9],
         par[10] > 0.5, par[11])
     k = ratios.size
+    n_per_v = ratios / r  # engine speed per vehicle speed in each gear [rad/m]
     has_grade = grade.size > 0
     has_payload = payload.size > 0
     t_min = m_torque[0]
@@ -162,7 +163,7 @@ def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full,
         under_lo = k
         band_hi = -1
         for j in range(k):
-            n_j = vm * ratios[j] / r
+            n_j = vm * n_per_v[j]
             if n_j <= n_max:
                 if under_lo == k:
                     under_lo = j
@@ -173,7 +174,7 @@ def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full,
         covered_hi = -1
         if band_lo >= 0:
             for j in range(band_hi, band_lo - 1, -1):  # highest covering gear first
-                n_j = vm * ratios[j] / r
+                n_j = vm * n_per_v[j]
                 t_j = (wheel_torque * through) / ratios[j] + p_acc / max(n_j, idle)
                 if t_j <= _interp(m_speed, m_full, n_j):
                     covered_hi = j
@@ -185,7 +186,7 @@ def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full,
             bad = i
             break
         gear = covered_hi if covered_hi >= 0 else (band_lo if band_lo >= 0 else max(under_lo, 0))
-        geared = vm * ratios[gear] / r
+        geared = vm * n_per_v[gear]
         torque = (wheel_torque * through) / ratios[gear] + p_acc / max(geared, idle)
         overrun = moving and torque <= 0.0 and geared >= shift
         idling = (not moving) or (torque <= 0.0 and not overrun)
