@@ -111,11 +111,12 @@ def _interp(xp: np.ndarray, fp: np.ndarray, x: float) -> float:
     return fp[j] + (x - xp[j]) * (fp[j + 1] - fp[j]) / (xp[j + 1] - xp[j])
 
 
-def _cell(grid: np.ndarray, x: float) -> tuple[int, float]:
-    """Cell and position of ``x`` (already clipped to the axis) as scipy's linear interpolator."""
+def _cell(grid: np.ndarray, inv_step: np.ndarray, x: float) -> tuple[int, float]:
+    """Cell and position of ``x`` (already clipped to the axis) as scipy's linear interpolator
+    (``inv_step``: one over each cell's width)."""
     i = _count(grid, x, False) - 1
     i = min(max(i, 0), grid.size - 2)
-    return i, (x - grid[i]) / (grid[i + 1] - grid[i])
+    return i, (x - grid[i]) * inv_step[i]
 
 
 def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full, s_edges,
@@ -126,6 +127,8 @@ def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full,
         par[10] > 0.5, par[11])
     k = ratios.size
     n_per_v = ratios / r  # engine speed per vehicle speed in each gear [rad/m]
+    inv_speed = 1.0 / np.diff(m_speed)
+    inv_torque = 1.0 / np.diff(m_torque)
     has_grade = grade.size > 0
     has_payload = payload.size > 0
     t_min = m_torque[0]
@@ -203,12 +206,12 @@ def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full,
         s_engine += speed * torque * dt
         # map lookup (EngineMap.fuel_power)
         n = min(max(speed, s_lo), s_hi)
-        b, wb = _cell(m_speed, n)
+        b, wb = _cell(m_speed, inv_speed, n)
         full = m_full[b] + wb * (m_full[b + 1] - m_full[b])  # numpy.interp, ends held
         cap = min(full, t_top)
         tq = min(torque, cap)
         t_grid = max(tq, t_min)
-        a, wa = _cell(m_torque, min(max(t_grid, t_min), t_top))
+        a, wa = _cell(m_torque, inv_torque, min(max(t_grid, t_min), t_top))
         eff = (m_eff[a, b] * (1.0 - wa) * (1.0 - wb) + m_eff[a, b + 1] * (1.0 - wa) * wb
                + m_eff[a + 1, b] * wa * (1.0 - wb) + m_eff[a + 1, b + 1] * wa * wb)
         p = speed * t_grid / eff
