@@ -49,9 +49,9 @@ def test_class_energy_is_the_fleet_aggregate(fleet_study, result):
 
 
 def test_study_says_how_many_vehicles_were_used(result):
-    note = result.assumptions["vehicle logs, taxi"]
+    note = result.assumptions["vehicle logs, Taxis"]  # the class's name, as the report shows
     assert note.startswith("12 of 13 vehicles used")
-    assert "KB-T13.csv row" in note and "classes.taxi.vehicle_spread" in note
+    assert "KB-T13.csv row" in note and "spread between the class's vehicles" in note
 
 
 def test_spread_between_vehicles_widens_the_monte_carlo(fleet_study, result, monkeypatch):
