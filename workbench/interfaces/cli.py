@@ -25,7 +25,7 @@ from workbench.core.errors import InputError
 from workbench.core.text import json_safe
 
 #: Command modules, in the order their groups appear in ``workbench --help``.
-COMMAND_MODULES = ("fuels", "nox", "duty", "study", "docs")
+COMMAND_MODULES = ("fuels", "nox", "duty", "fleet", "study", "docs")
 
 #: Stands for standard input or output in place of a file name.
 STDIO = "-"

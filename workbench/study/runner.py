@@ -29,6 +29,7 @@ from workbench.core.errors import InputError
 from workbench.core.fuels import Fuel
 from workbench.core.thermo import molar_mass
 from workbench.core.units import Price, price_per_energy
+from workbench.io.logs import FleetSource
 from workbench.models import economics as econ
 from workbench.models.aftertreatment import Aftertreatment, optimal_interval, programme_nox
 from workbench.models.combustion import FuelSheet, fuel_sheet
@@ -42,6 +43,7 @@ from workbench.models.pollutants import pollutant_factors
 from workbench.models.storage import tank_for_range
 from workbench.models.vehicle import Vehicle
 from workbench.study import tables
+from workbench.study.fleet import FleetDutyRun, fleet_duty
 from workbench.study.results import StudyResult
 from workbench.study.studyfile import (
     ClassOption,
@@ -85,15 +87,18 @@ def converted_map(engine_map: EngineMap, derate: float, efficiency_offset: float
 
 
 @memoize(maxsize=128)
-def duty_physics(profile: DutyTrace | ModeTable, vehicle: Vehicle | None, engine_map: EngineMap,
-                 derate: float, efficiency_offset: float, settings: DutySettings,
-                 conversion: str = "none", fuel: Fuel | None = None) -> DutyRun:
+def duty_physics(profile: DutyTrace | ModeTable | FleetSource, vehicle: Vehicle | None,
+                 engine_map: EngineMap, derate: float, efficiency_offset: float,
+                 settings: DutySettings, conversion: str = "none", fuel: Fuel | None = None
+                 ) -> DutyRun:
     """Run a profile with a vehicle and an adjusted map (cached by their content).
 
     Parameters
     ----------
-    profile : DutyTrace or ModeTable
-        The class's duty, read when the study was checked.
+    profile : DutyTrace or ModeTable or FleetSource
+        The class's duty, read when the study was checked; or its vehicles' logs, listed when
+        it was checked and run here (``workbench.study.fleet.fleet_duty``; a
+        :class:`~workbench.study.fleet.FleetDutyRun` comes back).
     vehicle : Vehicle
         Road load and driveline (unused for a time-at-mode table).
     engine_map : EngineMap
@@ -112,6 +117,8 @@ def duty_physics(profile: DutyTrace | ModeTable, vehicle: Vehicle | None, engine
     DutyRun
     """
     emap = converted_map(engine_map, derate, efficiency_offset, conversion, fuel)[0]
+    if isinstance(profile, FleetSource):
+        return fleet_duty(profile, vehicle, emap, settings=settings)
     return run_duty(profile, vehicle, emap, settings=settings)
 
 
@@ -485,8 +492,8 @@ def run(study: Study, *, draws: int | None = None,
     sensitivity: dict[str, pd.DataFrame] = {}
     if n > 0:
         say(f"Monte Carlo, {n} draws")
-        samples = econ.sample_inputs(inputs.uncertain, n, inputs.seed,
-                                     correlation=inputs.correlation)
+        samples = econ.sample_inputs({**inputs.uncertain, **_vehicle_spread(plan)}, n,
+                                     inputs.seed, correlation=inputs.correlation)
         money = _money(plan, samples, n)
         for o in inputs.candidates:
             draws_of[o.id] = econ.npv_draws(money, o.id, inputs.baseline.id)
@@ -502,8 +509,60 @@ def run(study: Study, *, draws: int | None = None,
                      notices=tables.frame("notices", notice_rows(inputs)),
                      class_decisions=tables.frame("class_decisions", decisions),
                      best_mix=tables.frame("best_mix", mix))
+    result.assumptions.update(_fleet_notes(plan))
     say("done")
     return result
+
+
+#: P90 of the standard normal distribution (scipy.stats.norm.ppf(0.9)).
+_Z90 = 1.2815515655446004
+
+
+def _vehicle_spread(plan: Plan) -> dict[str, econ.Distribution]:
+    """The spread between a fleet-log class's vehicles as an uncertain physics input.
+
+    A normal factor on the class's fuel energy per km (mean 1) whose P10 and P90 are the
+    vehicles' P10 and P90 over the class's value (baseline option); every option of the class
+    takes the same draw, scaling its fuel energy and tailpipe CO2e per km. Adds the responses
+    to ``plan`` and returns the distributions to draw, by key path.
+    """
+    out = {}
+    for c in plan.inputs.classes:
+        duty = plan.physics[plan.inputs.baseline.id, c.id].duty
+        if not isinstance(duty, FleetDutyRun):
+            continue
+        agg = duty.fleet.aggregate
+        sd = (agg.spread_per_m[1] - agg.spread_per_m[0]) / (2 * _Z90) / agg.energy_per_m
+        if sd <= 0.0:
+            continue
+        path = f"classes.{c.id}.vehicle_spread"
+        dist = econ.Distribution("normal", mean=1.0, sd=sd, where=path)
+        nodes = np.asarray(dist.ppf(np.array(RESPONSE_QUANTILES)), dtype=float)
+        for o in plan.inputs.options:
+            ph = plan.physics[o.id, c.id]
+            plan.responses[o.id, c.id].append(econ.Response(
+                path, nodes, ph.fuel_energy_per_m * nodes, ph.tailpipe_co2e_per_m * nodes,
+                np.tile(plan.catalyst_cost[o.id, c.id], (nodes.size, 1))))
+        out[path] = dist
+    return out
+
+
+def _fleet_notes(plan: Plan) -> dict[str, str]:
+    """One assumption line per fleet-log class: vehicles used, left out, spread."""
+    out = {}
+    for c in plan.inputs.classes:
+        duty = plan.physics[plan.inputs.baseline.id, c.id].duty
+        if not isinstance(duty, FleetDutyRun):
+            continue
+        run = duty.fleet
+        lo, hi = (x / 1e3 for x in run.aggregate.spread_per_m)
+        left = f"; left out: {'; '.join(run.problems)}" if run.problems else ""
+        out[f"vehicle logs, {c.name}"] = (
+            f"{len(run.summaries)} of {run.found} vehicles used, "
+            f"{run.aggregate.energy.distance / 1e3:,.0f} km, km-weighted; between vehicles "
+            f"P10-P90 {lo:.2f}-{hi:.2f} MJ/km on the baseline, drawn in the Monte Carlo as "
+            f"the spread between the class's vehicles{left}")
+    return out
 
 
 def _break_even(plan: Plan) -> dict[str, list[tuple[Uncertain, float]]]:

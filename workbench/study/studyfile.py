@@ -46,6 +46,7 @@ from workbench.core.units import (
     parse_quantity,
 )
 from workbench.io.files import write_text_atomic
+from workbench.io.logs import FleetSource, fleet_source, list_vehicles
 from workbench.io.maps import read_map
 from workbench.io.profiles import read_profile
 from workbench.io.vehicles import read_vehicle
@@ -120,7 +121,7 @@ class FleetClass:
     accessory_power: float  # [W]
     engine_off_at_stops: bool
     extra_idle_share: float
-    profile_data: DutyTrace | ModeTable  # read from ``profile`` when the study was checked
+    profile_data: DutyTrace | ModeTable | FleetSource  # read (logs: listed) when checked
     vehicle_data: Vehicle  # read from ``vehicle``
     map_data: EngineMap  # read from ``engine_map``
     varied: tuple[tuple[str, Uncertain], ...] = ()  # physics inputs with a distribution
@@ -885,6 +886,19 @@ def _read_data_file(raw: Any, where: str, kind: str, base_dir: Path,
         raise InputError(f"{where}: {exc.where}", exc.message) from None
 
 
+def _profile(raw: Any, where: str, base_dir: Path
+             ) -> tuple[Path, DutyTrace | ModeTable | FleetSource]:
+    """A shipped profile or a profile CSV, read; or a fleet's logs (folder, glob, Parquet
+    dataset, relative to the study's folder), listed (each vehicle is read when run)."""
+    logs = fleet_source(raw, base_dir) if isinstance(raw, str) and raw.strip() else None
+    if logs is None:
+        return _read_data_file(raw, where, "profile", base_dir, read_profile)
+    try:
+        return logs, list_vehicles(logs)
+    except InputError as exc:
+        raise InputError(f"{where}: {exc.where}", exc.message) from None
+
+
 def _watts(raw: Any, where: str) -> float:
     return parse_quantity(raw, "[power]", where=where)
 
@@ -908,8 +922,7 @@ def _fleet_class(r: _Reader, base_dir: Path, currency: str) -> FleetClass:
         raise InputError(r.at("id"), "use letters, digits, - and _ only")
     varied: list[tuple[str, Uncertain]] = []
     physics = _physics_input(varied)
-    profile, duty = _read_data_file(r.raw("profile"), r.at("profile"), "profile", base_dir,
-                                    read_profile)
+    profile, duty = _profile(r.raw("profile"), r.at("profile"), base_dir)
     vehicle, vehicle_data = _read_data_file(r.raw("vehicle"), r.at("vehicle"), "vehicle",
                                             base_dir, read_vehicle)
     engine_map, map_data = _read_data_file(r.raw("engine_map"), r.at("engine_map"), "map",

@@ -141,10 +141,16 @@ def _result(study: Study, args: argparse.Namespace) -> StudyResult:
 
 
 def _check(args: argparse.Namespace) -> None:
+    from workbench.io.logs import FleetSource
     from workbench.study.results import default_lines, notice_lines
     from workbench.study.runner import defaults_rows, notice_rows
 
     i = _study(args.file).inputs  # reads every file the study names: errors name file and row
+    for c in i.classes:
+        if isinstance(c.profile_data, FleetSource):
+            print(f"class {c.id}: {len(c.profile_data.vehicles)} vehicles' logs in {c.profile}")
+            for line in c.profile_data.problems:
+                print(f"class {c.id}: left out: {line}")
     print(f"ok: {args.file}: {len(i.classes)} vehicle classes "
           f"({sum(c.count for c in i.classes)} vehicles), baseline {i.baseline.id!r}, "
           f"{len(i.candidates)} candidates, {len(i.uncertain)} uncertain inputs, "
