@@ -13,14 +13,28 @@ import math
 import sys
 
 from workbench.core.errors import InputError
+from workbench.interfaces.cli import add_quiet, command
 from workbench.interfaces.commands.duty import demo_names, resolve
 
 
 def register(sub: argparse._SubParsersAction) -> None:
     """Add the ``fleet`` command group to the top-level parser."""
-    group = sub.add_parser("fleet", help="a vehicle class from its vehicles' logger files")
-    fsub = group.add_subparsers(dest="fleet_command", required=True, parser_class=type(group))
-    p = fsub.add_parser("run", help="run every vehicle's logs and sum the class")
+    group = command(sub, "fleet", help="a vehicle class from its vehicles' logger files",
+                    description="Run a whole class of vehicles from their own data-logger "
+                    "files: each vehicle's trips through the vehicle and its engine map, "
+                    "summed for the class, and compared with its fuel cards.",
+                    example="workbench fleet run logs/ --vehicle taxi --map taxi-si-1.8l "
+                            "--fuel gasoline")
+    fsub = group.add_subparsers(dest="fleet_command", required=True, parser_class=type(group),
+                                metavar="COMMAND")
+    p = command(fsub, "run", help="run every vehicle's logs and sum the class",
+                description="Fuel per km of every vehicle whose logs are found (trips, gaps, "
+                "spikes and duplicates reported), the class's figure and its spread between "
+                "vehicles; with --fuel-cards, the calibration factor against the fills.",
+                example=["workbench fleet run 'logs/*.csv' --vehicle taxi --map taxi-si-1.8l "
+                         "--fuel gasoline",
+                         "workbench fleet run logs/ --vehicle taxi --map taxi-si-1.8l "
+                         "--fuel lpg --fuel-cards cards.csv --workers 2 --json"])
     p.add_argument("source", metavar="SOURCE",
                    help="logger file, folder, glob ('logs/*.csv') or Parquet dataset folder")
     p.add_argument("--vehicle", required=True, metavar="V",
@@ -34,7 +48,7 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--scheduler", metavar="ADDR",
                    help="dask scheduler address, e.g. tcp://10.0.0.5:8786 (needs the cluster "
                         "extra)")
-    p.add_argument("--quiet", action="store_true", help="no progress on standard error")
+    add_quiet(p)
     p.add_argument("--json", action="store_true", help="print JSON")
     p.set_defaults(func=_run)
 
