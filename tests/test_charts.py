@@ -183,7 +183,25 @@ def test_monte_carlo_histograms_and_percentile_lines(result):
         assert hist.histnorm == "percent"
         for column in ("npv_p10", "npv_p50", "npv_p90"):
             assert any(math.isclose(x, cands.loc[cand, column]) for x in line_x)
-    assert len(fig.layout.shapes) == 3 * result.monte_carlo["candidate"].nunique()
+    n = result.monte_carlo["candidate"].nunique()
+    # three percentiles and the break-even line (NPV 0) per candidate
+    assert len(fig.layout.shapes) == 4 * n
+    assert sum(s.x0 == 0.0 and s.line.color == charts.BREAK_EVEN for s in fig.layout.shapes) == n
+    # the percentile labels of one facet sit at distinct heights, so they cannot overlap
+    labels = [a for a in fig.layout.annotations if a.text.startswith(("P10", "P50", "P90"))]
+    for cand_labels in (labels[i:i + 3] for i in range(0, len(labels), 3)):
+        assert len({a.y for a in cand_labels}) == 3
+
+
+def test_facets_and_fuels_are_named_as_in_the_study(result):
+    fig = charts.cost_per_km_chart(result)
+    titles = [a.text for a in fig.layout.annotations]
+    for vclass in dict.fromkeys(result.per_km["vehicle_class"]):
+        assert charts.escape(result.names.vehicle_class(vclass)) in titles
+        assert vclass not in titles
+    density = charts.energy_density_chart(result)
+    assert {t.name for t in density.data if t.legendgroup.startswith("candidate:")} == {
+        charts.escape(result.names.fuel(f)) for f in result.storage["fuel"]}
 
 
 def test_flame_two_panels(result):

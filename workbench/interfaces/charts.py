@@ -51,6 +51,8 @@ COST_PATTERNS = {"fuel": "", "upkeep": "/", "capital": "."}
 
 #: Colour of a candidate that the candidates table does not list (a bug upstream).
 NEUTRAL = "#AAAAAA"
+#: Colour of the break-even line (NPV 0) in the Monte Carlo chart: the palette's vermilion.
+BREAK_EVEN = "#D55E00"
 
 
 def escape(text: object) -> str:
@@ -193,10 +195,12 @@ class _Fig:
             type="line", line=line, x0=0, x1=1, xref="x domain", y0=y, y1=y, yref="y"))
 
     def add_vline(self, x: float, line: dict[str, Any], row: int = 1, col: int = 1, *,
-                  label: str | None = None, font_size: int = 11, side: str = "right") -> None:
-        """A vertical line up a facet at ``x``, optionally labelled at its top.
+                  label: str | None = None, font_size: int = 11, side: str = "right",
+                  height: float = 1.0) -> None:
+        """A vertical line up a facet at ``x``, optionally labelled near its top.
 
-        ``side`` is where the label sits: ``"right"`` of the line or ``"left"`` of it.
+        ``side`` is where the label sits: ``"right"`` of the line or ``"left"`` of it;
+        ``height`` is where its top edge sits, as a share of the facet's height.
         """
         n = self._cell(row, col)
         xref, yref = _ref("x", n), f"{_ref('y', n)} domain"
@@ -205,7 +209,8 @@ class _Fig:
         if label is not None:
             self.add_annotation(text=label, font=dict(size=font_size), showarrow=False, x=x,
                                 xanchor="left" if side == "right" else "right", xref=xref,
-                                y=1, yanchor="top", yref=yref)
+                                y=height, yanchor="top", yref=yref,
+                                bgcolor="rgba(255,255,255,0.8)")
 
     def to_dict(self) -> dict[str, Any]:
         """The figure dict (shares the template; do not edit it)."""
@@ -310,21 +315,23 @@ def _no_data(title: str, table: str) -> _Fig:
     return _finish(fig, title, height=240)
 
 
-def _facet_titles(values: Iterable[object]) -> tuple[str, ...]:
-    return tuple(escape(v) for v in values)
+def _facet_titles(classes: Iterable[str], result: StudyResult) -> tuple[str, ...]:
+    """Facet titles: each vehicle class by its name in the study, escaped."""
+    return tuple(escape(result.names.vehicle_class(c)) for c in classes)
 
 
 # ----------------------------------------------------------------------------- cost and CO2
 
 
-def _class_facets(table: pd.DataFrame) -> tuple[dict[str, dict[str, dict]], _Fig]:
+def _class_facets(table: pd.DataFrame, result: StudyResult
+                  ) -> tuple[dict[str, dict[str, dict]], _Fig]:
     """Rows of a per-km table by vehicle class and candidate (first row of each kept), and
     a figure with one panel per class."""
     by_class: dict[str, dict[str, dict]] = {}
     for row in table.to_dict("records"):
         by_class.setdefault(row["vehicle_class"], {}).setdefault(row["candidate"], row)
     fig = _Fig(rows=1, cols=len(by_class), shared_yaxes=True,
-               subplot_titles=_facet_titles(by_class), horizontal_spacing=0.04)
+               subplot_titles=_facet_titles(by_class, result), horizontal_spacing=0.04)
     return by_class, fig
 
 
@@ -334,7 +341,7 @@ def _cost_per_km(result: StudyResult) -> _Fig:
     if table.empty:
         return _no_data(title, "per_km")
     st = _style(result)
-    by_class, fig = _class_facets(table)
+    by_class, fig = _class_facets(table, result)
     parts = {"fuel": "cost_fuel_per_km", "upkeep": "cost_upkeep_per_km",
              "capital": "cost_capital_per_km"}
     shown: set[str] = set()
@@ -381,7 +388,7 @@ def _co2_per_km(result: StudyResult) -> _Fig:
     if table.empty:
         return _no_data(title, "per_km")
     st = _style(result)
-    by_class, fig = _class_facets(table)
+    by_class, fig = _class_facets(table, result)
     kinds = {"tank-to-wheel CO2": ("co2_ttw_g_per_km", ""),
              "well-to-wheel CO2e": ("co2e_wtw_g_per_km", "/")}
     shown: set[str] = set()
@@ -429,7 +436,7 @@ def _nox_monthly(result: StudyResult) -> _Fig:
     st = _style(result)
     classes = list(dict.fromkeys(table["vehicle_class"]))
     fig = _Fig(rows=len(classes), cols=1, shared_xaxes=True,
-               subplot_titles=_facet_titles(classes), vertical_spacing=0.08)
+               subplot_titles=_facet_titles(classes, result), vertical_spacing=0.08)
     shown: set[str] = set()
     for r, vclass in enumerate(classes, start=1):
         rows = table[table["vehicle_class"] == vclass]
@@ -487,12 +494,15 @@ def _energy_density(result: StudyResult) -> _Fig:
         return _no_data(title, "storage")
     st = _style(result)
     fig = _Fig()
+    drawn: set[str] = set()
     for cand in st.order(table):
-        # one line per fuel the candidate uses (the tank system depends on the class only
-        # through its range, so the first class using the fuel stands for it)
-        rows = table[table["candidate"] == cand].drop_duplicates("fuel")
-        for i, row in enumerate(rows.to_dict("records")):
-            fig.add_trace(_density_trace(st, cand, row, first=i == 0))
+        # one line per fuel, drawn by the first option that burns it (the baseline first, then
+        # the candidate that brings it in), named by the fuel; the tank system depends on the
+        # class only through its range, so the first class using the fuel stands for it
+        rows = table[(table["candidate"] == cand) & ~table["fuel"].isin(drawn)]
+        for row in rows.drop_duplicates("fuel").to_dict("records"):
+            drawn.add(row["fuel"])
+            fig.add_trace(_density_trace(st, cand, row, result.names.fuel(row["fuel"])))
     fig.add_trace(_legend_key("fuel alone", symbol="circle"))
     fig.add_trace(_legend_key("tank system", symbol="diamond-open"))
     fig.update_xaxes(title=dict(text="energy per mass, LHV [MJ/kg]"), rangemode="tozero")
@@ -517,18 +527,18 @@ def energy_density_chart(result: StudyResult) -> go.Figure:
     return _energy_density(result).figure()
 
 
-def _density_trace(st: _Style, cand: str, row: Mapping[str, Any], *,
-                   first: bool) -> dict[str, Any]:
-    fuel = escape(row["fuel"])
+def _density_trace(st: _Style, cand: str, row: Mapping[str, Any], fuel_name: str
+                   ) -> dict[str, Any]:
+    fuel = escape(fuel_name)
     return _scatter(
             x=[row["energy_density_mj_per_kg"], row["system_energy_density_mj_per_kg"]],
             y=[row["energy_density_mj_per_l"], row["system_energy_density_mj_per_l"]],
-            mode="lines+markers", name=st.name(cand), legendgroup=_group(cand),
-            showlegend=first,
+            mode="lines+markers", name=fuel, legendgroup=_group(cand),
             line=dict(color=st.colour(cand), dash="dot", width=1.5),
             marker=dict(symbol=["circle", "diamond-open"], size=13, color=st.colour(cand),
                         line=dict(width=2, color=st.colour(cand))),
-            customdata=[f"{fuel}, fuel alone", f"{fuel}, tank system"],
+            customdata=[f"{fuel}, fuel alone ({st.name(cand)})",
+                        f"{fuel}, tank system ({st.name(cand)})"],
             hovertemplate="%{customdata}<br>%{x:.2f} MJ/kg, %{y:.2f} MJ/L",
         )
 
@@ -655,19 +665,23 @@ def _monte_carlo(result: StudyResult) -> _Fig:
     cands = st.order(table)
     fig = _Fig(rows=len(cands), cols=1, shared_xaxes=True,
                subplot_titles=tuple(st.name(c) for c in cands), vertical_spacing=0.1)
-    lines = {"P10": ("npv_p10", "dot", "left"), "P50": ("npv_p50", "solid", "right"),
-             "P90": ("npv_p90", "dash", "right")}
+    # labels at three heights, so that close percentiles never print over each other
+    lines = {"P10": ("npv_p10", "dot", "left", 1.0), "P50": ("npv_p50", "solid", "right", 0.86),
+             "P90": ("npv_p90", "dash", "right", 0.72)}
     for r, cand in enumerate(cands, start=1):
         d = table[table["candidate"] == cand]
         fig.add_trace(dict(
             type="histogram", x=_values(d["npv_vs_baseline"]), histnorm="percent", nbinsx=40,
             name=st.name(cand), legendgroup=_group(cand), marker=dict(color=st.colour(cand)),
             hovertemplate=f"NPV %{{x}} {st.currency}: %{{y:.1f}} % of draws"), row=r, col=1)
-        for label, (column, dash, side) in lines.items():
+        for label, (column, dash, side, height) in lines.items():
             value = cands_table.loc[cand, column] if cand in cands_table.index else np.nan
             if np.isfinite(value):
                 fig.add_vline(x=value, line=dict(color="black", width=1.5, dash=dash),
-                              label=f"{label} {value:,.0f}", side=side, row=r, col=1)
+                              label=f"{label} {value:,.0f}", side=side, row=r, col=1,
+                              height=height)
+        fig.add_vline(x=0.0, line=dict(color=BREAK_EVEN, width=2), row=r, col=1,
+                      label="break-even (NPV 0)", side="left", height=0.58)
         fig.update_yaxes(title=dict(text="share of draws [%]"), row=r, col=1)
     fig.update_xaxes(title=dict(text=f"NPV vs baseline [{st.currency}]"), tickformat=",.0f",
                      row=len(cands), col=1)
@@ -687,7 +701,8 @@ def monte_carlo_chart(result: StudyResult) -> go.Figure:
     Returns
     -------
     plotly.graph_objects.Figure
-        A histogram per candidate (share of draws [%]); P10 dotted, P50 solid, P90 dashed.
+        A histogram per candidate (share of draws [%]); P10 dotted, P50 solid, P90 dashed,
+        labelled at different heights; the break-even line at NPV 0 in red.
     """
     return _monte_carlo(result).figure()
 
