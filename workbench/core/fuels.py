@@ -14,7 +14,6 @@ usable everywhere a library fuel is.
 
 from __future__ import annotations
 
-import tomllib
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -23,6 +22,8 @@ from typing import Any, Literal
 from workbench.core import thermo
 from workbench.core.cache import memoize
 from workbench.core.errors import InputError
+from workbench.core.textfiles import check_file_name, read_toml
+from workbench.core.units import read_number
 
 #: Folder of the shipped fuel library.
 LIBRARY = Path(__file__).resolve().parents[2] / "fuels"
@@ -37,6 +38,19 @@ StorageKind = Literal["liquid", "liquefied", "compressed", "cryogenic"]
 Basis = Literal["mole", "mass", "liquid_volume"]
 STORAGE_KINDS: tuple[str, ...] = ("liquid", "liquefied", "compressed", "cryogenic")
 BASES: tuple[str, ...] = ("mole", "mass", "liquid_volume")
+# Ends of the physical ranges a fuel file's numbers must lie in (well beyond any real fuel).
+#: Liquid density [kg/m3] (water 1000; no hydrocarbon fuel is above 1000).
+MAX_LIQUID_DENSITY = 2000.0
+#: Storage pressure [bar] (compressed hydrogen is stored at 700 bar).
+MAX_STORAGE_BAR = 1000.0
+#: Storage temperature [°C].
+MAX_STORAGE_C = 200.0
+#: Lower heating value [MJ/kg] (hydrogen, the highest of any fuel, is 120).
+MAX_LHV_MJ_PER_KG = 150.0
+#: Molar mass of a pseudo-component [kg/kmol] (heavy fuel oil is a few hundred).
+MAX_MOLAR_MASS = 1000.0
+#: Specific heat of a pseudo-component [kJ/(kg K)] (hydrogen gas, the highest, is 14.3).
+MAX_CP_KJ_PER_KG_K = 50.0
 
 
 @dataclass(frozen=True)
@@ -174,9 +188,14 @@ def load_fuel(ref: str | Path | Fuel) -> Fuel:
     """
     if isinstance(ref, Fuel):
         return ref
-    text = str(ref)
+    text = check_file_name(str(ref) if isinstance(ref, Path) else ref, "fuel",
+                           what="a library fuel id or a fuel .toml file")
     if text.endswith(".toml") or "/" in text or "\\" in text:
-        return _load_path(str(Path(text).resolve()))
+        try:
+            path = Path(text).resolve()
+        except (OSError, RuntimeError) as exc:  # RuntimeError: a symlink loop (Python < 3.13)
+            raise InputError(text, f"cannot follow this path ({exc}); check it") from None
+        return _load_path(str(path))
     path = LIBRARY / f"{text}.toml"
     if not path.is_file():
         known = ", ".join(list_fuels())
@@ -189,11 +208,7 @@ def _load_path(path: str) -> Fuel:
     p = Path(path)
     if not p.is_file():
         raise InputError(path, "no such fuel file; check the path")
-    try:
-        data = tomllib.loads(p.read_text(encoding="utf-8"))
-    except (tomllib.TOMLDecodeError, UnicodeDecodeError) as exc:
-        raise InputError(path, f"not valid TOML ({exc}); fix the syntax") from None
-    return fuel_from_dict(data, fuel_id=p.stem, where=path)
+    return fuel_from_dict(read_toml(p), fuel_id=p.stem, where=path)
 
 
 def fuel_from_dict(data: Mapping[str, Any], *, fuel_id: str, where: str) -> Fuel:
@@ -227,7 +242,8 @@ def fuel_from_dict(data: Mapping[str, Any], *, fuel_id: str, where: str) -> Fuel
     liquid = None
     if "liquid" in data:
         ltable = _table(data, "liquid", where)
-        liquid = _positive(ltable, "density_kg_per_m3", f"{where}: [liquid]")
+        liquid = _positive(ltable, "density_kg_per_m3", f"{where}: [liquid]",
+                           MAX_LIQUID_DENSITY)
         sources.append(("liquid", _source(ltable, f"{where}: [liquid]")))
     storage = None
     if "storage" in data:
@@ -304,17 +320,16 @@ def _source(table: Mapping[str, Any], where: str) -> str:
     return src
 
 
-def _number(table: Mapping[str, Any], key: str, where: str) -> float:
+def _number(table: Mapping[str, Any], key: str, where: str, *, low: float | None = None,
+            high: float | None = None) -> float:
     if key not in table:
         raise InputError(f"{where}.{key}", "is required")
-    value = table[key]
-    if isinstance(value, bool) or not isinstance(value, int | float):
-        raise InputError(f"{where}.{key}", f"must be a number, got {value!r}")
-    return float(value)
+    return read_number(table[key], f"{where}.{key}", low=low, high=high)
 
 
-def _positive(table: Mapping[str, Any], key: str, where: str) -> float:
-    value = _number(table, key, where)
+def _positive(table: Mapping[str, Any], key: str, where: str, high: float) -> float:
+    """A number above zero and at most ``high``, the end of its physical range."""
+    value = _number(table, key, where, high=high)
     if not value > 0:
         raise InputError(f"{where}.{key}", f"must be above zero, got {value:g}")
     return value
@@ -382,10 +397,10 @@ def _storage(table: Mapping[str, Any], where: str, state: str) -> StorageSpec:
         raise InputError(f"{where}.kind", '"liquid" is for liquid fuels')
     pressure = None
     if kind == "compressed":
-        pressure = _positive(table, "pressure_bar", where) * 1e5
+        pressure = _positive(table, "pressure_bar", where, MAX_STORAGE_BAR) * 1e5
     temperature = 288.15
     if "temperature_c" in table:
-        temperature = _number(table, "temperature_c", where) + 273.15
+        temperature = _number(table, "temperature_c", where, high=MAX_STORAGE_C) + 273.15
         if temperature <= 0:
             raise InputError(f"{where}.temperature_c", "must be above -273.15")
     return StorageSpec(kind=kind, pressure=pressure, temperature=temperature,
@@ -404,11 +419,11 @@ def _pseudo_species(table: Mapping[str, Any], fuel_id: str, where: str) -> therm
     if "lhv_mj_per_kg" not in table:
         raise InputError(f"{where}.lhv_mj_per_kg", "is required for a pseudo-component "
                          "(its measured lower heating value)")
-    lhv = _positive(table, "lhv_mj_per_kg", where) * 1e6
-    mw = _positive(table, "molar_mass_kg_per_kmol", where)
+    lhv = _positive(table, "lhv_mj_per_kg", where, MAX_LHV_MJ_PER_KG) * 1e6
+    mw = _positive(table, "molar_mass_kg_per_kmol", where, MAX_MOLAR_MASS)
     cp_mass = DEFAULT_PSEUDO_CP_MASS
     if "cp_kj_per_kg_k" in table:
-        cp_mass = _positive(table, "cp_kj_per_kg_k", where) * 1e3
+        cp_mass = _positive(table, "cp_kj_per_kg_k", where, MAX_CP_KJ_PER_KG_K) * 1e3
     total = sum(mass_fractions.values())
     atoms = {el: y / total * mw / thermo.atomic_weight(el) for el, y in mass_fractions.items()
              if y > 0}

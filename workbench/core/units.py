@@ -53,13 +53,13 @@ import math
 import re
 from collections.abc import Mapping
 from dataclasses import dataclass, field
-from functools import lru_cache
 from typing import Literal
 
 import numpy as np
 import pint
 from numpy.typing import ArrayLike, NDArray
 
+from workbench.core.cache import memoize
 from workbench.core.errors import InputError
 
 __all__ = [
@@ -190,7 +190,7 @@ def _number(text: str, where: str, whole: str) -> float:
     return value
 
 
-@lru_cache(maxsize=512)
+@memoize(maxsize=1024)
 def _named_unit(name: str) -> pint.Unit | None:
     """The registry's unit called ``name`` (one identifier; never an expression), or None."""
     m = _POWER_NAME.fullmatch(name)
@@ -454,11 +454,22 @@ def parse_quantity(
         raise InputError(where, f"expected a number with a unit, got {_show(repr(text))}")
     if not isinstance(text, str):
         read_number(text, where)
+    try:
+        return _quantity_value(str(text), expected_dimension, unit, currency)
+    except InputError as exc:
+        raise InputError(where, exc.message) from None
+
+
+@memoize(maxsize=4096)
+def _quantity_value(text: str, expected_dimension: str, unit: str | None,
+                    currency: str | None) -> float:
+    """:func:`parse_quantity` without ``where`` (errors name ``input``), cached by its text."""
+    where = "input"
     if "[" in expected_dimension:
         want = ureg.get_dimensionality(expected_dimension)
     else:
         want = parse_unit(expected_dimension, where=where).dimensionality
-    body = str(text)
+    body = text
     if want.get("[currency]", 0) != 0:
         body, _ = _split_code(body, currency, where)
     q = _quantity(body, where)
@@ -467,14 +478,14 @@ def parse_quantity(
             q = q * ureg.currency_unit
         if q.dimensionality != want:
             if q.dimensionless:
-                raise InputError(where, f"{_show(str(text))} needs a unit of {want}")
-            raise InputError(where, f"{_show(str(text))} is {q.dimensionality}, expected {want}")
+                raise InputError(where, f"{_show(text)} needs a unit of {want}")
+            raise InputError(where, f"{_show(text)} is {q.dimensionality}, expected {want}")
         out = q.to(unit) if unit is not None else q.to_base_units()
     except pint.errors.PintError as exc:
-        raise InputError(where, f"cannot use the unit in {_show(str(text))} ({exc})") from None
+        raise InputError(where, f"cannot use the unit in {_show(text)} ({exc})") from None
     value = float(out.magnitude)
     if not math.isfinite(value):
-        raise InputError(where, f"{_show(str(text))} is not a finite number")
+        raise InputError(where, f"{_show(text)} is not a finite number")
     return value
 
 

@@ -21,7 +21,6 @@ import copy
 import hashlib
 import math
 import re
-import tomllib
 from collections.abc import Callable, Iterable, Mapping
 from dataclasses import dataclass, field, replace
 from pathlib import Path
@@ -31,12 +30,14 @@ import tomli_w
 
 from workbench.core.errors import InputError
 from workbench.core.fuels import BASES, Fuel, blend, load_fuel
+from workbench.core.textfiles import check_file_name, read_toml
 from workbench.core.units import (
     HEATING_VALUE_MARK,
     Price,
     parse_price,
     parse_quantity,
     price_per_energy,
+    read_number,
 )
 from workbench.io.files import write_text_atomic
 from workbench.models.aftertreatment import DEVICE_PRESETS, Aftertreatment
@@ -51,6 +52,17 @@ DEMO_STUDY = DATA / "studies" / "kestrel-bay.toml"
 
 _DIST_PARAMS = ("value", "low", "mode", "high", "mean", "sd")
 PERCENT = ("%", 100.0)
+#: Calendar years a programme may start in.
+START_YEARS = (1900, 2200)
+#: Longest horizon and remaining life [years]; a fleet programme runs a few decades at most.
+MAX_YEARS = 100
+#: Most vehicles in one class.
+MAX_COUNT = 10_000_000
+#: Most Monte Carlo draws; each draw keeps every option's yearly cash flows in memory.
+MAX_DRAWS = 1_000_000
+#: Real discount rate per year [-]: from -10 % (rates below zero have happened) to 100 %;
+#: near -100 % the discount factor (1 + r)^-t explodes.
+DISCOUNT_RATE_RANGE = (-0.10, 1.0)
 
 
 @dataclass(frozen=True)
@@ -302,13 +314,11 @@ def read_study(path: str | Path) -> Study:
     -------
     Study
     """
-    p = DEMO_STUDY if str(path) == "demo" else Path(path)
+    p = DEMO_STUDY if str(path) == "demo" else Path(check_file_name(
+        str(path) if isinstance(path, Path) else path, "study", what="a study .toml file"))
     if not p.is_file():
         raise InputError(str(path), "no such study file; check the path")
-    try:
-        data = tomllib.loads(p.read_text(encoding="utf-8"))
-    except (tomllib.TOMLDecodeError, UnicodeDecodeError) as exc:
-        raise InputError(str(p), f"not valid TOML ({exc}); fix the syntax") from None
+    data = read_toml(p)
     try:
         return Study(data, where=str(p), base_dir=p.resolve().parent)
     except InputError as exc:
@@ -357,18 +367,19 @@ class _Reader:
             raise InputError(self.at(key), "is required")
         return default
 
-    def text(self, key: str, default: Any = ...) -> str:
+    def text(self, key: str, default: Any = ..., *, empty: bool = False) -> str:
         value = self.raw(key, default)
-        if not isinstance(value, str) or not value.strip():
-            raise InputError(self.at(key), f"must be a non-empty text, got {value!r}")
+        if not isinstance(value, str) or not (empty or value.strip()):
+            raise InputError(self.at(key), f"must be a non-empty text, got {_short(value)}")
         return value
 
-    def integer(self, key: str, default: Any = ..., *, low: int = 0) -> int:
+    def integer(self, key: str, default: Any = ..., *, low: int = 0, high: int) -> int:
         value = self.raw(key, default)
         if isinstance(value, bool) or not isinstance(value, int):
-            raise InputError(self.at(key), f"must be a whole number, got {value!r}")
-        if value < low:
-            raise InputError(self.at(key), f"must be {low} or more, got {value}")
+            raise InputError(self.at(key), f"must be a whole number, got {_short(value)}")
+        if not low <= value <= high:
+            raise InputError(self.at(key), f"must be from {low:,} to {high:,}, got "
+                             f"{_short(value)}")
         return value
 
     def flag(self, key: str, default: bool) -> bool:
@@ -447,13 +458,19 @@ def _uncertain(raw: Any, parse: Callable[[Any, str], float], where: str,
     return Uncertain(float(nominal), dist, where, *unit)
 
 
+def _short(value: Any) -> str:
+    """``repr(value)`` cut to 60 characters, for an error line."""
+    text = repr(value)
+    return text if len(text) <= 60 else text[:57] + "..."
+
+
 def _money(raw: Any, where: str) -> float:
     return parse_quantity(raw, "[currency]", where=where)
 
 
 def _money_per_year(raw: Any, where: str) -> float:
     if isinstance(raw, int | float) and not isinstance(raw, bool):
-        return float(raw)  # a bare number is per year
+        return read_number(raw, where)  # a bare number is per year
     return parse_quantity(raw, "[currency] / [time]", where=where, unit="currency_unit / year")
 
 
@@ -463,7 +480,7 @@ def _fraction(raw: Any, where: str) -> float:
 
 def _days(raw: Any, where: str) -> float:
     if isinstance(raw, int | float) and not isinstance(raw, bool):
-        return float(raw)
+        return read_number(raw, where)
     return parse_quantity(raw, "[time]", where=where, unit="day")
 
 
@@ -474,15 +491,14 @@ def _km_per_year(raw: Any, where: str) -> float:
 def _per_mass(unit_mass: str) -> Callable[[Any, str], float]:
     def parse(raw: Any, where: str) -> float:
         if isinstance(raw, int | float) and not isinstance(raw, bool):
-            return float(raw) / parse_quantity(f"1 {unit_mass}", "[mass]", where=where)
+            return read_number(raw, where) / parse_quantity(f"1 {unit_mass}", "[mass]",
+                                                            where=where)
         return parse_quantity(raw, "[currency] / [mass]", where=where)
     return parse
 
 
 def _g_per_mj(raw: Any, where: str) -> float:
-    if isinstance(raw, bool) or not isinstance(raw, int | float):
-        raise InputError(where, f"must be a number of g CO2e per MJ, got {raw!r}")
-    return float(raw) * 1e-9  # [kg/J]
+    return read_number(raw, where, what="a number of g CO2e per MJ") * 1e-9  # [kg/J]
 
 
 def _parse(data: Mapping[str, Any], base_dir: Path) -> StudyInputs:
@@ -496,7 +512,7 @@ def _parse(data: Mapping[str, Any], base_dir: Path) -> StudyInputs:
     if not re.fullmatch(r"[A-Z]{3}", currency):
         raise InputError("currency", f"must be a three-letter code such as EUR, got {currency!r}")
     prog = _Reader(top.raw("programme"), "programme")
-    horizon = prog.integer("horizon_years", low=1)
+    horizon = prog.integer("horizon_years", low=1, high=MAX_YEARS)
     classes_raw = top.raw("classes")
     if not isinstance(classes_raw, list) or not classes_raw:
         raise InputError("classes", "needs at least one [[classes]] table")
@@ -533,17 +549,17 @@ def _parse(data: Mapping[str, Any], base_dir: Path) -> StudyInputs:
         title=top.text("title"),
         currency=currency,
         fictional=top.flag("fictional", False),
-        notes=str(top.raw("notes", "")),
-        start_year=prog.integer("start_year", 2027, low=1900),
+        notes=top.text("notes", "", empty=True),
+        start_year=prog.integer("start_year", 2027, low=START_YEARS[0], high=START_YEARS[1]),
         horizon_years=horizon,
-        discount_rate=prog.uncertain("discount_rate", _fraction, low=-0.99, high=1.0,
-                                     unit=PERCENT),
+        discount_rate=prog.uncertain("discount_rate", _fraction, low=DISCOUNT_RATE_RANGE[0],
+                                     high=DISCOUNT_RATE_RANGE[1], unit=PERCENT),
         carbon_price=prog.uncertain("carbon_price", _per_mass("t"), 0.0, low=0.0,
                                     unit=(f"{currency}/t", 1e3)),
         nox_damage_cost=prog.uncertain("nox_damage_cost", _per_mass("kg"), 0.0, low=0.0,
                                        unit=(f"{currency}/kg", 1.0)),
-        draws=prog.integer("monte_carlo_draws", 10_000, low=0),
-        seed=prog.integer("seed", 12345, low=0),
+        draws=prog.integer("monte_carlo_draws", 10_000, low=0, high=2**63),
+        seed=prog.integer("seed", 12345, low=0, high=2**63 - 1),
         classes=classes,
         baseline=baseline,
         candidates=candidates,
@@ -554,7 +570,59 @@ def _parse(data: Mapping[str, Any], base_dir: Path) -> StudyInputs:
     )
     uncertain = {u.path: u.dist for u in all_uncertain(inputs) if u.dist is not None
                  and not u.dist.spread_is_zero}
-    return StudyInputs(**{**inputs.__dict__, "uncertain": uncertain})
+    inputs = StudyInputs(**{**inputs.__dict__, "uncertain": uncertain})
+    check_draws(inputs.draws, inputs, "programme.monte_carlo_draws")
+    return inputs
+
+
+def check_draws(draws: int, inputs: StudyInputs, where: str) -> int:
+    """Check a number of Monte Carlo draws against :data:`MAX_DRAWS`.
+
+    Parameters
+    ----------
+    draws : int
+        Draws asked for; 0 turns the Monte Carlo off.
+    inputs : StudyInputs
+        The study (its options, horizon and uncertain inputs set the memory a draw takes).
+    where : str
+        Key path or option named in the error.
+
+    Returns
+    -------
+    int
+        ``draws``.
+
+    Raises
+    ------
+    InputError
+        Not a whole number, below 0, or above :data:`MAX_DRAWS`; the message gives the memory
+        the draws would take: 8 bytes per draw for each uncertain input and for each option's
+        costs, cash flow and CO2e and the fleet's distance in every year.
+    """
+    if isinstance(draws, bool) or not isinstance(draws, int):
+        raise InputError(where, f"must be a whole number of draws, got {_short(draws)}")
+    if draws < 0:
+        raise InputError(where, f"must be 0 or more, got {draws}")
+    if draws > MAX_DRAWS:
+        per_draw = 8 * (len(inputs.uncertain)
+                        + (3 * len(inputs.options) + 1) * (inputs.horizon_years + 1))
+        raise InputError(where, f"{_count(draws)} draws would need ~{_size(draws * per_draw)} of "
+                         f"memory; at most {MAX_DRAWS:,}")
+    return draws
+
+
+def _count(n: int) -> str:
+    exponent = len(str(n)) - 1
+    return f"10^{exponent}" if n == 10**exponent else f"{n:,}" if exponent < 16 else \
+        f"{n:.2e}"
+
+
+def _size(n_bytes: float) -> str:
+    for unit in ("B", "kB", "MB", "GB", "TB", "PB", "EB"):
+        if n_bytes < 1000 or unit == "EB":
+            return f"{n_bytes:.0f} {unit}"
+        n_bytes /= 1000
+    raise AssertionError("unreachable")
 
 
 def all_uncertain(inputs: StudyInputs) -> list[Uncertain]:
@@ -578,8 +646,7 @@ def all_uncertain(inputs: StudyInputs) -> list[Uncertain]:
 
 
 def _data_file(raw: Any, where: str, folder: str, suffix: str, base_dir: Path) -> Path:
-    if not isinstance(raw, str) or not raw.strip():
-        raise InputError(where, f"must name a shipped {folder[:-1]} or a {suffix} file")
+    check_file_name(raw, where, what=f"a shipped {folder[:-1]} or a {suffix} file")
     shipped = DATA / folder / f"{raw}{suffix}"
     if shipped.is_file():
         return shipped
@@ -616,11 +683,11 @@ def _fleet_class(r: _Reader, base_dir: Path, currency: str) -> FleetClass:
     physics = _physics_input(varied)
     return FleetClass(
         id=cid,
-        name=str(r.raw("name", cid)),
-        count=r.integer("count", low=1),
+        name=r.text("name", cid),
+        count=r.integer("count", low=1, high=MAX_COUNT),
         km_per_year=r.uncertain("km_per_year", _km_per_year, low=1.0, unit=("km", 1e-3)),
         hours_per_day=r.quantity("hours_per_day", "[]", 8, low=0.0, high=24.0),
-        remaining_life_years=r.integer("remaining_life_years", low=1),
+        remaining_life_years=r.integer("remaining_life_years", low=1, high=MAX_YEARS),
         profile=_data_file(r.raw("profile"), r.at("profile"), "profiles", ".csv", base_dir),
         vehicle=_data_file(r.raw("vehicle"), r.at("vehicle"), "vehicles", ".toml", base_dir),
         engine_map=_data_file(r.raw("engine_map"), r.at("engine_map"), "maps", ".csv",
@@ -674,7 +741,7 @@ def _option(r: _Reader, classes: tuple[FleetClass, ...], baseline: Option | None
         per_class[c.id] = _class_option(r, c, class_ids, baseline is None, base_dir, currency)
     return Option(
         id=oid,
-        name=str(r.raw("name", oid)),
+        name=r.text("name", oid),
         is_baseline=baseline is None,
         per_class=per_class,
         programme_capital=r.uncertain("programme_capital", _money, 0.0, low=0.0,
@@ -757,8 +824,9 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], is_baseline: b
 
 
 def _whole(value: Any, where: str) -> int:
-    if isinstance(value, bool) or not isinstance(value, int) or value < 0:
-        raise InputError(where, f"must be a whole number of years, 0 for none; got {value!r}")
+    if isinstance(value, bool) or not isinstance(value, int) or not 0 <= value <= MAX_YEARS:
+        raise InputError(where, f"must be a whole number of years from 0 (none) to {MAX_YEARS}; "
+                         f"got {_short(value)}")
     return value
 
 

@@ -1,0 +1,115 @@
+"""Reading the TOML files users write, and checking the file names they type.
+
+Every TOML reader of the package (fuel files, study files, vehicle files, side files) goes
+through :func:`read_toml`: the file is read as UTF-8 with or without a byte-order mark (a
+Notepad save writes one), and anything that goes wrong — a missing file, a folder, bytes that
+are not UTF-8, broken TOML, a file far too large or nested far too deep — is one
+:class:`~workbench.core.errors.InputError` naming the file. :func:`check_file_name` refuses
+file names no operating system accepts (a null byte, a name longer than the system allows)
+before they reach it.
+"""
+
+from __future__ import annotations
+
+import tomllib
+from pathlib import Path
+from typing import Any
+
+from workbench.core.errors import InputError
+
+#: Largest TOML file read [bytes]; study, fuel and vehicle files are a few kB.
+MAX_TOML_BYTES = 10_000_000
+#: Longest file name typed in a study or on the command line [characters] (Linux PATH_MAX).
+MAX_PATH_LENGTH = 4096
+#: Longest single folder or file name in it [bytes] (NAME_MAX of common file systems).
+MAX_NAME_BYTES = 255
+
+
+def _label(text: str) -> str:
+    return text if len(text) <= 80 else text[:77] + "..."
+
+
+def check_file_name(raw: object, where: str, *, what: str = "a file") -> str:
+    """Check a file name a user typed, before it is handed to the operating system.
+
+    Parameters
+    ----------
+    raw : object
+        The value as read (a study-file value, a command-line argument).
+    where : str
+        Key path or option named in the error.
+    what : str
+        What the file is, for the error ("a profile .csv file").
+
+    Returns
+    -------
+    str
+        The name, unchanged.
+
+    Raises
+    ------
+    InputError
+        Not a non-empty text, a null byte, or a name longer than the system allows.
+    """
+    if not isinstance(raw, str) or not raw.strip():
+        raise InputError(where, f"must name {what}, got {_label(repr(raw))}")
+    if "\x00" in raw:
+        raise InputError(where, f"{_label(repr(raw))} holds a null byte; name {what}")
+    if len(raw) > MAX_PATH_LENGTH:
+        raise InputError(where, f"the file name is {len(raw)} characters long; at most "
+                         f"{MAX_PATH_LENGTH}")
+    for part in raw.replace("\\", "/").split("/"):
+        if len(part.encode("utf-8", "surrogateescape")) > MAX_NAME_BYTES:
+            raise InputError(where, f"{_label(part)!r} is longer than {MAX_NAME_BYTES} bytes, "
+                             "more than a file system allows in one name")
+    return raw
+
+
+def read_toml(path: str | Path, *, name: str | None = None) -> dict[str, Any]:
+    """Read a TOML file a user wrote.
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        The file.
+    name : str, optional
+        What errors call the file; its path by default.
+
+    Returns
+    -------
+    dict
+        The parsed tables.
+
+    Raises
+    ------
+    InputError
+        Missing or unreadable file, a folder, more than :data:`MAX_TOML_BYTES`, bytes that are
+        not UTF-8 (the line is named), TOML syntax errors, or nesting too deep to parse.
+    """
+    label = _label(str(path) if name is None else name)
+    p = Path(path)
+    try:
+        size = p.stat().st_size
+        if size > MAX_TOML_BYTES:
+            raise InputError(label, f"is {size / 1e6:.0f} MB; a TOML input file is at most "
+                             f"{MAX_TOML_BYTES / 1e6:.0f} MB")
+        data = p.read_bytes()
+    except FileNotFoundError:
+        raise InputError(label, "no such file; check the path") from None
+    except IsADirectoryError:
+        raise InputError(label, "is a folder; name a .toml file") from None
+    except (OSError, ValueError) as exc:
+        reason = exc.strerror if isinstance(exc, OSError) and exc.strerror else str(exc)
+        raise InputError(label, f"cannot read the file ({reason})") from None
+    try:
+        text = data.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        line = data[: exc.start].count(b"\n") + 1
+        raise InputError(f"{label} line {line}", "is not UTF-8 text; save the file as UTF-8")\
+            from None
+    try:
+        return tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(label, f"not valid TOML ({exc}); fix the syntax") from None
+    except RecursionError:
+        raise InputError(label, "is nested too deeply to be a workbench file") from None
