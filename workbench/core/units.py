@@ -194,11 +194,15 @@ def _number(text: str, where: str, whole: str) -> float:
 def _named_unit(name: str) -> pint.Unit | None:
     """The registry's unit called ``name`` (one identifier; never an expression), or None."""
     m = _POWER_NAME.fullmatch(name)
-    if m is not None and name not in ureg:
+    if m is not None and not ureg.parse_unit_name(name):
         return ureg.Unit(m.group(1)) ** int(m.group(2))
-    if name not in ureg:
+    if name == "dimensionless":
+        return ureg.dimensionless
+    found = ureg.parse_unit_name(name)  # (prefix, unit, suffix) readings; nothing is evaluated
+    if not found:
         return None
-    return ureg.Unit(name)
+    prefix, unit, _suffix = found[0]
+    return ureg.Unit(prefix + unit)
 
 
 class _UnitText:

@@ -42,7 +42,7 @@ from workbench.core.units import (
 from workbench.io.files import write_text_atomic
 from workbench.models.aftertreatment import DEVICE_PRESETS, Aftertreatment
 from workbench.models.combustion import fuel_sheet
-from workbench.models.economics import Distribution
+from workbench.models.economics import DISTRIBUTION_PARAMETERS, Distribution
 from workbench.models.nox import ENGINE_PRESETS, EngineOutNOx
 
 #: Folder of shipped demo inputs (profiles, vehicles, maps, studies).
@@ -357,6 +357,13 @@ class _Reader:
     def at(self, key: str) -> str:
         return f"{self.path}.{key}" if self.path else key
 
+    def only(self, known: Iterable[str], what: str) -> None:
+        """Refuse keys not in ``known`` (a misspelt key would otherwise be ignored)."""
+        names = sorted(known)
+        for key in self.table:
+            if key not in names:
+                raise InputError(self.at(str(key)), f"unknown key; {what} has {', '.join(names)}")
+
     def has(self, key: str) -> bool:
         return key in self.table
 
@@ -441,6 +448,7 @@ def _uncertain(raw: Any, parse: Callable[[Any, str], float], where: str,
     if "kind" not in raw:
         raise InputError(f"{where}.kind", "a distribution needs a kind: uniform, triangular, "
                          "normal, lognormal or fixed")
+    _choice(raw["kind"], f"{where}.kind", DISTRIBUTION_PARAMETERS, "distribution kind")
     params = {}
     for k, v in raw.items():
         if k == "kind":
@@ -503,15 +511,14 @@ def _g_per_mj(raw: Any, where: str) -> float:
 
 def _parse(data: Mapping[str, Any], base_dir: Path) -> StudyInputs:
     top = _Reader(data, "")
-    known = {"title", "currency", "fictional", "notes", "programme", "classes", "baseline",
-             "candidates", "prices", "escalation", "upstream"}
-    for key in data:
-        if key not in known:
-            raise InputError(key, f"unknown key; a study has {', '.join(sorted(known))}")
+    top.only(("title", "currency", "fictional", "notes", "programme", "classes", "baseline",
+              "candidates", "prices", "escalation", "upstream"), "a study")
     currency = top.text("currency")
     if not re.fullmatch(r"[A-Z]{3}", currency):
         raise InputError("currency", f"must be a three-letter code such as EUR, got {currency!r}")
     prog = _Reader(top.raw("programme"), "programme")
+    prog.only(("start_year", "horizon_years", "discount_rate", "carbon_price", "nox_damage_cost",
+               "monte_carlo_draws", "seed"), "[programme]")
     horizon = prog.integer("horizon_years", low=1, high=MAX_YEARS)
     classes_raw = top.raw("classes")
     if not isinstance(classes_raw, list) or not classes_raw:
@@ -676,6 +683,9 @@ def _physics_input(varied: list[tuple[str, Uncertain]]) -> Callable[..., float]:
 
 
 def _fleet_class(r: _Reader, base_dir: Path, currency: str) -> FleetClass:
+    r.only(("id", "name", "count", "km_per_year", "hours_per_day", "remaining_life_years",
+            "profile", "vehicle", "engine_map", "range", "upkeep_per_year", "daily_revenue",
+            "accessory_power", "engine_off_at_stops", "extra_idle_share"), "a class")
     cid = r.text("id")
     if not re.fullmatch(r"[A-Za-z0-9_-]+", cid):
         raise InputError(r.at("id"), "use letters, digits, - and _ only")
@@ -717,19 +727,17 @@ def _option(r: _Reader, classes: tuple[FleetClass, ...], baseline: Option | None
     oid = r.text("id")
     if not re.fullmatch(r"[A-Za-z0-9_-]+", oid):
         raise InputError(r.at("id"), "use letters, digits, - and _ only")
-    known = {"id", "name", "fuel", "classes", "engine", "engine_map", "derate",
-             "efficiency_offset", "conversion_cost", "upkeep_change_per_year", "downtime_days",
-             "tank_inspection_interval_years", "tank_inspection_cost", "n2o",
-             "engine_out_nox", "lambda_overall", "methane_slip", "aftertreatment",
-             "programme_capital", "programme_upkeep_per_year"}
-    for key in r.table:
-        if key not in known:
-            raise InputError(r.at(key), f"unknown key; an option has {', '.join(sorted(known))}")
+    r.only(("id", "name", "fuel", "classes", "engine", "engine_map", "derate",
+            "efficiency_offset", "conversion_cost", "upkeep_change_per_year", "downtime_days",
+            "tank_inspection_interval_years", "tank_inspection_cost", "n2o",
+            "engine_out_nox", "lambda_overall", "methane_slip", "aftertreatment",
+            "programme_capital", "programme_upkeep_per_year"), "an option")
     class_ids = {c.id for c in classes}
     converts = class_ids
     if baseline is not None and r.has("classes"):
         raw = r.raw("classes")
-        if not isinstance(raw, list) or not raw or not set(raw) <= class_ids:
+        if not isinstance(raw, list) or not raw or not all(
+                isinstance(x, str) and x in class_ids for x in raw):
             raise InputError(r.at("classes"), f"must list class ids from {sorted(class_ids)}")
         converts = set(raw)
     per_class = {}
@@ -777,10 +785,8 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], is_baseline: b
         return u.nominal
 
     fuel = _fuel(_per_class(r, "fuel", c.id, class_ids, ...), at("fuel"))
-    engine = _per_class(r, "engine", c.id, class_ids, _default_engine(fuel))
-    if engine not in ENGINE_PRESETS:
-        raise InputError(at("engine"), f"unknown engine setting {engine!r}; use one of "
-                         f"{', '.join(sorted(ENGINE_PRESETS))}")
+    engine = _choice(_per_class(r, "engine", c.id, class_ids, _default_engine(fuel)),
+                     at("engine"), ENGINE_PRESETS, "engine setting")
     map_raw = _per_class(r, "engine_map", c.id, class_ids, None)
     engine_map = c.engine_map if map_raw is None else _data_file(
         map_raw, at("engine_map"), "maps", ".csv", base_dir)
@@ -821,6 +827,14 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], is_baseline: b
                                        varied, currency),
         varied=tuple(varied),
     )
+
+
+def _choice(value: Any, where: str, choices: Iterable[str], what: str) -> str:
+    """One of ``choices`` (a text; a list or a table where a name is due is refused)."""
+    names = sorted(choices)
+    if not isinstance(value, str) or value not in names:
+        raise InputError(where, f"unknown {what} {_short(value)}; use one of {', '.join(names)}")
+    return value
 
 
 def _whole(value: Any, where: str) -> int:
@@ -890,14 +904,8 @@ def _aftertreatment(raw: Any, where: str, varied: list[tuple[str, Uncertain]],
                     currency: str) -> Aftertreatment:
     """The device at its nominal values; inputs with a distribution are added to ``varied``."""
     r = _Reader(raw, where)
-    for key in r.table:
-        if key not in _AFTERTREATMENT_KEYS:
-            raise InputError(r.at(key), "unknown key; aftertreatment takes "
-                             f"{', '.join(sorted(_AFTERTREATMENT_KEYS))}")
-    preset = r.raw("preset", "none")
-    if preset not in DEVICE_PRESETS:
-        raise InputError(r.at("preset"), f"unknown device {preset!r}; use one of "
-                         f"{', '.join(sorted(DEVICE_PRESETS))}")
+    r.only(_AFTERTREATMENT_KEYS, "aftertreatment")
+    preset = _choice(r.raw("preset", "none"), r.at("preset"), DEVICE_PRESETS, "device")
     device = DEVICE_PRESETS[preset]
     changes: dict[str, Any] = {}
     age_bases: set[str] = set()
@@ -933,7 +941,8 @@ def _aftertreatment(raw: Any, where: str, varied: list[tuple[str, Uncertain]],
     if age_bases:
         changes["age_basis"] = age_bases.pop()
     if r.has("policy"):
-        changes["policy"] = r.raw("policy")
+        changes["policy"] = _choice(r.raw("policy"), r.at("policy"), ("interval", "threshold"),
+                                    "policy")
     try:
         return Aftertreatment(**{**device.__dict__, **changes})
     except InputError as exc:
@@ -1027,6 +1036,7 @@ def _upstream(r: _Reader, fuels: Mapping[str, Fuel]) -> tuple[dict[str, Uncertai
             raise InputError(r.at(fid), "is required: well-to-tank CO2e of this fuel, "
                              '{ wtt_co2e_g_per_mj = 15.0, source = "…" }')
         sub = _Reader(r.table[fid], r.at(fid))
+        sub.only(("wtt_co2e_g_per_mj", "source"), "an upstream entry")
         sources[fid] = sub.text("source")
         out[fid] = sub.uncertain("wtt_co2e_g_per_mj", _g_per_mj, low=0.0, unit=("g/MJ", 1e9))
     return out, sources
