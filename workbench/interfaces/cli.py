@@ -10,6 +10,7 @@ from __future__ import annotations
 import argparse
 import importlib
 import json
+import math
 import sys
 from collections.abc import Sequence
 from typing import Any
@@ -25,6 +26,32 @@ class _Parser(argparse.ArgumentParser):
 
     def error(self, message: str) -> None:  # type: ignore[override]
         self.exit(2, f"{self.prog}: error: {message}\n")
+
+
+def finite_float(text: str) -> float:
+    """Argument type of every numeric option: a finite number (no NaN, no infinity).
+
+    Parameters
+    ----------
+    text : str
+        The option's value as typed.
+
+    Returns
+    -------
+    float
+
+    Raises
+    ------
+    argparse.ArgumentTypeError
+        Not a number, or NaN or infinite; argparse prints it as one usage line (exit 2).
+    """
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"must be a number, got {text[:40]!r}") from None
+    if not math.isfinite(value):
+        raise argparse.ArgumentTypeError(f"must be a finite number, got {text[:40]!r}")
+    return value
 
 
 def build_parser() -> argparse.ArgumentParser:

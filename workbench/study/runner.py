@@ -50,6 +50,7 @@ from workbench.study.studyfile import (
     StudyInputs,
     Uncertain,
     all_uncertain,
+    check_draws,
     price_factor,
 )
 
@@ -569,9 +570,7 @@ def run(study: Study, *, draws: int | None = None,
     plan = _plan(inputs)
     say("money")
     det = _money(plan, {}, 1)
-    n = inputs.draws if draws is None else draws
-    if n < 0:
-        raise InputError("draws", "must be 0 or more")
+    n = inputs.draws if draws is None else check_draws(draws, inputs, "draws")
     base = inputs.baseline.id
     mc: dict[str, np.ndarray] = {}
     paybacks: dict[str, np.ndarray] = {}

@@ -10,6 +10,7 @@ import argparse
 from pathlib import Path
 
 from workbench.core.errors import InputError
+from workbench.interfaces.cli import finite_float
 from workbench.models.duty import DutySettings, DutyTrace, duty_stats, read_profile
 
 DATA = Path(__file__).resolve().parents[2] / "data"
@@ -40,15 +41,15 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--fuel", required=True, action="append", metavar="F",
                    help="fuel id or fuel TOML; repeat for candidates. The first is the engine's "
                         "original fuel; --derate and --efficiency-offset apply to the others")
-    p.add_argument("--derate", type=float, default=0.0, metavar="X",
+    p.add_argument("--derate", type=finite_float, default=0.0, metavar="X",
                    help="share of full-load power lost on the candidate fuels (default 0)")
-    p.add_argument("--efficiency-offset", type=float, default=0.0, metavar="X",
+    p.add_argument("--efficiency-offset", type=finite_float, default=0.0, metavar="X",
                    help="added to the map's brake efficiency on the candidate fuels, e.g. -0.01")
-    p.add_argument("--accessory-kw", type=float, default=0.0, metavar="KW",
+    p.add_argument("--accessory-kw", type=finite_float, default=0.0, metavar="KW",
                    help="accessory power while the engine runs, kW (default 0)")
     p.add_argument("--engine-off-at-stops", action="store_true",
                    help="stop the engine at every stop")
-    p.add_argument("--extra-idle-share", type=float, default=0.0, metavar="X",
+    p.add_argument("--extra-idle-share", type=finite_float, default=0.0, metavar="X",
                    help="share of time idling beyond the trace, e.g. waiting at a rank")
     p.add_argument("--json", action="store_true", help="print JSON")
     p.set_defaults(func=_fuel)
