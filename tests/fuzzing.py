@@ -17,6 +17,7 @@ from pathlib import Path
 from typing import Any
 
 import numpy as np
+from hypothesis import event
 from hypothesis import strategies as st
 
 from workbench.core.errors import InputError
@@ -110,10 +111,13 @@ def check_error(exc: InputError) -> None:
 def only_input_errors(load: Callable[[], Any]) -> Any:
     """Call ``load``; an ``InputError`` is checked and gives None, anything else escapes."""
     try:
-        return load()
+        out = load()
     except InputError as exc:
         check_error(exc)
+        event("refused with one InputError line")
         return None
+    event("accepted")
+    return out
 
 
 def assert_finite(obj: Any, path: str = "result", *, allow_inf: frozenset[str] = frozenset(),

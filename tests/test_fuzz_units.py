@@ -12,7 +12,7 @@ import math
 
 import pytest
 from fuzzing import QUANTITY_TEXT, check_error
-from hypothesis import given
+from hypothesis import event, given
 from hypothesis import strategies as st
 
 from workbench.core.errors import InputError
@@ -40,7 +40,9 @@ def _read(call):
     except InputError as exc:
         check_error(exc)
         assert exc.where == "field.key"
+        event("refused with one InputError line")
         return None
+    event("accepted")
     return value
 
 
