@@ -106,3 +106,19 @@ def test_a_byte_order_mark_is_read_not_refused(run_cli, tmp_path):
     code, out, err = run_cli("study", "check", str(path))
     assert code == 0, err
     assert out.startswith("ok: ")
+
+
+def test_the_draws_cap_says_how_much_memory_it_would_take(run_cli):
+    # 8 bytes per float64 (IEEE 754 binary64) for each uncertain input and each option's
+    # yearly costs, cash flow and CO2e: 10^12 draws of the demo need hundreds of TB.
+    code, _, err = run_cli("study", "run", "demo", "--draws", "1000000000000")
+    assert code == 2
+    assert "--draws: 10^12 draws would need ~" in err and " TB of memory; at most 1,000,000" in err
+
+
+def test_a_discount_rate_of_minus_99_percent_is_refused(run_cli, tmp_path):
+    # (1 + r)^-t at r = -0.99 is 100^t: an NPV of 1e22 from ordinary costs (the case).
+    path = _study(tmp_path, 'discount_rate = { kind = "uniform", low = "5 %", high = "9 %" }',
+                  'discount_rate = "-99 %"')
+    code, _, err = run_cli("study", "check", path)
+    assert code == 2 and "programme.discount_rate: must be at least -10 %" in err

@@ -171,7 +171,7 @@ def read_number(raw: object, where: str, *, low: float | None = None,
     try:
         value = float(raw)
     except OverflowError:  # an integer beyond the float range
-        value = math.copysign(math.inf, raw)
+        value = math.inf if raw > 0 else -math.inf
     if not math.isfinite(value):
         raise InputError(where, f"must be a finite number, got {_show(repr(raw))}")
     if low is not None and value < low:
@@ -278,8 +278,9 @@ class _UnitText:
             if depth >= _MAX_DEPTH:
                 self.fail(f"more than {_MAX_DEPTH} nested brackets")
             s, unit = self.expression(depth + 1)
-            if self.take() != ("op", ")"):
+            if self.peek() != ("op", ")"):
                 self.fail("a bracket is not closed")
+            self.take()
             scale *= s
         elif (kind, value) == ("op", "%"):
             unit = ureg.percent

@@ -58,6 +58,10 @@ START_YEARS = (1900, 2200)
 MAX_YEARS = 100
 #: Most vehicles in one class.
 MAX_COUNT = 10_000_000
+#: Most distance per vehicle and year [m]: 24 h a day at 200 km/h is 1.75 million km.
+MAX_KM_PER_YEAR = 2.0e9
+#: Longest target range for tank sizing [m].
+MAX_RANGE = 1.0e7
 #: Most Monte Carlo draws; each draw keeps every option's yearly cash flows in memory.
 MAX_DRAWS = 1_000_000
 #: Real discount rate per year [-]: from -10 % (rates below zero have happened) to 100 %;
@@ -695,14 +699,15 @@ def _fleet_class(r: _Reader, base_dir: Path, currency: str) -> FleetClass:
         id=cid,
         name=r.text("name", cid),
         count=r.integer("count", low=1, high=MAX_COUNT),
-        km_per_year=r.uncertain("km_per_year", _km_per_year, low=1.0, unit=("km", 1e-3)),
+        km_per_year=r.uncertain("km_per_year", _km_per_year, low=1.0, high=MAX_KM_PER_YEAR,
+                                unit=("km", 1e-3)),
         hours_per_day=r.quantity("hours_per_day", "[]", 8, low=0.0, high=24.0),
         remaining_life_years=r.integer("remaining_life_years", low=1, high=MAX_YEARS),
         profile=_data_file(r.raw("profile"), r.at("profile"), "profiles", ".csv", base_dir),
         vehicle=_data_file(r.raw("vehicle"), r.at("vehicle"), "vehicles", ".toml", base_dir),
         engine_map=_data_file(r.raw("engine_map"), r.at("engine_map"), "maps", ".csv",
                               base_dir),
-        range=r.quantity("range", "[length]", "500 km", low=1.0),
+        range=r.quantity("range", "[length]", "500 km", low=1.0, high=MAX_RANGE),
         upkeep_per_year=r.uncertain("upkeep_per_year", _money_per_year, 0.0, low=0.0,
                                     unit=(f"{currency}/year", 1.0)),
         daily_revenue=r.uncertain("daily_revenue", _money, 0.0, low=0.0,
