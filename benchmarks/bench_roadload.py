@@ -16,15 +16,15 @@ import argparse
 import resource
 import time
 from collections.abc import Iterator
-from pathlib import Path
 
 import numpy as np
 
+from workbench.core.constants import STANDARD_GRAVITY as G
+from workbench.core.paths import DATA
 from workbench.models.duty import DutySettings, DutyTrace, read_trace
 from workbench.models.engine import duty_energy, read_map
-from workbench.models.vehicle import G, Vehicle, read_vehicle, road_load
+from workbench.models.vehicle import Vehicle, read_vehicle, road_load
 
-DATA = Path(__file__).resolve().parent.parent / "workbench" / "data"
 YEAR = 365 * 24 * 3600
 
 

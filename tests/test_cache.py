@@ -54,3 +54,8 @@ def test_every_package_cache_is_registered():
     assert "workbench.models.nox._fuel_no" in names
     assert "workbench.models.combustion._flame" in names
     assert names["workbench.core.thermo.phase"].kind == "resource"
+    # The storage package's caches, one module each (the split of storage.py kept them all).
+    for result in ("saturation._saturated", "compressed._gas", "fluids._critical_temperature"):
+        assert names[f"workbench.models.storage.{result}"].kind == "result"
+    for resource in ("_coolprop", "_pure", "_heos"):
+        assert names[f"workbench.models.storage.fluids.{resource}"].kind == "resource"

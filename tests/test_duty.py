@@ -38,7 +38,7 @@ def test_stats_hand_computed():
     assert_allclose(s.mean_speed, 2.0, rtol=1e-15)
     assert s.max_speed == 4.0
     assert_allclose(s.idle_share, 0.2, rtol=1e-15)  # last interval stands still
-    assert_allclose(s.stops_per_km, 100.0, rtol=1e-12)  # one stop in 10 m
+    assert_allclose(s.stops_per_m, 0.1, rtol=1e-12)  # one stop in 10 m (SI: per metre)
     # v^2 = 0, 4, 16, 16, 0, 0: positive steps 4 + 12 over 10 m
     assert_allclose(s.positive_kinetic_energy, 1.6, rtol=1e-15)
 

@@ -3,13 +3,13 @@
 from __future__ import annotations
 
 import math
-from pathlib import Path
 
 import numpy as np
 import pytest
 from numpy.testing import assert_allclose
 
 from workbench.core.errors import InputError
+from workbench.core.paths import DATA
 from workbench.models.duty import DutySettings, DutyTrace, ModeTable, read_trace
 from workbench.models.engine import (
     WILLANS_SHAPES,
@@ -17,8 +17,8 @@ from workbench.models.engine import (
     EngineMap,
     duty_energy,
     format_map_csv,
-    fuel_per_km,
-    fuel_per_km_for,
+    fuel_per_distance,
+    fuel_per_distance_for,
     mode_energy,
     read_map,
     willans_efficiency,
@@ -27,7 +27,6 @@ from workbench.models.engine import (
 )
 from workbench.models.vehicle import Vehicle, read_vehicle
 
-DATA = Path(__file__).resolve().parent.parent / "workbench" / "data"
 RPM = math.pi / 30.0
 
 
@@ -219,10 +218,15 @@ def energy(**kw) -> DutyEnergy:
     return DutyEnergy(**{**base, **kw})
 
 
-def test_fuel_per_km_trade_units():
+def test_fuel_per_distance_is_si_and_trade_units_per_km():
     # 200 MJ over 100 km of a fuel with LHV 40 MJ/kg, 800 kg/m3, 3.2 kg CO2/kg:
-    # 2 MJ/km, 5 kg/100 km, 6.25 L/100 km, 16 km/L, 160 g CO2/km (hand-computed).
-    r = fuel_per_km(energy(), lhv_mass=40e6, density=800.0, co2_mass=3.2).trade_units()
+    # 2 MJ/km = 2000 J/m, 5e-5 kg/m (hand-computed): the model figures are per metre (SI).
+    per_m = fuel_per_distance(energy(), lhv_mass=40e6, density=800.0, co2_mass=3.2)
+    assert_allclose(per_m.fuel_energy_per_m, 2000.0, rtol=1e-15)
+    assert_allclose(per_m.fuel_mass_per_m, 5e-5, rtol=1e-15)
+    assert_allclose(per_m.co2_ttw_per_m, 1.6e-4, rtol=1e-15)
+    # In trade units: 2 MJ/km, 5 kg/100 km, 6.25 L/100 km, 16 km/L, 160 g CO2/km.
+    r = per_m.trade_units()
     assert_allclose(r["fuel_energy_mj_per_km"], 2.0, rtol=1e-15)
     assert_allclose(r["fuel_kg_per_100km"], 5.0, rtol=1e-15)
     assert_allclose(r["fuel_l_per_100km"], 6.25, rtol=1e-15)
@@ -235,10 +239,10 @@ def test_fuel_per_km_trade_units():
     assert_allclose(r["share_out_of_map"], 0.01, rtol=1e-15)
     # gasoline-litre equivalent with the module's 32.184 MJ/L: 2 MJ/km -> 6.2143 L/100 km
     assert_allclose(r["gasoline_l_equivalent_per_100km"], 200 / 32.184, rtol=1e-12)
-    gas = fuel_per_km(energy(), lhv_mass=48e6, density=float("nan"), co2_mass=2.7)
+    gas = fuel_per_distance(energy(), lhv_mass=48e6, density=float("nan"), co2_mass=2.7)
     assert math.isnan(gas.trade_units()["fuel_l_per_100km"])
     with pytest.raises(InputError, match="covers no distance"):
-        fuel_per_km(energy(distance=0.0), lhv_mass=40e6, density=800.0, co2_mass=3.2)
+        fuel_per_distance(energy(distance=0.0), lhv_mass=40e6, density=800.0, co2_mass=3.2)
 
 
 def test_mode_table_energy():
@@ -284,7 +288,7 @@ def test_demo_vehicles_use_class_typical_fuel(profile, vehicle, map_stem, fuel_i
                     read_vehicle(DATA / "vehicles" / f"{vehicle}.toml"), demo_map(map_stem),
                     settings=DutySettings(accessory_power=1000.0))
     fuel = load_fuel(fuel_id)
-    r = fuel_per_km_for(e, fuel, fuel_sheet(fuel)).trade_units()
+    r = fuel_per_distance_for(e, fuel, fuel_sheet(fuel)).trade_units()
     assert litres[0] < r["fuel_l_per_100km"] < litres[1]
     assert r["share_out_of_map"] < 0.02
     # CO2 per litre burnt: about 2.3 kg/L for gasoline and 2.65 kg/L for diesel (common
@@ -299,5 +303,5 @@ def test_compressed_gas_has_no_litres():
     from workbench.models.combustion import fuel_sheet
 
     gas = load_fuel("natural-gas")
-    r = fuel_per_km_for(energy(), gas, fuel_sheet(gas)).trade_units()
+    r = fuel_per_distance_for(energy(), gas, fuel_sheet(gas)).trade_units()
     assert math.isnan(r["fuel_l_per_100km"]) and r["fuel_kg_per_100km"] > 0

@@ -6,12 +6,12 @@ import numpy as np
 import pytest
 from numpy.testing import assert_allclose
 
+from workbench.core.constants import MOLAR_VOLUME_STANDARD
 from workbench.core.errors import InputError
 from workbench.core.units import (
     DGE_NATURAL_GAS_MASS,
     GGE_NATURAL_GAS_MASS,
     NATURAL_GAS_LHV_AFDC,
-    STD_MOLAR_VOLUME_IDEAL,
     Price,
     parse_price,
     parse_quantity,
@@ -81,7 +81,7 @@ def test_gallon_equivalents_match_the_fuels_they_stand_for():
 def test_standard_and_normal_cubic_metre():
     # CODATA 2018 molar volume of an ideal gas at 273.15 K, 101.325 kPa: 22.413 969 54 L/mol;
     # scaled by 288.15/273.15 (ideal gas) to the ISO 13443 reference conditions, 15 °C.
-    assert_allclose(STD_MOLAR_VOLUME_IDEAL, 22.41396954 * 288.15 / 273.15, rtol=1e-9)
+    assert_allclose(MOLAR_VOLUME_STANDARD, 22.41396954 * 288.15 / 273.15, rtol=1e-9)
     # 1 Nm3 (0 °C) holds 288.15/273.15 Sm3 of an ideal gas (common practice, no source).
     assert_allclose(ureg.Quantity(1, "Nm3").to("Sm3").magnitude, 288.15 / 273.15, rtol=1e-15)
     # A standard cubic metre is not a cubic metre: no silent conversion between them.

@@ -21,6 +21,7 @@ from typing import Any, Literal
 
 from workbench.core import thermo
 from workbench.core.cache import memoize
+from workbench.core.constants import T_STANDARD, ZERO_CELSIUS
 from workbench.core.errors import InputError
 from workbench.core.textfiles import check_file_name, read_toml
 from workbench.core.units import read_number
@@ -72,7 +73,7 @@ class StorageSpec:
 
     kind: StorageKind
     pressure: float | None = None
-    temperature: float = 288.15
+    temperature: float = T_STANDARD
     source: str = ""
 
 
@@ -398,9 +399,9 @@ def _storage(table: Mapping[str, Any], where: str, state: str) -> StorageSpec:
     pressure = None
     if kind == "compressed":
         pressure = _positive(table, "pressure_bar", where, MAX_STORAGE_BAR) * 1e5
-    temperature = 288.15
+    temperature = T_STANDARD
     if "temperature_c" in table:
-        temperature = _number(table, "temperature_c", where, high=MAX_STORAGE_C) + 273.15
+        temperature = _number(table, "temperature_c", where, high=MAX_STORAGE_C) + ZERO_CELSIUS
         if temperature <= 0:
             raise InputError(f"{where}.temperature_c", "must be above -273.15")
     return StorageSpec(kind=kind, pressure=pressure, temperature=temperature,

@@ -22,11 +22,8 @@ import cantera as ct
 import numpy as np
 
 from workbench.core.cache import memoize
+from workbench.core.constants import GAS_CONSTANT, P_REF, T_REF
 
-#: Reference temperature of heating values and enthalpies of formation [K].
-T_REF = 298.15
-#: Reference pressure [Pa].
-P_REF = ct.one_atm
 #: Species databases searched for a name, in order.
 DATABASES = ("gri30.yaml", "nasa_gas.yaml", "nDodecane_Reitz.yaml")
 #: Enthalpy of vaporisation of water at 298.15 K [J/kmol]: hf(H2O, g) - hf(H2O, l)
@@ -144,5 +141,5 @@ def molar_mass(elements: dict[str, float]) -> float:
 def standard_enthalpies(gas: ct.Solution, names: Iterable[str]) -> np.ndarray:
     """Standard molar enthalpies at 298.15 K of the named species of ``gas`` [J/kmol]."""
     gas.TP = T_REF, P_REF
-    h = gas.standard_enthalpies_RT * ct.gas_constant * T_REF
+    h = gas.standard_enthalpies_RT * GAS_CONSTANT * T_REF
     return np.array([h[gas.species_index(n)] for n in names])

@@ -60,6 +60,7 @@ import pint
 from numpy.typing import ArrayLike, NDArray
 
 from workbench.core.cache import memoize
+from workbench.core.constants import MOLAR_VOLUME_STANDARD, T_NORMAL, T_STANDARD
 from workbench.core.errors import InputError
 
 __all__ = [
@@ -67,22 +68,12 @@ __all__ = [
     "GGE_NATURAL_GAS_MASS",
     "HEATING_VALUE_MARK",
     "NATURAL_GAS_LHV_AFDC",
-    "P_STD",
-    "STD_MOLAR_VOLUME_IDEAL",
-    "T_STD",
     "Price",
     "parse_price",
     "parse_quantity",
     "price_per_energy",
     "ureg",
 ]
-
-#: Standard reference temperature of ISO 13443 [K].
-T_STD = 288.15
-#: Standard reference pressure of ISO 13443 [Pa].
-P_STD = 101_325.0
-#: Molar volume of an ideal gas at (T_STD, P_STD) [m3/kmol], R = 8314.462618 J/(kmol K) (CODATA).
-STD_MOLAR_VOLUME_IDEAL = 8314.462618 * T_STD / P_STD
 
 _POUND = 0.45359237  # [kg], exact (NIST SP 811 B.8)
 _BTU_IT_PER_LB = 2326.0  # [J/kg per Btu_IT/lb], exact by the definition of the IT Btu
@@ -101,7 +92,8 @@ def _build_registry() -> pint.UnitRegistry:
     for line in (
         "currency_unit = [currency]",
         "standard_cubic_meter = [gas_std_volume] = Sm3 = standard_cubic_metre",
-        "normal_cubic_meter = 288.15 / 273.15 * standard_cubic_meter = Nm3 = normal_cubic_metre",
+        f"normal_cubic_meter = {T_STANDARD!r} / {T_NORMAL!r} * standard_cubic_meter = Nm3"
+        " = normal_cubic_metre",
         "@alias gallon = US_gallon",
         "MMBtu = 1e6 * Btu_it = MMBTU",
         f"gasoline_gallon_equivalent = {gge!r} * joule = GGE",
@@ -599,7 +591,7 @@ def price_per_energy(
     density: ArrayLike | None = None,
     molar_mass: ArrayLike | None = None,
     hhv_mass: ArrayLike | None = None,
-    std_molar_volume: ArrayLike = STD_MOLAR_VOLUME_IDEAL,
+    std_molar_volume: ArrayLike = MOLAR_VOLUME_STANDARD,
 ) -> NDArray[np.float64] | float:
     """Convert a price on any basis to currency per joule of the fuel's LHV.
 

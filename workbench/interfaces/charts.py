@@ -19,8 +19,6 @@ Common rules:
 
 from __future__ import annotations
 
-import html
-import math
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
@@ -30,6 +28,8 @@ import pandas as pd
 import plotly.graph_objects as go
 from plotly.subplots import make_subplots
 
+from workbench.core.constants import to_rpm
+from workbench.core.text import escape_html
 from workbench.study.results import StudyResult
 
 if TYPE_CHECKING:
@@ -44,8 +44,6 @@ COST_PATTERNS = {"fuel": "", "upkeep": "/", "capital": "."}
 #: Colour of a candidate that the candidates table does not list (a bug upstream).
 NEUTRAL = "#AAAAAA"
 
-_RAD_S_TO_RPM = 60.0 / (2.0 * math.pi)
-
 
 def escape(text: object) -> str:
     """User text made safe for any Plotly string: ``<``, ``>`` and ``&`` become entities.
@@ -54,7 +52,7 @@ def escape(text: object) -> str:
     into characters, so the text shows as typed. Quotes are left alone because Plotly does
     not decode ``&quot;`` and shows it literally; outside a tag they are harmless.
     """
-    return html.escape(str(text), quote=False)
+    return escape_html(text, quote=False)
 
 
 @dataclass(frozen=True)
@@ -84,7 +82,7 @@ class MapGrid:
     @classmethod
     def from_engine_map(cls, engine_map: EngineMap) -> MapGrid:
         """The grid of a :class:`workbench.models.engine.EngineMap`, speed in rpm."""
-        return cls(speed_rpm=np.asarray(engine_map.speed) * _RAD_S_TO_RPM,
+        return cls(speed_rpm=to_rpm(np.asarray(engine_map.speed)),
                    torque_nm=np.asarray(engine_map.torque),
                    efficiency=np.asarray(engine_map.efficiency),
                    full_load_torque_nm=np.asarray(engine_map.full_load_torque),

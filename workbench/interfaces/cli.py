@@ -16,6 +16,7 @@ from collections.abc import Sequence
 from typing import Any
 
 from workbench.core.errors import InputError
+from workbench.core.text import json_safe
 
 #: Command modules, in the order their groups appear in ``workbench --help``.
 COMMAND_MODULES = ("fuels", "nox", "duty", "study")
@@ -71,19 +72,7 @@ def build_parser() -> argparse.ArgumentParser:
 
 def print_json(obj: Any) -> None:
     """Print ``obj`` as indented JSON on standard output (NaN becomes null)."""
-    print(json.dumps(_json_safe(obj), indent=2, ensure_ascii=False))
-
-
-def _json_safe(obj: Any) -> Any:
-    if isinstance(obj, float):
-        return None if obj != obj or obj in (float("inf"), float("-inf")) else obj
-    if isinstance(obj, dict):
-        return {str(k): _json_safe(v) for k, v in obj.items()}
-    if isinstance(obj, list | tuple):
-        return [_json_safe(v) for v in obj]
-    if hasattr(obj, "item") and callable(obj.item):  # numpy scalars
-        return _json_safe(obj.item())
-    return obj
+    print(json.dumps(json_safe(obj), indent=2, ensure_ascii=False))
 
 
 def main(argv: Sequence[str] | None = None) -> int:

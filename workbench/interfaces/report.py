@@ -11,8 +11,6 @@ all (a temporary file in the same folder, then :func:`os.replace`).
 
 from __future__ import annotations
 
-import hashlib
-import html
 import os
 import platform
 from collections.abc import Mapping
@@ -24,6 +22,8 @@ import pandas as pd
 import plotly.offline
 
 import workbench
+from workbench.core.text import escape_html as _esc
+from workbench.core.text import sha256_hex
 from workbench.interfaces.charts import MapGrid, all_figures
 from workbench.io.files import check_target, write_text_atomic
 from workbench.models.engine import EngineMap, read_map
@@ -71,7 +71,7 @@ nav ul{columns:2}
 
 def input_hash(study_text: str) -> str:
     """SHA-256 of the study file's text (UTF-8), as 64 hex digits."""
-    return hashlib.sha256(study_text.encode("utf-8")).hexdigest()
+    return sha256_hex(study_text)
 
 
 def software_versions() -> dict[str, str]:
@@ -94,10 +94,6 @@ def software_versions() -> dict[str, str]:
 def is_demo(result: StudyResult) -> bool:
     """Whether ``result.assumptions["demo"]`` says the study is the fictional demo."""
     return str(result.assumptions.get("demo", "")).strip().lower() in _TRUE
-
-
-def _esc(text: object) -> str:
-    return html.escape(str(text), quote=True)
 
 
 def _key_value_table(items: Mapping[str, object], head: tuple[str, str]) -> str:

@@ -8,8 +8,7 @@ from __future__ import annotations
 
 import math
 
-import cantera as ct
-
+from workbench.core.constants import P_REF, T_REF
 from workbench.core.fuels import Fuel, load_fuel
 from workbench.models.combustion import AirModel, flame_state, fuel_sheet
 
@@ -48,8 +47,8 @@ def fuel_record(
     fuel: Fuel | str,
     *,
     phi: float = 1.0,
-    t_unburnt: float = 298.15,
-    p: float = ct.one_atm,
+    t_unburnt: float = T_REF,
+    p: float = P_REF,
     air: AirModel = "21/79",
 ) -> dict[str, float | str | None]:
     """One fuel's sheet as a flat record in interface units.

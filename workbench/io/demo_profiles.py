@@ -19,13 +19,12 @@ from pathlib import Path
 
 import numpy as np
 
+from workbench.core.constants import RPM
+from workbench.core.paths import DATA
 from workbench.models.duty import DutyTrace, format_trace_csv
 from workbench.models.engine import format_map_csv, willans_map, willans_parameters
 
-DATA = Path(__file__).resolve().parents[1] / "data"
-
 _KMH = 1.0 / 3.6
-_RPM = 2.0 * math.pi / 60.0
 
 _INVENTED = (
     "INVENTED demo data for a fictional city fleet; not measured, not from any real vehicle.",
@@ -224,7 +223,7 @@ def write_demo_data(directory: Path = DATA) -> list[Path]:
         written.append(path)
     for stem, kind, displacement, stroke, idle, rated in DEMO_ENGINES:
         params = willans_parameters(kind, displacement=displacement, stroke=stroke,  # type: ignore[arg-type]
-                                    idle_speed=idle * _RPM, rated_speed=rated * _RPM)
+                                    idle_speed=idle * RPM, rated_speed=rated * RPM)
         comments = (f"Demo efficiency map: {kind} {displacement * 1e3:.1f} L, Willans-line "
                     "model with typical parameters.", *_INVENTED)
         path = directory / "maps" / f"{stem}.csv"

@@ -23,14 +23,14 @@ import numpy as np
 import pandas as pd
 from numpy.typing import ArrayLike
 
+from workbench.core.constants import M_NO2
 from workbench.core.errors import InputError
 
 AgeBasis = Literal["months", "distance"]
 Policy = Literal["interval", "threshold"]
 
-#: Molar mass of urea CO(NH2)2 [kg/kmol] and of NO2 [kg/kmol] (IUPAC atomic weights).
+#: Molar mass of urea CO(NH2)2 [kg/kmol] (IUPAC atomic weights); M_NO2 is in core.constants.
 M_UREA = 60.056
-M_NO2 = 46.0055
 #: Urea mass fraction of AdBlue/DEF, ISO 22241-1 (32.5 %).
 UREA_IN_DEF = 0.325
 #: Urea solution per NOx converted [kg DEF / kg NOx as NO2]: standard SCR uses one NH3 per NO

@@ -35,6 +35,7 @@ from numpy.typing import ArrayLike
 
 from workbench.core import thermo
 from workbench.core.cache import memoize
+from workbench.core.constants import MOLAR_VOLUME_STANDARD, P_REF, P_STANDARD, T_REF
 from workbench.core.errors import InputError
 from workbench.core.fuels import Fuel, complete_products, load_fuel, oxygen_demand
 
@@ -44,18 +45,12 @@ AIR_MODELS: dict[str, dict[str, float]] = {
     "21/79": {"O2": 0.21, "N2": 0.79},
     "dry": {"N2": 0.78084, "O2": 0.209476, "AR": 0.00934, "CO2": 0.000314},
 }
-#: Standard reference conditions for gas volumes (ISO 13443): 15 °C, 101.325 kPa.
-T_STANDARD = 288.15
-P_STANDARD = 101325.0
-#: Molar volume of an ideal gas at the standard reference conditions [m3/kmol].
-MOLAR_VOLUME_STANDARD = ct.gas_constant * T_STANDARD / P_STANDARD
 #: Water-gas shift constant used for rich exhaust, K = (CO·H2O)/(CO2·H2) (Heywood 1988, sec. 4.2;
 #: the customary 3.5, from memory).
 K_WATER_GAS_SHIFT = 3.5
 #: Molar mass of CO2 [kg/kmol].
 M_CO2 = thermo.molar_mass({"C": 1, "O": 2})
 M_H2O = thermo.molar_mass({"H": 2, "O": 1})
-M_NO2 = thermo.molar_mass({"N": 1, "O": 2})
 
 
 def air_composition(air: str) -> dict[str, float]:
@@ -425,17 +420,18 @@ class FlameState:
     dilution: float
 
 
-#: Range of phi the equilibrium model accepts (beyond it, mixtures of road fuels do not burn
-#: in an engine and equilibrium answers stop meaning anything for this tool).
-PHI_RANGE = (0.05, 5.0)
+#: Range of phi the equilibrium flame model accepts [-] (beyond it, mixtures of road fuels do
+#: not burn in an engine and equilibrium answers stop meaning anything for this tool). The NOx
+#: model's narrower flame-zone range is :data:`workbench.models.nox.PHI_RANGE_FLAME_ZONE`.
+PHI_RANGE_EQUILIBRIUM = (0.05, 5.0)
 
 
 def flame_state(
     fuel: Fuel | str,
     phi: float = 1.0,
     *,
-    t_unburnt: float = 298.15,
-    p: float = ct.one_atm,
+    t_unburnt: float = T_REF,
+    p: float = P_REF,
     air: AirModel = "21/79",
     dilution: float = 0.0,
 ) -> FlameState:
@@ -473,7 +469,7 @@ def flame_state(
 
 
 def _check_flame_inputs(phi: float, t_unburnt: float, p: float, dilution: float) -> None:
-    lo, hi = PHI_RANGE
+    lo, hi = PHI_RANGE_EQUILIBRIUM
     if not lo <= phi <= hi:
         raise InputError("phi", f"must be within {lo:g} to {hi:g}, got {phi:g}")
     if not 200.0 <= t_unburnt <= 1500.0:
@@ -553,8 +549,8 @@ def flame_table(
     fuel: Fuel | str,
     phi: ArrayLike,
     *,
-    t_unburnt: float = 298.15,
-    p: float = ct.one_atm,
+    t_unburnt: float = T_REF,
+    p: float = P_REF,
     air: AirModel = "21/79",
     dilution: float = 0.0,
 ) -> pd.DataFrame:

@@ -30,6 +30,7 @@ from pathlib import Path
 
 import numpy as np
 
+from workbench.core.constants import RPM
 from workbench.core.errors import InputError
 
 #: Mean interval speed below which the vehicle counts as stopped [m/s] (0.36 km/h).
@@ -50,7 +51,7 @@ TRACE_COLUMNS: dict[str, dict[str, float]] = {
 
 #: Known time-at-mode columns: quantity -> {unit token: factor to SI}.
 MODE_COLUMNS: dict[str, dict[str, float]] = {
-    "engine_speed": {"rpm": 2.0 * math.pi / 60.0, "rad_per_s": 1.0},
+    "engine_speed": {"rpm": RPM, "rad_per_s": 1.0},
     "torque": {"n_m": 1.0, "kn_m": 1000.0},
     "time": _TIME_UNITS,
 }
@@ -256,9 +257,9 @@ class DutyStats:
         Highest sample speed [m/s].
     idle_share : float
         Share of the time spent stopped [-].
-    stops_per_km : float
+    stops_per_m : float
         Number of stops (moving -> standing transitions, a trace that starts standing counts
-        one) per kilometre [1/km].
+        one) per metre driven [1/m] (the interfaces show it per km).
     positive_kinetic_energy : float
         Sum of positive changes of v² divided by distance [m/s²].
     """
@@ -268,7 +269,7 @@ class DutyStats:
     mean_speed: float
     max_speed: float
     idle_share: float
-    stops_per_km: float
+    stops_per_m: float
     positive_kinetic_energy: float
 
 
@@ -283,7 +284,7 @@ def duty_stats(trace: DutyTrace) -> DutyStats:
     Returns
     -------
     DutyStats
-        Distance, duration, mean and maximum speed, idle share, stops per km and positive
+        Distance, duration, mean and maximum speed, idle share, stops per metre and positive
         kinetic energy.
 
     Notes
@@ -301,14 +302,13 @@ def duty_stats(trace: DutyTrace) -> DutyStats:
     stops = int(np.count_nonzero(stopped[1:] & ~stopped[:-1]) + int(stopped[0]))
     dv2 = np.diff(v * v)
     pke = float(np.sum(dv2[dv2 > 0.0]))
-    per_km = distance / 1000.0
     return DutyStats(
         distance=distance,
         duration=duration,
         mean_speed=distance / duration,
         max_speed=float(v.max()),
         idle_share=float(np.sum(dt[stopped])) / duration,
-        stops_per_km=stops / per_km if per_km > 0.0 else math.nan,
+        stops_per_m=stops / distance if distance > 0.0 else math.nan,
         positive_kinetic_energy=pke / distance if distance > 0.0 else math.nan,
     )
 

@@ -1,4 +1,4 @@
-"""Engine efficiency maps, fuel over a duty, and fuel and energy per km.
+"""Engine efficiency maps, fuel over a duty, and fuel and energy per distance.
 
 An :class:`EngineMap` holds brake efficiency on a grid of engine speed × torque, the full-load
 torque curve, idle speed and idle fuel power. It comes from a CSV grid (:func:`read_map`, in
@@ -8,9 +8,10 @@ options (power derate, efficiency offset) are derived maps (:meth:`EngineMap.adj
 :func:`duty_energy` runs a trace through a vehicle and a map, in chunks so that a year of 1 Hz
 data stays in bounded memory, and returns fuel energy (LHV) and the shares of time out of map
 and at full load; :func:`mode_energy` does the same for a time-at-mode table.
-:func:`fuel_per_km` turns the fuel energy into per-km figures for any fuel from three plain
-numbers (LHV, stored density, CO2 per kg); :func:`fuel_per_km_for` takes them from a
-:class:`~workbench.core.fuels.Fuel` and its fuel sheet.
+:func:`fuel_per_distance` turns the fuel energy into figures per metre (SI, like every model
+quantity; per km and per 100 km only in :meth:`FuelPerDistance.trade_units`) for any fuel from
+three plain numbers (LHV, stored density, CO2 per kg); :func:`fuel_per_distance_for` takes them
+from a :class:`~workbench.core.fuels.Fuel` and its fuel sheet.
 
 Fuel power at an operating point (engine speed ``n``, brake torque ``T``)
 ------------------------------------------------------------------------
@@ -37,6 +38,7 @@ from typing import TYPE_CHECKING, Literal
 import numpy as np
 from scipy.interpolate import RegularGridInterpolator
 
+from workbench.core.constants import J_PER_KWH, RPM, to_rpm
 from workbench.core.errors import InputError
 from workbench.models.duty import DutySettings, DutyTrace, ModeTable
 from workbench.models.vehicle import FIRED, IDLE, Vehicle, operating_points, road_load
@@ -44,8 +46,6 @@ from workbench.models.vehicle import FIRED, IDLE, Vehicle, operating_points, roa
 if TYPE_CHECKING:
     from workbench.core.fuels import Fuel
     from workbench.models.combustion import FuelSheet
-
-_RPM = 2.0 * math.pi / 60.0
 
 #: Gasoline (E0) energy per litre used for gasoline-litre equivalents [J/m3]:
 #: LHV 43.2 MJ/kg × 745 kg/m3 (JEC Well-to-Wheels report v5, 2020, fuel properties table;
@@ -405,7 +405,7 @@ def willans_map(params: WillansParameters, *, name: str, n_speed: int = 12,
 
 _MAP_META = re.compile(r"^#\s*([a-z_]+)\s*:\s*(.*?)\s*$")
 _MAP_KEYS = ("value", "idle_speed_rpm", "idle_fuel_power_kw", "bsfc_lhv_mj_per_kg")
-_SPEED_UNITS = {"rpm": _RPM, "rad_per_s": 1.0}
+_SPEED_UNITS = {"rpm": RPM, "rad_per_s": 1.0}
 _VALUE_KINDS = ("brake_efficiency", "bsfc_g_per_kwh")
 
 
@@ -503,7 +503,7 @@ def read_map(path: str | Path) -> EngineMap:
         lhv = _meta_number(path, meta, "bsfc_lhv_mj_per_kg") * 1e6
         if np.any(grid <= 0):
             raise InputError(str(path), "BSFC cells must be positive")
-        grid = 3.6e9 / (grid * lhv)  # g/kWh -> kg/J is 1/3.6e9
+        grid = J_PER_KWH * 1e3 / (grid * lhv)  # g/kWh -> kg/J is 1e-3/J_PER_KWH
     for i, (ln, _) in enumerate(grid_rows):
         bad_cells = np.flatnonzero(~((grid[i] > 0.0) & (grid[i] < 1.0)))
         if bad_cells.size:
@@ -512,7 +512,7 @@ def read_map(path: str | Path) -> EngineMap:
     try:
         return EngineMap(name=str(path), speed=speed, torque=torque, efficiency=grid,
                          full_load_torque=full,
-                         idle_speed=_meta_number(path, meta, "idle_speed_rpm") * _RPM,
+                         idle_speed=_meta_number(path, meta, "idle_speed_rpm") * RPM,
                          idle_fuel_power=_meta_number(path, meta, "idle_fuel_power_kw") * 1e3)
     except InputError as exc:
         raise InputError(f"{path}: {exc.where.split(': ')[-1]}", exc.message) from None
@@ -542,9 +542,9 @@ def format_map_csv(engine_map: EngineMap, *, comments: tuple[str, ...] = ()) -> 
     """
     lines = [f"# {c}" for c in comments] + [
         "# value: brake_efficiency",
-        f"# idle_speed_rpm: {engine_map.idle_speed / _RPM:.0f}",
+        f"# idle_speed_rpm: {to_rpm(engine_map.idle_speed):.0f}",
         f"# idle_fuel_power_kw: {engine_map.idle_fuel_power / 1e3:.3f}",
-        "torque_n_m/speed_rpm," + ",".join(f"{n / _RPM:.0f}" for n in engine_map.speed),
+        "torque_n_m/speed_rpm," + ",".join(f"{to_rpm(n):.0f}" for n in engine_map.speed),
         "full_load," + ",".join(f"{t:.1f}" for t in engine_map.full_load_torque),
     ]
     for t, row in zip(engine_map.torque, engine_map.efficiency, strict=True):
@@ -725,37 +725,37 @@ def mode_energy(table: ModeTable, engine_map: EngineMap, *,
     return DutyEnergy(**_with_extra_idle(sums, engine_map, settings))
 
 
-# ----------------------------------------------------------------------------- per km
+# ----------------------------------------------------------------------------- per distance
 
 
 @dataclass(frozen=True)
-class FuelPerKm:
-    """Fuel, energy and tank-to-wheel CO2 per km for one fuel on one duty.
+class FuelPerDistance:
+    """Fuel, energy and tank-to-wheel CO2 per metre driven for one fuel on one duty.
 
     Attributes
     ----------
-    fuel_energy_per_km : float
-        Fuel energy, LHV basis [J/km].
-    fuel_mass_per_km : float
-        [kg/km].
-    fuel_volume_per_km : float
-        Volume as stored on board [m3/km]; NaN when no stored density is known.
-    co2_ttw_per_km : float
-        Tank-to-wheel CO2 from the fuel's carbon [kg/km].
-    gasoline_equivalent_per_km : float
-        Volume of gasoline with the same energy [m3/km].
-    diesel_equivalent_per_km : float
-        Volume of diesel with the same energy [m3/km].
+    fuel_energy_per_m : float
+        Fuel energy, LHV basis [J/m] (1 MJ/km = 1000 J/m).
+    fuel_mass_per_m : float
+        [kg/m].
+    fuel_volume_per_m : float
+        Volume as stored on board [m3/m]; NaN when no stored density is known.
+    co2_ttw_per_m : float
+        Tank-to-wheel CO2 from the fuel's carbon [kg/m].
+    gasoline_equivalent_per_m : float
+        Volume of gasoline with the same energy [m3/m].
+    diesel_equivalent_per_m : float
+        Volume of diesel with the same energy [m3/m].
     share_idle, share_out_of_map, share_at_full_load : float
         From the duty [-].
     """
 
-    fuel_energy_per_km: float
-    fuel_mass_per_km: float
-    fuel_volume_per_km: float
-    co2_ttw_per_km: float
-    gasoline_equivalent_per_km: float
-    diesel_equivalent_per_km: float
+    fuel_energy_per_m: float
+    fuel_mass_per_m: float
+    fuel_volume_per_m: float
+    co2_ttw_per_m: float
+    gasoline_equivalent_per_m: float
+    diesel_equivalent_per_m: float
     share_idle: float
     share_out_of_map: float
     share_at_full_load: float
@@ -771,24 +771,24 @@ class FuelPerKm:
             ``diesel_l_equivalent_per_100km``, ``co2_ttw_g_per_km``, ``share_idle``,
             ``share_out_of_map``, ``share_at_full_load``.
         """
-        litres_per_km = self.fuel_volume_per_km * 1e3
+        litres_per_km = self.fuel_volume_per_m * 1e6  # 1e3 L/m3 x 1e3 m/km
         km_per_l = 1.0 / litres_per_km if litres_per_km > 0 else math.nan
         return {
-            "fuel_energy_mj_per_km": self.fuel_energy_per_km / 1e6,
-            "fuel_kg_per_100km": self.fuel_mass_per_km * 100.0,
+            "fuel_energy_mj_per_km": self.fuel_energy_per_m * 1e-3,  # 1e3 m/km / 1e6 J/MJ
+            "fuel_kg_per_100km": self.fuel_mass_per_m * 1e5,
             "fuel_l_per_100km": litres_per_km * 100.0,
             "fuel_km_per_l": km_per_l,
             "fuel_mpg_us": km_per_l * US_GALLON_L / MILE_KM,
-            "gasoline_l_equivalent_per_100km": self.gasoline_equivalent_per_km * 1e5,
-            "diesel_l_equivalent_per_100km": self.diesel_equivalent_per_km * 1e5,
-            "co2_ttw_g_per_km": self.co2_ttw_per_km * 1e3,
+            "gasoline_l_equivalent_per_100km": self.gasoline_equivalent_per_m * 1e8,
+            "diesel_l_equivalent_per_100km": self.diesel_equivalent_per_m * 1e8,
+            "co2_ttw_g_per_km": self.co2_ttw_per_m * 1e6,
             "share_idle": self.share_idle,
             "share_out_of_map": self.share_out_of_map,
             "share_at_full_load": self.share_at_full_load,
         }
 
 
-def fuel_per_km(
+def fuel_per_distance(
     energy: DutyEnergy,
     *,
     lhv_mass: float,
@@ -796,8 +796,8 @@ def fuel_per_km(
     co2_mass: float,
     gasoline_energy_per_volume: float = GASOLINE_ENERGY_PER_VOLUME,
     diesel_energy_per_volume: float = DIESEL_ENERGY_PER_VOLUME,
-) -> FuelPerKm:
-    """Per-km fuel figures for one fuel.
+) -> FuelPerDistance:
+    """Fuel figures per metre driven for one fuel.
 
     Parameters
     ----------
@@ -814,36 +814,36 @@ def fuel_per_km(
 
     Returns
     -------
-    FuelPerKm
+    FuelPerDistance
 
     Raises
     ------
     InputError
         The duty covers no distance.
     """
-    km = energy.distance / 1000.0
-    if not (math.isfinite(km) and km > 0.0):
+    distance = energy.distance
+    if not (math.isfinite(distance) and distance > 0.0):
         raise InputError("profile", "covers no distance; per-km figures need a moving trace "
                                     "or '# distance_km: ...' in a mode table")
     if not (lhv_mass > 0.0 and co2_mass >= 0.0):
         raise InputError("fuel", "needs a positive LHV and a CO2 factor >= 0")
-    energy_km = energy.fuel_energy / km
-    mass_km = energy_km / lhv_mass
-    return FuelPerKm(
-        fuel_energy_per_km=energy_km,
-        fuel_mass_per_km=mass_km,
-        fuel_volume_per_km=mass_km / density if density > 0.0 else math.nan,
-        co2_ttw_per_km=mass_km * co2_mass,
-        gasoline_equivalent_per_km=energy_km / gasoline_energy_per_volume,
-        diesel_equivalent_per_km=energy_km / diesel_energy_per_volume,
+    energy_m = energy.fuel_energy / distance
+    mass_m = energy_m / lhv_mass
+    return FuelPerDistance(
+        fuel_energy_per_m=energy_m,
+        fuel_mass_per_m=mass_m,
+        fuel_volume_per_m=mass_m / density if density > 0.0 else math.nan,
+        co2_ttw_per_m=mass_m * co2_mass,
+        gasoline_equivalent_per_m=energy_m / gasoline_energy_per_volume,
+        diesel_equivalent_per_m=energy_m / diesel_energy_per_volume,
         share_idle=energy.share_idle,
         share_out_of_map=energy.share_out_of_map,
         share_at_full_load=energy.share_at_full_load,
     )
 
 
-def fuel_per_km_for(energy: DutyEnergy, fuel: Fuel, sheet: FuelSheet) -> FuelPerKm:
-    """Per-km fuel figures for a library fuel.
+def fuel_per_distance_for(energy: DutyEnergy, fuel: Fuel, sheet: FuelSheet) -> FuelPerDistance:
+    """Fuel figures per metre driven for a library fuel.
 
     Parameters
     ----------
@@ -857,9 +857,9 @@ def fuel_per_km_for(energy: DutyEnergy, fuel: Fuel, sheet: FuelSheet) -> FuelPer
 
     Returns
     -------
-    FuelPerKm
+    FuelPerDistance
     """
     liquid = fuel.storage is None or fuel.storage.kind in ("liquid", "liquefied")
     density = fuel.liquid_density if liquid and fuel.liquid_density else math.nan
-    return fuel_per_km(energy, lhv_mass=sheet.lhv_mass, density=density,
+    return fuel_per_distance(energy, lhv_mass=sheet.lhv_mass, density=density,
                        co2_mass=sheet.co2_mass)

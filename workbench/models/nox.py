@@ -35,16 +35,15 @@ import numpy as np
 import pandas as pd
 
 from workbench.core.cache import memoize
+from workbench.core.constants import M_NO2
 from workbench.core.errors import InputError
 from workbench.core.fuels import Fuel, load_fuel
 from workbench.models.combustion import flame_state, fuel_sheet
 
-#: Molar mass of NO2 [kg/kmol]; NOx masses are reported "as NO2" (regulatory convention).
-M_NO2 = 46.0055
 #: Flame-zone equivalence ratios the model accepts [-]: about the flammable range of
 #: hydrocarbon–air mixtures (methane 0.5–1.7, Turns 2nd ed. Table 8.3, from memory), widened
 #: to 0.4 for lean-burn hydrogen and gas engines.
-PHI_RANGE = (0.4, 1.7)
+PHI_RANGE_FLAME_ZONE = (0.4, 1.7)
 #: Nitrogen-containing species of GRI-Mech 3.0 removed from the burnt gas before the run.
 _GRI = "gri30.yaml"
 _THERMAL_STEPS = ("N + NO <=> N2 + O", "N + O2 <=> NO + O", "N + OH <=> H + NO")
@@ -115,7 +114,7 @@ class EngineConditions:
     air: str = "21/79"
 
     def __post_init__(self) -> None:
-        lo, hi = PHI_RANGE
+        lo, hi = PHI_RANGE_FLAME_ZONE
         checks: list[tuple[str, float | None, float, float, str]] = [
             ("compression_ratio", self.compression_ratio, 1.0, 40.0, "1 to 40"),
             ("t_intake", self.t_intake, 200.0, 600.0, "200 to 600 K"),
@@ -743,8 +742,7 @@ def engine_out_nox(
 __all__ = [
     "DEFAULT_ENGINE_OUT",
     "ENGINE_PRESETS",
-    "M_NO2",
-    "PHI_RANGE",
+    "PHI_RANGE_FLAME_ZONE",
     "DutyPropensity",
     "EngineConditions",
     "EngineOutNOx",

@@ -26,16 +26,12 @@ from pathlib import Path
 
 import numpy as np
 
+from workbench.core.constants import RPM, STANDARD_GRAVITY, to_rpm
 from workbench.core.errors import InputError
 from workbench.models.duty import STOP_SPEED, DutySettings, DutyTrace
 
-#: Standard acceleration of gravity [m/s²] (CGPM 1901, exact by definition).
-G = 9.80665
-
 #: Engine states of an interval (see :class:`OperatingPoints`).
 ENGINE_OFF, IDLE, OVERRUN, FIRED = 0, 1, 2, 3
-
-_RPM = 2.0 * math.pi / 60.0
 
 
 @dataclass(frozen=True)
@@ -193,11 +189,11 @@ def road_load(vehicle: Vehicle, trace: DutyTrace) -> RoadLoad:
     aero = (0.5 * vehicle.air_density * vehicle.drag_coefficient * vehicle.frontal_area) * (
         v_mean * v_mean)
     if trace.grade is None:
-        slope = vehicle.rolling_resistance * G
+        slope = vehicle.rolling_resistance * STANDARD_GRAVITY
     else:
         grade = trace.grade[:-1]
         cos = 1.0 / np.sqrt(1.0 + grade * grade)
-        slope = G * cos * (vehicle.rolling_resistance + grade)
+        slope = STANDARD_GRAVITY * cos * (vehicle.rolling_resistance + grade)
     force = mass * (vehicle.rotating_mass_factor * accel + slope) + aero
     return RoadLoad(duration=dt, distance=v_mean * dt, speed=v_mean, acceleration=accel,
                     tractive_force=force, wheel_power=force * v_mean)
@@ -290,11 +286,11 @@ def operating_points(
     unreachable = moving & ~under_max.any(axis=0)
     if unreachable.any():
         i = int(np.argmax(unreachable))
-        need = n_all[-1, i] / _RPM
+        need = to_rpm(n_all[-1, i])
         raise InputError(trace.where(i + 1),
                          f"the gear set cannot reach {load.speed[i] * 3.6:.1f} km/h: top gear "
                          f"needs {need:.0f} rpm, above max_engine_speed "
-                         f"{vehicle.max_engine_speed / _RPM:.0f} rpm")
+                         f"{to_rpm(vehicle.max_engine_speed):.0f} rpm")
     cols = np.arange(n_all.shape[1])
     geared = n_all[gear, cols]
     speed = np.maximum(geared, idle_speed)
@@ -328,8 +324,8 @@ _TOML_FIELDS: dict[str, tuple[str, float]] = {
     "driveline_efficiency": ("driveline_efficiency", 1.0),
     "wheel_radius_m": ("wheel_radius", 1.0),
     "final_drive": ("final_drive", 1.0),
-    "shift_speed_rpm": ("shift_speed", _RPM),
-    "max_engine_speed_rpm": ("max_engine_speed", _RPM),
+    "shift_speed_rpm": ("shift_speed", RPM),
+    "max_engine_speed_rpm": ("max_engine_speed", RPM),
     "air_density_kg_per_m3": ("air_density", 1.0),
     "rotating_mass_factor": ("rotating_mass_factor", 1.0),
 }

@@ -15,7 +15,6 @@ A price, discount-rate or other money change re-uses every cached physics result
 
 from __future__ import annotations
 
-import math
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, replace
 from pathlib import Path
@@ -24,15 +23,22 @@ import numpy as np
 import pandas as pd
 
 from workbench.core.cache import memoize
+from workbench.core.constants import J_PER_KWH, M_NO2, RPM, to_rpm
 from workbench.core.errors import InputError
 from workbench.core.fuels import Fuel, load_fuel
 from workbench.core.thermo import molar_mass
 from workbench.models import economics as econ
 from workbench.models.aftertreatment import Aftertreatment, optimal_interval, programme_nox
-from workbench.models.combustion import M_NO2, FuelSheet, exhaust, fuel_sheet
+from workbench.models.combustion import FuelSheet, exhaust, fuel_sheet
 from workbench.models.duty import DutySettings, DutyTrace, read_profile
 from workbench.models.emissions import co2e
-from workbench.models.engine import DutyEnergy, duty_energy, fuel_per_km_for, mode_energy, read_map
+from workbench.models.engine import (
+    DutyEnergy,
+    duty_energy,
+    fuel_per_distance_for,
+    mode_energy,
+    read_map,
+)
 from workbench.models.nox import (
     DEFAULT_ENGINE_OUT,
     duty_propensity,
@@ -61,7 +67,6 @@ _DEFAULT_REFERENCE_FUEL = {"spark-ignition": "gasoline", "lean-burn-gas": "natur
 NOX_SPEED_BINS = 3
 #: Equivalence ratios of the flame table [-].
 FLAME_PHI = (0.7, 0.8, 0.9, 1.0, 1.1, 1.2, 1.3)
-_J_PER_KWH = 3.6e6
 
 
 # ----------------------------------------------------------------------------- physics
@@ -114,7 +119,7 @@ def duty_physics(profile: Path, vehicle: Path, engine_map: Path, derate: float,
     duty = read_profile(profile)
     if not isinstance(duty, DutyTrace):
         energy = mode_energy(duty, emap, settings=settings)
-        speed = duty.engine_speed * 60 / (2 * math.pi)
+        speed = to_rpm(duty.engine_speed)
         torque = duty.torque
         dt = duty.duration
         fuel_power = emap.fuel_power(duty.engine_speed, duty.torque).fuel_power
@@ -125,7 +130,7 @@ def duty_physics(profile: Path, vehicle: Path, engine_map: Path, derate: float,
         ops = operating_points(veh, duty, load, idle_speed=emap.idle_speed, settings=settings,
                                full_load_torque=emap.max_torque)
         burning = (ops.state == FIRED) | (ops.state == IDLE)
-        speed = ops.engine_speed[burning] * 60 / (2 * math.pi)
+        speed = to_rpm(ops.engine_speed[burning])
         torque = ops.engine_torque[burning]
         dt = load.duration[burning]
         fuel_power = emap.fuel_power(ops.engine_speed[burning], torque).fuel_power
@@ -133,14 +138,14 @@ def duty_physics(profile: Path, vehicle: Path, engine_map: Path, derate: float,
     weights, _ = np.histogram(speed, edges, weights=fuel_power * dt)
     centres = (edges[:-1] + edges[1:]) / 2
     keep = weights > 0
-    s_edges = np.linspace(emap.speed.min(), emap.speed.max(), 13) * 60 / (2 * math.pi)
+    s_edges = to_rpm(np.linspace(emap.speed.min(), emap.speed.max(), 13))
     t_edges = np.linspace(0.0, float(emap.full_load_torque.max()), 11)
     seconds, _, _ = np.histogram2d(speed, np.clip(torque, 0, None), [s_edges, t_edges],
                                    weights=dt)
     sc, tc = np.meshgrid((s_edges[:-1] + s_edges[1:]) / 2, (t_edges[:-1] + t_edges[1:]) / 2,
                          indexing="ij")
     mask = seconds > 0
-    eff = emap.efficiency_at(sc[mask] * 2 * math.pi / 60, tc[mask])
+    eff = emap.efficiency_at(sc[mask] * RPM, tc[mask])
     points = pd.DataFrame({"engine_speed_rpm": sc[mask], "torque_nm": tc[mask],
                            "seconds": seconds[mask], "brake_efficiency": eff})
     return DutyPhysics(energy, centres[keep], weights[keep], points)
@@ -214,7 +219,7 @@ def _nox_per_m(value: float, unit: str, co: ClassOption, duty: DutyPhysics,
     if unit == "g/km":
         return value * 1e-6
     if unit == "g/kWh":
-        return value * 1e-3 * duty.energy.engine_energy / duty.energy.distance / _J_PER_KWH
+        return value * 1e-3 * duty.energy.engine_energy / duty.energy.distance / J_PER_KWH
     ex = exhaust(co.fuel, co.lambda_overall)  # ppm of NO in the wet exhaust, as NO2 mass
     fuel_kg_per_m = fuel_energy_per_m / fuel_sheet(co.fuel).lhv_mass
     return value * 1e-6 * ex.moles_per_kg_fuel * M_NO2 * fuel_kg_per_m
@@ -244,9 +249,9 @@ def class_physics(c: FleetClass, co: ClassOption, base: ClassOption, months: int
     """
     duty = _duty_for(c, co)
     sheet = fuel_sheet(co.fuel)
-    per_km = fuel_per_km_for(duty.energy, co.fuel, sheet)
-    energy_m = per_km.fuel_energy_per_km / 1000.0
-    mass_m = per_km.fuel_mass_per_km / 1000.0
+    per_m = fuel_per_distance_for(duty.energy, co.fuel, sheet)
+    energy_m = per_m.fuel_energy_per_m
+    mass_m = per_m.fuel_mass_per_m
     eo, source = _engine_out(c, co, base, duty, energy_m)
     km_month = c.km_per_year.nominal / 12.0
     damage = nox_damage_cost
@@ -258,8 +263,8 @@ def class_physics(c: FleetClass, co: ClassOption, base: ClassOption, months: int
         sheet=sheet,
         fuel_energy_per_m=energy_m,
         fuel_mass_per_m=mass_m,
-        fuel_volume_per_m=per_km.fuel_volume_per_km / 1000.0,
-        co2_ttw_per_m=per_km.co2_ttw_per_km / 1000.0,
+        fuel_volume_per_m=per_m.fuel_volume_per_m,
+        co2_ttw_per_m=per_m.co2_ttw_per_m,
         ch4_per_m=co.methane_slip * ch4_share * mass_m,
         engine_out_nox_per_m=eo,
         nox_source=source,
@@ -268,8 +273,8 @@ def class_physics(c: FleetClass, co: ClassOption, base: ClassOption, months: int
         replacements=prog.replacements,
         best_interval_months=best[0],
         best_total_cost=best[1],
-        share_out_of_map=per_km.share_out_of_map,
-        share_full_load=per_km.share_at_full_load,
+        share_out_of_map=per_m.share_out_of_map,
+        share_full_load=per_m.share_at_full_load,
         duty=duty,
         storage=_storage(co.fuel, energy_m, c.range),
     )

@@ -18,7 +18,6 @@ range, hours per day, lambda for ppm conversion, N2O) and the files a study name
 from __future__ import annotations
 
 import copy
-import hashlib
 import math
 import re
 from collections.abc import Callable, Iterable, Mapping
@@ -30,6 +29,8 @@ import tomli_w
 
 from workbench.core.errors import InputError
 from workbench.core.fuels import BASES, Fuel, blend, load_fuel
+from workbench.core.paths import DATA
+from workbench.core.text import sha256_hex
 from workbench.core.textfiles import check_file_name, read_toml
 from workbench.core.units import (
     HEATING_VALUE_MARK,
@@ -45,8 +46,6 @@ from workbench.models.combustion import fuel_sheet
 from workbench.models.economics import DISTRIBUTION_PARAMETERS, Distribution
 from workbench.models.nox import ENGINE_PRESETS, EngineOutNOx
 
-#: Folder of shipped demo inputs (profiles, vehicles, maps, studies).
-DATA = Path(__file__).resolve().parents[1] / "data"
 #: The demo study of a fictional port city.
 DEMO_STUDY = DATA / "studies" / "kestrel-bay.toml"
 
@@ -276,7 +275,7 @@ class Study:
 
     def digest(self) -> str:
         """SHA-256 of the study's TOML text (identifies the inputs in reports)."""
-        return hashlib.sha256(self.to_toml().encode("utf-8")).hexdigest()
+        return sha256_hex(self.to_toml())
 
 
 def _parent(data: dict[str, Any], path: str) -> tuple[Any, str | int]:

@@ -10,10 +10,9 @@ import argparse
 from pathlib import Path
 
 from workbench.core.errors import InputError
+from workbench.core.paths import DATA
 from workbench.interfaces.cli import finite_float
 from workbench.models.duty import DutySettings, DutyTrace, duty_stats, read_profile
-
-DATA = Path(__file__).resolve().parents[2] / "data"
 
 #: Demo kind -> (data sub-directory, file suffix).
 _DEMOS = {"profile": ("profiles", ".csv"), "vehicle": ("vehicles", ".toml"),
@@ -102,7 +101,7 @@ def _stats(args: argparse.Namespace) -> None:
         "mean_speed_km_per_h": s.mean_speed * 3.6,
         "max_speed_km_per_h": s.max_speed * 3.6,
         "idle_share": s.idle_share,
-        "stops_per_km": s.stops_per_km,
+        "stops_per_km": s.stops_per_m * 1e3,
         "positive_kinetic_energy_m_per_s2": s.positive_kinetic_energy,
     }
     if args.json:
@@ -125,7 +124,7 @@ def _fuel(args: argparse.Namespace) -> None:
     from workbench.core.fuels import load_fuel
     from workbench.interfaces.cli import print_json
     from workbench.models.combustion import fuel_sheet
-    from workbench.models.engine import duty_energy, fuel_per_km_for, mode_energy, read_map
+    from workbench.models.engine import duty_energy, fuel_per_distance_for, mode_energy, read_map
     from workbench.models.vehicle import read_vehicle
 
     settings = _settings(args)
@@ -151,7 +150,7 @@ def _fuel(args: argparse.Namespace) -> None:
                 if vehicle is not None
                 else mode_energy(profile, engine_map, settings=settings))
         energy = energies[id(engine_map)]
-        result = fuel_per_km_for(energy, fuel, fuel_sheet(fuel))
+        result = fuel_per_distance_for(energy, fuel, fuel_sheet(fuel))
         rows.append({"fuel": fuel.id,
                      "derate": 0.0 if k == 0 else args.derate,
                      "efficiency_offset": 0.0 if k == 0 else args.efficiency_offset,

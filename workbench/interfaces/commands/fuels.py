@@ -6,6 +6,7 @@ import argparse
 import json
 from pathlib import Path
 
+from workbench.core.constants import ZERO_CELSIUS
 from workbench.core.errors import InputError
 from workbench.core.fuels import BASES, blend, list_fuels, load_fuel
 from workbench.interfaces.cli import finite_float
@@ -86,7 +87,7 @@ def _records(fuels: list, args: argparse.Namespace) -> list[dict]:
         raise InputError("--t-unburnt", f"must be -73 to 1226 °C, got {args.t_unburnt:g}")
     records = []
     for f in fuels:
-        record = fuel_record(f, phi=args.phi, t_unburnt=args.t_unburnt + 273.15,
+        record = fuel_record(f, phi=args.phi, t_unburnt=args.t_unburnt + ZERO_CELSIUS,
                              p=args.pressure * 1e5, air=args.air)
         stored = storage_summary(f)
         record.update({k: stored.get(src) for k, src in STORED_FIELDS.items()})

@@ -9,6 +9,7 @@ from __future__ import annotations
 import argparse
 from typing import Any
 
+from workbench.core.constants import P_STANDARD, ZERO_CELSIUS
 from workbench.core.errors import InputError
 from workbench.core.fuels import STORAGE_KINDS
 from workbench.interfaces.cli import finite_float
@@ -103,7 +104,7 @@ def storage_report(args: argparse.Namespace) -> dict[str, Any]:
     state = storage.stored_state(
         fuel,
         kind=args.kind,
-        temperature=None if args.temperature is None else args.temperature + 273.15,
+        temperature=None if args.temperature is None else args.temperature + ZERO_CELSIUS,
         pressure=None if args.pressure is None else args.pressure * 1e5,
     )
     out: dict[str, Any] = {"fuel": fuel.id, "name": fuel.name, **storage.state_summary(state),
@@ -113,8 +114,8 @@ def storage_report(args: argparse.Namespace) -> dict[str, Any]:
             else args.feed_pressure * 1e5
         t_cold = storage.cold_start_temperature(fuel, feed_pressure=feed)
         out["feed_pressure_bar_gauge"] = feed / 1e5
-        out["cold_start_temperature_c"] = t_cold - 273.15
-        out["feeds_engine"] = bool(state.vapour_pressure - storage.P_AMBIENT >= feed)
+        out["cold_start_temperature_c"] = t_cold - ZERO_CELSIUS
+        out["feeds_engine"] = bool(state.vapour_pressure - P_STANDARD >= feed)
     energy = None if args.energy_per_km is None else args.energy_per_km * 1e3  # J/m
     if args.range_km is not None:
         system = storage.tank_for_range(state, args.range_km * 1e3, energy, tank=args.tank)

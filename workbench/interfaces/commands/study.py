@@ -3,11 +3,11 @@
 from __future__ import annotations
 
 import argparse
-import math
 from pathlib import Path
 from typing import Any
 
 from workbench.core.errors import InputError
+from workbench.core.text import json_safe
 from workbench.interfaces.sheets import format_table
 from workbench.io.files import check_target, write_text_atomic
 from workbench.study.results import StudyResult
@@ -107,14 +107,9 @@ def result_json(result: StudyResult) -> dict[str, Any]:
         keys of :data:`JSON_KEYS`; missing values and payback that never comes are null) and
         ``per_km`` (one object per option and vehicle class).
     """
-    def clean(v: Any) -> Any:
-        if hasattr(v, "item"):
-            v = v.item()
-        return None if isinstance(v, float) and not math.isfinite(v) else v
-
-    cands = [{k: clean(row[col]) for k, col in JSON_KEYS.items()}
+    cands = [{k: json_safe(row[col]) for k, col in JSON_KEYS.items()}
              for row in result.candidates.to_dict("records")]
-    per_km = [{k: clean(v) for k, v in row.items()} for row in result.per_km.to_dict("records")]
+    per_km = [json_safe(row) for row in result.per_km.to_dict("records")]
     return {"title": result.title, "currency": result.currency, "candidates": cands,
             "per_km": per_km}
 

@@ -6,8 +6,6 @@ to it (one line: the key path and the fix, HTML-escaped), and clears it on the n
 
 from __future__ import annotations
 
-import hashlib
-import html
 import re
 from collections.abc import Callable
 from pathlib import Path
@@ -16,6 +14,8 @@ from typing import Any
 import ipywidgets as widgets
 
 from workbench.core.errors import InputError
+from workbench.core.text import escape_html as esc
+from workbench.core.text import sha256_hex
 from workbench.interfaces.panels.state import StudyState
 from workbench.io.files import write_text_atomic
 from workbench.models.economics import DISTRIBUTION_PARAMETERS
@@ -29,11 +29,6 @@ LABEL_WIDTH = "190px"
 KINDS = tuple(DISTRIBUTION_PARAMETERS)
 _INTEGER = re.compile(r"\s*[-+]?\d+\s*")
 _NUMBER = re.compile(r"\s*[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?\s*")
-
-
-def esc(text: object) -> str:
-    """User text made safe for an HTML widget."""
-    return html.escape(str(text), quote=True)
 
 
 def error_html(error: InputError | str | None) -> str:
@@ -244,7 +239,7 @@ def save_upload(folder: Path, name: str, content: bytes,
         raise InputError(name, "is not UTF-8 text; save the CSV as UTF-8") from None
     stem = re.sub(r"[^A-Za-z0-9_-]+", "-", Path(name).stem).strip("-") or "upload"
     folder.mkdir(parents=True, exist_ok=True)
-    path = folder / f"{stem}-{hashlib.sha256(content).hexdigest()[:8]}.csv"
+    path = folder / f"{stem}-{sha256_hex(content)[:8]}.csv"
     write_text_atomic(path, text, suffix=".csv", option=name)
     try:
         reader(path)

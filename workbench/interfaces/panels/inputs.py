@@ -17,13 +17,13 @@ import numpy as np
 import plotly.graph_objects as go
 
 from workbench.core.errors import InputError
+from workbench.core.paths import DATA
 from workbench.interfaces.charts import TEMPLATE, MapGrid, efficiency_map_chart
 from workbench.interfaces.panels.fields import error_widget, esc, label, save_upload, show_error
 from workbench.interfaces.panels.results import FigurePane
 from workbench.interfaces.panels.state import StudyState
 from workbench.models.duty import DutyTrace, duty_stats, read_profile
 from workbench.models.engine import read_map
-from workbench.study.studyfile import DATA
 
 
 class ClassFileChoice(widgets.VBox):
@@ -121,7 +121,7 @@ def stats_html(profile: Path) -> str:
         "mean speed, stops included [km/h]": f"{s.mean_speed * 3.6:.1f}",
         "maximum speed [km/h]": f"{s.max_speed * 3.6:.1f}",
         "time stopped [%]": f"{s.idle_share * 100:.1f}",
-        "stops per km [1/km]": f"{s.stops_per_km:.2f}",
+        "stops per km [1/km]": f"{s.stops_per_m * 1e3:.2f}",
         "positive kinetic energy [m/s²]": f"{s.positive_kinetic_energy:.3f}",
     }
     body = "".join(f"<tr><td>{esc(k)}</td><td style='text-align:right'>{esc(v)}</td></tr>"
