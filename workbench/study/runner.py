@@ -810,6 +810,8 @@ def _tornado_table(plan: _Plan) -> pd.DataFrame:
 
         t = econ.tornado(f, dists)
         t = t[t["swing"] > 1e-9 * max(float(t["swing"].max()), 1.0)]
+        if t.empty:  # no input moves this candidate's NPV (drowned by larger terms)
+            continue
         scale = t["input"].map(lambda p: units[p][1])
         frames.append(pd.DataFrame({
             "candidate": o.id,
@@ -817,7 +819,7 @@ def _tornado_table(plan: _Plan) -> pd.DataFrame:
             "low_value": t["low_value"] * scale, "high_value": t["high_value"] * scale,
             "npv_at_low": t["output_low"], "npv_at_high": t["output_high"],
             "swing": t["swing"]}))
-    return pd.concat(frames, ignore_index=True)
+    return pd.concat(frames, ignore_index=True) if frames else _empty("tornado")
 
 
 def _operating_points_table(plan: _Plan) -> pd.DataFrame:

@@ -61,6 +61,11 @@ MAX_COUNT = 10_000_000
 MAX_KM_PER_YEAR = 2.0e9
 #: Longest target range for tank sizing [m].
 MAX_RANGE = 1.0e7
+#: Largest engine-out NOx by unit: far beyond any engine (a diesel without controls emits
+#: some 10 g/kWh, about 2000 ppm); 10^6 ppm is the whole exhaust.
+MAX_ENGINE_OUT_NOX = {"g/km": 1000.0, "g/kWh": 1000.0, "ppm": 1e6}
+#: Largest well-to-tank CO2e [g/MJ] (coal-to-liquid fuels are some 200 g/MJ, from memory).
+MAX_WTT_G_PER_MJ = 1000.0
 #: Most Monte Carlo draws; each draw keeps every option's yearly cash flows in memory.
 MAX_DRAWS = 1_000_000
 #: Real discount rate per year [-]: from -10 % (rates below zero have happened) to 100 %;
@@ -887,11 +892,15 @@ def _engine_out(raw: Any, where: str) -> EngineOutNOx:
                          '"900 ppm"')
     m = re.fullmatch(r"\s*([-+]?[0-9.eE+-]+)\s*(g/km|g/kWh|ppm)\s*", raw)
     if m is None:
-        raise InputError(where, f'{raw!r}: use a number and one of g/km, g/kWh, ppm')
+        raise InputError(where, f'{_short(raw)}: use a number and one of g/km, g/kWh, ppm')
     try:
         value = float(m.group(1))
     except ValueError:
         raise InputError(where, f"{m.group(1)!r} is not a number") from None
+    limit = MAX_ENGINE_OUT_NOX[m.group(2)]
+    if not value <= limit:
+        raise InputError(where, f"{raw.strip()} is beyond any engine; at most {limit:g} "
+                         f"{m.group(2)}")
     try:
         return EngineOutNOx(value, m.group(2), source=f"study file ({where})")
     except InputError as exc:
@@ -1042,5 +1051,6 @@ def _upstream(r: _Reader, fuels: Mapping[str, Fuel]) -> tuple[dict[str, Uncertai
         sub = _Reader(r.table[fid], r.at(fid))
         sub.only(("wtt_co2e_g_per_mj", "source"), "an upstream entry")
         sources[fid] = sub.text("source")
-        out[fid] = sub.uncertain("wtt_co2e_g_per_mj", _g_per_mj, low=0.0, unit=("g/MJ", 1e9))
+        out[fid] = sub.uncertain("wtt_co2e_g_per_mj", _g_per_mj, low=0.0,
+                                 high=MAX_WTT_G_PER_MJ * 1e-9, unit=("g/MJ", 1e9))
     return out, sources
