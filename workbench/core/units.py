@@ -45,6 +45,15 @@ Price text
 ``"<number> [CODE] per <basis> [LHV|HHV]"`` or with ``/`` for ``per``; the code may also lead
 (``"EUR 1.45 per L"``). The basis may carry a number (``"per 1000 L"``, ``"per (5.660 lb)"``).
 A mapping ``{value = 1.45, per = "L"}`` (optionally ``currency``) is the same as ``"1.45 per L"``.
+
+The grammar
+-----------
+Quantity and price text is read by hand, never evaluated: pint's own parser runs the text as
+Python arithmetic ("9 ** 9 ** 9 km" hangs, "1 / 0 km" divides by zero, "5 km + 3 m" adds). A
+number (sign, decimals, an exponent of at most three digits, at most :data:`MAX_NUMBER` in
+size) is followed by a unit text that :func:`parse_unit` reads: unit names looked up one at a
+time, ``*``, ``/`` or ``per``, brackets, small whole powers, and positive numbers only where a
+group starts. ``docs/prices.md`` gives the grammar in full.
 """
 
 from __future__ import annotations
