@@ -466,11 +466,11 @@ def _uncertain(raw: Any, parse: Callable[[Any, str], float], where: str,
                              f"{', '.join(_DIST_PARAMS)}")
         params[k] = parse(v, f"{where}.{k}")
     dist = Distribution.from_mapping({"kind": raw["kind"], **params}, where=where)
-    nominal = dist.mode if dist.kind == "triangular" else dist.expected_value()
-    _check_range(float(nominal), where, low, high, unit)
-    for k in ("low", "high", "value"):
+    for k in ("low", "high", "value"):  # the number the user typed is named first
         if params.get(k) is not None:
             _check_range(params[k], f"{where}.{k}", low, high, unit)
+    nominal = dist.mode if dist.kind == "triangular" else dist.expected_value()
+    _check_range(float(nominal), where, low, high, unit)
     return Uncertain(float(nominal), dist, where, *unit)
 
 
