@@ -86,10 +86,13 @@ def make_result(*, demo: bool = True, currency: str = "XCU") -> StudyResult:
             co2e_wtw_g_per_km=[281.0, 251.0, 240.0][k], nox_g_per_km=[0.31, 0.06, 0.04][k],
             cost_per_km=[0.210, 0.182, 0.171][k], levelised_cost_per_km=[0.22, 0.19, 0.18][k],
             npv_vs_baseline=npv[cand], payback_years=payback[cand] - 0.3 if k else np.nan,
-            discounted_payback_years=payback[cand], cost_per_t_co2e_avoided=[np.nan, -40.0,
-                                                                            -25.0][k],
+            discounted_payback_years=payback[cand],
+            co2e_avoided_t=[np.nan, 1200.0, 1650.0][k], raises_co2e=False,
+            cost_per_t_co2e_avoided=[np.nan, -40.0, -25.0][k],
+            nox_avoided_kg=[np.nan, 900.0, 950.0][k], raises_nox=False,
             cost_per_kg_nox_avoided=[np.nan, -3.0, -2.5][k],
-            p_npv_positive=[np.nan, 0.81, 0.66][k], p_payback_within_horizon=[np.nan, 0.9, 0.7][k],
+            p_npv_positive=[np.nan, 0.81, 0.66][k],
+            p_discounted_payback_within_horizon=[np.nan, 0.9, 0.7][k],
             npv_p10=p10, npv_p50=p50, npv_p90=p90))
 
     per_km_rows, nox_rows, op_rows = [], [], []

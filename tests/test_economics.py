@@ -82,12 +82,15 @@ def test_annuity_is_vectorised_and_exact_at_zero_rate():
 
 
 def test_escalation_matches_future_value():
-    # Reference: numpy-financial fv of a present amount compounding at the escalation rate.
+    # Reference: numpy-financial fv of a present amount compounding at the escalation rate,
+    # counted from year 1 (the glossary's convention: year 1 at today's prices, so year t has
+    # grown t - 1 times; year 0, the conversion year, buys no fuel and is at today's prices).
     years = np.arange(11)
     out = escalate(np.array([1.45, 0.9]), np.array([0.02, 0.035]), years)
     assert out.shape == (2, 11)
-    assert_allclose(out[1], npf.fv(0.035, years, 0, -0.9), rtol=1e-12)
-    assert_allclose(out[0, 0], 1.45, rtol=0)
+    assert_allclose(out[1, 1:], npf.fv(0.035, years[1:] - 1, 0, -0.9), rtol=1e-12)
+    assert_allclose(out[:, :2], [[1.45, 1.45], [0.9, 0.9]], rtol=0)
+    assert_allclose(out[0, 3], 1.45 * 1.02 * 1.02, rtol=1e-15)  # by hand: two years' growth
 
 
 # --- payback ------------------------------------------------------------------------------------

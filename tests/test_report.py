@@ -133,3 +133,16 @@ def test_long_tables_are_cut_with_a_pointer_to_the_csv():
     assert f"First {report.MAX_TABLE_ROWS} of 5000 rows" in html
     section = html.split('id="table-monte_carlo"')[1].split("</details>")[0]
     assert section.count("<tr") == report.MAX_TABLE_ROWS + 1  # header row + rows shown
+
+
+def test_missing_numbers_say_why_in_the_candidates_table():
+    # Issue 13: "not applicable", "no payback" and "raises the emission" must not look alike.
+    res = make_result()
+    cands = res.candidates.copy()
+    cands.loc[2, ["discounted_payback_years", "cost_per_t_co2e_avoided"]] = float("nan")
+    cands.loc[2, ["co2e_avoided_t", "raises_co2e"]] = (-300.0, True)
+    shown = report._candidates_shown(cands)
+    assert shown.at[0, "npv_vs_baseline"] == "n/a (baseline)"
+    assert shown.at[2, "discounted_payback_years"] == "not within horizon"
+    assert shown.at[2, "cost_per_t_co2e_avoided"] == "raises CO2e"
+    assert shown.at[2, "co2e_avoided_t"] == "-300"

@@ -9,9 +9,9 @@ import numpy_financial as npf
 import pytest
 from numpy.testing import assert_allclose
 
-from workbench.core.cache import cache_info
+from workbench.core.cache import cache_info, clear_caches
 from workbench.core.errors import InputError
-from workbench.study.results import check_columns
+from workbench.study.results import check_columns, missing_reason
 from workbench.study.runner import run
 from workbench.study.studyfile import DEMO_STUDY, Study, read_study
 
@@ -222,3 +222,85 @@ def test_catalyst_life_uncertainty_moves_catalyst_costs(demo):
     assert "[km]" in row["input"]
     # a shorter-lived catalyst is replaced more often: the NPV is lower at the low end
     assert row["npv_at_low"] < row["npv_at_high"]
+
+
+def test_checking_a_study_runs_no_chemistry():
+    # The study file only parses and checks (issue 10): fuel sheets (Cantera) are worked out
+    # when the study runs, not when it is read. A price whose basis does not fit the fuel is
+    # still refused at check time, from the fuel's storage alone.
+    clear_caches()
+    s = read_study("demo")
+    assert cache_info()["workbench.models.combustion._sheet"].misses == 0
+    with pytest.raises(InputError, match="not sold as a liquid"):
+        s.with_value("prices.natural-gas", "1.2 per L")
+    assert cache_info()["workbench.models.combustion._sheet"].misses == 0
+
+
+FUEL_PRICES = ["prices.gasoline", "prices.diesel", "prices.lpg", "prices.natural-gas"]
+
+
+def test_correlated_fuel_prices_narrow_the_lpg_npv_band(demo):
+    # Issue 13: fuel prices move together. The LPG option's NPV hangs on the gap between the
+    # gasoline and LPG prices, so an assumed 0.8 correlation between the prices must narrow
+    # its P10-P90 band; for two triangular prices of similar spread, Var(a - b) falls by about
+    # the factor (1 - r) (common practice, no source), so by ~45 % in standard deviation.
+    def band(res):
+        c = res.candidates.set_index("candidate")
+        return c.at["lpg-taxis", "npv_p90"] - c.at["lpg-taxis", "npv_p10"]
+
+    together = demo.with_value("correlations", [{"inputs": FUEL_PRICES, "coefficient": 0.8}])
+    res = run(together, draws=4000)
+    narrowing = 1 - band(res) / band(run(demo, draws=4000))
+    assert 0.35 < narrowing < 0.55
+    # the report lists them (its assumptions)
+    assert "prices.gasoline ~ prices.lpg 0.8" in res.assumptions["correlations"]
+
+
+@pytest.mark.parametrize(("entry", "message"), [
+    ({"inputs": ["prices.lpg", "prices.jet"], "coefficient": 0.8}, "not an uncertain input"),
+    ({"inputs": ["prices.lpg"], "coefficient": 0.8}, "two or more"),
+    ({"inputs": ["prices.lpg", "prices.diesel"], "coefficient": 1.2}, "from -1 to 1"),
+    ({"inputs": ["prices.lpg", "prices.diesel"], "matrix": [[1, 0.5], [0.4, 1]]},
+     "not symmetric"),
+    ({"inputs": ["prices.lpg", "prices.diesel"]}, "either one coefficient"),
+])
+def test_bad_correlations_name_their_table(demo, entry, message):
+    with pytest.raises(InputError, match=message) as err:
+        demo.with_value("correlations", [entry])
+    assert "correlations[0]" in str(err.value)
+
+
+def test_contradicting_correlations_and_repeated_pairs_are_refused(demo):
+    a, b, c = FUEL_PRICES[:3]
+    with pytest.raises(InputError, match="positive semi-definite"):
+        demo.with_value("correlations", [{"inputs": [a, b], "coefficient": 0.9},
+                                         {"inputs": [a, c], "coefficient": 0.9},
+                                         {"inputs": [b, c], "coefficient": -0.9}])
+    with pytest.raises(InputError, match="give each pair once"):
+        demo.with_value("correlations", [{"inputs": [a, b], "coefficient": 0.5},
+                                         {"inputs": [b, a, c], "coefficient": 0.5}])
+
+
+def test_a_normal_price_is_truncated_at_zero(demo):
+    # Issue 13: a normal LPG price of mean 0.82 and sd 0.5 per L would draw below zero about
+    # 5 % of the time; cut at 0, no draw is negative and the nominal is the truncated mean.
+    s = demo.with_value("prices.lpg", {"kind": "normal", "mean": "0.82 per L",
+                                       "sd": "0.5 per L"})
+    dist = s.inputs.uncertain["prices.lpg"]
+    assert dist.lower == 0.0
+    draws = dist.ppf(np.linspace(0.0, 1.0, 101))
+    assert draws.min() >= 0.0
+    assert s.inputs.prices["lpg"][1].nominal > dist.mean
+
+
+def test_a_candidate_that_raises_co2e_says_so(demo):
+    # Make the LPG option's upstream CO2e huge: it now raises well-to-wheel CO2e, so its
+    # "avoided" is negative, flagged, and its abatement cost has no number (not a dash).
+    s = demo.with_value("upstream.lpg", {"wtt_co2e_g_per_mj": 400.0, "source": "test"})
+    res = run(s, draws=0)
+    row = res.candidates.set_index("candidate").loc["lpg-taxis"]
+    assert row["co2e_avoided_t"] < 0 and bool(row["raises_co2e"])
+    assert np.isnan(row["cost_per_t_co2e_avoided"])
+    assert missing_reason(row.to_dict(), "cost_per_t_co2e_avoided") == "raises CO2e"
+    base = res.candidates.set_index("candidate").loc["today"].to_dict()
+    assert missing_reason(base, "cost_per_t_co2e_avoided") == "n/a (baseline)"

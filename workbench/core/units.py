@@ -637,37 +637,52 @@ def price_per_energy(
     ``c_J = c_V / (rho LHV)`` per liquid volume; ``c_m / LHV`` per mass;
     ``c_Sm3 V_m / (M LHV)`` per standard gas volume; ``c_J,HHV HHV / LHV`` per gross energy.
     """
+    check_price_basis(price, liquid=density is not None, gas=molar_mass is not None,
+                      hhv_known=hhv_mass is not None)
     lhv = _positive(lhv_mass, "lower heating value", price.where)
     if price.basis == "mass":
         out = price.value / lhv
     elif price.basis == "liquid_volume":
-        if density is None:
-            raise InputError(
-                price.where,
-                f"{price.text!r} is per volume of liquid but this fuel "
-                "is not sold as a liquid: price it per kg, per Sm3 or per GJ",
-            )
         out = price.value / (_positive(density, "liquid density", price.where) * lhv)
     elif price.basis == "gas_volume":
-        if molar_mass is None:
-            raise InputError(
-                price.where,
-                f"{price.text!r} is per standard volume of gas but "
-                "this fuel is a liquid: price it per L, per kg or per GJ",
-            )
         vm = _positive(std_molar_volume, "standard molar volume", price.where)
         out = price.value * vm / (_positive(molar_mass, "molar mass", price.where) * lhv)
     elif price.heating_value == "HHV":
-        if hhv_mass is None:
-            raise InputError(
-                price.where,
-                f"{price.text!r} is per gross (HHV) energy but the "
-                "fuel's HHV is not known: price it per net energy (LHV)",
-            )
         out = price.value * _positive(hhv_mass, "higher heating value", price.where) / lhv
     else:
         out = price.value * np.ones_like(lhv)
     return float(out) if np.ndim(out) == 0 else out
+
+
+def check_price_basis(price: Price, *, liquid: bool, gas: bool, hhv_known: bool = True) -> None:
+    """Check that a price's basis fits the fuel, without any of the fuel's properties.
+
+    Parameters
+    ----------
+    price : Price
+        From :func:`parse_price`.
+    liquid : bool
+        The fuel is sold as a liquid (it has a liquid density).
+    gas : bool
+        The fuel is a gas (it has a molar mass for standard volumes).
+    hhv_known : bool, optional
+        The fuel's higher heating value is known.
+
+    Raises
+    ------
+    InputError
+        A price per L of a fuel not sold as a liquid, per Sm3 of a liquid, or per HHV energy
+        of a fuel without an HHV, naming ``price.where``.
+    """
+    if price.basis == "liquid_volume" and not liquid:
+        raise InputError(price.where, f"{price.text!r} is per volume of liquid but this fuel "
+                         "is not sold as a liquid: price it per kg, per Sm3 or per GJ")
+    if price.basis == "gas_volume" and not gas:
+        raise InputError(price.where, f"{price.text!r} is per standard volume of gas but "
+                         "this fuel is a liquid: price it per L, per kg or per GJ")
+    if price.basis == "energy" and price.heating_value == "HHV" and not hhv_known:
+        raise InputError(price.where, f"{price.text!r} is per gross (HHV) energy but the "
+                         "fuel's HHV is not known: price it per net energy (LHV)")
 
 
 def _positive(x: ArrayLike, name: str, where: str) -> NDArray[np.float64]:

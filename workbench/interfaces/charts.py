@@ -223,7 +223,7 @@ def cost_per_km_chart(result: StudyResult) -> go.Figure:
                                    strict=True):
         fig.add_trace(_legend_key(f"{part}: {look}", pattern=shape))
     fig.update_layout(barmode="stack")
-    fig.update_yaxes(title_text=f"cost per km [{st.currency}/km]", row=1, col=1)
+    fig.update_yaxes(title_text=f"cost per km, year 1 [{st.currency}/km]", row=1, col=1)
     return _finish(fig, title, height=460)
 
 

@@ -27,7 +27,7 @@ from workbench.core.text import sha256_hex
 from workbench.interfaces.charts import MapGrid, all_figures
 from workbench.io.files import check_target, write_text_atomic
 from workbench.models.engine import EngineMap, read_map
-from workbench.study.results import StudyResult
+from workbench.study.results import StudyResult, missing_reason
 from workbench.study.studyfile import Study
 
 #: The caution every report carries, word for word.
@@ -115,6 +115,14 @@ def _table_html(table: pd.DataFrame) -> str:
                          border=0, classes="data")
 
 
+def _candidates_shown(table: pd.DataFrame) -> pd.DataFrame:
+    """The candidates table as text, each missing number in the words of its reason."""
+    records = table.to_dict("records")
+    return pd.DataFrame([
+        {k: missing_reason(r, k) or (_format_number(v) if isinstance(v, float) else v)
+         for k, v in r.items()} for r in records], columns=table.columns)
+
+
 def _job(result: StudyResult) -> str:
     cands = result.candidates
     base = cands.loc[cands["is_baseline"].astype(bool), "name"]
@@ -166,7 +174,7 @@ def html_report(
     tables = []
     for name, table in result.tables().items():
         open_attr = " open" if name == "candidates" else ""
-        shown = table.head(MAX_TABLE_ROWS)
+        shown = _candidates_shown(table) if name == "candidates" else table.head(MAX_TABLE_ROWS)
         cut = (f"<p>First {MAX_TABLE_ROWS} of {len(table)} rows; "
                "<code>workbench study run FILE --csv DIR</code> writes them all.</p>"
                if len(table) > MAX_TABLE_ROWS else "")

@@ -8,7 +8,10 @@ positive NPV means the candidate saves money.
 
 from __future__ import annotations
 
+import math
+from collections.abc import Mapping
 from dataclasses import dataclass, field, fields
+from typing import Any
 
 import pandas as pd
 
@@ -20,8 +23,9 @@ COLUMNS: dict[str, tuple[str, ...]] = {
         "candidate", "name", "fuel", "is_baseline", "colour",
         "fuel_energy_mj_per_km", "co2_ttw_g_per_km", "co2e_wtw_g_per_km", "nox_g_per_km",
         "cost_per_km", "levelised_cost_per_km", "npv_vs_baseline", "payback_years",
-        "discounted_payback_years", "cost_per_t_co2e_avoided", "cost_per_kg_nox_avoided",
-        "p_npv_positive", "p_payback_within_horizon", "npv_p10", "npv_p50", "npv_p90",
+        "discounted_payback_years", "co2e_avoided_t", "raises_co2e", "cost_per_t_co2e_avoided",
+        "nox_avoided_kg", "raises_nox", "cost_per_kg_nox_avoided", "p_npv_positive",
+        "p_discounted_payback_within_horizon", "npv_p10", "npv_p50", "npv_p90",
     ),
     # one row per candidate x vehicle class: the duty-level figures
     "per_km": (
@@ -123,6 +127,53 @@ def check_columns(result: StudyResult) -> None:
         got = tuple(table.columns)
         if got != COLUMNS[name]:
             raise AssertionError(f"table {name}: columns {got} != {COLUMNS[name]}")
+
+
+#: Candidates-table columns that compare an option with the baseline (none on its own row).
+VS_BASELINE = ("npv_vs_baseline", "payback_years", "discounted_payback_years", "co2e_avoided_t",
+               "cost_per_t_co2e_avoided", "nox_avoided_kg", "cost_per_kg_nox_avoided",
+               "p_npv_positive", "p_discounted_payback_within_horizon", "npv_p10", "npv_p50",
+               "npv_p90")
+_DRAWN = ("p_npv_positive", "p_discounted_payback_within_horizon", "npv_p10", "npv_p50",
+          "npv_p90")
+_ABATEMENT = {"cost_per_t_co2e_avoided": ("co2e_avoided_t", "raises_co2e", "CO2e"),
+              "cost_per_kg_nox_avoided": ("nox_avoided_kg", "raises_nox", "NOx")}
+
+
+def missing_reason(row: Mapping[str, Any], column: str) -> str | None:
+    """Why a candidates-table cell holds no number, in words; None when it holds one.
+
+    Each reason has its own words, so "not applicable", "no payback" and "raises the
+    emission" never look alike.
+
+    Parameters
+    ----------
+    row : mapping
+        A row of the candidates table (or its JSON record, with None for a missing number).
+    column : str
+        A column of that table.
+
+    Returns
+    -------
+    str or None
+        ``"n/a (baseline)"`` for a comparison on the baseline's own row; ``"not within
+        horizon"`` for a payback that does not come; ``"raises CO2e"`` / ``"raises NOx"`` (or
+        ``"none avoided"``) for an abatement cost with nothing avoided; ``"no draws"`` for a
+        Monte Carlo figure of a run without draws; None when the cell has a number.
+    """
+    value = row.get(column)
+    if value is not None and not (isinstance(value, float) and math.isnan(value)):
+        return None
+    if row.get("is_baseline") and column in VS_BASELINE:
+        return "n/a (baseline)"
+    if column in ("payback_years", "discounted_payback_years"):
+        return "not within horizon"
+    if column in _ABATEMENT:
+        _, flag, what = _ABATEMENT[column]
+        return f"raises {what}" if row.get(flag) else "none avoided"
+    if column in _DRAWN:
+        return "no draws"
+    return "n/a"
 
 
 #: Colour-blind-safe palette (Okabe & Ito, 2008, "Color Universal Design"), baseline first in

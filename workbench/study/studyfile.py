@@ -35,15 +35,14 @@ from workbench.core.textfiles import check_file_name, read_toml
 from workbench.core.units import (
     HEATING_VALUE_MARK,
     Price,
+    check_price_basis,
     parse_price,
     parse_quantity,
-    price_per_energy,
     read_number,
 )
 from workbench.io.files import write_text_atomic
 from workbench.models.aftertreatment import DEVICE_PRESETS, Aftertreatment
-from workbench.models.combustion import fuel_sheet
-from workbench.models.economics import DISTRIBUTION_PARAMETERS, Distribution
+from workbench.models.economics import DISTRIBUTION_PARAMETERS, Correlation, Distribution
 from workbench.models.nox import ENGINE_PRESETS, EngineOutNOx
 
 #: The demo study of a fictional port city.
@@ -81,7 +80,8 @@ class Uncertain:
     ----------
     nominal : float
         Value of the deterministic run [SI or currency]: the value, the mode of a
-        triangular, the mean otherwise.
+        triangular, the mean otherwise (of the truncated normal when a normal reaches past
+        the input's range).
     dist : Distribution or None
         Distribution in the same unit, or None when fixed.
     path : str
@@ -179,6 +179,7 @@ class StudyInputs:
     upstream: dict[str, Uncertain]  # by fuel id, well-to-tank CO2e [kg/J]
     upstream_sources: dict[str, str]
     uncertain: dict[str, Distribution] = field(default_factory=dict)
+    correlation: Correlation | None = None
 
     @property
     def options(self) -> tuple[Option, ...]:
@@ -469,6 +470,9 @@ def _uncertain(raw: Any, parse: Callable[[Any, str], float], where: str,
     for k in ("low", "high", "value"):  # the number the user typed is named first
         if params.get(k) is not None:
             _check_range(params[k], f"{where}.{k}", low, high, unit)
+    if dist.kind == "normal":  # cut to the input's range: no negative price, km or cost
+        _check_range(params["mean"], f"{where}.mean", low, high, unit)
+        dist = replace(dist, lower=low, upper=high)
     nominal = dist.mode if dist.kind == "triangular" else dist.expected_value()
     _check_range(float(nominal), where, low, high, unit)
     return Uncertain(float(nominal), dist, where, *unit)
@@ -520,7 +524,7 @@ def _g_per_mj(raw: Any, where: str) -> float:
 def _parse(data: Mapping[str, Any], base_dir: Path) -> StudyInputs:
     top = _Reader(data, "")
     top.only(("title", "currency", "fictional", "notes", "programme", "classes", "baseline",
-              "candidates", "prices", "escalation", "upstream"), "a study")
+              "candidates", "prices", "escalation", "upstream", "correlations"), "a study")
     currency = top.text("currency")
     if not re.fullmatch(r"[A-Z]{3}", currency):
         raise InputError("currency", f"must be a three-letter code such as EUR, got {currency!r}")
@@ -585,7 +589,9 @@ def _parse(data: Mapping[str, Any], base_dir: Path) -> StudyInputs:
     )
     uncertain = {u.path: u.dist for u in all_uncertain(inputs) if u.dist is not None
                  and not u.dist.spread_is_zero}
-    inputs = StudyInputs(**{**inputs.__dict__, "uncertain": uncertain})
+    correlation = _correlations(top.raw("correlations", []), uncertain)
+    inputs = StudyInputs(**{**inputs.__dict__, "uncertain": uncertain,
+                            "correlation": correlation})
     check_draws(inputs.draws, inputs, "programme.monte_carlo_draws")
     return inputs
 
@@ -638,6 +644,74 @@ def _size(n_bytes: float) -> str:
             return f"{n_bytes:.0f} {unit}"
         n_bytes /= 1000
     raise AssertionError("unreachable")
+
+
+def _correlations(raw: Any, uncertain: Mapping[str, Distribution]) -> Correlation | None:
+    """The ``[[correlations]]`` tables as one correlation matrix (None when there are none).
+
+    Each table names ``inputs`` (key paths of uncertain inputs) and either one
+    ``coefficient`` for every pair of them or a full ``matrix`` over them; a pair may be
+    given once.
+    """
+    if not isinstance(raw, list) or not all(isinstance(t, Mapping) for t in raw):
+        raise InputError("correlations", "must be [[correlations]] tables with inputs = "
+                         '["prices.diesel", "prices.lpg"] and coefficient = 0.8')
+    if not raw:
+        return None
+    names: list[str] = []
+    pairs: dict[frozenset[str], tuple[float, str]] = {}
+    for i, table in enumerate(raw):
+        r = _Reader(table, f"correlations[{i}]")
+        for key in table:
+            if key not in ("inputs", "coefficient", "matrix", "note"):
+                raise InputError(r.at(key), "unknown key; a correlation has inputs, "
+                                 "coefficient or matrix, and note")
+        listed = r.raw("inputs")
+        if (not isinstance(listed, list) or len(listed) < 2
+                or not all(isinstance(x, str) for x in listed)):
+            raise InputError(r.at("inputs"), "must list two or more uncertain inputs by key "
+                             'path, e.g. ["prices.diesel", "prices.lpg"]')
+        for x in listed:
+            if x not in uncertain:
+                known = ", ".join(uncertain) or "none: give an input a distribution first"
+                raise InputError(r.at("inputs"), f"{x!r} is not an uncertain input of the "
+                                 f"study (uncertain inputs: {known})")
+        if len(set(listed)) != len(listed):
+            raise InputError(r.at("inputs"), "names an input twice")
+        if ("coefficient" in table) == ("matrix" in table):
+            raise InputError(r.at("coefficient"), "give either one coefficient for every pair "
+                             "of the inputs or a matrix over them")
+        matrix = (_correlation_matrix(r.raw("matrix"), len(listed), r.at("matrix"))
+                  if "matrix" in table else None)
+        coefficient = None if matrix is not None else r.raw("coefficient")
+        if coefficient is not None and (isinstance(coefficient, bool) or not isinstance(
+                coefficient, int | float) or not -1.0 <= coefficient <= 1.0):
+            raise InputError(r.at("coefficient"), f"must be a number from -1 to 1, got "
+                             f"{coefficient!r}")
+        for a in range(len(listed)):
+            for b in range(a + 1, len(listed)):
+                key = frozenset((listed[a], listed[b]))
+                if key in pairs:
+                    raise InputError(r.at("inputs"), f"{listed[a]} ~ {listed[b]} is already "
+                                     f"given in {pairs[key][1]}; give each pair once")
+                value = matrix[a][b] if matrix is not None else float(coefficient)
+                pairs[key] = (value, f"correlations[{i}]")
+        names += [x for x in listed if x not in names]
+    order = [k for k in uncertain if k in names]
+    m = [[1.0 if a == b else pairs.get(frozenset((a, b)), (0.0, ""))[0] for b in order]
+         for a in order]
+    return Correlation(tuple(order), tuple(tuple(row) for row in m), where="correlations")
+
+
+def _correlation_matrix(raw: Any, k: int, where: str) -> list[list[float]]:
+    if (not isinstance(raw, list) or len(raw) != k
+            or not all(isinstance(row, list) and len(row) == k for row in raw)
+            or not all(isinstance(v, int | float) and not isinstance(v, bool)
+                       for row in raw for v in row)):
+        raise InputError(where, f"must be a {k} x {k} table of numbers, one row per input")
+    m = [[float(v) for v in row] for row in raw]
+    Correlation(tuple(f"input {i + 1}" for i in range(k)), tuple(map(tuple, m)), where=where)
+    return m
 
 
 def all_uncertain(inputs: StudyInputs) -> list[Uncertain]:
@@ -996,7 +1070,8 @@ def _prices(r: _Reader, fuels: Mapping[str, Fuel], currency: str
             return price.value
 
         unc = _uncertain(raw, parse, where, 0.0)
-        price_factor(bases[0], fuels[fid])  # the basis must fit the fuel
+        check_price_basis(bases[0], liquid=sold_as_liquid(fuels[fid]),
+                          gas=fuels[fid].is_gas)  # the basis must fit the fuel
         if bases[0].basis == "energy" and not fuels[fid].is_gas and not any(
                 HEATING_VALUE_MARK.search(b.text) for b in bases):
             raise InputError(where, f"{bases[0].text!r} prices a liquid fuel per energy; "
@@ -1010,32 +1085,11 @@ def _prices(r: _Reader, fuels: Mapping[str, Fuel], currency: str
     return out
 
 
-def price_factor(price: Price, fuel: Fuel) -> float:
-    """Currency per joule (LHV) of a fuel per unit of the price's value.
-
-    Parameters
-    ----------
-    price : Price
-        The price, on any basis.
-    fuel : Fuel
-        The fuel it is the price of.
-
-    Returns
-    -------
-    float
-        Multiply :attr:`Price.value` by this to get [currency/J].
-
-    Raises
-    ------
-    InputError
-        The basis does not fit the fuel (per L of a compressed gas, per Sm3 of a liquid).
-    """
-    sheet = fuel_sheet(fuel)
-    liquid = fuel.storage is None or fuel.storage.kind in ("liquid", "liquefied")
-    return float(price_per_energy(
-        replace(price, value=1.0), lhv_mass=sheet.lhv_mass,
-        density=fuel.liquid_density if liquid else None,
-        molar_mass=sheet.molar_mass if fuel.is_gas else None, hhv_mass=sheet.hhv_mass))
+def sold_as_liquid(fuel: Fuel) -> bool:
+    """True when the fuel can be priced by liquid volume: stored as a liquid (or no storage
+    given) and with a liquid density."""
+    return fuel.liquid_density is not None and (
+        fuel.storage is None or fuel.storage.kind in ("liquid", "liquefied"))
 
 
 def _upstream(r: _Reader, fuels: Mapping[str, Fuel]) -> tuple[dict[str, Uncertain],

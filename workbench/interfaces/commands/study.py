@@ -10,7 +10,7 @@ from workbench.core.errors import InputError
 from workbench.core.text import json_safe
 from workbench.interfaces.sheets import format_table
 from workbench.io.files import check_target, write_text_atomic
-from workbench.study.results import StudyResult
+from workbench.study.results import StudyResult, missing_reason
 from workbench.study.studyfile import DEMO_STUDY, Study, read_study
 
 #: Keys of each candidate in ``study run --json``, from the candidates table.
@@ -21,9 +21,12 @@ JSON_KEYS = {
     "cost_per_km": "cost_per_km", "levelised_cost_per_km": "levelised_cost_per_km",
     "npv_vs_baseline": "npv_vs_baseline", "payback_years": "payback_years",
     "discounted_payback_years": "discounted_payback_years",
+    "co2e_avoided_t": "co2e_avoided_t", "raises_co2e": "raises_co2e",
     "cost_per_t_co2e_avoided": "cost_per_t_co2e_avoided",
+    "nox_avoided_kg": "nox_avoided_kg", "raises_nox": "raises_nox",
     "cost_per_kg_nox_avoided": "cost_per_kg_nox_avoided", "p_npv_positive": "p_npv_positive",
-    "p_payback_within_horizon": "p_payback_within_horizon", "npv_p10": "npv_p10",
+    "p_discounted_payback_within_horizon": "p_discounted_payback_within_horizon",
+    "npv_p10": "npv_p10",
     "npv_p50": "npv_p50", "npv_p90": "npv_p90",
 }
 
@@ -126,13 +129,14 @@ def _print_result(result: StudyResult, args: argparse.Namespace) -> None:
         "co2e_wtw_g_per_km": "g/km", "nox_g_per_km": "g/km", "cost_per_km": f"{cur}/km",
         "levelised_cost_per_km": f"{cur}/km", "npv_vs_baseline": cur,
         "payback_years": "year", "discounted_payback_years": "year",
-        "cost_per_t_co2e_avoided": f"{cur}/t", "cost_per_kg_nox_avoided": f"{cur}/kg",
-        "p_npv_positive": "-", "p_payback_within_horizon": "-",
+        "co2e_avoided_t": "t", "cost_per_t_co2e_avoided": f"{cur}/t",
+        "nox_avoided_kg": "kg", "cost_per_kg_nox_avoided": f"{cur}/kg",
+        "p_npv_positive": "-", "p_discounted_payback_within_horizon": "-",
         "npv_p10": cur, "npv_p90": cur,
     }
-    records = result_json(result)["candidates"]
+    records = [r | {"name": r["id"]} for r in result_json(result)["candidates"]]
     print(result.title)
-    print(format_table([{k: r.get(k) for k in units} | {"name": r["id"]} for r in records],
+    print(format_table([{k: missing_reason(r, k) or r.get(k) for k in units} for r in records],
                        units))
 
 

@@ -20,7 +20,7 @@ import plotly.io as pio
 from workbench.interfaces import charts
 from workbench.interfaces.panels.fields import esc
 from workbench.interfaces.panels.state import StudyState
-from workbench.study.results import StudyResult
+from workbench.study.results import StudyResult, missing_reason
 
 #: Charts the panel can show, by chart key: (menu label, builder).
 CHARTS = {
@@ -39,7 +39,7 @@ DEFAULT_CHARTS = ("cost_per_km", "cash_flow")
 #: Summary columns: candidates-table column -> (heading, format).
 SUMMARY = {
     "fuel": ("fuel", "{}"),
-    "cost_per_km": ("cost per km [{cur}/km]", "{:.4f}"),
+    "cost_per_km": ("cost per km, year 1 [{cur}/km]", "{:.4f}"),
     "co2e_wtw_g_per_km": ("CO2e well-to-wheel [g/km]", "{:.0f}"),
     "nox_g_per_km": ("tailpipe NOx [g/km]", "{:.3f}"),
     "npv_vs_baseline": ("NPV vs baseline [{cur}]", "{:,.0f}"),
@@ -92,7 +92,7 @@ def summary_html(result: StudyResult) -> str:
         for col, (_, fmt) in SUMMARY.items():
             value = r[col]
             missing = isinstance(value, float) and not math.isfinite(value)
-            text = "–" if missing else fmt.format(value)
+            text = (missing_reason(r, col) or "–") if missing else fmt.format(value)
             cells.append(f'<td data-candidate="{esc(r["candidate"])}" data-column="{col}" '
                          f'style="text-align:right;{pad}">{esc(text)}</td>')
         rows.append(f'<tr><td style="{pad}"><span style="color:{esc(r["colour"])}">■</span> '

@@ -1,15 +1,6 @@
-"""Money over time: discounting, annuities, payback, levelised and abatement cost, uncertainty.
+"""Uncertain inputs: distributions, seeded sampling, one-at-a-time sensitivity, summaries.
 
-Pure, vectorised numpy functions; the study layer decides what the cash flows and inputs are.
-
-Conventions
------------
-- A cash-flow array has the years along its **last axis**: index ``t = 0`` is now (the
-  conversion outlay), index ``t`` is the end of year ``t``. Any leading axes (Monte Carlo draws,
-  candidates) broadcast against the rate, which is a fraction per year (0.08, not 8).
-- Money is in the study currency [currency]; activity in SI ([m] driven, [kg] avoided), so a
-  levelised cost comes out per metre and an abatement cost per kilogram. Scale at the interface.
-- Monte Carlo draws are a leading axis: ``sample`` returns shape ``(n,)`` per input.
+Monte Carlo draws are a leading axis: :func:`sample` returns shape ``(n,)`` per input.
 """
 
 from __future__ import annotations
@@ -20,299 +11,23 @@ from typing import Literal
 
 import numpy as np
 import pandas as pd
-from numpy.typing import ArrayLike, NDArray
-from scipy.special import ndtri
+from numpy.typing import ArrayLike
+from scipy.special import ndtr, ndtri
 
 from workbench.core.errors import InputError
+from workbench.models.economics.finance import FloatArray, _out
 
 __all__ = [
+    "DISTRIBUTION_PARAMETERS",
+    "Correlation",
     "Distribution",
-    "abatement_cost",
-    "annuity_factor",
-    "capital_recovery_factor",
-    "discount_factors",
-    "discounted_payback",
-    "escalate",
-    "levelised_cost",
-    "npv",
     "probability_payback_within",
     "probability_positive",
-    "residual_value",
     "sample",
     "sample_inputs",
-    "simple_payback",
     "summarise",
     "tornado",
 ]
-
-FloatArray = NDArray[np.float64]
-
-
-def _out(x: FloatArray) -> FloatArray | float:
-    """A 0-d result as a Python float, anything else unchanged."""
-    return float(x) if np.ndim(x) == 0 else x
-
-
-def discount_factors(rate: ArrayLike, n_years: int) -> FloatArray:
-    """Present-value factors (P/F) for the end of years 0 … n_years.
-
-    Parameters
-    ----------
-    rate : float or array
-        Discount rate per year [-], > -1.
-    n_years : int
-        Last year.
-
-    Returns
-    -------
-    ndarray
-        Shape ``np.shape(rate) + (n_years + 1,)``: ``(1 + rate) ** -t``.
-    """
-    r = np.asarray(rate, dtype=float)[..., None]
-    return (1.0 + r) ** -np.arange(n_years + 1, dtype=float)
-
-
-def npv(rate: ArrayLike, cash_flows: ArrayLike) -> FloatArray | float:
-    """Net present value of cash flows at the end of years 0, 1, …
-
-    Parameters
-    ----------
-    rate : float or array
-        Discount rate per year [-]; broadcasts against the leading axes of ``cash_flows``.
-    cash_flows : array
-        [currency], years along the last axis, index 0 undiscounted.
-
-    Returns
-    -------
-    float or ndarray
-        [currency], the leading shape of ``cash_flows`` broadcast with ``rate``.
-
-    Notes
-    -----
-    ``NPV = sum_t CF_t / (1 + r) ** t``, the convention of ``numpy_financial.npv``.
-    """
-    cf = np.asarray(cash_flows, dtype=float)
-    return _out(np.sum(cf * discount_factors(rate, cf.shape[-1] - 1), axis=-1))
-
-
-def capital_recovery_factor(rate: ArrayLike, n_years: ArrayLike) -> FloatArray | float:
-    """Capital recovery factor (A/P): the level yearly payment that repays 1 over n years.
-
-    Parameters
-    ----------
-    rate : float or array
-        Interest rate per year [-]; 0 gives ``1 / n``.
-    n_years : float or array
-        Number of yearly payments, > 0.
-
-    Returns
-    -------
-    float or ndarray
-        [1/year] ``r (1 + r)**n / ((1 + r)**n - 1)``.
-    """
-    r = np.asarray(rate, dtype=float)
-    n = np.asarray(n_years, dtype=float)
-    g = (1.0 + r) ** n
-    with np.errstate(divide="ignore", invalid="ignore"):
-        crf = np.where(r == 0.0, 1.0 / n, r * g / (g - 1.0))
-    return _out(crf)
-
-
-def annuity_factor(rate: ArrayLike, n_years: ArrayLike) -> FloatArray | float:
-    """Present worth of 1 per year for n years (P/A), the inverse of the capital recovery factor.
-
-    Parameters
-    ----------
-    rate : float or array
-        Interest rate per year [-].
-    n_years : float or array
-        Number of yearly payments.
-
-    Returns
-    -------
-    float or ndarray
-        [year] ``((1 + r)**n - 1) / (r (1 + r)**n)``; ``n`` when ``r = 0``.
-    """
-    return _out(1.0 / np.asarray(capital_recovery_factor(rate, n_years)))
-
-
-def escalate(price: ArrayLike, escalation: ArrayLike, years: ArrayLike) -> FloatArray:
-    """Price in each year, growing at a constant yearly escalation.
-
-    Parameters
-    ----------
-    price : float or array
-        Price in year 0 [currency per unit].
-    escalation : float or array
-        Yearly escalation [-] (real if the discount rate is real); broadcasts with ``price``.
-    years : array
-        Years [year] (``np.arange(n + 1)`` for a cash-flow row).
-
-    Returns
-    -------
-    ndarray
-        Shape ``broadcast(price, escalation) + (len(years),)``: ``price (1 + e) ** years``.
-    """
-    p = np.asarray(price, dtype=float)[..., None]
-    e = np.asarray(escalation, dtype=float)[..., None]
-    return p * (1.0 + e) ** np.asarray(years, dtype=float)
-
-
-def _payback(flows: FloatArray) -> FloatArray | float:
-    """First time the cumulative sum of ``flows`` climbs back to zero after going negative."""
-    cum = np.cumsum(flows, axis=-1)
-    t = np.arange(flows.shape[-1])
-    negative = cum < 0.0
-    first_negative = np.argmax(negative, axis=-1)
-    back = (cum >= 0.0) & (t > first_negative[..., None])
-    k = np.argmax(back, axis=-1)
-    before = np.take_along_axis(cum, np.maximum(k - 1, 0)[..., None], axis=-1)[..., 0]
-    step = np.take_along_axis(flows, k[..., None], axis=-1)[..., 0]
-    with np.errstate(divide="ignore", invalid="ignore"):
-        years = (k - 1) - before / step
-    years = np.where(back.any(axis=-1), years, np.nan)
-    return _out(np.where(negative.any(axis=-1), years, 0.0))
-
-
-def simple_payback(cash_flows: ArrayLike) -> FloatArray | float:
-    """Undiscounted payback time [year], fractional, NaN when not within the horizon.
-
-    Parameters
-    ----------
-    cash_flows : array
-        [currency], years along the last axis (index 0 = outlay now).
-
-    Returns
-    -------
-    float or ndarray
-        [year] First time the cumulative cash flow climbs back to zero after going negative,
-        interpolating linearly within the year (flows spread evenly over the year); 0 when it
-        never goes negative; NaN when it has not climbed back by the last year.
-    """
-    return _payback(np.asarray(cash_flows, dtype=float))
-
-
-def discounted_payback(rate: ArrayLike, cash_flows: ArrayLike) -> FloatArray | float:
-    """Discounted payback time [year]: :func:`simple_payback` of the discounted cash flows.
-
-    Parameters
-    ----------
-    rate : float or array
-        Discount rate per year [-].
-    cash_flows : array
-        [currency], years along the last axis.
-
-    Returns
-    -------
-    float or ndarray
-        [year], NaN when the discounted cumulative cash flow stays negative over the horizon.
-    """
-    cf = np.asarray(cash_flows, dtype=float)
-    return _payback(cf * discount_factors(rate, cf.shape[-1] - 1))
-
-
-def levelised_cost(rate: ArrayLike, costs: ArrayLike, activity: ArrayLike) -> FloatArray | float:
-    """Levelised cost: present value of costs over present value of activity.
-
-    Parameters
-    ----------
-    rate : float or array
-        Discount rate per year [-].
-    costs : array
-        Yearly costs [currency], years along the last axis.
-    activity : array
-        Yearly activity on the same years, e.g. distance driven [m].
-
-    Returns
-    -------
-    float or ndarray
-        [currency per unit of activity], e.g. [currency/m]; NaN when there is no activity.
-
-    Notes
-    -----
-    ``LC = sum_t C_t (1+r)^-t / sum_t A_t (1+r)^-t``: the constant price per unit of activity
-    whose revenue has the same present value as the costs.
-    """
-    pv_a = np.asarray(npv(rate, activity))
-    with np.errstate(divide="ignore", invalid="ignore"):
-        return _out(np.where(pv_a > 0.0, np.asarray(npv(rate, costs)) / pv_a, np.nan))
-
-
-def abatement_cost(
-    rate: ArrayLike,
-    extra_cost: ArrayLike,
-    avoided: ArrayLike,
-    *,
-    discount_avoided: bool = True,
-) -> FloatArray | float:
-    """Cost per unit of emission avoided by switching from the baseline to a candidate.
-
-    Parameters
-    ----------
-    rate : float or array
-        Discount rate per year [-].
-    extra_cost : array
-        Candidate's cost minus the baseline's each year [currency], years along the last axis
-        (negative when the candidate saves money).
-    avoided : array
-        Baseline's emission minus the candidate's each year [kg] (CO2e or NOx).
-    discount_avoided : bool, optional
-        Discount the avoided emissions like money (levelised, the default) or sum them.
-
-    Returns
-    -------
-    float or ndarray
-        [currency/kg]; negative when the switch saves money; NaN when nothing is avoided.
-        Multiply by 1000 for currency per tonne.
-    """
-    av = np.asarray(avoided, dtype=float)
-    amount = np.asarray(npv(rate, av)) if discount_avoided else np.sum(av, axis=-1)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        return _out(np.where(amount > 0.0, np.asarray(npv(rate, extra_cost)) / amount, np.nan))
-
-
-def residual_value(
-    cost: ArrayLike,
-    age: ArrayLike,
-    *,
-    life: ArrayLike | None = None,
-    method: Literal["straight_line", "declining_balance"] = "straight_line",
-    yearly_loss: ArrayLike | None = None,
-) -> FloatArray | float:
-    """Value left in an asset (conversion kit, tank) at a given age.
-
-    Parameters
-    ----------
-    cost : float or array
-        First cost [currency].
-    age : float or array
-        Age [year].
-    life : float or array, optional
-        Useful life [year], for ``"straight_line"``.
-    method : {"straight_line", "declining_balance"}
-        Straight line to zero at ``life``, or a constant fraction ``yearly_loss`` lost a year.
-    yearly_loss : float or array, optional
-        Fraction of value lost each year [-], for ``"declining_balance"``.
-
-    Returns
-    -------
-    float or ndarray
-        [currency] ``cost max(0, 1 - age/life)`` or ``cost (1 - yearly_loss) ** age``.
-    """
-    c = np.asarray(cost, dtype=float)
-    a = np.asarray(age, dtype=float)
-    if method == "straight_line":
-        if life is None:
-            raise ValueError("straight_line residual value needs life")
-        return _out(c * np.clip(1.0 - a / np.asarray(life, dtype=float), 0.0, 1.0))
-    if method == "declining_balance":
-        if yearly_loss is None:
-            raise ValueError("declining_balance residual value needs yearly_loss")
-        return _out(c * (1.0 - np.asarray(yearly_loss, dtype=float)) ** a)
-    raise ValueError(f"unknown residual value method {method!r}")
-
-
-# --- uncertainty -------------------------------------------------------------------------------
 
 Kind = Literal["fixed", "uniform", "triangular", "normal", "lognormal"]
 #: Parameters each distribution kind takes.
@@ -337,6 +52,11 @@ class Distribution:
         input itself (for the lognormal, ``mean > 0``).
     value, low, mode, high, mean, sd : float or None
         In the input's own unit.
+    lower, upper : float or None
+        Range of the input [input unit]: a ``normal`` distribution is truncated to it (its
+        quantile function renormalised over the range, so no draw leaves it; a price, a
+        distance or a cost cannot draw below 0). The study file sets them from each input's
+        valid range; other kinds must lie within it already.
     where : str
         Key path used in error messages (``"uncertainty.diesel_price"``).
 
@@ -354,6 +74,8 @@ class Distribution:
     high: float | None = None
     mean: float | None = None
     sd: float | None = None
+    lower: float | None = None
+    upper: float | None = None
     where: str = field(default="distribution", compare=False)
 
     def __post_init__(self) -> None:
@@ -384,6 +106,12 @@ class Distribution:
             )
         if self.sd is not None and self.sd < 0:
             raise InputError(f"{w}.sd", f"sd ({self.sd}) must be zero or positive")
+        if (self.lower is not None and self.upper is not None
+                and not self.lower < self.upper):
+            raise InputError(w, f"range {self.lower}..{self.upper} is empty")
+        if self.kind == "normal" and not self._in_range(self.mean):  # type: ignore[arg-type]
+            raise InputError(f"{w}.mean", f"mean ({self.mean}) lies outside the input's "
+                             f"range {self.lower}..{self.upper}")
         if self.kind == "lognormal" and self.mean <= 0:  # type: ignore[operator]
             raise InputError(
                 f"{w}.mean",
@@ -410,7 +138,7 @@ class Distribution:
             return cls("fixed", value=float(spec), where=where)
         if not isinstance(spec, Mapping):
             raise InputError(where, f"expected a number or a table with 'kind', got {spec!r}")
-        names = {f.name for f in fields(cls)} - {"where"}
+        names = {f.name for f in fields(cls)} - {"where", "lower", "upper"}
         unknown = set(spec) - names
         if unknown:
             raise InputError(
@@ -421,6 +149,24 @@ class Distribution:
             kinds = ", ".join(DISTRIBUTION_PARAMETERS)
             raise InputError(f"{where}.kind", f"missing; use one of {kinds}")
         return cls(**spec, where=where)  # type: ignore[arg-type]
+
+    def _in_range(self, x: float) -> bool:
+        return ((self.lower is None or x >= self.lower)
+                and (self.upper is None or x <= self.upper))
+
+    @property
+    def truncated(self) -> bool:
+        """True for a normal distribution cut to its input's range."""
+        return (self.kind == "normal" and bool(self.sd)
+                and (self.lower is not None or self.upper is not None))
+
+    @property
+    def _standard_range(self) -> tuple[float, float]:
+        """Ends of the range in standard units of the normal (infinite when open)."""
+        mean, sd = float(self.mean), float(self.sd)  # type: ignore[arg-type]
+        alpha = -np.inf if self.lower is None else (self.lower - mean) / sd
+        beta = np.inf if self.upper is None else (self.upper - mean) / sd
+        return alpha, beta
 
     @property
     def _lognormal_mu_sigma(self) -> tuple[float, float]:
@@ -435,13 +181,24 @@ class Distribution:
         return self.kind == "fixed" or self.sd == 0
 
     def expected_value(self) -> float:
-        """Analytic mean of the distribution [input unit]."""
+        """Analytic mean of the distribution [input unit] (of the truncated normal when cut).
+
+        Notes
+        -----
+        Truncated to ``[a, b]`` in standard units ``alpha, beta``:
+        ``mean + sd (phi(alpha) - phi(beta)) / (Phi(beta) - Phi(alpha))``.
+        """
         if self.kind == "fixed":
             return float(self.value)  # type: ignore[arg-type]
         if self.kind == "uniform":
             return (self.low + self.high) / 2.0  # type: ignore[operator]
         if self.kind == "triangular":
             return (self.low + self.mode + self.high) / 3.0  # type: ignore[operator]
+        if self.truncated:
+            alpha, beta = self._standard_range
+            density = np.exp(-0.5 * np.square([alpha, beta])) / np.sqrt(2.0 * np.pi)
+            mass = ndtr(beta) - ndtr(alpha)
+            return float(self.mean + self.sd * (density[0] - density[1]) / mass)  # type: ignore[operator]
         return float(self.mean)  # type: ignore[arg-type]
 
     def ppf(self, q: ArrayLike) -> FloatArray | float:
@@ -469,6 +226,9 @@ class Distribution:
             right = hi - np.sqrt((1.0 - p) * (hi - lo) * (hi - c))  # type: ignore[operator]
             return _out(np.where(p <= f_c, left, right))
         if self.kind == "normal":
+            if self.truncated:
+                pa, pb = ndtr(self._standard_range)
+                p = pa + p * (pb - pa)
             return _out(self.mean + self.sd * ndtri(p))  # type: ignore[operator]
         mu, sigma = self._lognormal_mu_sigma
         return _out(np.exp(mu + sigma * ndtri(p)))
@@ -497,16 +257,87 @@ def sample(dist: Distribution, n: int, rng: np.random.Generator) -> FloatArray:
         return rng.uniform(dist.low, dist.high, n)
     if dist.kind == "triangular":
         return rng.triangular(dist.low, dist.mode, dist.high, n)
+    if dist.truncated:
+        return np.asarray(dist.ppf(rng.uniform(0.0, 1.0, n)), dtype=float)
     if dist.kind == "normal":
         return rng.normal(dist.mean, dist.sd, n)
     mu, sigma = dist._lognormal_mu_sigma
     return rng.lognormal(mu, sigma, n)
 
 
+@dataclass(frozen=True)
+class Correlation:
+    """Rank-style correlation between uncertain inputs, drawn through a Gaussian copula.
+
+    Attributes
+    ----------
+    names : tuple of str
+        The correlated inputs, in the matrix's order.
+    matrix : tuple of tuple of float
+        Correlation matrix of the inputs' normal scores [-]: symmetric, ones on the diagonal,
+        entries in [-1, 1], positive semi-definite.
+    where : str
+        Key path named in errors (``"correlations"``).
+
+    Raises
+    ------
+    InputError
+        A matrix that is not square over ``names``, not symmetric, has a diagonal other than 1,
+        an entry outside [-1, 1], or is not positive semi-definite (the correlations contradict
+        each other); a name given twice.
+
+    Notes
+    -----
+    Each draw takes standard normal scores ``z ~ N(0, R)`` (``z = A g`` with ``A A^T = R``
+    from the eigen-decomposition, ``g`` independent standard normals), turns them into
+    probabilities ``u = Phi(z)`` and each input into its own quantile ``x_i = F_i^-1(u_i)``.
+    Every input keeps its own distribution; ``R`` is the correlation of the normal scores
+    (for two inputs, Spearman's rank correlation is ``(6 / pi) asin(R / 2)``, within 0.02 of
+    ``R``).
+    """
+
+    names: tuple[str, ...]
+    matrix: tuple[tuple[float, ...], ...]
+    where: str = field(default="correlations", compare=False)
+
+    def __post_init__(self) -> None:
+        w = self.where
+        if len(set(self.names)) != len(self.names):
+            dup = next(x for x in self.names if self.names.count(x) > 1)
+            raise InputError(w, f"{dup} is named twice; name each input once")
+        m = np.asarray(self.matrix, dtype=float)
+        k = len(self.names)
+        if m.shape != (k, k):
+            raise InputError(w, f"the matrix must be {k} x {k}, one row and column per input "
+                             f"({', '.join(self.names)})")
+        if not np.all(np.isfinite(m)):
+            raise InputError(w, "correlations must be finite numbers")
+        if not np.allclose(m, m.T, rtol=0, atol=1e-12):
+            i, j = np.argwhere(np.abs(m - m.T) > 1e-12)[0]
+            raise InputError(w, f"not symmetric: {self.names[i]} ~ {self.names[j]} is {m[i, j]} "
+                             f"one way and {m[j, i]} the other")
+        if not np.allclose(np.diag(m), 1.0, rtol=0, atol=1e-12):
+            raise InputError(w, "the diagonal (an input with itself) must be 1")
+        if np.any(np.abs(m) > 1.0):
+            raise InputError(w, "a correlation must lie between -1 and 1")
+        smallest = float(np.linalg.eigvalsh(m).min())
+        if smallest < -1e-9:
+            raise InputError(w, f"the correlations contradict each other (the matrix is not "
+                             f"positive semi-definite, smallest eigenvalue {smallest:.3g}); "
+                             "lower some of them")
+
+    def scores(self, n: int, rng: np.random.Generator) -> FloatArray:
+        """Correlated standard normal scores, shape (n, len(names))."""
+        values, vectors = np.linalg.eigh(np.asarray(self.matrix, dtype=float))
+        root = vectors * np.sqrt(np.clip(values, 0.0, None))
+        return rng.standard_normal((n, len(self.names))) @ root.T
+
+
 def sample_inputs(
-    dists: Mapping[str, Distribution], n: int, rng: np.random.Generator | int | None
+    dists: Mapping[str, Distribution], n: int, rng: np.random.Generator | int | None,
+    *, correlation: Correlation | None = None,
 ) -> dict[str, FloatArray]:
-    """Draw ``n`` values of every input, in the mapping's order, from one generator.
+    """Draw ``n`` values of every input from one generator, correlated ones through a copula.
 
     Parameters
     ----------
@@ -516,14 +347,32 @@ def sample_inputs(
         Number of draws.
     rng : numpy.random.Generator or int or None
         A generator, or a seed for ``np.random.default_rng``.
+    correlation : Correlation, optional
+        Correlation between some of the inputs (names of ``dists``); the others are drawn
+        independently.
 
     Returns
     -------
     dict of str to ndarray
-        Each of shape ``(n,)``.
+        Each of shape ``(n,)``, in the mapping's order.
+
+    Notes
+    -----
+    Independent inputs are drawn first, in the mapping's order, then the correlated ones
+    (:class:`Correlation`): the same seed gives the same draws, and a study without
+    correlations draws what it drew before they existed.
     """
     gen = np.random.default_rng(rng)
-    return {name: sample(d, n, gen) for name, d in dists.items()}
+    together = () if correlation is None else correlation.names
+    unknown = [k for k in together if k not in dists]
+    if unknown:
+        raise InputError(correlation.where, f"{unknown[0]} is not an uncertain input")  # type: ignore[union-attr]
+    out = {name: sample(d, n, gen) for name, d in dists.items() if name not in together}
+    if correlation is not None:
+        u = ndtr(correlation.scores(n, gen))
+        for i, name in enumerate(together):
+            out[name] = np.asarray(dists[name].ppf(u[:, i]), dtype=float).reshape(n)
+    return {name: out[name] for name in dists}
 
 
 def tornado(

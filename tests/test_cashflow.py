@@ -1,0 +1,143 @@
+"""Tests of workbench.models.economics.cashflow against a cash flow built by hand.
+
+The case is invented (two vehicles, three years) so that every number below can be worked out
+on paper; the comments show the arithmetic. Conventions checked are the glossary's: year 0 is
+the conversion year, year 1 is at today's prices, residual value straight line at the horizon.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+from numpy.testing import assert_allclose
+
+from workbench.models import economics as econ
+
+H = 3
+ACTIVE = np.array([0.0, 1.0, 1.0, 1.0])  # runs in years 1..3
+
+
+def _baseline(price_per_j: float | np.ndarray = 2e-8) -> econ.ClassLine:
+    return econ.ClassLine(
+        count=2, active=ACTIVE, km_per_year=1e7, km_per_year_nominal=1e7,
+        fuel_energy_per_m=3000.0, tailpipe_co2e_per_m=2e-4, catalyst_cost=np.zeros(H + 1),
+            price_per_j=price_per_j, escalation=0.10, upstream_co2e_per_j=0.0,
+        upkeep_per_year=500.0,
+        tank_inspection_cost=0.0, tank_inspection_interval=0, converts=False,
+        conversion_cost=0.0, downtime_days=0.0, daily_revenue=0.0, remaining_life_years=6,
+        nox_mass=np.array([0.0, 10.0, 10.0, 10.0]))
+
+
+def _converted() -> econ.ClassLine:
+    return econ.ClassLine(
+        count=2, active=ACTIVE, km_per_year=1e7, km_per_year_nominal=1e7,
+        fuel_energy_per_m=3300.0, tailpipe_co2e_per_m=1.6e-4,
+        catalyst_cost=np.array([0.0, 10.0, 10.0, 10.0]), price_per_j=1.5e-8, escalation=0.0,
+        upstream_co2e_per_j=0.0, upkeep_per_year=600.0, tank_inspection_cost=50.0,
+        tank_inspection_interval=2, converts=True, conversion_cost=3000.0, downtime_days=2.0,
+        daily_revenue=100.0, remaining_life_years=6, nox_mass=np.array([0.0, 4.0, 4.0, 4.0]))
+
+
+def _money(price: float | np.ndarray = 2e-8, n: int = 1) -> econ.Money:
+    options = {
+        "base": econ.OptionLines([_baseline(price)], 0.0, 0.0),
+        "gas": econ.OptionLines([_converted()], 1000.0, 200.0),
+    }
+    return econ.programme_money(options, baseline="base", rate=0.05, carbon_price=0.1,
+                                horizon=H, n=n)
+
+
+def test_baseline_costs_by_hand():
+    # 2 vehicles x 1e7 m = 2e7 m a year; x 3000 J/m = 6e10 J; x 2e-8 /J = 1200 in year 1,
+    # then +10 % a year: 1320, 1452. Carbon 2e7 m x 2e-4 kg/m = 4000 kg x 0.1 = 400 a year.
+    # Upkeep 2 x 500 = 1000 a year. Year 0 buys nothing.
+    m = _money()
+    assert_allclose(m.costs["base"][0], [0.0, 2600.0, 2720.0, 2852.0], rtol=1e-12)
+    assert_allclose(m.carbon["base"][0], [0.0, 400.0, 400.0, 400.0], rtol=1e-12)
+    assert_allclose(m.co2e["base"][0], [0.0, 4000.0, 4000.0, 4000.0], rtol=1e-12)
+    assert_allclose(m.km[0], [0.0, 2e7, 2e7, 2e7], rtol=1e-12)
+    assert_allclose(m.residual["base"][0], 0.0, atol=0)
+
+
+def test_converted_option_by_hand():
+    # Year 0: conversion 2 x 3000 = 6000, downtime 2 days x 100 x 2 = 400, programme 1000.
+    # Years 1-3: fuel 2e7 x 3300 x 1.5e-8 = 990; carbon 2e7 x 1.6e-4 = 3200 kg -> 320;
+    # upkeep 1200; catalysts 10; programme upkeep 200 -> 2720; year 2 adds the tank
+    # inspections (every 2 years) 2 x 50 = 100.
+    # Residual at year 3 of a 6-year life: 6000 x (1 - 3/6) = 3000.
+    m = _money()
+    assert_allclose(m.costs["gas"][0], [7400.0, 2720.0, 2820.0, 2720.0], rtol=1e-12)
+    assert_allclose(m.residual["gas"][0], [0.0, 0.0, 0.0, 3000.0], rtol=1e-12)
+    assert_allclose(m.cash["gas"][0], [-7400.0, -2720.0, -2820.0, 280.0], rtol=1e-12)
+
+
+def test_draws_run_along_the_first_axis():
+    # Second draw: the baseline's price doubled, so its fuel doubles: 2400, 2640, 2904.
+    m = _money(np.array([2e-8, 4e-8]), n=2)
+    assert m.costs["base"].shape == (2, H + 1)
+    assert_allclose(m.costs["base"][1], [0.0, 3800.0, 4040.0, 4304.0], rtol=1e-12)
+    assert_allclose(m.costs["gas"][0], m.costs["gas"][1], rtol=0)
+
+
+def test_physics_draws_interpolate_each_response():
+    # Nominal 3000 J/m; the response gives 2800 J/m at x = 0 and 3400 J/m at x = 1, so a
+    # draw at x = 0.5 is 3100 J/m (linear), one at x = 2 is held at 3400 (end value).
+    r = econ.Response("a", np.array([0.0, 1.0]), np.array([2800.0, 3400.0]),
+                      np.array([1e-4, 1e-4]), np.zeros((2, H + 1)))
+    e, t, c = econ.physics_draws(3000.0, 1e-4, np.zeros(H + 1), [r],
+                                 {"a": np.array([0.5, 2.0])}, 2)
+    assert_allclose(e[:, 0], [3100.0, 3400.0], rtol=1e-12)
+    assert_allclose(t[:, 0], 1e-4, rtol=1e-12)
+    assert c.shape == (2, H + 1)
+
+
+# --- the money definitions (docs/glossary.md, "Money definitions"), on the same case --------
+# Discount factors at 5 %: 1/1.05, 1/1.05**2, 1/1.05**3 written out by hand below.
+# Net cost without carbon (costs - carbon - residual):
+#   baseline [0, 2600 - 400, 2720 - 400, 2852 - 400]            = [0, 2200, 2320, 2452]
+#   gas      [7400, 2720 - 320, 2820 - 320, 2720 - 320 - 3000]  = [7400, 2400, 2500, -600]
+#   extra    = [7400, 200, 180, -3052]
+EXTRA_PV = 7400 + 200 / 1.05 + 180 / 1.05**2 - 3052 / 1.05**3
+ANNUITY_3 = 1 / 1.05 + 1 / 1.05**2 + 1 / 1.05**3
+
+
+def test_npv_and_payback_by_hand():
+    # Cash: gas [-7400, -2720, -2820, 3000 - 2720], baseline [0, -2600, -2720, -2852];
+    # difference [-7400, -120, -100, 3132]: still negative at the horizon, so no payback.
+    c = econ.compare(_money(), "gas", "base")
+    assert_allclose(c.npv, [-7400 - 120 / 1.05 - 100 / 1.05**2 + 3132 / 1.05**3], rtol=1e-12)
+    assert np.isnan(c.simple_payback[0]) and np.isnan(c.discounted_payback[0])
+
+
+def test_abatement_cost_uses_the_npv_net_cost_without_carbon_payments():
+    # CO2e avoided 4000 - 3200 = 800 kg in each of years 1-3 (2400 kg over the programme).
+    c = econ.compare(_money(), "gas", "base")
+    assert_allclose(c.co2e_avoided, [2400.0], rtol=1e-12)
+    assert_allclose(c.cost_per_kg_co2e_avoided, [EXTRA_PV / (800 * ANNUITY_3)], rtol=1e-12)
+    # NOx avoided 10 - 4 = 6 kg a year: the same net cost over the discounted NOx.
+    assert_allclose(c.nox_avoided, [18.0], rtol=1e-12)
+    assert_allclose(c.cost_per_kg_nox_avoided, [EXTRA_PV / (6 * ANNUITY_3)], rtol=1e-12)
+
+
+def test_a_raised_emission_is_a_negative_avoided_and_no_abatement_cost():
+    # The baseline against the gas option: it emits 800 kg a year more.
+    c = econ.compare(_money(), "base", "gas")
+    assert_allclose(c.co2e_avoided, [-2400.0], rtol=1e-12)
+    assert np.isnan(c.cost_per_kg_co2e_avoided[0])
+
+
+def test_levelised_cost_credits_the_residual():
+    # PV of (costs - residual) of the gas option over PV of 2e7 m a year in years 1-3.
+    pv_cost = 7400 + 2720 / 1.05 + 2820 / 1.05**2 + (2720 - 3000) / 1.05**3
+    assert_allclose(econ.levelised_cost_per_m(_money(), "gas"), [pv_cost / (2e7 * ANNUITY_3)],
+                    rtol=1e-12)
+
+
+def test_first_year_cost_per_km_by_item():
+    # Fuel 3300 J/m x 1.5e-8 /J + carbon 1.6e-4 kg/m x 0.1 /kg. Upkeep 600 a vehicle-year,
+    # catalysts 30 over 2 vehicles and 3 years = 5, one inspection of 50 in 3 years. Capital:
+    # conversion 3000 + downtime 2 x 100, times the capital recovery factor
+    # r (1+r)^n / ((1+r)^n - 1) at 5 % over the 6-year life; all per 1e7 m a year.
+    out = econ.cost_per_m(_converted(), rate=0.05, carbon_price=0.1)
+    assert_allclose(out["fuel"], 3300 * 1.5e-8 + 1.6e-4 * 0.1, rtol=1e-12)
+    assert_allclose(out["upkeep"], (600 + 30 / 2 / 3 + 50 / 3) / 1e7, rtol=1e-12)
+    assert_allclose(out["capital"], 3200 * 0.05 * 1.05**6 / (1.05**6 - 1) / 1e7, rtol=1e-12)

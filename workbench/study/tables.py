@@ -1,0 +1,344 @@
+"""The tables of a study's result, laid out from the plan and the money (tidy, one row per
+candidate × class × metric or per year; column names in ``workbench.study.results.COLUMNS``).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from typing import TYPE_CHECKING
+
+import numpy as np
+import pandas as pd
+
+from workbench.core.fuels import Fuel
+from workbench.models import economics as econ
+from workbench.models.nox import DEFAULT_ENGINE_OUT, engine_preset, nox_sweep
+from workbench.study.results import COLUMNS, PALETTE, StudyResult
+from workbench.study.studyfile import Study, StudyInputs, all_uncertain
+
+if TYPE_CHECKING:
+    from workbench.study.runner import Plan
+
+#: Equivalence ratios of the flame table [-].
+FLAME_PHI = (0.7, 0.8, 0.9, 1.0, 1.1, 1.2, 1.3)
+
+
+def study_result(study: Study, plan: Plan, lines: Mapping[str, econ.OptionLines],
+                 det: econ.Money, draws: Mapping[str, econ.NPVDraws],
+                 sensitivity: Mapping[str, pd.DataFrame], n: int) -> StudyResult:
+    """Lay a run's plan and money out as a :class:`StudyResult`.
+
+    Parameters
+    ----------
+    study : Study
+        The study run.
+    plan : Plan
+        Its physics.
+    lines : mapping of str to OptionLines
+        What the nominal cash flows of each option were built from (one draw).
+    det : Money
+        The deterministic money (one draw at the nominal inputs).
+    draws : mapping of str to NPVDraws
+        Each candidate's NPV and payback over the Monte Carlo draws; empty without them.
+    sensitivity : mapping of str to DataFrame
+        :func:`workbench.models.economics.tornado` of the NPV, by candidate.
+    n : int
+        Monte Carlo draws.
+
+    Returns
+    -------
+    StudyResult
+    """
+    inputs = plan.inputs
+    colours = {o.id: PALETTE[i % len(PALETTE)] for i, o in enumerate(inputs.options)}
+    per_km = _frame("per_km", _per_km_rows(plan, lines, det))
+    return StudyResult(
+        title=inputs.title,
+        currency=inputs.currency,
+        candidates=_candidates_table(plan, det, per_km, draws, colours),
+        per_km=per_km,
+        cash_flows=_cash_flow_table(plan, det),
+        fleet_years=_fleet_years_table(plan, det),
+        nox_monthly=_nox_monthly_table(plan),
+        storage=_storage_table(plan),
+        monte_carlo=_monte_carlo_table({k: v.npv for k, v in draws.items()}),
+        tornado=_tornado_table(plan, sensitivity),
+        operating_points=_operating_points_table(plan),
+        flame=_flame_table(plan),
+        catalyst=_catalyst_table(plan),
+        assumptions=_assumptions(study, n),
+        sources=_sources(inputs),
+    )
+
+
+def _empty(name: str) -> pd.DataFrame:
+    return pd.DataFrame({c: pd.Series(dtype=float) for c in COLUMNS[name]})
+
+
+def _frame(name: str, rows: list[dict]) -> pd.DataFrame:
+    return pd.DataFrame(rows, columns=list(COLUMNS[name])) if rows else _empty(name)
+
+
+def _per_km_rows(plan: Plan, lines: Mapping[str, econ.OptionLines],
+                 det: econ.Money) -> list[dict]:
+    inputs = plan.inputs
+    rate = float(det.rate[0])
+    carbon = inputs.carbon_price.nominal
+    rows = []
+    for o in inputs.options:
+        for c, line in zip(inputs.classes, lines[o.id].classes, strict=True):
+            co = o.per_class[c.id]
+            ph = plan.physics[o.id, c.id]
+            cost = econ.cost_per_m(line, rate=rate, carbon_price=carbon)
+            co2e_m = (inputs.upstream[co.fuel.id].nominal * ph.fuel_energy_per_m
+                      + ph.tailpipe_co2e_per_m)
+            rows.append({
+                "candidate": o.id, "vehicle_class": c.id, "fuel": co.fuel.id,
+                "fuel_energy_mj_per_km": ph.fuel_energy_per_m * 1e-3,
+                "fuel_l_per_100km": ph.fuel_volume_per_m * 1e8,
+                "fuel_kg_per_100km": ph.fuel_mass_per_m * 1e5,
+                "co2_ttw_g_per_km": ph.co2_ttw_per_m * 1e6,
+                "co2e_wtw_g_per_km": co2e_m * 1e6,
+                "nox_engine_out_g_per_km": ph.engine_out_nox_per_m * 1e6,
+                "nox_g_per_km": float(ph.monthly["tailpipe_g_per_km"].mean()),
+                "cost_fuel_per_km": cost["fuel"] * 1e3,
+                "cost_upkeep_per_km": cost["upkeep"] * 1e3,
+                "cost_capital_per_km": cost["capital"] * 1e3,
+                "cost_per_km": (cost["fuel"] + cost["upkeep"] + cost["capital"]) * 1e3,
+                "share_out_of_map": ph.share_out_of_map,
+                "share_full_load": ph.share_full_load,
+            })
+    return rows
+
+
+def _candidates_table(plan: Plan, det: econ.Money, per_km: pd.DataFrame,
+                      draws: Mapping[str, econ.NPVDraws],
+                      colours: Mapping[str, str]) -> pd.DataFrame:
+    inputs = plan.inputs
+    per_km = per_km.copy()
+    weights = {c.id: c.count * c.km_per_year.nominal for c in inputs.classes}
+    per_km["w"] = per_km["vehicle_class"].map(weights)
+    base = inputs.baseline.id
+    h = inputs.horizon_years
+    nan = float("nan")
+    rows = []
+    for o in inputs.options:
+        sub = per_km[per_km["candidate"] == o.id]
+
+        def avg(col: str, _sub: pd.DataFrame = sub) -> float:
+            return float(np.average(_sub[col], weights=_sub["w"]))
+
+        vs = None if o.is_baseline else econ.compare(det, o.id, base)
+        mc = draws.get(o.id)
+        pct = np.percentile(mc.npv, [10, 50, 90]) if mc is not None else [nan] * 3
+        rows.append({
+            "candidate": o.id, "name": o.name,
+            "fuel": "/".join(dict.fromkeys(co.fuel.id for co in o.per_class.values())),
+            "is_baseline": o.is_baseline, "colour": colours[o.id],
+            "fuel_energy_mj_per_km": avg("fuel_energy_mj_per_km"),
+            "co2_ttw_g_per_km": avg("co2_ttw_g_per_km"),
+            "co2e_wtw_g_per_km": avg("co2e_wtw_g_per_km"),
+            "nox_g_per_km": avg("nox_g_per_km"),
+            "cost_per_km": avg("cost_per_km"),
+            "levelised_cost_per_km": float(econ.levelised_cost_per_m(det, o.id)[0]) * 1e3,
+            "npv_vs_baseline": nan if vs is None else float(vs.npv[0]),
+            "payback_years": nan if vs is None else float(vs.simple_payback[0]),
+            "discounted_payback_years": nan if vs is None else float(vs.discounted_payback[0]),
+            "co2e_avoided_t": nan if vs is None else float(vs.co2e_avoided[0]) * 1e-3,
+            "raises_co2e": False if vs is None else bool(vs.co2e_avoided[0] < 0),
+            "cost_per_t_co2e_avoided": nan if vs is None else float(
+                vs.cost_per_kg_co2e_avoided[0]) * 1e3,
+            "nox_avoided_kg": nan if vs is None else float(vs.nox_avoided[0]),
+            "raises_nox": False if vs is None else bool(vs.nox_avoided[0] < 0),
+            "cost_per_kg_nox_avoided": nan if vs is None else float(
+                vs.cost_per_kg_nox_avoided[0]),
+            "p_npv_positive": nan if mc is None else float(econ.probability_positive(mc.npv)),
+            "p_discounted_payback_within_horizon": nan if mc is None else float(
+                econ.probability_payback_within(mc.discounted_payback, h)),
+            "npv_p10": pct[0], "npv_p50": pct[1], "npv_p90": pct[2],
+        })
+    return _frame("candidates", rows)
+
+
+def _cash_flow_table(plan: Plan, det: econ.Money) -> pd.DataFrame:
+    inputs = plan.inputs
+    rate = float(det.rate[0])
+    factors = np.asarray(econ.discount_factors(rate, inputs.horizon_years)).reshape(-1)
+    rows = []
+    base = det.cash[inputs.baseline.id][0]
+    for o in inputs.options:
+        flows = det.cash[o.id][0]
+        diff = flows - base
+        disc = diff * factors
+        cum = np.cumsum(disc)
+        for y in range(inputs.horizon_years + 1):
+            rows.append({"candidate": o.id, "year": inputs.start_year + y,
+                         "cash_flow": flows[y], "cash_flow_vs_baseline": diff[y],
+                         "discounted_vs_baseline": disc[y],
+                         "cumulative_discounted_vs_baseline": cum[y]})
+    return _frame("cash_flows", rows)
+
+
+def _fleet_years_table(plan: Plan, det: econ.Money) -> pd.DataFrame:
+    inputs = plan.inputs
+    rows = []
+    for o in inputs.options:
+        for y in range(inputs.horizon_years + 1):
+            energy = ttw = nox = 0.0
+            repl = 0.0
+            for c in inputs.classes:
+                ph = plan.physics[o.id, c.id]
+                km = c.km_per_year.nominal * c.count * plan.active[c.id][y]
+                energy += km * ph.fuel_energy_per_m
+                ttw += km * ph.co2_ttw_per_m
+                nox += plan.nox_t[o.id, c.id][y]
+                repl += plan.replacements[o.id, c.id][y]
+            rows.append({"candidate": o.id, "year": inputs.start_year + y,
+                         "fuel_energy_gj": energy / 1e9, "co2_ttw_t": ttw / 1e3,
+                         "co2e_wtw_t": det.co2e[o.id][0][y] / 1e3, "nox_t": nox,
+                         "catalyst_replacements": repl, "cost_total": det.costs[o.id][0][y]})
+    return _frame("fleet_years", rows)
+
+
+def _nox_monthly_table(plan: Plan) -> pd.DataFrame:
+    frames = []
+    for (oid, cid), ph in plan.physics.items():
+        m = ph.monthly
+        frames.append(pd.DataFrame({
+            "candidate": oid, "vehicle_class": cid, "month": m["month"],
+            "catalyst_efficiency": m["efficiency"], "nox_g_per_km": m["tailpipe_g_per_km"],
+            "replaced": m["replacements"] > 0}))
+    return pd.concat(frames, ignore_index=True)[list(COLUMNS["nox_monthly"])]
+
+
+def _storage_table(plan: Plan) -> pd.DataFrame:
+    rows = [{"candidate": oid, "vehicle_class": cid,
+             "fuel": _fuel(plan.inputs, oid, cid).id, **ph.storage}
+            for (oid, cid), ph in plan.physics.items()]
+    return _frame("storage", rows)
+
+
+def _fuel(inputs: StudyInputs, option_id: str, class_id: str) -> Fuel:
+    """The fuel an option gives a class."""
+    option = next(o for o in inputs.options if o.id == option_id)
+    return option.per_class[class_id].fuel
+
+
+def _monte_carlo_table(mc: Mapping[str, np.ndarray]) -> pd.DataFrame:
+    frames = [pd.DataFrame({"candidate": oid, "draw": np.arange(len(v)),
+                            "npv_vs_baseline": v}) for oid, v in mc.items()]
+    return pd.concat(frames, ignore_index=True) if frames else _empty("monte_carlo")
+
+
+def _tornado_table(plan: Plan, sensitivity: Mapping[str, pd.DataFrame]) -> pd.DataFrame:
+    units = {u.path: (u.unit, u.scale) for u in all_uncertain(plan.inputs)}
+    frames = []
+    for oid, t in sensitivity.items():
+        t = t[t["swing"] > 1e-9 * max(float(t["swing"].max()), 1.0)]
+        scale = t["input"].map(lambda p: units[p][1]).astype(float)
+        frames.append(pd.DataFrame({
+            "candidate": oid,
+            "input": t["input"].map(lambda p: f"{p} [{units[p][0]}]" if units[p][0] else p),
+            "low_value": t["low_value"] * scale, "high_value": t["high_value"] * scale,
+            "npv_at_low": t["output_low"], "npv_at_high": t["output_high"],
+            "swing": t["swing"]}))
+    return pd.concat(frames, ignore_index=True) if frames else _empty("tornado")
+
+
+def _operating_points_table(plan: Plan) -> pd.DataFrame:
+    frames = []
+    for (oid, cid), ph in plan.physics.items():
+        c = next(k for k in plan.inputs.classes if k.id == cid)
+        per_year = c.km_per_year.nominal / ph.duty.energy.distance  # profile passes per year
+        p = ph.duty.points
+        frames.append(pd.DataFrame({
+            "candidate": oid, "vehicle_class": cid, "engine_speed_rpm": p["engine_speed_rpm"],
+            "torque_nm": p["torque_nm"], "hours": p["seconds"] * per_year / 3600.0,
+            "brake_efficiency": p["brake_efficiency"]}))
+    return pd.concat(frames, ignore_index=True)[list(COLUMNS["operating_points"])]
+
+
+def _flame_table(plan: Plan) -> pd.DataFrame:
+    rows = []
+    seen = set()
+    for o in plan.inputs.options:
+        for co in o.per_class.values():
+            key = (o.id, co.fuel.id)
+            if key in seen or (not co.converts and not o.is_baseline):
+                continue
+            seen.add(key)
+            table = nox_sweep(co.fuel, engine_preset(co.engine), phi=list(FLAME_PHI))
+            for _, r in table.iterrows():
+                rows.append({"candidate": o.id, "fuel": co.fuel.id, "phi": r["phi"],
+                             "flame_temperature_k": r["flame_temperature_k"],
+                             "no_ppm": r["no_ppm"]})
+    return _frame("flame", rows)
+
+
+def _catalyst_table(plan: Plan) -> pd.DataFrame:
+    rows = []
+    for (oid, cid), ph in plan.physics.items():
+        co = next(o for o in plan.inputs.options if o.id == oid).per_class[cid]
+        rows.append({"candidate": oid, "vehicle_class": cid, "device": co.aftertreatment.name,
+                     "replacements": ph.replacements,
+                     "replacement_cost": float(ph.yearly["replacement_cost"].sum()),
+                     "reductant_cost": float(ph.yearly["reductant_cost"].sum()),
+                     "best_interval_months": ph.best_interval_months,
+                     "best_total_cost": ph.best_total_cost})
+    return _frame("catalyst", rows)
+
+
+def _assumptions(study: Study, draws: int) -> dict[str, str]:
+    i = study.inputs
+    out = {
+        "study": i.title,
+        "demo": "yes" if i.fictional else "no",
+        "question": i.notes,
+        "fictional demo data": "yes: every number is invented" if i.fictional else "no",
+        "currency": i.currency,
+        "programme": f"{i.start_year}, {i.horizon_years} years",
+        "discount rate": f"{i.discount_rate.nominal:.1%} a year, real (prices in today's "
+                         "money, escalation on top)",
+        "carbon price": f"{i.carbon_price.nominal * 1e3:g} {i.currency}/t CO2e, on well-to-wheel "
+                        "CO2e, counted with fuel costs",
+        "NOx damage cost": f"{i.nox_damage_cost.nominal:g} {i.currency}/kg: finds the catalyst "
+                           "replacement interval that would minimise upkeep plus NOx damage, "
+                           "shown beside each device's own policy; not in the NPV",
+        "Monte Carlo": f"{draws} draws, seed {i.seed}; uncertain inputs: "
+                       f"{', '.join(i.uncertain) or 'none'}",
+        "correlations": _correlation_text(i),
+        "normal distributions": "cut to each input's range (no price, distance or cost draws "
+                                "below 0); the nominal is the mean of the cut distribution",
+        "input hash": study.digest(),
+        "uncertain physics inputs": "evaluated at P1, P10, P30, P50, P70, P90 and P99 and "
+                                    "interpolated per draw; effects of several such inputs "
+                                    "add (first order)",
+        "engine-out NOx": "screening model: baseline measured or typical engine-out NOx scaled "
+                          "by the flame-chemistry propensity of each fuel",
+        "classes past their remaining life": "drop out of every option alike (replacement "
+                                             "vehicles are outside the study)",
+    }
+    return out
+
+
+def _correlation_text(inputs: StudyInputs) -> str:
+    """The correlations of the uncertain inputs as text (Gaussian copula)."""
+    corr = inputs.correlation
+    if corr is None:
+        return "none: uncertain inputs drawn independently"
+    pairs = [f"{a} ~ {b} {corr.matrix[i][j]:g}" for i, a in enumerate(corr.names)
+             for j, b in enumerate(corr.names) if j > i and corr.matrix[i][j] != 0.0]
+    return "Gaussian copula over each input's own distribution: " + "; ".join(pairs)
+
+
+def _sources(inputs: StudyInputs) -> dict[str, str]:
+    out = {f"upstream CO2e of {fid}": src for fid, src in inputs.upstream_sources.items()}
+    for o in inputs.options:
+        for cid, co in o.per_class.items():
+            for section, src in co.fuel.sources:
+                out.setdefault(f"fuel {co.fuel.id} [{section}]", src)
+            if co.engine_out_nox is None and o.is_baseline:
+                out[f"engine-out NOx, {o.id}/{cid}"] = DEFAULT_ENGINE_OUT[co.engine].source
+    out["thermochemistry"] = "Cantera with GRI-Mech 3.0 and NASA Glenn species data"
+    out["GWP-100"] = "IPCC AR6 WG1 Table 7.15 (CH4 fossil 29.8, N2O 273)"
+    return out
