@@ -21,9 +21,12 @@ import numpy as np
 
 from workbench.core.constants import STANDARD_GRAVITY as G
 from workbench.core.paths import DATA
-from workbench.models.duty import DutySettings, DutyTrace, read_trace
-from workbench.models.engine import duty_energy, read_map
-from workbench.models.vehicle import Vehicle, read_vehicle, road_load
+from workbench.io.maps import read_map
+from workbench.io.profiles import read_trace
+from workbench.io.vehicles import read_vehicle
+from workbench.models.duty import DutySettings, DutyTrace
+from workbench.models.engine import duty_energy
+from workbench.models.vehicle import Vehicle, road_load
 
 YEAR = 365 * 24 * 3600
 

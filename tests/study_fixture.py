@@ -12,6 +12,7 @@ import numpy as np
 import pandas as pd
 
 from workbench.interfaces.charts import MapGrid
+from workbench.study.naming import Names
 from workbench.study.results import COLUMNS, PALETTE, StudyResult
 
 #: A candidate name that would run script if it reached the page as markup.
@@ -38,7 +39,7 @@ def make_result(*, demo: bool = True, currency: str = "XCU") -> StudyResult:
     Parameters
     ----------
     demo : bool
-        Whether ``assumptions["demo"]`` says the study is the fictional demo.
+        Whether the result says its study's data are fictional.
     currency : str
         Currency label of the money columns.
 
@@ -144,7 +145,8 @@ def make_result(*, demo: bool = True, currency: str = "XCU") -> StudyResult:
     for k, cand in enumerate(ids[1:], start=1):
         for i, inp in enumerate(inputs):
             swing = (i + 1) * 0.4e6 * k
-            tornado_rows.append(dict(candidate=cand, input=inp, low_value=1.0 + i,
+            tornado_rows.append(dict(candidate=cand, input=f"fixture.input{i}", label=inp,
+                                     unit="XCU per L" if i == 0 else "", low_value=1.0 + i,
                                      high_value=2.0 + i, npv_at_low=npv[cand] - 0.6 * swing,
                                      npv_at_high=npv[cand] + 0.4 * swing, swing=swing))
 
@@ -165,7 +167,6 @@ def make_result(*, demo: bool = True, currency: str = "XCU") -> StudyResult:
         for k, cand in enumerate(ids) for vclass in CLASSES])
 
     assumptions = {
-        "demo": "true" if demo else "false",
         "fleet": "900 taxis, 300 vans (INVENTED fixture)",
         "discount_rate": "6 %",
         "note <script>": "<script>alert(2)</script>",
@@ -178,7 +179,10 @@ def make_result(*, demo: bool = True, currency: str = "XCU") -> StudyResult:
         nox_monthly=_frame("nox_monthly", nox_rows), storage=storage,
         monte_carlo=_frame("monte_carlo", mc_rows), tornado=_frame("tornado", tornado_rows),
         operating_points=_frame("operating_points", op_rows), flame=_frame("flame", flame_rows),
-        catalyst=catalyst, assumptions=assumptions, sources=sources)
+        catalyst=catalyst, assumptions=assumptions, sources=sources, fictional=demo,
+        names=Names(candidates={c[0]: c[1] for c in CANDIDATES},
+                    classes={c: c.capitalize() for c in CLASSES},
+                    fuels={c[2]: c[2].upper() for c in CANDIDATES}))
 
 
 def make_map_grid() -> MapGrid:

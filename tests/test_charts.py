@@ -162,9 +162,13 @@ def test_tornado_bars_span_base_to_npv(result):
         for bar, column in ((low, "npv_at_low"), (high, "npv_at_high")):
             assert_allclose(np.asarray(bar.x) + bar.base, d[column], rtol=1e-12)
             assert bar.base == pytest.approx(npv[cand])
-        # widest swing last, so it is drawn on top; input names escaped
-        assert low.y[-1] == charts.escape(d["input"].iloc[-1])
-        assert "fuel price &lt;b&gt;LPG&lt;/b&gt;" in low.y
+        # widest swing last, so it is drawn on top; readable labels with units, escaped;
+        # each bar carries the input's value at its end
+        assert low.y[-1] == charts.escape(d["label"].iloc[-1])
+        assert "fuel price &lt;b&gt;LPG&lt;/b&gt; [XCU per L]" in low.y
+        assert not any(y.startswith("fixture.") for y in low.y)
+        assert list(low.text) == [f"{v:,.3g}" for v in d["low_value"]]
+        assert list(high.text) == [f"{v:,.3g}" for v in d["high_value"]]
 
 
 def test_monte_carlo_histograms_and_percentile_lines(result):

@@ -10,6 +10,7 @@ from numpy.testing import assert_allclose, assert_array_equal
 from scipy import stats
 
 from workbench.core.errors import InputError
+from workbench.models import economics as econ
 from workbench.models.economics import (
     Distribution,
     abatement_cost,
@@ -351,3 +352,18 @@ def test_summary_and_probabilities():
     assert_allclose(probability_payback_within(np.array([1.0, 4.0, 6.0, np.nan]), 5.0), 0.5)
     two = probability_positive(np.array([[1.0, -1.0], [2.0, 3.0]]))
     assert_allclose(two, [1.0, 0.5])  # draws along the first axis
+
+
+def test_break_even_finds_the_root_of_a_linear_npv():
+    # Closed form: NPV(x) = a - b x is zero at x = a / b; one secant step is exact.
+    assert econ.break_even(lambda x: 3.0 - 2.0 * x, 0.8) == pytest.approx(1.5, rel=1e-12)
+    # A mildly curved NPV (x^2 term) still converges within the guard steps: root of
+    # 10 - 4 x - 0.1 x^2 is (-4 + sqrt(16 + 4)) / 0.2 (quadratic formula).
+    root = (-4 + (16 + 4) ** 0.5) / 0.2
+    assert econ.break_even(lambda x: 10 - 4 * x - 0.1 * x * x, 1.0) == pytest.approx(root,
+                                                                                    rel=1e-9)
+
+
+def test_break_even_is_nan_without_a_root_at_or_above_zero():
+    assert np.isnan(econ.break_even(lambda x: 5.0, 1.0))  # does not depend on the input
+    assert np.isnan(econ.break_even(lambda x: 1.0 + x, 2.0))  # zero only at x = -1

@@ -10,22 +10,25 @@ from numpy.testing import assert_allclose
 
 from workbench.core.errors import InputError
 from workbench.core.paths import DATA
-from workbench.models.duty import DutySettings, DutyTrace, ModeTable, read_trace
+from workbench.io.maps import read_map
+from workbench.io.profiles import read_trace
+from workbench.io.vehicles import read_vehicle
+from workbench.models.duty import DutySettings, DutyTrace, ModeTable
 from workbench.models.engine import (
+    NOX_SPEED_BINS,
     WILLANS_SHAPES,
     DutyEnergy,
     EngineMap,
     duty_energy,
-    format_map_csv,
     fuel_per_distance,
     fuel_per_distance_for,
     mode_energy,
-    read_map,
+    run_duty,
     willans_efficiency,
     willans_map,
     willans_parameters,
 )
-from workbench.models.vehicle import Vehicle, read_vehicle
+from workbench.models.vehicle import FIRED, IDLE, Vehicle, operating_points, road_load
 
 RPM = math.pi / 30.0
 
@@ -140,66 +143,6 @@ def test_idle_fuel_equals_willans_zero_load():
                     rtol=1e-12)
 
 
-def test_map_csv_round_trip(tmp_path):
-    m = demo_map("van-ci-2.3l")
-    path = tmp_path / "m.csv"
-    path.write_text(format_map_csv(m), encoding="utf-8")
-    back = read_map(path)
-    assert_allclose(back.efficiency, m.efficiency, atol=1e-12)
-    assert_allclose(back.speed, m.speed, rtol=1e-12)
-
-
-def test_bsfc_map_converts_with_lhv(tmp_path):
-    # Brake fuel conversion efficiency eta = 3600 / (bsfc [g/kWh] * LHV [MJ/kg])
-    # (Heywood, Internal Combustion Engine Fundamentals, 1988, sect. 2.9, from memory):
-    # 250 g/kWh on a 42.8 MJ/kg fuel gives 3600/10700 = 0.336449.
-    path = tmp_path / "bsfc.csv"
-    path.write_text("# value: bsfc_g_per_kwh\n# bsfc_lhv_mj_per_kg: 42.8\n"
-                    "# idle_speed_rpm: 800\n# idle_fuel_power_kw: 3\n"
-                    "torque_n_m/speed_rpm,800,2000,4000\nfull_load,200,250,220\n"
-                    "20,400,380,420\n200,250,240,260\n", encoding="utf-8")
-    m = read_map(path)
-    assert_allclose(m.efficiency[1, 0], 3600.0 / (250 * 42.8), rtol=1e-12)
-
-
-GOOD = ("# value: brake_efficiency\n# idle_speed_rpm: 800\n# idle_fuel_power_kw: 3\n"
-        "torque_n_m/speed_rpm,800,2000,4000\nfull_load,200,250,220\n"
-        "20,0.15,0.16,0.14\n200,0.33,0.35,0.32\n")
-
-
-@pytest.mark.parametrize(
-    ("edit", "match"),
-    [
-        (lambda t: t.replace("20,0.15,0.16", "20,,0.16"),
-         r"row 6 column 2: map cell '' is missing"),
-        (lambda t: t.replace(",800,2000,4000", ",800,4000,2000"),
-         r"row 4 column 4: speed axis is not strictly increasing"),
-        (lambda t: t.replace("20,0.15", "300,0.15"), r"row 7: torque axis is not strictly"),
-        (lambda t: t.replace("# idle_fuel_power_kw: 3\n", ""), r"missing metadata line"),
-        (lambda t: t.replace("brake_efficiency", "efficiency_percent"), r"value: unknown"),
-        (lambda t: t.replace("0.35", "35"), r"row 7 column 3: efficiency must be in \(0, 1\)"),
-        (lambda t: t.replace("speed_rpm,", "speed_rps,"), r"row 4: first header cell"),
-        (lambda t: t.replace("full_load,", "fullload,"), r"row 5: second row must be"),
-        (lambda t: t.replace("0.16,0.14\n", "0.16\n"), r"row 6: has 3 fields"),
-        (lambda t: t.replace("idle_speed_rpm: 800", "idle_speed_rpm: 300"),
-         r"idle_speed: must lie within"),
-    ],
-)
-def test_bad_map_files(tmp_path, edit, match):
-    path = tmp_path / "map.csv"
-    path.write_text(edit(GOOD), encoding="utf-8")
-    with pytest.raises(InputError, match=match) as info:
-        read_map(path)
-    assert str(path) in str(info.value) and "\n" not in str(info.value)
-
-
-def test_good_map_reads(tmp_path):
-    # guard for the parametrised bad-map cases: the unedited text is valid
-    path = tmp_path / "map.csv"
-    path.write_text(GOOD, encoding="utf-8")
-    assert read_map(path).efficiency.shape == (2, 3)
-
-
 def test_adjusted_engine():
     m = demo_map()
     lpg = m.adjusted(derate=0.1, efficiency_offset=-0.01)
@@ -305,3 +248,30 @@ def test_compressed_gas_has_no_litres():
     gas = load_fuel("natural-gas")
     r = fuel_per_distance_for(energy(), gas, fuel_sheet(gas)).trade_units()
     assert math.isnan(r["fuel_l_per_100km"]) and r["fuel_kg_per_100km"] > 0
+
+
+def test_duty_pipeline_accounts_for_all_fuel_and_time():
+    # Conservation, no source needed: the NOx speed bins hold the fuel energy of every fired
+    # or idling interval, which is all the fuel of a duty without extra idling; the histogram
+    # holds their time. A time-at-mode table inside the map's torque range puts all its time
+    # into the histogram.
+    trace = read_trace(DATA / "profiles" / "taxi-shift.csv")
+    vehicle = read_vehicle(DATA / "vehicles" / "taxi.toml")
+    emap = demo_map()
+    settings = DutySettings(accessory_power=800.0)
+    run = run_duty(trace, vehicle, emap, settings=settings)
+    assert_allclose(run.nox_weights.sum(), run.energy.fuel_energy, rtol=1e-12)
+    assert run.nox_speeds.size <= NOX_SPEED_BINS
+    load = road_load(vehicle, trace)
+    ops = operating_points(vehicle, trace, load, idle_speed=emap.idle_speed, settings=settings,
+                           full_load_torque=emap.max_torque)
+    burning = load.duration[(ops.state == FIRED) | (ops.state == IDLE)].sum()  # not overrun
+    assert 0.5 * run.energy.duration < burning < run.energy.duration
+    assert_allclose(run.points["seconds"].sum(), burning, rtol=1e-12)
+    table = ModeTable(engine_speed=[800 * RPM, 2000 * RPM], torque=[0.0, 60.0],
+                      duration=[600.0, 1800.0], distance=20e3)
+    modes = run_duty(table, None, emap)
+    assert_allclose(modes.points["seconds"].sum(), 2400.0, rtol=1e-15)
+    assert_allclose(modes.energy.fuel_energy, modes.nox_weights.sum(), rtol=1e-12)
+    with pytest.raises(InputError, match="needs a vehicle"):
+        run_duty(trace, None, emap)

@@ -154,7 +154,7 @@ def test_uncertainty_range_reaches_the_monte_carlo(app):
     assert "programme.carbon_price" in app.study.inputs.uncertain
     app.results.slots[0].choice.value = "tornado"
     tornado_inputs = {y for t in app.results.figure("tornado").data for y in (t.y or ())}
-    assert any("carbon_price" in str(y) for y in tornado_inputs)
+    assert "Carbon price [KBD/t]" in tornado_inputs
 
 
 def test_empty_parameter_is_named(app):
@@ -359,3 +359,19 @@ def test_import_workbench_does_not_import_widgets():
     code = ("import sys, workbench; assert 'ipywidgets' not in sys.modules; "
             "assert callable(workbench.open_study); assert 'ipywidgets' in sys.modules")
     subprocess.run([sys.executable, "-c", code], check=True)
+
+
+def test_the_answer_is_on_top_in_the_report_s_words(app):
+    from workbench.interfaces.report import SAFETY_CAUTION
+    from workbench.interfaces.summary import verdicts
+
+    top = app.children[1]
+    assert top is app.results.verdict
+    for v in verdicts(app.state.result):
+        assert html.escape(v.headline) in top.value
+    # the safety note once, in the title block
+    shown = "".join(getattr(w, "value", "") for w in app.children)
+    assert shown.count(html.escape(SAFETY_CAUTION)) == 1
+    before = top.value
+    app.economics.prices["lpg"].params["mode"].value = "0.70 per L"
+    assert top.value != before

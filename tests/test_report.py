@@ -5,9 +5,15 @@ The data are the INVENTED fixture of tests/study_fixture.py (layout tests, not p
 
 from __future__ import annotations
 
+import base64
+import gzip
+import io
 import os
 import re
+from functools import partial
 
+import numpy as np
+import pandas as pd
 import plotly.offline
 import pytest
 from study_fixture import XSS_NAME, make_map_grid, make_result
@@ -15,6 +21,7 @@ from study_fixture import XSS_NAME, make_map_grid, make_result
 from workbench.core.errors import InputError
 from workbench.interfaces import report
 from workbench.interfaces.charts import all_figures
+from workbench.interfaces.present import column_label, reader_table
 
 STUDY_TEXT = "abc"
 #: SHA-256("abc") from FIPS 180-2, Appendix B.1 (the standard's own worked example).
@@ -52,30 +59,63 @@ def test_every_chart_has_its_div(page):
         assert f'data-chart="{key}"' in page
 
 
-def test_every_table_is_in_the_report(page):
+def _attachments(page: str) -> dict[str, bytes]:
+    found = re.findall(r'download="([^"]+)" href="data:[^;]+;base64,([A-Za-z0-9+/=]+)"', page)
+    return {name: base64.b64decode(data) for name, data in found}
+
+
+def test_every_table_is_attached_whole_as_csv(page):
     result = make_result()
+    files = _attachments(page)
     for name, table in result.tables().items():
+        if table.empty or name == "inputs":
+            continue
         assert f'id="table-{name}"' in page
-        for column in table.columns:
-            assert f"<th>{column}</th>" in page
-    assert "0.182" in page  # a cost per km of the candidates table
+        back = pd.read_csv(io.BytesIO(gzip.decompress(files[f"{name}.csv.gz"])))
+        assert list(back.columns) == list(table.columns)
+        assert len(back) == len(table)
+        numeric = table.select_dtypes("number").columns
+        np.testing.assert_allclose(back[numeric].to_numpy(float),
+                                   table[numeric].to_numpy(float), rtol=1e-12)
 
 
-def test_caution_versions_hash_sources_and_assumptions(page):
-    assert page.count(report.SAFETY_CAUTION) == 2  # at the top and at the end
+def test_the_study_file_is_attached_and_hashed(page):
+    assert _attachments(page)["study.toml"] == STUDY_TEXT.encode("utf-8")
+    assert SHA256_ABC in page
+
+
+def test_long_tables_show_a_preview_only():
+    from dataclasses import replace
+
+    result = make_result()
+    draws = pd.DataFrame({"candidate": "lpg-convert", "draw": range(5000),
+                          "npv_vs_baseline": 1.0})
+    page = report.html_report(replace(result, monte_carlo=draws), study_text="x")
+    section = page.split('id="table-monte_carlo"')[1].split("</details>")[0]
+    assert f"first {report.PREVIEW_ROWS} of 5,000 rows" in section
+    assert section.count("<tr") == report.PREVIEW_ROWS + 1  # header row + rows shown
+
+
+def test_caution_versions_sources_and_assumptions(page):
+    assert page.count(report.SAFETY_CAUTION) == 1  # once, in the caveats section
     for word in ("licensed installers", "local codes", "estimate", "flammable"):
         assert word in report.SAFETY_CAUTION
     for label, version in report.software_versions().items():
         assert f"<td>{label}</td><td>{version}</td>" in page
     assert set(report.software_versions()) == {"python", "workbench", "cantera", "numpy",
                                                "pandas", "plotly", "CoolProp"}
-    assert SHA256_ABC in page
     assert report.input_hash(STUDY_TEXT) == SHA256_ABC
     assert "900 taxis, 300 vans (INVENTED fixture)" in page
     assert "INVENTED for tests &lt;b&gt;not a source&lt;/b&gt;" in page
 
 
-def test_demo_notice_only_for_the_demo():
+def test_the_answer_comes_first(page):
+    body = page.split("<body>")[1]
+    assert body.index('id="summary"') < body.index('id="job"') < body.index('id="charts"')
+    assert body.index('id="summary"') < body.index('id="caveats"')
+
+
+def test_demo_notice_only_for_fictional_studies():
     assert report.DEMO_NOTICE in report.html_report(make_result(demo=True), study_text="")
     assert report.DEMO_NOTICE not in report.html_report(make_result(demo=False), study_text="")
 
@@ -122,27 +162,16 @@ def test_failed_write_leaves_the_old_file_and_no_temp_file(tmp_path, monkeypatch
     assert [p.name for p in tmp_path.iterdir()] == ["r.html"]
 
 
-def test_long_tables_are_cut_with_a_pointer_to_the_csv():
-    from dataclasses import replace
-
-    import pandas as pd
-
-    result = make_result()
-    draws = pd.DataFrame({"candidate": "x", "draw": range(5000), "npv_vs_baseline": 1.0})
-    html = report.html_report(replace(result, monte_carlo=draws), study_text="x")
-    assert f"First {report.MAX_TABLE_ROWS} of 5000 rows" in html
-    section = html.split('id="table-monte_carlo"')[1].split("</details>")[0]
-    assert section.count("<tr") == report.MAX_TABLE_ROWS + 1  # header row + rows shown
-
-
 def test_missing_numbers_say_why_in_the_candidates_table():
     # Issue 13: "not applicable", "no payback" and "raises the emission" must not look alike.
     res = make_result()
     cands = res.candidates.copy()
     cands.loc[2, ["discounted_payback_years", "cost_per_t_co2e_avoided"]] = float("nan")
     cands.loc[2, ["co2e_avoided_t", "raises_co2e"]] = (-300.0, True)
-    shown = report._candidates_shown(cands)
-    assert shown.at[0, "npv_vs_baseline"] == "n/a (baseline)"
-    assert shown.at[2, "discounted_payback_years"] == "not within horizon"
-    assert shown.at[2, "cost_per_t_co2e_avoided"] == "raises CO2e"
-    assert shown.at[2, "co2e_avoided_t"] == "-300"
+    shown = reader_table("candidates", res, cands)
+    label = partial(column_label, currency=res.currency)
+    assert shown.at[0, label("npv_vs_baseline")] == "n/a (baseline)"
+    assert shown.at[2, label("discounted_payback_years")] == "not within horizon"
+    assert shown.at[2, label("cost_per_t_co2e_avoided")] == "raises CO2e"
+    assert shown.at[2, label("co2e_avoided_t")] == "-300"
+    assert shown.at[2, label("raises_co2e")] == "yes"

@@ -219,9 +219,21 @@ def test_catalyst_life_uncertainty_moves_catalyst_costs(demo):
         {"kind": "uniform", "low": "100000 km", "high": "400000 km"})
     res = run(s, draws=100)
     row = res.tornado.query("candidate == 'lpg-taxis'").iloc[0]
-    assert "[km]" in row["input"]
+    assert row["unit"] == "km" and row["label"] == "LPG conversion of the taxis: catalyst life"
     # a shorter-lived catalyst is replaced more often: the NPV is lower at the low end
     assert row["npv_at_low"] < row["npv_at_high"]
+
+
+@pytest.mark.parametrize("dist, message", [
+    ({"kind": "triangular", "low": "0.70 per L", "mode": "1.10 per L", "high": "1.05 per L"},
+     "mode 1.10 per L must lie between low 0.70 per L and high 1.05 per L"),
+    ({"kind": "uniform", "low": "1.20 per L", "high": "1.05 per L"},
+     "low 1.20 per L is above high 1.05 per L; swap them"),
+])
+def test_distribution_errors_speak_the_unit_the_user_typed(demo, dist, message):
+    with pytest.raises(InputError) as err:
+        demo.with_value("prices.lpg", dist)
+    assert err.value.message == message
 
 
 def test_checking_a_study_runs_no_chemistry():
@@ -253,7 +265,8 @@ def test_correlated_fuel_prices_narrow_the_lpg_npv_band(demo):
     narrowing = 1 - band(res) / band(run(demo, draws=4000))
     assert 0.35 < narrowing < 0.55
     # the report lists them (its assumptions)
-    assert "prices.gasoline ~ prices.lpg 0.8" in res.assumptions["correlations"]
+    assert ("Price of Gasoline (E5-type) ~ Price of LPG (60/40 propane/butane by liquid "
+            "volume) 0.8") in res.assumptions["correlations"]
 
 
 @pytest.mark.parametrize(("entry", "message"), [

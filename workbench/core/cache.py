@@ -26,10 +26,13 @@ Examples
 from __future__ import annotations
 
 import functools
+import hashlib
 from collections import OrderedDict
 from collections.abc import Callable, Hashable
 from dataclasses import dataclass
 from typing import Any, Literal, ParamSpec, TypeVar
+
+import numpy as np
 
 P = ParamSpec("P")
 R = TypeVar("R")
@@ -156,3 +159,32 @@ def clear_caches(*, resources: bool = False) -> None:
 def cache_info() -> dict[str, CacheInfo]:
     """Statistics of every registered cache, by ``module.function`` name."""
     return {name: memo.info() for name, memo in _REGISTRY.items()}
+
+
+def content_digest(*parts: np.ndarray | float | str | None) -> str:
+    """SHA-256 of arrays and scalars: the identity of an object that holds arrays.
+
+    Objects read from files (traces, maps) are compared and hashed by this digest, so caches
+    key on what they contain, never on where they came from.
+
+    Parameters
+    ----------
+    *parts : numpy.ndarray, float, str or None
+        The content, in a fixed order; arrays by dtype, shape and bytes.
+
+    Returns
+    -------
+    str
+        Hex digest.
+    """
+    h = hashlib.sha256()
+    for part in parts:
+        if part is None:
+            h.update(b"\x00none")
+        elif isinstance(part, np.ndarray):
+            a = np.ascontiguousarray(part)
+            h.update(f"\x00{a.dtype.str}{a.shape}".encode())
+            h.update(memoryview(a).cast("B"))
+        else:
+            h.update(f"\x00{part!r}".encode())
+    return h.hexdigest()

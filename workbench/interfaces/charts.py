@@ -426,13 +426,15 @@ def tornado_chart(result: StudyResult) -> go.Figure:
     Parameters
     ----------
     result : StudyResult
-        Reads ``tornado`` (``npv_at_low``, ``npv_at_high`` [currency]) and the candidates'
-        ``npv_vs_baseline`` [currency], where each bar starts.
+        Reads ``tornado`` (``label``, ``unit``, ``low_value``, ``high_value``,
+        ``npv_at_low``, ``npv_at_high`` [currency]) and the candidates' ``npv_vs_baseline``
+        [currency], where each bar starts.
 
     Returns
     -------
     plotly.graph_objects.Figure
-        Solid bars: input at its low value; hatched: at its high value.
+        Solid bars: input at its low value; hatched: at its high value; each bar is
+        labelled with the input's value.
     """
     title = "What moves the NPV: one input at a time"
     table = result.tornado
@@ -448,12 +450,14 @@ def tornado_chart(result: StudyResult) -> go.Figure:
     for r, cand in enumerate(cands, start=1):
         d = table[table["candidate"] == cand].sort_values("swing")
         base = float(npv.get(cand, 0.0))
-        inputs = [escape(v) for v in d["input"]]
+        inputs = [escape(f"{lab} [{unit}]" if unit else lab)
+                  for lab, unit in zip(d["label"], d["unit"], strict=True)]
         for end, (npv_col, value_col, shape) in ends.items():
             fig.add_trace(go.Bar(
                 y=inputs, x=d[npv_col] - base, base=base, orientation="h",
                 name=st.name(cand), legendgroup=_group(cand), showlegend=False,
                 marker=dict(color=st.colour(cand), pattern=_pattern(shape)),
+                text=[f"{v:,.3g}" for v in d[value_col]], textposition="auto",
                 customdata=np.column_stack([d[value_col], d[npv_col]]),
                 hovertemplate=(f"%{{y}} at its {end} value %{{customdata[0]:.4g}}:<br>"
                                f"NPV %{{customdata[1]:,.0f}} {st.currency}"),

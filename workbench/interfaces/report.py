@@ -1,16 +1,22 @@
 """The study report: one self-contained HTML file that a client opens offline in a browser.
 
-:func:`html_report` lays out the job and the question, the safety caution, the inputs and
-assumptions, every chart of
-:func:`workbench.interfaces.charts.all_figures`, every table of the result,
-the sources of reference data, the software versions and a SHA-256 hash of the study file.
+:func:`html_report` puts the answer first (a verdict per option, written from the result by
+:mod:`workbench.interfaces.summary`), then the results side by side, every chart of
+:func:`workbench.interfaces.charts.all_figures`, every input of the study as written and the
+assumptions, caveats and limitations with the safety caution, the data (each table as a
+compressed CSV attachment with a short preview; the study file itself attached), the sources
+of reference data, the software versions and a SHA-256 hash of the study file.
 plotly.js is embedded once, in the head; each chart is a ``<div>`` with its own small script.
-Every piece of user text is HTML-escaped. :func:`write_report` writes the file whole or not at
-all (a temporary file in the same folder, then :func:`os.replace`).
+Everything a reader sees goes through the naming layer (names, not ids or key paths) and
+:mod:`workbench.interfaces.present` (labels with units, rounding). A print stylesheet gives a
+clean A4/Letter document from the browser's "print to PDF". Every piece of user text is
+HTML-escaped. :func:`write_report` writes the file whole or not at all.
 """
 
 from __future__ import annotations
 
+import base64
+import gzip
 import os
 import platform
 from collections.abc import Mapping
@@ -25,12 +31,14 @@ import workbench
 from workbench.core.text import escape_html as _esc
 from workbench.core.text import sha256_hex
 from workbench.interfaces.charts import MapGrid, all_figures
+from workbench.interfaces.present import TABLE_TITLES, reader_table, side_by_side
+from workbench.interfaces.summary import best_option, verdicts
 from workbench.io.files import check_target, write_text_atomic
-from workbench.models.engine import EngineMap, read_map
-from workbench.study.results import StudyResult, missing_reason
+from workbench.models.engine import EngineMap
+from workbench.study.results import StudyResult
 from workbench.study.studyfile import Study
 
-#: The caution every report carries, word for word.
+#: The caution every report carries, word for word, once.
 SAFETY_CAUTION = (
     "LPG, CNG and hydrogen are stored under pressure and are flammable. Conversions, tank "
     "fitting and periodic inspection must be done by licensed installers and workshops, and "
@@ -38,34 +46,97 @@ SAFETY_CAUTION = (
     "is an estimate from models and assumed inputs, not a measurement or a guarantee."
 )
 
-#: The line shown when the study is the fictional demo.
+#: The line shown when the study says its data are invented.
 DEMO_NOTICE = (
-    "Demo study: the fleet, prices, duty profiles and engine maps are INVENTED numbers for a "
-    "fictional scenario. Do not use these figures for any real decision."
+    "Fictional data: the fleet, prices, duty profiles and engine maps of this study are "
+    "INVENTED numbers. Do not use these figures for any real decision."
 )
 
 #: Distributions whose versions the report lists (label -> distribution name).
 VERSIONED = {"cantera": "cantera", "numpy": "numpy", "pandas": "pandas", "plotly": "plotly",
              "CoolProp": "CoolProp"}
 
-#: Assumption values that mark a study as the fictional demo (key ``demo``).
-_TRUE = {"true", "yes", "1"}
+#: Stands in the page for its own size until the page is complete.
+_SIZE_MARK = "@@size@@"
+#: Rows of a table shown in the page; a longer table shows this many and is attached whole.
+PREVIEW_ROWS = 12
+
+#: What the models leave out or only screen, for the caveats section (each names its model).
+LIMITATIONS = (
+    "Tailpipe NOx is a screening estimate: engine-out NOx is a measured or typical value for "
+    "the baseline engine, scaled for each fuel by the flame-chemistry propensity (thermal NO "
+    "of GRI-Mech 3.0 at engine-like conditions), then reduced by a catalyst whose efficiency "
+    "falls with age. Absolute flame NO in ppm runs low (constant-pressure flame); only its "
+    "ratio between fuels is used.",
+    "Fuel use comes from road-load physics over the duty profiles and the engines' efficiency "
+    "maps; time spent outside a map is clipped to its edge and counted in the tables.",
+    "Engine-out NOx defaults, catalyst lives and costs, tank factors and upstream CO2e factors "
+    "are typical values, not measurements of this fleet; the sources table says which.",
+    "Uncertain physics inputs are evaluated at seven quantiles and interpolated per draw; "
+    "the effects of several such inputs add (first order), interactions are left out.",
+    "Vehicle classes that reach the end of their remaining life drop out of every option "
+    "alike: replacement vehicles, new dedicated vehicles, electric drives, refuelling-station "
+    "sizing and grants are outside this study unless entered as programme costs.",
+    "Prices are in today's money with the study's escalation on top; taxes, financing and "
+    "exchange rates are as the inputs state them.",
+)
 
 _CSS = """
 body{font-family:system-ui,-apple-system,"Segoe UI",Roboto,sans-serif;margin:0 auto;
-max-width:1200px;padding:0 24px 48px;color:#222;line-height:1.45}
-h1{margin-top:28px}h2{border-bottom:2px solid #ddd;padding-bottom:4px;margin-top:40px}
+max-width:1100px;padding:0 24px 48px;color:#222;line-height:1.45}
+h1{margin-top:28px;font-size:26px}h2{border-bottom:2px solid #ddd;padding-bottom:4px;
+margin-top:40px}h3{margin:18px 0 6px}
 .caution{border-left:6px solid #D55E00;background:#fff4ec;padding:10px 16px;margin:16px 0}
 .demo{border-left:6px solid #E69F00;background:#fff9e6;padding:10px 16px;margin:16px 0;
 font-weight:600}
+.verdict{border:1px solid #ccc;border-radius:6px;padding:10px 16px;margin:12px 0}
+.verdict h3{margin-top:4px}.raised{color:#a33a00;font-weight:600}
+.best{font-size:17px;font-weight:600}
 table{border-collapse:collapse;font-size:13px;margin:8px 0}
 th,td{border:1px solid #ddd;padding:3px 8px;text-align:left;vertical-align:top}
-th{background:#f3f3f3}table.data td{white-space:nowrap;font-variant-numeric:tabular-nums}
+th{background:#f3f3f3}table.data td{font-variant-numeric:tabular-nums}
 .scroll{overflow-x:auto;max-width:100%}
 details{margin:10px 0}summary{cursor:pointer;font-weight:600}
 .chart{margin:18px 0 28px}
 code{font-size:12px;word-break:break-all}
 nav ul{columns:2}
+.note{color:#555;font-size:13px}
+@page{size:A4;margin:14mm}
+@media print{
+body{max-width:none;padding:0;font-size:11pt}
+nav,.no-print{display:none}
+h2{break-before:page;margin-top:0}
+#summary{break-before:auto}
+.chart,.verdict,tr,h3,h4{break-inside:avoid}h3,h4{break-after:avoid}
+.chart{margin:8px 0}
+.scroll{overflow:visible}
+table{font-size:9pt;width:100%}
+th,td{padding:2px 4px;word-break:break-word}
+details>summary{list-style:none}
+a[href^="data:"]::after{content:" (attached to the HTML file)";color:#555}
+}
+"""
+
+#: Opens every folded section for printing and fits the charts to the page width.
+_PRINT_JS = """
+(function(){
+  function fit(width){
+    document.querySelectorAll('.js-plotly-plot').forEach(function(el){
+      if (window.Plotly) { Plotly.relayout(el, width ? {width: width} : {autosize: true}); }
+    });
+  }
+  function before(){
+    document.querySelectorAll('details').forEach(function(d){ d.setAttribute('open', ''); });
+    fit(680);
+  }
+  window.addEventListener('beforeprint', before);
+  window.addEventListener('afterprint', function(){ fit(null); });
+  if (window.matchMedia) {
+    window.matchMedia('print').addEventListener('change', function(m){
+      if (m.matches) { before(); } else { fit(null); }
+    });
+  }
+})();
 """
 
 
@@ -91,36 +162,42 @@ def software_versions() -> dict[str, str]:
     return versions
 
 
-def is_demo(result: StudyResult) -> bool:
-    """Whether ``result.assumptions["demo"]`` says the study is the fictional demo."""
-    return str(result.assumptions.get("demo", "")).strip().lower() in _TRUE
-
-
 def _key_value_table(items: Mapping[str, object], head: tuple[str, str]) -> str:
     rows = "".join(f"<tr><td>{_esc(k)}</td><td>{_esc(v)}</td></tr>" for k, v in items.items())
     return (f'<table class="kv"><thead><tr><th>{_esc(head[0])}</th><th>{_esc(head[1])}</th>'
             f"</tr></thead><tbody>{rows}</tbody></table>")
 
 
-#: Rows of a table printed in the report; longer tables (Monte Carlo draws) are cut.
-MAX_TABLE_ROWS = 400
-
-
-def _format_number(value: float) -> str:
-    return f"{value:,.4g}" if abs(value) < 1e6 else f"{value:,.0f}"
-
-
 def _table_html(table: pd.DataFrame) -> str:
-    return table.to_html(index=False, escape=True, na_rep="–", float_format=_format_number,
-                         border=0, classes="data")
+    return table.to_html(index=False, escape=True, border=0, classes="data")
 
 
-def _candidates_shown(table: pd.DataFrame) -> pd.DataFrame:
-    """The candidates table as text, each missing number in the words of its reason."""
-    records = table.to_dict("records")
-    return pd.DataFrame([
-        {k: missing_reason(r, k) or (_format_number(v) if isinstance(v, float) else v)
-         for k, v in r.items()} for r in records], columns=table.columns)
+def attachment(name: str, data: bytes, mime: str, label: str) -> str:
+    """A download link carrying ``data`` inside the page (works offline).
+
+    Parameters
+    ----------
+    name : str
+        File name offered to the browser.
+    data : bytes
+        The file's bytes (base64 inside a ``data:`` address).
+    mime : str
+        Media type.
+    label : str
+        Text of the link.
+
+    Returns
+    -------
+    str
+        An ``<a download>`` element.
+    """
+    href = f"data:{mime};base64,{base64.b64encode(data).decode('ascii')}"
+    return (f'<a class="attachment" download="{_esc(name)}" href="{href}">{_esc(label)}</a> '
+            f'<span class="note">({len(data) / 1024:,.0f} kB)</span>')
+
+
+def _csv_gz(table: pd.DataFrame) -> bytes:
+    return gzip.compress(table.to_csv(index=False).encode("utf-8"), mtime=0)
 
 
 def _job(result: StudyResult) -> str:
@@ -132,12 +209,75 @@ def _job(result: StudyResult) -> str:
     question = result.assumptions.get("question")
     asked = f"<p><strong>Question:</strong> {_esc(question)}</p>" if question else ""
     return (
-        "<p>A fleet planner must decide whether to convert the fleet to another fuel or keep "
-        f"it as it is. This report compares <strong>{other_text}</strong> against the baseline "
+        f"<p>This report compares <strong>{other_text}</strong> against the baseline "
         f"<strong>{base_text}</strong> on the fleet's own duty: fuel and energy per km, "
         "tank-to-wheel and well-to-wheel CO2, NOx from the flame and at the tailpipe as "
         "catalysts age, storage on board, cost per km, net present value and payback of the "
-        "programme, and how sure those figures are.</p>" + asked)
+        "programme, and how sure those figures are. Money is in "
+        f"{_esc(result.currency)}; \"vs baseline\" means candidate minus baseline, so a "
+        "positive NPV means the candidate saves money.</p>" + asked)
+
+
+def _summary(result: StudyResult) -> str:
+    if result.candidates["is_baseline"].astype(bool).all():
+        return "<p>The study has no candidate to compare.</p>"
+    parts = [f'<p class="best">{_esc(best_option(result))}</p>']
+    for v in verdicts(result):
+        classes = "".join(f"<li>{_esc(line)}</li>" for line in v.per_class)
+        em_class = ' class="raised"' if v.raises_emissions else ""
+        parts.append(
+            f'<div class="verdict" data-candidate="{_esc(v.candidate)}">'
+            f"<h3>{_esc(v.name)}: {_esc(v.word)}</h3><p>{_esc(v.headline)}</p>"
+            f"<p{em_class}>{_esc(v.emissions)}</p><p>{_esc(v.drivers)}</p>"
+            f"<p>{_esc(v.breakeven)}</p>"
+            + (f"<ul>{classes}</ul>" if classes else "") + "</div>")
+    return "".join(parts)
+
+
+def _inputs(result: StudyResult) -> str:
+    if result.inputs.empty:
+        return "<p>The result lists no inputs.</p>"
+    out = []
+    for section, rows in result.inputs.groupby("section", sort=False):
+        out.append(f"<h3>{_esc(section)}</h3><div class=\"scroll\">"
+                   f"{_table_html(rows[['input', 'value']])}</div>")
+    return "".join(out)
+
+
+def _caveats(result: StudyResult) -> str:
+    items = list(LIMITATIONS)
+    pk = result.per_km
+    outside = pk[pk["share_out_of_map"] > 0.05]
+    for _, r in outside.iterrows():
+        items.append(f"{result.names.candidate(r['candidate'])}, "
+                     f"{result.names.vehicle_class(r['vehicle_class'])}: "
+                     f"{r['share_out_of_map']:.0%} of the time runs outside the engine map; "
+                     "its fuel use there is an extrapolation.")
+    if result.fictional:
+        items.insert(0, DEMO_NOTICE)
+    lis = "".join(f"<li>{_esc(i)}</li>" for i in items)
+    return (f"<ul>{lis}</ul><p class=\"caution\" id=\"safety\"><strong>Safety:</strong> "
+            f"{SAFETY_CAUTION}</p>")
+
+
+def _data(result: StudyResult, study_text: str) -> str:
+    out = ["<p>Each table is attached whole as a compressed CSV (glossary column names, full "
+           "precision, ids as in the study file); the page shows the first rows.</p>"]
+    for name, table in result.tables().items():
+        if name == "inputs" or table.empty:
+            continue
+        shown = reader_table(name, result, table.head(PREVIEW_ROWS))
+        more = (f" — first {PREVIEW_ROWS} of {len(table):,} rows" if len(table) > PREVIEW_ROWS
+                else "")
+        link = attachment(f"{name}.csv.gz", _csv_gz(table), "application/gzip",
+                          "Download the whole table (CSV, gzip)")
+        out.append(f'<details id="table-{name}"><summary>{_esc(TABLE_TITLES[name])} '
+                   f"({len(table):,} rows){more}</summary><p>{link}</p>"
+                   f"<div class=\"scroll no-print\">{_table_html(shown)}</div></details>")
+    out.append("<p>The study file this report was made from: "
+               f"{attachment('study.toml', study_text.encode(), 'application/toml', 'study.toml')}"
+               "</p>")
+    return "".join(out)
 
 
 def html_report(
@@ -153,7 +293,8 @@ def html_report(
     result : StudyResult
         The study's result.
     study_text : str
-        Text of the study file the result came from; its SHA-256 is printed.
+        Text of the study file the result came from; its SHA-256 is printed and the file is
+        attached.
     map_grid : MapGrid, EngineMap or mapping of them by vehicle class, optional
         Efficiency map(s) for the operating-point chart (see
         :func:`workbench.interfaces.charts.all_figures`).
@@ -171,25 +312,20 @@ def html_report(
                           default_height=f"{height}px",
                           config={"displaylogo": False, "responsive": True})
         charts.append(f'<section class="chart" data-chart="{_esc(key)}">{div}</section>')
-    tables = []
-    for name, table in result.tables().items():
-        open_attr = " open" if name == "candidates" else ""
-        shown = _candidates_shown(table) if name == "candidates" else table.head(MAX_TABLE_ROWS)
-        cut = (f"<p>First {MAX_TABLE_ROWS} of {len(table)} rows; "
-               "<code>workbench study run FILE --csv DIR</code> writes them all.</p>"
-               if len(table) > MAX_TABLE_ROWS else "")
-        tables.append(f'<details id="table-{name}"{open_attr}><summary>{name} '
-                      f"({len(table)} rows)</summary>{cut}<div class=\"scroll\">"
-                      f"{_table_html(shown)}</div></details>")
-    demo = f'<p class="demo">{DEMO_NOTICE}</p>' if is_demo(result) else ""
+    demo = f'<p class="demo">{DEMO_NOTICE}</p>' if result.fictional else ""
     versions = software_versions()
     generated = datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC")
     title = _esc(result.title)
     sources = (_key_value_table(result.sources, ("item", "source")) if result.sources
                else "<p>The result lists no sources.</p>")
-    assumptions = (_key_value_table(result.assumptions, ("input", "value"))
+    assumptions = (_key_value_table(result.assumptions, ("assumption", "value"))
                    if result.assumptions else "<p>The result lists no assumptions.</p>")
-    return f"""<!DOCTYPE html>
+    side = _table_html(side_by_side(result))
+    per_class = "".join(
+        f"<h4>{_esc(result.names.vehicle_class(vc))}</h4><div class=\"scroll\">"
+        f"{_table_html(side_by_side(result, 'per_km', vc))}</div>"
+        for vc in dict.fromkeys(result.per_km["vehicle_class"]))
+    doc = f"""<!DOCTYPE html>
 <html lang="en">
 <head>
 <meta charset="utf-8">
@@ -201,36 +337,50 @@ def html_report(
 <body>
 <h1>{title}</h1>
 {demo}
-<p class="caution" id="safety"><strong>Safety:</strong> {SAFETY_CAUTION}</p>
-<nav><ul>
-<li><a href="#job">The job and the question</a></li>
-<li><a href="#inputs">Inputs and assumptions</a></li>
+<h2 id="summary">Summary</h2>
+{_summary(result)}
+<p class="note">Safety and limitations: see <a href="#caveats">Caveats</a>.</p>
+<nav class="no-print"><ul>
+<li><a href="#summary">Summary</a></li>
+<li><a href="#job">The question</a></li>
+<li><a href="#results">Results side by side</a></li>
 <li><a href="#charts">Charts</a></li>
-<li><a href="#tables">Tables</a></li>
+<li><a href="#inputs">Inputs and assumptions</a></li>
+<li><a href="#caveats">Caveats, limitations and safety</a></li>
+<li><a href="#data">Data</a></li>
 <li><a href="#sources">Sources of reference data</a></li>
 <li><a href="#provenance">Software and inputs</a></li>
 </ul></nav>
-<h2 id="job">The job and the question</h2>
+<h2 id="job">The question</h2>
 {_job(result)}
-<p>Money is in {_esc(result.currency)}; "vs baseline" means candidate minus baseline, so a
-positive NPV means the candidate saves money.</p>
-<h2 id="inputs">Inputs and assumptions</h2>
-{assumptions}
+<h2 id="results">Results side by side</h2>
+<h3>Whole programme, fleet averages per km</h3>
+<div class="scroll">{side}</div>
+<h3>Per vehicle class</h3>
+{per_class}
 <h2 id="charts">Charts</h2>
 {"".join(charts)}
-<h2 id="tables">Tables</h2>
-<p>Column names carry their units; money columns are in {_esc(result.currency)}.</p>
-{"".join(tables)}
+<h2 id="inputs">Inputs and assumptions</h2>
+<p>Every input of the study file as written; the file itself is attached under
+<a href="#data">Data</a>.</p>
+{_inputs(result)}
+<h3>Assumptions</h3>
+{assumptions}
+<h2 id="caveats">Caveats, limitations and safety</h2>
+{_caveats(result)}
+<h2 id="data">Data</h2>
+{_data(result, study_text)}
 <h2 id="sources">Sources of reference data</h2>
 {sources}
 <h2 id="provenance">Software and inputs</h2>
 {_key_value_table(versions, ("software", "version"))}
 <p>SHA-256 of the study file: <code id="input-hash">{input_hash(study_text)}</code></p>
-<p>Generated {generated}.</p>
-<p class="caution"><strong>Safety:</strong> {SAFETY_CAUTION}</p>
+<p>Generated {generated}. Size of this file: about {_SIZE_MARK} MB.</p>
+<script type="text/javascript">{_PRINT_JS}</script>
 </body>
 </html>
 """
+    return doc.replace(_SIZE_MARK, f"{len(doc.encode('utf-8')) / 1e6:.1f}")
 
 
 def write_report(
@@ -288,5 +438,5 @@ def write_study_report(study: Study, result: StudyResult, path: str | os.PathLik
     pathlib.Path
         The path written.
     """
-    maps = {c.id: read_map(c.engine_map) for c in study.inputs.classes}
+    maps = {c.id: c.map_data for c in study.inputs.classes}
     return write_report(result, path, study_text=study.to_toml(), map_grid=maps)

@@ -21,8 +21,10 @@ import numpy as np
 
 from workbench.core.constants import RPM
 from workbench.core.paths import DATA
-from workbench.models.duty import DutyTrace, format_trace_csv
-from workbench.models.engine import format_map_csv, willans_map, willans_parameters
+from workbench.io.maps import format_map_csv
+from workbench.io.profiles import format_trace_csv
+from workbench.models.duty import DutyTrace
+from workbench.models.engine import willans_map, willans_parameters
 
 _KMH = 1.0 / 3.6
 

@@ -5,10 +5,11 @@ time-at-mode table (engine speed, torque, time) for engines whose load is known 
 settings that are not in the trace (accessory power, engine-off at stops, extra idling) live in
 :class:`DutySettings`.
 
-Readers (:func:`read_trace`, :func:`read_mode_table`, :func:`read_profile`) take CSV files whose
-column names carry their units (``time_s,speed_km_per_h,grade_percent,payload_kg``) or whose
-units are given in a side file ``<stem>.units.toml``; see ``docs/duty.md``. Everything inside is
-SI: seconds, metres per second, grade as rise over run, kilograms, radians per second, N m.
+The profile files are read in :mod:`workbench.io.profiles` (format in ``docs/duty.md``); here
+are only the objects, made from arrays. Everything is SI: seconds, metres per second, grade as
+rise over run, kilograms, radians per second, N m. A trace or table is identified by its
+content (:attr:`DutyTrace.digest`): two with the same numbers are equal and hash alike, so the
+caches key on what a profile contains, not on the file it came from.
 
 Conventions
 -----------
@@ -22,15 +23,13 @@ stop.
 from __future__ import annotations
 
 import math
-import re
-import tomllib
-from collections.abc import Iterator
+from collections.abc import Iterator, Sequence
 from dataclasses import dataclass, field
-from pathlib import Path
+from functools import cached_property
 
 import numpy as np
 
-from workbench.core.constants import RPM
+from workbench.core.cache import content_digest
 from workbench.core.errors import InputError
 
 #: Mean interval speed below which the vehicle counts as stopped [m/s] (0.36 km/h).
@@ -39,33 +38,13 @@ STOP_SPEED = 0.1
 #: Largest road grade accepted, as rise over run [-]; steeper values are almost always a unit slip.
 MAX_GRADE = 0.3
 
-_TIME_UNITS = {"s": 1.0, "min": 60.0, "h": 3600.0}
-
-#: Known trace columns: quantity -> {unit token: factor to SI}.
-TRACE_COLUMNS: dict[str, dict[str, float]] = {
-    "time": _TIME_UNITS,
-    "speed": {"km_per_h": 1.0 / 3.6, "m_per_s": 1.0, "mph": 0.44704},
-    "grade": {"percent": 0.01, "fraction": 1.0},
-    "payload": {"kg": 1.0, "t": 1000.0},
-}
-
-#: Known time-at-mode columns: quantity -> {unit token: factor to SI}.
-MODE_COLUMNS: dict[str, dict[str, float]] = {
-    "engine_speed": {"rpm": RPM, "rad_per_s": 1.0},
-    "torque": {"n_m": 1.0, "kn_m": 1000.0},
-    "time": _TIME_UNITS,
-}
-
-_META_LINE = re.compile(r"^#\s*(distance_km)\s*:\s*(.*)$")
-
-
 def _readonly(a: np.ndarray) -> np.ndarray:
     a = np.ascontiguousarray(a, dtype=float)
     a.setflags(write=False)
     return a
 
 
-def _label(name: str, rows: np.ndarray | None, offset: int, i: int) -> str:
+def _label(name: str, rows: Sequence[int] | None, offset: int, i: int) -> str:
     if rows is not None:
         return f"{name} row {int(rows[i])}"
     return f"{name} sample {offset + i}"
@@ -87,7 +66,7 @@ class DutyTrace:
         Payload carried at each sample [kg]; the vehicle's default payload when omitted.
     name : str
         What error messages call the trace (usually the file path).
-    rows : numpy.ndarray, optional
+    rows : numpy.ndarray or range, optional
         File line number of each sample, for error messages.
     offset : int
         Index of the first sample in the whole trace (set on chunks).
@@ -97,6 +76,10 @@ class DutyTrace:
     InputError
         Fewer than two samples, time not increasing, negative or missing speed, grade steeper
         than :data:`MAX_GRADE`, negative payload.
+
+    Notes
+    -----
+    Equality and hashing go by :attr:`digest` (the samples), not by name or row numbers.
     """
 
     time: np.ndarray
@@ -104,7 +87,7 @@ class DutyTrace:
     grade: np.ndarray | None = None
     payload: np.ndarray | None = None
     name: str = "trace"
-    rows: np.ndarray | None = field(default=None, repr=False)
+    rows: Sequence[int] | None = field(default=None, repr=False)
     offset: int = 0
 
     def __post_init__(self) -> None:
@@ -132,6 +115,17 @@ class DutyTrace:
         if self.payload is not None:
             self._check(~np.isfinite(self.payload) | (self.payload < 0.0),
                         "payload is missing or negative")
+
+    @cached_property
+    def digest(self) -> str:
+        """SHA-256 of the samples (time, speed, grade, payload): the trace's identity."""
+        return content_digest("trace", self.time, self.speed, self.grade, self.payload)
+
+    def __eq__(self, other: object) -> bool:
+        return isinstance(other, DutyTrace) and self.digest == other.digest
+
+    def __hash__(self) -> int:
+        return hash(self.digest)
 
     def _check(self, bad: np.ndarray, message: str, *, shift: int = 0) -> None:
         if bad.any():
@@ -185,6 +179,10 @@ class ModeTable:
         Distance covered over the whole table [m]; needed for per-km results.
     name : str
         What error messages call the table.
+
+    Notes
+    -----
+    Equality and hashing go by :attr:`digest` (the modes and distance), not by name.
     """
 
     engine_speed: np.ndarray
@@ -212,6 +210,18 @@ class ModeTable:
         if self.distance is not None and not (math.isfinite(self.distance)
                                               and self.distance > 0.0):
             raise InputError(self.name, "distance must be a positive number of km")
+
+    @cached_property
+    def digest(self) -> str:
+        """SHA-256 of the modes and distance: the table's identity."""
+        return content_digest("modes", self.engine_speed, self.torque, self.duration,
+                              self.distance)
+
+    def __eq__(self, other: object) -> bool:
+        return isinstance(other, ModeTable) and self.digest == other.digest
+
+    def __hash__(self) -> int:
+        return hash(self.digest)
 
 
 @dataclass(frozen=True)
@@ -311,222 +321,3 @@ def duty_stats(trace: DutyTrace) -> DutyStats:
         stops_per_m=stops / distance if distance > 0.0 else math.nan,
         positive_kinetic_energy=pke / distance if distance > 0.0 else math.nan,
     )
-
-
-# ----------------------------------------------------------------------------- readers
-
-
-@dataclass(frozen=True)
-class _Table:
-    header: list[str]
-    columns: dict[str, np.ndarray]  # raw column name -> values (NaN = missing)
-    rows: np.ndarray  # file line numbers
-    distance_km: float | None
-
-
-def _read_table(path: Path) -> _Table:
-    try:
-        text = path.read_text(encoding="utf-8")
-    except FileNotFoundError:
-        raise InputError(str(path), "file not found") from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError(str(path), f"cannot read the file ({exc.__class__.__name__})") from None
-    header: list[str] | None = None
-    cells: list[list[str]] = []
-    rows: list[int] = []
-    distance_km = None
-    for lineno, line in enumerate(text.splitlines(), start=1):
-        stripped = line.strip()
-        if not stripped:
-            continue
-        if stripped.startswith("#"):
-            meta = _META_LINE.match(stripped)
-            if meta:
-                try:
-                    distance_km = float(meta.group(2))
-                except ValueError:
-                    raise InputError(f"{path} row {lineno}",
-                                     "distance_km must be a number, e.g. '# distance_km: 412'"
-                                     ) from None
-            continue
-        parts = [c.strip() for c in stripped.split(",")]
-        if header is None:
-            header = [c.lower() for c in parts]
-            continue
-        if len(parts) != len(header):
-            raise InputError(f"{path} row {lineno}",
-                             f"has {len(parts)} fields, the header has {len(header)}")
-        cells.append(parts)
-        rows.append(lineno)
-    if header is None or not cells:
-        raise InputError(str(path), "no header and data rows found")
-    columns = {}
-    for j, name in enumerate(header):
-        raw = np.array([r[j] for r in cells])
-        values = np.full(raw.size, np.nan)
-        filled = raw != ""
-        try:
-            values[filled] = raw[filled].astype(float)
-        except ValueError:
-            for k in np.flatnonzero(filled):
-                try:
-                    float(raw[k])
-                except ValueError:
-                    raise InputError(f"{path} row {rows[k]}",
-                                     f"{name} '{raw[k]}' is not a number") from None
-        columns[name] = values
-    return _Table(header=header, columns=columns, rows=np.array(rows), distance_km=distance_km)
-
-
-def _side_units(path: Path) -> dict[str, str]:
-    side = path.with_name(path.stem + ".units.toml")
-    if not side.exists():
-        return {}
-    try:
-        data = tomllib.loads(side.read_text(encoding="utf-8"))
-    except (OSError, tomllib.TOMLDecodeError) as exc:
-        raise InputError(str(side), f"not valid TOML ({exc})") from None
-    units = data.get("units")
-    if not isinstance(units, dict) or not all(isinstance(u, str) for u in units.values()):
-        raise InputError(str(side), "needs a [units] table of column = \"unit\" strings")
-    return {k.lower(): v for k, v in units.items()}
-
-
-def _resolve(path: Path, table: _Table, spec: dict[str, dict[str, float]],
-             required: tuple[str, ...]) -> dict[str, np.ndarray]:
-    """Map the table's columns to SI arrays keyed by quantity, checking units."""
-    side = _side_units(path)
-    found: dict[str, np.ndarray] = {}
-    # longest quantity names first so that "engine_speed" wins over "speed"
-    quantities = sorted(spec, key=len, reverse=True)
-    for col in table.header:
-        for q in quantities:
-            if col == q:
-                unit = side.get(col)
-                if unit is None:
-                    raise InputError(
-                        f"{path} column {col}",
-                        f"no unit: name it like {q}_{next(iter(spec[q]))} or give "
-                        f"{path.stem}.units.toml with [units] {col} = \"...\"")
-            elif col.startswith(q + "_"):
-                unit = col[len(q) + 1:]
-            else:
-                continue
-            if unit not in spec[q]:
-                raise InputError(f"{path} column {col}",
-                                 f"unknown unit '{unit}' for {q}; use one of "
-                                 f"{', '.join(spec[q])}")
-            if q in found:
-                raise InputError(f"{path} column {col}", f"{q} is given twice")
-            found[q] = table.columns[col] * spec[q][unit]
-            break
-    missing = [q for q in required if q not in found]
-    if missing:
-        raise InputError(str(path), f"missing column {missing[0]} (e.g. "
-                                    f"{missing[0]}_{next(iter(spec[missing[0]]))})")
-    return found
-
-
-def read_trace(path: str | Path) -> DutyTrace:
-    """Read a speed–time trace from CSV.
-
-    Parameters
-    ----------
-    path : str or pathlib.Path
-        CSV with a header naming each column and its unit (``time_s,speed_km_per_h`` and
-        optionally ``grade_percent``, ``payload_kg``); lines starting with ``#`` are comments.
-
-    Returns
-    -------
-    DutyTrace
-        The trace in SI units, named after the file.
-
-    Raises
-    ------
-    InputError
-        Missing file or columns, unknown units, bad numbers, time not increasing, negative
-        speeds; the message names the file and row.
-    """
-    path = Path(path)
-    table = _read_table(path)
-    cols = _resolve(path, table, TRACE_COLUMNS, ("time", "speed"))
-    return DutyTrace(time=cols["time"], speed=cols["speed"], grade=cols.get("grade"),
-                     payload=cols.get("payload"), name=str(path), rows=table.rows)
-
-
-def read_mode_table(path: str | Path) -> ModeTable:
-    """Read a time-at-mode table from CSV.
-
-    Parameters
-    ----------
-    path : str or pathlib.Path
-        CSV with columns like ``engine_speed_rpm,torque_n_m,time_h``; a comment line
-        ``# distance_km: 412`` gives the distance covered while the table was recorded.
-
-    Returns
-    -------
-    ModeTable
-        The modes in SI units.
-
-    Raises
-    ------
-    InputError
-        Missing file or columns, unknown units, bad numbers.
-    """
-    path = Path(path)
-    table = _read_table(path)
-    cols = _resolve(path, table, MODE_COLUMNS, ("engine_speed", "torque", "time"))
-    for q, values in cols.items():
-        bad = ~np.isfinite(values)
-        if bad.any():
-            raise InputError(f"{path} row {table.rows[np.argmax(bad)]}", f"{q} is missing")
-    distance = None if table.distance_km is None else table.distance_km * 1000.0
-    return ModeTable(engine_speed=cols["engine_speed"], torque=cols["torque"],
-                     duration=cols["time"], distance=distance, name=str(path))
-
-
-def read_profile(path: str | Path) -> DutyTrace | ModeTable:
-    """Read a duty profile: a time-at-mode table if it has an engine-speed column, else a trace.
-
-    Parameters
-    ----------
-    path : str or pathlib.Path
-        A trace CSV or a time-at-mode CSV.
-
-    Returns
-    -------
-    DutyTrace or ModeTable
-    """
-    path = Path(path)
-    table = _read_table(path)
-    if any(c.startswith("engine_speed") for c in table.header):
-        return read_mode_table(path)
-    return read_trace(path)
-
-
-def format_trace_csv(trace: DutyTrace, *, comments: tuple[str, ...] = ()) -> str:
-    """Render a trace as CSV text in the shipped format (km/h, percent, kg).
-
-    Parameters
-    ----------
-    trace : DutyTrace
-        The trace.
-    comments : tuple of str
-        Lines written first, each prefixed with ``# ``.
-
-    Returns
-    -------
-    str
-        CSV text with header ``time_s,speed_km_per_h[,grade_percent][,payload_kg]``.
-    """
-    cols = [np.char.mod("%.10g", trace.time), np.char.mod("%.2f", trace.speed * 3.6)]
-    header = ["time_s", "speed_km_per_h"]
-    if trace.grade is not None:
-        cols.append(np.char.mod("%.2f", trace.grade * 100.0))
-        header.append("grade_percent")
-    if trace.payload is not None:
-        cols.append(np.char.mod("%.0f", trace.payload))
-        header.append("payload_kg")
-    body = [",".join(fields) for fields in zip(*cols, strict=True)]
-    lines = [f"# {c}" for c in comments] + [",".join(header), *body]
-    return "\n".join(lines) + "\n"

@@ -1,8 +1,9 @@
 """Engine efficiency maps, fuel over a duty, and fuel and energy per distance.
 
 An :class:`EngineMap` holds brake efficiency on a grid of engine speed × torque, the full-load
-torque curve, idle speed and idle fuel power. It comes from a CSV grid (:func:`read_map`, in
-brake efficiency or BSFC) or from a Willans-line model (:func:`willans_map`). Per-fuel engine
+torque curve, idle speed and idle fuel power. It comes from a CSV grid
+(:func:`workbench.io.maps.read_map`, in brake efficiency or BSFC) or from a Willans-line model
+(:func:`willans_map`); it is identified by its content (:attr:`EngineMap.digest`). Per-fuel engine
 options (power derate, efficiency offset) are derived maps (:meth:`EngineMap.adjusted`).
 
 :func:`duty_energy` runs a trace through a vehicle and a map, in chunks so that a year of 1 Hz
@@ -29,16 +30,17 @@ Fuel power at an operating point (engine speed ``n``, brake torque ``T``)
 from __future__ import annotations
 
 import math
-import re
 from collections.abc import Iterable
 from dataclasses import dataclass, field
-from pathlib import Path
+from functools import cached_property
 from typing import TYPE_CHECKING, Literal
 
 import numpy as np
+import pandas as pd
 from scipy.interpolate import RegularGridInterpolator
 
-from workbench.core.constants import J_PER_KWH, RPM, to_rpm
+from workbench.core.cache import content_digest
+from workbench.core.constants import RPM, to_rpm
 from workbench.core.errors import InputError
 from workbench.models.duty import DutySettings, DutyTrace, ModeTable
 from workbench.models.vehicle import FIRED, IDLE, Vehicle, operating_points, road_load
@@ -101,6 +103,10 @@ class EngineMap:
         Idle speed [rad/s].
     idle_fuel_power : float
         Fuel power at idle with no load, LHV basis [W].
+
+    Notes
+    -----
+    Equality and hashing go by :attr:`digest` (axes, grid, full-load curve, idle), not by name.
     """
 
     name: str
@@ -140,6 +146,18 @@ class EngineMap:
         interp = RegularGridInterpolator((self.torque, self.speed), self.efficiency,
                                          method="linear")
         object.__setattr__(self, "_interp", interp)
+
+    @cached_property
+    def digest(self) -> str:
+        """SHA-256 of the axes, grid, full-load curve and idle figures: the map's identity."""
+        return content_digest("map", self.speed, self.torque, self.efficiency,
+                              self.full_load_torque, self.idle_speed, self.idle_fuel_power)
+
+    def __eq__(self, other: object) -> bool:
+        return isinstance(other, EngineMap) and self.digest == other.digest
+
+    def __hash__(self) -> int:
+        return hash(self.digest)
 
     def efficiency_at(self, speed: np.ndarray, torque: np.ndarray) -> np.ndarray:
         """Brake efficiency interpolated on the grid, speed and torque clamped to the axes.
@@ -401,157 +419,6 @@ def willans_map(params: WillansParameters, *, name: str, n_speed: int = 12,
                      idle_fuel_power=idle_fuel)
 
 
-# ----------------------------------------------------------------------------- map CSV
-
-_MAP_META = re.compile(r"^#\s*([a-z_]+)\s*:\s*(.*?)\s*$")
-_MAP_KEYS = ("value", "idle_speed_rpm", "idle_fuel_power_kw", "bsfc_lhv_mj_per_kg")
-_SPEED_UNITS = {"rpm": RPM, "rad_per_s": 1.0}
-_VALUE_KINDS = ("brake_efficiency", "bsfc_g_per_kwh")
-
-
-def read_map(path: str | Path) -> EngineMap:
-    """Read an efficiency map from a CSV grid.
-
-    Parameters
-    ----------
-    path : str or pathlib.Path
-        CSV as described in ``docs/duty.md``: ``# key: value`` lines (``value``,
-        ``idle_speed_rpm``, ``idle_fuel_power_kw``, and ``bsfc_lhv_mj_per_kg`` for BSFC maps),
-        a header ``torque_n_m/speed_rpm,<speeds>``, a ``full_load,<torques>`` row, then one row
-        per torque: ``<torque>,<efficiency or BSFC per speed>``.
-    Returns
-    -------
-    EngineMap
-
-    Raises
-    ------
-    InputError
-        Missing cells or metadata, axes out of order, unknown units, values out of range; the
-        message names the file and row.
-    """
-    path = Path(path)
-    try:
-        text = path.read_text(encoding="utf-8")
-    except FileNotFoundError:
-        raise InputError(str(path), "file not found") from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError(str(path), f"cannot read the file ({exc.__class__.__name__})") from None
-    meta: dict[str, str] = {}
-    rows: list[tuple[int, list[str]]] = []
-    for lineno, line in enumerate(text.splitlines(), start=1):
-        s = line.strip()
-        if not s:
-            continue
-        if s.startswith("#"):
-            m = _MAP_META.match(s)
-            if m and m.group(1) in _MAP_KEYS:
-                meta[m.group(1)] = m.group(2)
-            continue
-        rows.append((lineno, [c.strip() for c in s.split(",")]))
-    for key in ("value", "idle_speed_rpm", "idle_fuel_power_kw"):
-        if key not in meta:
-            raise InputError(str(path), f"missing metadata line '# {key}: ...'")
-    if meta["value"] not in _VALUE_KINDS:
-        raise InputError(f"{path}: value", f"unknown '{meta['value']}'; use one of "
-                                           f"{', '.join(_VALUE_KINDS)}")
-    if len(rows) < 4:
-        raise InputError(str(path), "needs a header, a full_load row and >= 2 torque rows")
-    (hline, header), (fline, full_row), *grid_rows = rows
-    axis = header[0].lower().replace(" ", "")
-    m = re.fullmatch(r"torque_n_m/speed_([a-z_]+)", axis)
-    if not m or m.group(1) not in _SPEED_UNITS:
-        raise InputError(f"{path} row {hline}",
-                         "first header cell must be torque_n_m/speed_rpm (or speed_rad_per_s)")
-    width = len(header)
-
-    def numbers(lineno: int, cells: list[str], what: str) -> np.ndarray:
-        if len(cells) != width:
-            raise InputError(f"{path} row {lineno}",
-                             f"has {len(cells)} fields, the header has {width}")
-        out = np.empty(len(cells))
-        for j, c in enumerate(cells):
-            try:
-                out[j] = float(c)
-            except ValueError:
-                raise InputError(f"{path} row {lineno} column {j + 1}",
-                                 f"{what} cell '{c}' is missing or not a number") from None
-            if not math.isfinite(out[j]):
-                raise InputError(f"{path} row {lineno} column {j + 1}",
-                                 f"{what} cell is not finite")
-        return out
-
-    speed = numbers(hline, ["0", *header[1:]], "speed")[1:] * _SPEED_UNITS[m.group(1)]
-    bad = np.flatnonzero(np.diff(speed) <= 0)
-    if bad.size:
-        raise InputError(f"{path} row {hline} column {bad[0] + 3}",
-                         "speed axis is not strictly increasing; order the columns by speed")
-    if full_row[0].lower() != "full_load":
-        raise InputError(f"{path} row {fline}",
-                         "second row must be the full_load torque row, 'full_load,<N m>...'")
-    full = numbers(fline, ["0", *full_row[1:]], "full_load")[1:]
-    values = np.array([numbers(ln, cells, "map") for ln, cells in grid_rows])
-    torque = values[:, 0]
-    bad = np.flatnonzero(np.diff(torque) <= 0)
-    if bad.size:
-        raise InputError(f"{path} row {grid_rows[bad[0] + 1][0]}",
-                         "torque axis is not strictly increasing; order the rows by torque")
-    grid = values[:, 1:]
-    if meta["value"] == "bsfc_g_per_kwh":
-        if "bsfc_lhv_mj_per_kg" not in meta:
-            raise InputError(str(path), "a BSFC map needs '# bsfc_lhv_mj_per_kg: ...' (LHV "
-                                        "of the test fuel)")
-        lhv = _meta_number(path, meta, "bsfc_lhv_mj_per_kg") * 1e6
-        if np.any(grid <= 0):
-            raise InputError(str(path), "BSFC cells must be positive")
-        grid = J_PER_KWH * 1e3 / (grid * lhv)  # g/kWh -> kg/J is 1e-3/J_PER_KWH
-    for i, (ln, _) in enumerate(grid_rows):
-        bad_cells = np.flatnonzero(~((grid[i] > 0.0) & (grid[i] < 1.0)))
-        if bad_cells.size:
-            raise InputError(f"{path} row {ln} column {bad_cells[0] + 2}",
-                             "efficiency must be in (0, 1); check the value kind and units")
-    try:
-        return EngineMap(name=str(path), speed=speed, torque=torque, efficiency=grid,
-                         full_load_torque=full,
-                         idle_speed=_meta_number(path, meta, "idle_speed_rpm") * RPM,
-                         idle_fuel_power=_meta_number(path, meta, "idle_fuel_power_kw") * 1e3)
-    except InputError as exc:
-        raise InputError(f"{path}: {exc.where.split(': ')[-1]}", exc.message) from None
-
-
-def _meta_number(path: Path, meta: dict[str, str], key: str) -> float:
-    try:
-        return float(meta[key])
-    except ValueError:
-        raise InputError(f"{path}: {key}", f"'{meta[key]}' is not a number") from None
-
-
-def format_map_csv(engine_map: EngineMap, *, comments: tuple[str, ...] = ()) -> str:
-    """Render a map as CSV text in brake efficiency, speeds in rpm.
-
-    Parameters
-    ----------
-    engine_map : EngineMap
-        The map.
-    comments : tuple of str
-        Free-text lines written first, each prefixed with ``# ``.
-
-    Returns
-    -------
-    str
-        Text that :func:`read_map` reads back.
-    """
-    lines = [f"# {c}" for c in comments] + [
-        "# value: brake_efficiency",
-        f"# idle_speed_rpm: {to_rpm(engine_map.idle_speed):.0f}",
-        f"# idle_fuel_power_kw: {engine_map.idle_fuel_power / 1e3:.3f}",
-        "torque_n_m/speed_rpm," + ",".join(f"{to_rpm(n):.0f}" for n in engine_map.speed),
-        "full_load," + ",".join(f"{t:.1f}" for t in engine_map.full_load_torque),
-    ]
-    for t, row in zip(engine_map.torque, engine_map.efficiency, strict=True):
-        lines.append(f"{t:.1f}," + ",".join(f"{e:.4f}" for e in row))
-    return "\n".join(lines) + "\n"
-
-
 # ----------------------------------------------------------------------------- duty energy
 
 
@@ -723,6 +590,99 @@ def mode_energy(table: ModeTable, engine_map: EngineMap, *,
     if sums["duration"] <= 0.0:
         raise InputError(table.name, "the modes add up to no time")
     return DutyEnergy(**_with_extra_idle(sums, engine_map, settings))
+
+
+# ----------------------------------------------------------------------------- duty pipeline
+
+#: Engine-speed bins the NOx propensity is weighted over (by fuel energy).
+NOX_SPEED_BINS = 3
+#: Bins of the operating-point histogram: engine speed (over the map's axis) × torque (0 to
+#: the highest full-load torque).
+HISTOGRAM_BINS = (12, 10)
+
+
+@dataclass(frozen=True)
+class DutyRun:
+    """What a vehicle and engine do on a duty (trace or time-at-mode table), before any fuel.
+
+    Attributes
+    ----------
+    energy : DutyEnergy
+        Energy flows over the profile.
+    nox_speeds : numpy.ndarray
+        Engine-speed bin centres for the NOx weighting [rev/min].
+    nox_weights : numpy.ndarray
+        Fuel energy in each bin [J].
+    points : pandas.DataFrame
+        Operating-point histogram: ``engine_speed_rpm``, ``torque_nm``, ``seconds``,
+        ``brake_efficiency`` (per pass of the profile).
+    """
+
+    energy: DutyEnergy
+    nox_speeds: np.ndarray
+    nox_weights: np.ndarray
+    points: pd.DataFrame
+
+
+def run_duty(duty: DutyTrace | ModeTable, vehicle: Vehicle | None, engine_map: EngineMap, *,
+             settings: DutySettings | None = None) -> DutyRun:
+    """The engine pipeline: a trace or mode table → operating points → energy and histograms.
+
+    Parameters
+    ----------
+    duty : DutyTrace or ModeTable
+        The profile.
+    vehicle : Vehicle or None
+        Road load and driveline; needed for a trace, unused for a time-at-mode table.
+    engine_map : EngineMap
+        The engine (already adjusted for the fuel, if needed).
+    settings : DutySettings, optional
+        Accessory power, engine-off at stops, extra idle share.
+
+    Returns
+    -------
+    DutyRun
+        Energy (:func:`duty_energy` or :func:`mode_energy`), fuel energy in
+        :data:`NOX_SPEED_BINS` engine-speed bins of the fired and idling points, and the
+        time spent in :data:`HISTOGRAM_BINS` speed × torque cells.
+
+    Raises
+    ------
+    InputError
+        A trace without a vehicle; anything the energy functions raise.
+    """
+    settings = settings or DutySettings()
+    if isinstance(duty, ModeTable):
+        energy = mode_energy(duty, engine_map, settings=settings)
+        speed, torque, dt = duty.engine_speed, duty.torque, duty.duration
+    else:
+        if vehicle is None:
+            raise InputError(duty.name, "a speed trace needs a vehicle")
+        energy = duty_energy(duty, vehicle, engine_map, settings=settings)
+        load = road_load(vehicle, duty)
+        ops = operating_points(vehicle, duty, load, idle_speed=engine_map.idle_speed,
+                               settings=settings, full_load_torque=engine_map.max_torque)
+        burning = (ops.state == FIRED) | (ops.state == IDLE)
+        speed, torque = ops.engine_speed[burning], ops.engine_torque[burning]
+        dt = load.duration[burning]
+    fuel_power = engine_map.fuel_power(speed, torque).fuel_power
+    rpm = to_rpm(speed)
+    edges = np.linspace(rpm.min(), rpm.max() + 1e-9, NOX_SPEED_BINS + 1)
+    weights, _ = np.histogram(rpm, edges, weights=fuel_power * dt)
+    centres = (edges[:-1] + edges[1:]) / 2
+    keep = weights > 0
+    n_speed, n_torque = HISTOGRAM_BINS
+    s_edges = to_rpm(np.linspace(engine_map.speed.min(), engine_map.speed.max(), n_speed + 1))
+    t_edges = np.linspace(0.0, float(engine_map.full_load_torque.max()), n_torque + 1)
+    seconds, _, _ = np.histogram2d(rpm, np.clip(torque, 0, None), [s_edges, t_edges],
+                                   weights=dt)
+    sc, tc = np.meshgrid((s_edges[:-1] + s_edges[1:]) / 2, (t_edges[:-1] + t_edges[1:]) / 2,
+                         indexing="ij")
+    mask = seconds > 0
+    eff = engine_map.efficiency_at(sc[mask] * RPM, tc[mask])
+    points = pd.DataFrame({"engine_speed_rpm": sc[mask], "torque_nm": tc[mask],
+                           "seconds": seconds[mask], "brake_efficiency": eff})
+    return DutyRun(energy, centres[keep], weights[keep], points)
 
 
 # ----------------------------------------------------------------------------- per distance

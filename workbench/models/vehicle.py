@@ -3,8 +3,8 @@
 :class:`Vehicle` holds the parameters (SI); :func:`road_load` turns a :class:`DutyTrace` into
 tractive force and power at the wheel per interval; :func:`operating_points` chooses a gear
 and gives engine speed and torque per interval. No regenerative braking: these are engine
-vehicles, braking energy is lost. :func:`read_vehicle` reads a vehicle TOML file
-(``docs/duty.md``).
+vehicles, braking energy is lost. Vehicle TOML files (``docs/duty.md``) are read by
+:func:`workbench.io.vehicles.read_vehicle`.
 
 Gear-selection rule (economy shifting, documented in ``docs/duty.md``)
 ----------------------------------------------------------------------
@@ -19,14 +19,12 @@ the engine, the gear set cannot reach the trace's speed: :class:`InputError`.
 from __future__ import annotations
 
 import math
-import tomllib
 from collections.abc import Callable
 from dataclasses import dataclass
-from pathlib import Path
 
 import numpy as np
 
-from workbench.core.constants import RPM, STANDARD_GRAVITY, to_rpm
+from workbench.core.constants import STANDARD_GRAVITY, to_rpm
 from workbench.core.errors import InputError
 from workbench.models.duty import STOP_SPEED, DutySettings, DutyTrace
 
@@ -309,84 +307,3 @@ def operating_points(
         torque[off] = 0.0
     return OperatingPoints(engine_speed=speed, engine_torque=torque,
                            gear=np.where(moving, gear + 1, 0).astype(np.int8), state=state)
-
-
-# ----------------------------------------------------------------------------- reader
-
-#: TOML key -> (Vehicle field, factor to SI). Values may be plain numbers or
-#: ``{ value = ..., source = "..." }`` tables.
-_TOML_FIELDS: dict[str, tuple[str, float]] = {
-    "mass_kg": ("mass", 1.0),
-    "payload_kg": ("payload", 1.0),
-    "frontal_area_m2": ("frontal_area", 1.0),
-    "drag_coefficient": ("drag_coefficient", 1.0),
-    "rolling_resistance": ("rolling_resistance", 1.0),
-    "driveline_efficiency": ("driveline_efficiency", 1.0),
-    "wheel_radius_m": ("wheel_radius", 1.0),
-    "final_drive": ("final_drive", 1.0),
-    "shift_speed_rpm": ("shift_speed", RPM),
-    "max_engine_speed_rpm": ("max_engine_speed", RPM),
-    "air_density_kg_per_m3": ("air_density", 1.0),
-    "rotating_mass_factor": ("rotating_mass_factor", 1.0),
-}
-_OPTIONAL = {"air_density_kg_per_m3", "rotating_mass_factor"}
-
-
-def _number(path: Path, key: str, raw: object) -> object:
-    value = raw.get("value") if isinstance(raw, dict) else raw
-    if isinstance(value, bool) or not isinstance(value, int | float | list):
-        raise InputError(f"{path}: {key}", "must be a number or { value = ..., source = \"...\" }")
-    return value
-
-
-def read_vehicle(path: str | Path) -> Vehicle:
-    """Read a vehicle description from TOML.
-
-    Parameters
-    ----------
-    path : str or pathlib.Path
-        TOML file with ``name`` and the keys listed in ``docs/duty.md`` (``mass_kg``,
-        ``frontal_area_m2``, ``gear_ratios``, ...); each number may be written as
-        ``{ value = 1450, source = "typical value, example" }``.
-
-    Returns
-    -------
-    Vehicle
-
-    Raises
-    ------
-    InputError
-        Unreadable file, unknown or missing keys, values out of range.
-    """
-    path = Path(path)
-    try:
-        data = tomllib.loads(path.read_text(encoding="utf-8"))
-    except FileNotFoundError:
-        raise InputError(str(path), "file not found") from None
-    except (OSError, UnicodeDecodeError, tomllib.TOMLDecodeError) as exc:
-        raise InputError(str(path), f"not a readable TOML file ({exc})") from None
-    known = {"name", "description", "invented", "source", "gear_ratios", *_TOML_FIELDS}
-    for key in data:
-        if key not in known:
-            raise InputError(f"{path}: {key}", f"unknown key; known keys: {', '.join(known)}")
-    kwargs: dict[str, object] = {"name": str(data.get("name", path.stem))}
-    for key, (attr, factor) in _TOML_FIELDS.items():
-        if key not in data:
-            if key in _OPTIONAL:
-                continue
-            raise InputError(str(path), f"missing key {key}")
-        value = _number(path, key, data[key])
-        if isinstance(value, list):
-            raise InputError(f"{path}: {key}", "must be a single number")
-        kwargs[attr] = float(value) * factor
-    if "gear_ratios" not in data:
-        raise InputError(str(path), "missing key gear_ratios")
-    gears = _number(path, "gear_ratios", data["gear_ratios"])
-    if not isinstance(gears, list) or not all(
-            isinstance(g, int | float) and not isinstance(g, bool) for g in gears):
-        raise InputError(f"{path}: gear_ratios", "must be a list of numbers, first gear first")
-    kwargs["gear_ratios"] = tuple(float(g) for g in gears)
-    try:
-        return Vehicle(**kwargs)  # type: ignore[arg-type]
-    except InputError as exc:
-        raise InputError(f"{path}: {exc.where.split(': ')[-1]}", exc.message) from None

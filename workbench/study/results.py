@@ -15,6 +15,8 @@ from typing import Any
 
 import pandas as pd
 
+from workbench.study.naming import Names
+
 #: Columns of each table, in order. Every table is long ("tidy"): one row per candidate and
 #: whatever else the row is about.
 COLUMNS: dict[str, tuple[str, ...]] = {
@@ -59,8 +61,13 @@ COLUMNS: dict[str, tuple[str, ...]] = {
     "monte_carlo": ("candidate", "draw", "npv_vs_baseline"),
     # one row per candidate x uncertain input: one-at-a-time sensitivity of NPV
     "tornado": (
-        "candidate", "input", "low_value", "high_value", "npv_at_low", "npv_at_high", "swing",
+        "candidate", "input", "label", "unit", "low_value", "high_value", "npv_at_low",
+        "npv_at_high", "swing",
     ),
+    # one row per input of the study file, as written (for a reviewer to rebuild it)
+    "inputs": ("section", "input", "value"),
+    # one row per candidate x input: the value at which the NPV vs baseline crosses zero
+    "breakeven": ("candidate", "input", "label", "unit", "nominal_value", "breakeven_value"),
     # one row per candidate x vehicle class x operating point (time-weighted)
     "operating_points": (
         "candidate", "vehicle_class", "engine_speed_rpm", "torque_nm", "hours",
@@ -87,10 +94,14 @@ class StudyResult:
     currency : str
         Currency code or label of every money column.
     candidates, per_km, cash_flows, fleet_years, nox_monthly, storage, monte_carlo, tornado,
-    operating_points, flame, catalyst : pandas.DataFrame
+    operating_points, flame, catalyst, breakeven, inputs : pandas.DataFrame
         The tables of :data:`COLUMNS`.
     assumptions : dict
         Flat record of the inputs that shaped the result (for the report), values as text.
+    fictional : bool
+        The study says its data are invented (a demo); the report says so at the top.
+    names : Names
+        Display names of the option, class and fuel ids (``workbench.study.naming``).
     sources : dict
         Where reference data came from, by item.
     """
@@ -109,6 +120,12 @@ class StudyResult:
     flame: pd.DataFrame
     catalyst: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
         columns=list(COLUMNS["catalyst"])))
+    breakeven: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
+        columns=list(COLUMNS["breakeven"])))
+    inputs: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
+        columns=list(COLUMNS["inputs"])))
+    fictional: bool = False
+    names: Names = field(default_factory=Names)
     assumptions: dict[str, str] = field(default_factory=dict)
     sources: dict[str, str] = field(default_factory=dict)
 

@@ -19,13 +19,11 @@ from __future__ import annotations
 
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, replace
-from pathlib import Path
 
 import numpy as np
 import pandas as pd
 
 from workbench.core.cache import memoize
-from workbench.core.constants import RPM, to_rpm
 from workbench.core.errors import InputError
 from workbench.core.fuels import Fuel
 from workbench.core.thermo import molar_mass
@@ -33,18 +31,12 @@ from workbench.core.units import Price, price_per_energy
 from workbench.models import economics as econ
 from workbench.models.aftertreatment import Aftertreatment, optimal_interval, programme_nox
 from workbench.models.combustion import FuelSheet, fuel_sheet
-from workbench.models.duty import DutySettings, DutyTrace, read_profile
+from workbench.models.duty import DutySettings, DutyTrace, ModeTable
 from workbench.models.emissions import co2e
-from workbench.models.engine import (
-    DutyEnergy,
-    duty_energy,
-    fuel_per_distance_for,
-    mode_energy,
-    read_map,
-)
+from workbench.models.engine import DutyRun, EngineMap, fuel_per_distance_for, run_duty
 from workbench.models.engine_out import engine_out_per_m
 from workbench.models.storage import tank_for_range
-from workbench.models.vehicle import FIRED, IDLE, operating_points, read_vehicle, road_load
+from workbench.models.vehicle import Vehicle
 from workbench.study import tables
 from workbench.study.results import StudyResult
 from workbench.study.studyfile import (
@@ -57,45 +49,22 @@ from workbench.study.studyfile import (
     sold_as_liquid,
 )
 
-#: Engine-speed bins the NOx propensity is weighted over (by fuel energy).
-NOX_SPEED_BINS = 3
-
-
 # ----------------------------------------------------------------------------- physics
 
 
-@dataclass(frozen=True)
-class DutyPhysics:
-    """What one vehicle class does on its duty with one engine map (no fuel yet).
-
-    Attributes
-    ----------
-    energy : DutyEnergy
-        Energy flows over the profile.
-    nox_speeds : numpy.ndarray
-        Engine-speed bin centres for the NOx weighting [rev/min].
-    nox_weights : numpy.ndarray
-        Fuel energy in each bin [J].
-    points : pandas.DataFrame
-        Operating-point histogram: ``engine_speed_rpm``, ``torque_nm``, ``seconds``,
-        ``brake_efficiency`` (per pass of the profile).
-    """
-
-    energy: DutyEnergy
-    nox_speeds: np.ndarray
-    nox_weights: np.ndarray
-    points: pd.DataFrame
-
-
 @memoize(maxsize=128)
-def duty_physics(profile: Path, vehicle: Path, engine_map: Path, derate: float,
-                 efficiency_offset: float, settings: DutySettings) -> DutyPhysics:
-    """Run a profile with a vehicle and an adjusted map (cached by its arguments).
+def duty_physics(profile: DutyTrace | ModeTable, vehicle: Vehicle, engine_map: EngineMap,
+                 derate: float, efficiency_offset: float, settings: DutySettings) -> DutyRun:
+    """Run a profile with a vehicle and an adjusted map (cached by their content).
 
     Parameters
     ----------
-    profile, vehicle, engine_map : pathlib.Path
-        Profile CSV, vehicle TOML, map CSV.
+    profile : DutyTrace or ModeTable
+        The class's duty, read when the study was checked.
+    vehicle : Vehicle
+        Road load and driveline (unused for a time-at-mode table).
+    engine_map : EngineMap
+        The option's map before the fuel's adjustment.
     derate : float
         Share of full-load torque lost [-].
     efficiency_offset : float
@@ -105,42 +74,10 @@ def duty_physics(profile: Path, vehicle: Path, engine_map: Path, derate: float,
 
     Returns
     -------
-    DutyPhysics
+    DutyRun
     """
-    emap = read_map(engine_map).adjusted(derate=derate, efficiency_offset=efficiency_offset)
-    duty = read_profile(profile)
-    if not isinstance(duty, DutyTrace):
-        energy = mode_energy(duty, emap, settings=settings)
-        speed = to_rpm(duty.engine_speed)
-        torque = duty.torque
-        dt = duty.duration
-        fuel_power = emap.fuel_power(duty.engine_speed, duty.torque).fuel_power
-    else:
-        veh = read_vehicle(vehicle)
-        energy = duty_energy(duty, veh, emap, settings=settings)
-        load = road_load(veh, duty)
-        ops = operating_points(veh, duty, load, idle_speed=emap.idle_speed, settings=settings,
-                               full_load_torque=emap.max_torque)
-        burning = (ops.state == FIRED) | (ops.state == IDLE)
-        speed = to_rpm(ops.engine_speed[burning])
-        torque = ops.engine_torque[burning]
-        dt = load.duration[burning]
-        fuel_power = emap.fuel_power(ops.engine_speed[burning], torque).fuel_power
-    edges = np.linspace(speed.min(), speed.max() + 1e-9, NOX_SPEED_BINS + 1)
-    weights, _ = np.histogram(speed, edges, weights=fuel_power * dt)
-    centres = (edges[:-1] + edges[1:]) / 2
-    keep = weights > 0
-    s_edges = to_rpm(np.linspace(emap.speed.min(), emap.speed.max(), 13))
-    t_edges = np.linspace(0.0, float(emap.full_load_torque.max()), 11)
-    seconds, _, _ = np.histogram2d(speed, np.clip(torque, 0, None), [s_edges, t_edges],
-                                   weights=dt)
-    sc, tc = np.meshgrid((s_edges[:-1] + s_edges[1:]) / 2, (t_edges[:-1] + t_edges[1:]) / 2,
-                         indexing="ij")
-    mask = seconds > 0
-    eff = emap.efficiency_at(sc[mask] * RPM, tc[mask])
-    points = pd.DataFrame({"engine_speed_rpm": sc[mask], "torque_nm": tc[mask],
-                           "seconds": seconds[mask], "brake_efficiency": eff})
-    return DutyPhysics(energy, centres[keep], weights[keep], points)
+    emap = engine_map.adjusted(derate=derate, efficiency_offset=efficiency_offset)
+    return run_duty(profile, vehicle, emap, settings=settings)
 
 
 @dataclass(frozen=True)
@@ -163,7 +100,7 @@ class ClassPhysics:
     best_total_cost: float
     share_out_of_map: float
     share_full_load: float
-    duty: DutyPhysics
+    duty: DutyRun
     storage: dict[str, float]
 
 
@@ -173,9 +110,9 @@ def _settings(c: FleetClass) -> DutySettings:
                         extra_idle_share=c.extra_idle_share)
 
 
-def _duty_for(c: FleetClass, co: ClassOption) -> DutyPhysics:
-    return duty_physics(c.profile, c.vehicle, co.engine_map, co.derate, co.efficiency_offset,
-                        _settings(c))
+def _duty_for(c: FleetClass, co: ClassOption) -> DutyRun:
+    return duty_physics(c.profile_data, c.vehicle_data, co.map_data, co.derate,
+                        co.efficiency_offset, _settings(c))
 
 
 @memoize(maxsize=256)
@@ -470,9 +407,34 @@ def run(study: Study, *, draws: int | None = None,
             if inputs.uncertain:
                 sensitivity[o.id] = _sensitivity(plan, o.id)
     result = tables.study_result(study, plan, _lines(plan, {}, 1), det, draws_of,
-                                 sensitivity, n)
+                                 sensitivity, n, _break_even(plan))
     say("done")
     return result
+
+
+def _break_even(plan: Plan) -> dict[str, list[tuple[Uncertain, float]]]:
+    """Per candidate, the inputs that could turn its verdict and where its NPV is zero.
+
+    The inputs are the prices of the fuels a candidate brings in and the km per year of the
+    classes it converts, one at a time, every other input nominal.
+    """
+    inputs = plan.inputs
+    base = inputs.baseline.id
+    base_fuels = {co.fuel.id for co in inputs.baseline.per_class.values()}
+    out: dict[str, list[tuple[Uncertain, float]]] = {}
+    for o in inputs.candidates:
+        converted = [co for co in o.per_class.values() if co.converts]
+        subjects = [inputs.prices[f][1] for f in dict.fromkeys(co.fuel.id for co in converted)
+                    if f not in base_fuels]
+        subjects += [c.km_per_year for c in inputs.classes if o.per_class[c.id].converts]
+
+        def npv_at(x: float, u: Uncertain, _oid: str = o.id) -> float:
+            money = _money(plan, {u.path: np.array([x])}, 1)
+            return float(econ.npv_draws(money, _oid, base).npv[0])
+
+        out[o.id] = [(u, econ.break_even(lambda x, _u=u: npv_at(x, _u), u.nominal))
+                     for u in subjects]
+    return out
 
 
 def _sensitivity(plan: Plan, option: str) -> pd.DataFrame:

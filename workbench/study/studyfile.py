@@ -13,6 +13,11 @@ life and costs) are listed in ``varied`` and evaluated at a few quantiles of the
 (see
 ``workbench.study.runner``). Inputs that change neither money nor physics of the programme (tank
 range, hours per day, lambda for ppm conversion, N2O) and the files a study names are fixed.
+
+The files a study names (profiles, vehicles, maps, fuel files) are resolved by one rule
+(:func:`resolve_data_file`: a shipped name, or a path relative to the study's folder) and read
+once, when the study is checked: :class:`FleetClass` and :class:`ClassOption` carry the objects
+(compared by content) beside the paths, so running a study opens no file.
 """
 
 from __future__ import annotations
@@ -41,9 +46,15 @@ from workbench.core.units import (
     read_number,
 )
 from workbench.io.files import write_text_atomic
+from workbench.io.maps import read_map
+from workbench.io.profiles import read_profile
+from workbench.io.vehicles import read_vehicle
 from workbench.models.aftertreatment import DEVICE_PRESETS, Aftertreatment
+from workbench.models.duty import DutyTrace, ModeTable
 from workbench.models.economics import DISTRIBUTION_PARAMETERS, Correlation, Distribution
+from workbench.models.engine import EngineMap
 from workbench.models.nox import ENGINE_PRESETS, EngineOutNOx
+from workbench.models.vehicle import Vehicle
 
 #: The demo study of a fictional port city.
 DEMO_STUDY = DATA / "studies" / "kestrel-bay.toml"
@@ -109,7 +120,7 @@ class FleetClass:
     km_per_year: Uncertain  # [m/year]
     hours_per_day: float  # [h]
     remaining_life_years: int
-    profile: Path
+    profile: Path  # the files as named, for display and the report
     vehicle: Path
     engine_map: Path
     range: float  # target range for tank sizing [m]
@@ -118,6 +129,9 @@ class FleetClass:
     accessory_power: float  # [W]
     engine_off_at_stops: bool
     extra_idle_share: float
+    profile_data: DutyTrace | ModeTable  # read from ``profile`` when the study was checked
+    vehicle_data: Vehicle  # read from ``vehicle``
+    map_data: EngineMap  # read from ``engine_map``
     varied: tuple[tuple[str, Uncertain], ...] = ()  # physics inputs with a distribution
 
 
@@ -128,7 +142,8 @@ class ClassOption:
     converts: bool
     fuel: Fuel
     engine: str  # NOx engine preset
-    engine_map: Path
+    engine_map: Path  # as named, for display
+    map_data: EngineMap  # read from ``engine_map`` when the study was checked
     derate: float
     efficiency_offset: float
     conversion_cost: Uncertain  # per vehicle [currency]
@@ -466,7 +481,10 @@ def _uncertain(raw: Any, parse: Callable[[Any, str], float], where: str,
             raise InputError(f"{where}.{k}", f"unknown key; a distribution takes "
                              f"{', '.join(_DIST_PARAMS)}")
         params[k] = parse(v, f"{where}.{k}")
-    dist = Distribution.from_mapping({"kind": raw["kind"], **params}, where=where)
+    try:
+        dist = Distribution.from_mapping({"kind": raw["kind"], **params}, where=where)
+    except InputError as exc:
+        raise InputError(exc.where, _as_written(exc, raw)) from None
     for k in ("low", "high", "value"):  # the number the user typed is named first
         if params.get(k) is not None:
             _check_range(params[k], f"{where}.{k}", low, high, unit)
@@ -482,6 +500,26 @@ def _short(value: Any) -> str:
     """``repr(value)`` cut to 60 characters, for an error line."""
     text = repr(value)
     return text if len(text) <= 60 else text[:57] + "..."
+
+
+#: Messages of a distribution's order checks, in the user's own text (not SI values).
+_ORDER_MESSAGES = {
+    "low": "low {low} is above high {high}; swap them",
+    "mode": "mode {mode} must lie between low {low} and high {high}",
+    "sd": "sd {sd} must be zero or positive",
+    "mean": "a lognormal input must have a positive mean, got {mean}; use a normal "
+            "distribution",
+}
+
+
+def _as_written(exc: InputError, raw: Mapping[str, Any]) -> str:
+    """A distribution's order error with the values as the user wrote them, units included."""
+    key = exc.where.rsplit(".", 1)[-1]
+    template = _ORDER_MESSAGES.get(key)
+    try:
+        return template.format(**{k: str(v) for k, v in raw.items()}) if template else exc.message
+    except KeyError:
+        return exc.message
 
 
 def _money(raw: Any, where: str) -> float:
@@ -734,17 +772,77 @@ def all_uncertain(inputs: StudyInputs) -> list[Uncertain]:
     return list(seen.values())
 
 
-def _data_file(raw: Any, where: str, folder: str, suffix: str, base_dir: Path) -> Path:
-    check_file_name(raw, where, what=f"a shipped {folder[:-1]} or a {suffix} file")
-    shipped = DATA / folder / f"{raw}{suffix}"
-    if shipped.is_file():
-        return shipped
-    path = (base_dir / raw).resolve()
-    if path.is_file() and path.suffix == suffix:
-        return path
-    names = ", ".join(sorted(p.stem for p in (DATA / folder).glob(f"*{suffix}")))
-    raise InputError(where, f"{raw!r} is neither a shipped {folder[:-1]} ({names}) nor a "
-                     f"{suffix} file")
+#: Kinds of file a study names: kind -> (folder of shipped files under ``DATA`` or None,
+#: expected suffixes).
+DATA_FILE_KINDS: dict[str, tuple[str | None, tuple[str, ...]]] = {
+    "profile": ("profiles", (".csv",)),
+    "vehicle": ("vehicles", (".toml",)),
+    "map": ("maps", (".csv",)),
+    "fuel": (None, (".toml",)),
+}
+
+
+def resolve_data_file(raw: Any, where: str, kind: str, base_dir: Path) -> Path:
+    """The file a study names: a shipped name, or a path relative to the study's folder.
+
+    Parameters
+    ----------
+    raw : object
+        The value in the study (``"taxi-shift"``, ``"logs/taxi.csv"``, an absolute path).
+    where : str
+        Its key path, for errors.
+    kind : str
+        A key of :data:`DATA_FILE_KINDS`: ``profile``, ``vehicle``, ``map`` or ``fuel``.
+    base_dir : pathlib.Path
+        The study file's folder; relative paths are read from there, never from the working
+        directory.
+
+    Returns
+    -------
+    pathlib.Path
+        An existing file, absolute.
+
+    Raises
+    ------
+    InputError
+        Not a text, wrong suffix, or no such file; the message names the path tried.
+    """
+    folder, suffixes = DATA_FILE_KINDS[kind]
+
+    def names() -> str:  # only for the error message
+        shipped = sorted(p.stem for p in (DATA / folder).glob(f"*{suffixes[0]}")) if folder else []
+        return f" or a shipped {kind} ({', '.join(shipped)})" if shipped else ""
+
+    if not isinstance(raw, str) or not raw.strip():
+        raise InputError(where, f"must name a {'/'.join(suffixes)} file{names()}")
+    check_file_name(raw, where, what=f"a {'/'.join(suffixes)} file")
+    if folder and re.fullmatch(r"[A-Za-z0-9_.-]+", raw) and not raw.endswith(suffixes):
+        shipped = DATA / folder / f"{raw}{suffixes[0]}"
+        if shipped.is_file():
+            return shipped
+    path = Path(raw).expanduser()
+    tried = path if path.is_absolute() else base_dir / path
+    if tried.suffix.lower() not in suffixes:
+        raise InputError(where, f"{raw!r} is not a {kind} file: name a "
+                         f"{'/'.join(suffixes)} file{names()}")
+    try:
+        found = tried.is_file()
+    except (OSError, ValueError):
+        found = False
+    if not found:
+        raise InputError(where, f"no {kind} file at {tried} (relative paths are read from the "
+                         f"study's folder); fix the path{names()}")
+    return tried.resolve()
+
+
+def _read_data_file(raw: Any, where: str, kind: str, base_dir: Path,
+                    reader: Callable[[Path], Any]) -> tuple[Path, Any]:
+    """The path a study names and the object read from it (errors name the key path)."""
+    path = resolve_data_file(raw, where, kind, base_dir)
+    try:
+        return path, reader(path)
+    except InputError as exc:
+        raise InputError(f"{where}: {exc.where}", exc.message) from None
 
 
 def _watts(raw: Any, where: str) -> float:
@@ -773,6 +871,12 @@ def _fleet_class(r: _Reader, base_dir: Path, currency: str) -> FleetClass:
         raise InputError(r.at("id"), "use letters, digits, - and _ only")
     varied: list[tuple[str, Uncertain]] = []
     physics = _physics_input(varied)
+    profile, duty = _read_data_file(r.raw("profile"), r.at("profile"), "profile", base_dir,
+                                    read_profile)
+    vehicle, vehicle_data = _read_data_file(r.raw("vehicle"), r.at("vehicle"), "vehicle",
+                                            base_dir, read_vehicle)
+    engine_map, map_data = _read_data_file(r.raw("engine_map"), r.at("engine_map"), "map",
+                                           base_dir, read_map)
     return FleetClass(
         id=cid,
         name=r.text("name", cid),
@@ -781,10 +885,12 @@ def _fleet_class(r: _Reader, base_dir: Path, currency: str) -> FleetClass:
                                 unit=("km", 1e-3)),
         hours_per_day=r.quantity("hours_per_day", "[]", 8, low=0.0, high=24.0),
         remaining_life_years=r.integer("remaining_life_years", low=1, high=MAX_YEARS),
-        profile=_data_file(r.raw("profile"), r.at("profile"), "profiles", ".csv", base_dir),
-        vehicle=_data_file(r.raw("vehicle"), r.at("vehicle"), "vehicles", ".toml", base_dir),
-        engine_map=_data_file(r.raw("engine_map"), r.at("engine_map"), "maps", ".csv",
-                              base_dir),
+        profile=profile,
+        vehicle=vehicle,
+        engine_map=engine_map,
+        profile_data=duty,
+        vehicle_data=vehicle_data,
+        map_data=map_data,
         range=r.quantity("range", "[length]", "500 km", low=1.0, high=MAX_RANGE),
         upkeep_per_year=r.uncertain("upkeep_per_year", _money_per_year, 0.0, low=0.0,
                                     unit=(f"{currency}/year", 1.0)),
@@ -867,12 +973,12 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], is_baseline: b
             varied.append((key, u))
         return u.nominal
 
-    fuel = _fuel(_per_class(r, "fuel", c.id, class_ids, ...), at("fuel"))
+    fuel = _fuel(_per_class(r, "fuel", c.id, class_ids, ...), at("fuel"), base_dir)
     engine = _choice(_per_class(r, "engine", c.id, class_ids, _default_engine(fuel)),
                      at("engine"), ENGINE_PRESETS, "engine setting")
     map_raw = _per_class(r, "engine_map", c.id, class_ids, None)
-    engine_map = c.engine_map if map_raw is None else _data_file(
-        map_raw, at("engine_map"), "maps", ".csv", base_dir)
+    engine_map, map_data = (c.engine_map, c.map_data) if map_raw is None else _read_data_file(
+        map_raw, at("engine_map"), "map", base_dir, read_map)
     zero_money = 0.0
 
     def uq(key: str, parse: Callable[[Any, str], float], unit: str,
@@ -890,6 +996,7 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], is_baseline: b
         fuel=fuel,
         engine=engine,
         engine_map=engine_map,
+        map_data=map_data,
         derate=varying("derate", "0 %", 0.0, 0.9),
         efficiency_offset=varying("efficiency_offset", "0 %", -0.3, 0.3),
         conversion_cost=uq("conversion_cost", _money, currency),
@@ -932,10 +1039,12 @@ def _default_engine(fuel: Fuel) -> str:
         else "compression-ignition"
 
 
-def _fuel(raw: Any, where: str) -> Fuel:
+def _fuel(raw: Any, where: str, base_dir: Path) -> Fuel:
     if raw is ...:
         raise InputError(where, "is required: a library fuel id, a fuel .toml path or a blend "
                          "table")
+    if isinstance(raw, str) and (raw.endswith(".toml") or "/" in raw or "\\" in raw):
+        return _read_data_file(raw, where, "fuel", base_dir, load_fuel)[1]
     if isinstance(raw, str):
         try:
             return load_fuel(raw)

@@ -13,8 +13,9 @@ import pandas as pd
 from workbench.core.fuels import Fuel
 from workbench.models import economics as econ
 from workbench.models.nox import DEFAULT_ENGINE_OUT, engine_preset, nox_sweep
+from workbench.study.naming import display_unit, input_label, input_rows, study_names
 from workbench.study.results import COLUMNS, PALETTE, StudyResult
-from workbench.study.studyfile import Study, StudyInputs, all_uncertain
+from workbench.study.studyfile import Study, StudyInputs, Uncertain, all_uncertain
 
 if TYPE_CHECKING:
     from workbench.study.runner import Plan
@@ -25,7 +26,8 @@ FLAME_PHI = (0.7, 0.8, 0.9, 1.0, 1.1, 1.2, 1.3)
 
 def study_result(study: Study, plan: Plan, lines: Mapping[str, econ.OptionLines],
                  det: econ.Money, draws: Mapping[str, econ.NPVDraws],
-                 sensitivity: Mapping[str, pd.DataFrame], n: int) -> StudyResult:
+                 sensitivity: Mapping[str, pd.DataFrame], n: int,
+                 break_even: Mapping[str, list[tuple[Uncertain, float]]]) -> StudyResult:
     """Lay a run's plan and money out as a :class:`StudyResult`.
 
     Parameters
@@ -44,6 +46,8 @@ def study_result(study: Study, plan: Plan, lines: Mapping[str, econ.OptionLines]
         :func:`workbench.models.economics.tornado` of the NPV, by candidate.
     n : int
         Monte Carlo draws.
+    break_even : mapping of str to list of (Uncertain, float)
+        By candidate, inputs and the value at which its NPV is zero (NaN for none).
 
     Returns
     -------
@@ -55,6 +59,8 @@ def study_result(study: Study, plan: Plan, lines: Mapping[str, econ.OptionLines]
     return StudyResult(
         title=inputs.title,
         currency=inputs.currency,
+        names=study_names(inputs),
+        fictional=inputs.fictional,
         candidates=_candidates_table(plan, det, per_km, draws, colours),
         per_km=per_km,
         cash_flows=_cash_flow_table(plan, det),
@@ -63,6 +69,8 @@ def study_result(study: Study, plan: Plan, lines: Mapping[str, econ.OptionLines]
         storage=_storage_table(plan),
         monte_carlo=_monte_carlo_table({k: v.npv for k, v in draws.items()}),
         tornado=_tornado_table(plan, sensitivity),
+        breakeven=_breakeven_table(inputs, break_even),
+        inputs=_frame("inputs", input_rows(study.data, inputs)),
         operating_points=_operating_points_table(plan),
         flame=_flame_table(plan),
         catalyst=_catalyst_table(plan),
@@ -238,11 +246,22 @@ def _tornado_table(plan: Plan, sensitivity: Mapping[str, pd.DataFrame]) -> pd.Da
         scale = t["input"].map(lambda p: units[p][1]).astype(float)
         frames.append(pd.DataFrame({
             "candidate": oid,
-            "input": t["input"].map(lambda p: f"{p} [{units[p][0]}]" if units[p][0] else p),
+            "input": t["input"],
+            "label": t["input"].map(lambda p: input_label(p, plan.inputs)),
+            "unit": t["input"].map(lambda p: display_unit(units[p][0], plan.inputs.currency)),
             "low_value": t["low_value"] * scale, "high_value": t["high_value"] * scale,
             "npv_at_low": t["output_low"], "npv_at_high": t["output_high"],
             "swing": t["swing"]}))
     return pd.concat(frames, ignore_index=True) if frames else _empty("tornado")
+
+
+def _breakeven_table(inputs: StudyInputs,
+                     break_even: Mapping[str, list[tuple[Uncertain, float]]]) -> pd.DataFrame:
+    rows = [{"candidate": oid, "input": u.path, "label": input_label(u.path, inputs),
+             "unit": display_unit(u.unit, inputs.currency), "nominal_value": u.nominal * u.scale,
+             "breakeven_value": root * u.scale}
+            for oid, found in break_even.items() for u, root in found]
+    return _frame("breakeven", rows)
 
 
 def _operating_points_table(plan: Plan) -> pd.DataFrame:
@@ -292,9 +311,8 @@ def _assumptions(study: Study, draws: int) -> dict[str, str]:
     i = study.inputs
     out = {
         "study": i.title,
-        "demo": "yes" if i.fictional else "no",
         "question": i.notes,
-        "fictional demo data": "yes: every number is invented" if i.fictional else "no",
+        "fictional data": "yes: every number is invented" if i.fictional else "no",
         "currency": i.currency,
         "programme": f"{i.start_year}, {i.horizon_years} years",
         "discount rate": f"{i.discount_rate.nominal:.1%} a year, real (prices in today's "
@@ -304,8 +322,8 @@ def _assumptions(study: Study, draws: int) -> dict[str, str]:
         "NOx damage cost": f"{i.nox_damage_cost.nominal:g} {i.currency}/kg: finds the catalyst "
                            "replacement interval that would minimise upkeep plus NOx damage, "
                            "shown beside each device's own policy; not in the NPV",
-        "Monte Carlo": f"{draws} draws, seed {i.seed}; uncertain inputs: "
-                       f"{', '.join(i.uncertain) or 'none'}",
+        "Monte Carlo": f"{draws:,} draws, seed {i.seed}; uncertain inputs: "
+                       f"{'; '.join(input_label(p, i) for p in i.uncertain) or 'none'}",
         "correlations": _correlation_text(i),
         "normal distributions": "cut to each input's range (no price, distance or cost draws "
                                 "below 0); the nominal is the mean of the cut distribution",
@@ -326,7 +344,8 @@ def _correlation_text(inputs: StudyInputs) -> str:
     corr = inputs.correlation
     if corr is None:
         return "none: uncertain inputs drawn independently"
-    pairs = [f"{a} ~ {b} {corr.matrix[i][j]:g}" for i, a in enumerate(corr.names)
+    pairs = [f"{input_label(a, inputs)} ~ {input_label(b, inputs)} {corr.matrix[i][j]:g}"
+             for i, a in enumerate(corr.names)
              for j, b in enumerate(corr.names) if j > i and corr.matrix[i][j] != 0.0]
     return "Gaussian copula over each input's own distribution: " + "; ".join(pairs)
 

@@ -12,7 +12,8 @@ from pathlib import Path
 from workbench.core.errors import InputError
 from workbench.core.paths import DATA
 from workbench.interfaces.cli import finite_float
-from workbench.models.duty import DutySettings, DutyTrace, duty_stats, read_profile
+from workbench.io.profiles import read_profile
+from workbench.models.duty import DutySettings, DutyTrace, duty_stats
 
 #: Demo kind -> (data sub-directory, file suffix).
 _DEMOS = {"profile": ("profiles", ".csv"), "vehicle": ("vehicles", ".toml"),
@@ -123,9 +124,10 @@ def _settings(args: argparse.Namespace) -> DutySettings:
 def _fuel(args: argparse.Namespace) -> None:
     from workbench.core.fuels import load_fuel
     from workbench.interfaces.cli import print_json
+    from workbench.io.maps import read_map
+    from workbench.io.vehicles import read_vehicle
     from workbench.models.combustion import fuel_sheet
-    from workbench.models.engine import duty_energy, fuel_per_distance_for, mode_energy, read_map
-    from workbench.models.vehicle import read_vehicle
+    from workbench.models.engine import fuel_per_distance_for, run_duty
 
     settings = _settings(args)
     profile = read_profile(resolve(args.profile, "profile", "PROFILE"))
@@ -136,26 +138,20 @@ def _fuel(args: argparse.Namespace) -> None:
             raise InputError("--vehicle", "a speed trace needs a vehicle (demo name or TOML)")
         vehicle = read_vehicle(resolve(args.vehicle, "vehicle", "--vehicle"))
     fuels = [load_fuel(f) for f in args.fuel]
-    candidate_map = base_map
+    maps = [base_map]
     if (args.derate, args.efficiency_offset) != (0.0, 0.0):
-        candidate_map = base_map.adjusted(derate=args.derate,
-                                          efficiency_offset=args.efficiency_offset)
+        maps.append(base_map.adjusted(derate=args.derate,
+                                      efficiency_offset=args.efficiency_offset))
+    energies = [run_duty(profile, vehicle, m, settings=settings).energy for m in maps]
     rows = []
-    energies = {}
     for k, fuel in enumerate(fuels):
-        engine_map = base_map if k == 0 else candidate_map
-        if id(engine_map) not in energies:
-            energies[id(engine_map)] = (
-                duty_energy(profile, vehicle, engine_map, settings=settings)
-                if vehicle is not None
-                else mode_energy(profile, engine_map, settings=settings))
-        energy = energies[id(engine_map)]
+        energy = energies[min(k, len(maps) - 1)]
         result = fuel_per_distance_for(energy, fuel, fuel_sheet(fuel))
         rows.append({"fuel": fuel.id,
                      "derate": 0.0 if k == 0 else args.derate,
                      "efficiency_offset": 0.0 if k == 0 else args.efficiency_offset,
                      **result.trade_units()})
-    energy = energies[id(base_map)]
+    energy = energies[0]
     record = {
         "profile": args.profile,
         "vehicle": args.vehicle,

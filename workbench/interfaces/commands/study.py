@@ -79,16 +79,7 @@ def _result(study: Study, args: argparse.Namespace) -> StudyResult:
 
 
 def _check(args: argparse.Namespace) -> None:
-    from workbench.models.duty import read_profile
-    from workbench.models.engine import read_map
-    from workbench.models.vehicle import read_vehicle
-
-    i = _study(args.file).inputs
-    for c in i.classes:  # the files a run reads: each error names its file, row or field
-        read_profile(c.profile)
-        read_vehicle(c.vehicle)
-        for path in {c.engine_map, *(o.per_class[c.id].engine_map for o in i.options)}:
-            read_map(path)
+    i = _study(args.file).inputs  # reads every file the study names: errors name file and row
     print(f"ok: {args.file}: {len(i.classes)} vehicle classes "
           f"({sum(c.count for c in i.classes)} vehicles), baseline {i.baseline.id!r}, "
           f"{len(i.candidates)} candidates, {len(i.uncertain)} uncertain inputs, "

@@ -71,7 +71,7 @@ class App(widgets.VBox):
             widgets.HTML(f"<h2>{esc(title)}</h2><p style='border-left:6px solid #D55E00;"
                          f"padding:4px 10px;background:#fff4ec'><b>Safety:</b> "
                          f"{esc(SAFETY_CAUTION)}</p>"),
-            self.status, self.tabs, self.results, self.export,
+            self.results.verdict, self.status, self.tabs, self.results, self.export,
         ])
 
     def _tab_opened(self, change: dict) -> None:

@@ -219,7 +219,8 @@ def save_upload(folder: Path, name: str, content: bytes,
     content : bytes
         Its contents.
     reader : callable
-        ``read_trace``, ``read_profile`` or ``read_map``: raises InputError on a bad file.
+        A reader of :mod:`workbench.io` (``read_profile``, ``read_map``): raises InputError on
+        a bad file.
 
     Returns
     -------

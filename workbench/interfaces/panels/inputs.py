@@ -22,8 +22,10 @@ from workbench.interfaces.charts import TEMPLATE, MapGrid, efficiency_map_chart
 from workbench.interfaces.panels.fields import error_widget, esc, label, save_upload, show_error
 from workbench.interfaces.panels.results import FigurePane
 from workbench.interfaces.panels.state import StudyState
-from workbench.models.duty import DutyTrace, duty_stats, read_profile
-from workbench.models.engine import read_map
+from workbench.io.maps import read_map
+from workbench.io.profiles import read_profile
+from workbench.models.duty import DutyTrace, ModeTable, duty_stats
+from workbench.study.studyfile import FleetClass
 
 
 class ClassFileChoice(widgets.VBox):
@@ -107,9 +109,8 @@ class ClassFileChoice(widgets.VBox):
         self.choice.value = str(saved)
 
 
-def stats_html(profile: Path) -> str:
+def stats_html(duty: DutyTrace | ModeTable) -> str:
     """Statistics of a duty profile as an HTML table (a time-at-mode table says so)."""
-    duty = read_profile(profile)
     if not isinstance(duty, DutyTrace):
         hours = float(np.sum(duty.duration)) / 3600.0
         return (f"<p>Time-at-mode table: {len(duty.duration)} modes, {hours:,.1f} h; no speed "
@@ -129,9 +130,11 @@ def stats_html(profile: Path) -> str:
     return f'<table class="wb-duty-stats" style="font-size:13px">{body}</table>'
 
 
-def speed_figure(profile: Path) -> go.Figure:
-    """Speed against time of a trace profile (empty for a time-at-mode table)."""
-    duty = read_profile(profile)
+def speed_figure(duty: DutyTrace | ModeTable, profile: Path) -> go.Figure:
+    """Speed against time of a trace profile (empty for a time-at-mode table).
+
+    ``profile`` is the file it was read from, named in the title.
+    """
     fig = go.Figure()
     if isinstance(duty, DutyTrace):
         fig.add_trace(go.Scatter(x=duty.time / 60.0, y=duty.speed * 3.6, mode="lines",
@@ -185,14 +188,15 @@ class DutyPanel(_PlotPanel):
         if plot:
             self.show_plot()
 
-    def _profile(self) -> Path:
-        return self.state.study.inputs.classes[self.files.vehicle_class.value].profile
+    def _class(self) -> FleetClass:
+        return self.state.study.inputs.classes[self.files.vehicle_class.value]
 
     def _figure(self) -> go.Figure:
-        return speed_figure(self._profile())
+        c = self._class()
+        return speed_figure(c.profile_data, c.profile)
 
     def _draw(self) -> None:
-        self.stats.value = stats_html(self._profile())
+        self.stats.value = stats_html(self._class().profile_data)
         if self.plot is not None:
             self.plot.show(self._figure())
 
@@ -200,7 +204,7 @@ class DutyPanel(_PlotPanel):
 def map_figure(state: StudyState, index: int) -> go.Figure:
     """The map of one class as contours, with that class's operating points of the last run."""
     c = state.study.inputs.classes[index]
-    grid = MapGrid.from_engine_map(read_map(c.engine_map))
+    grid = MapGrid.from_engine_map(c.map_data)
     result = state.result
     points = result.operating_points if result is not None else None
     names = (dict(zip(result.candidates["candidate"], result.candidates["name"], strict=True))

@@ -20,6 +20,7 @@ import plotly.io as pio
 from workbench.interfaces import charts
 from workbench.interfaces.panels.fields import esc
 from workbench.interfaces.panels.state import StudyState
+from workbench.interfaces.summary import best_option, verdicts
 from workbench.study.results import StudyResult, missing_reason
 
 #: Charts the panel can show, by chart key: (menu label, builder).
@@ -102,6 +103,21 @@ def summary_html(result: StudyResult) -> str:
             f'<tbody>{"".join(rows)}</tbody></table>')
 
 
+def verdict_html(result: StudyResult) -> str:
+    """The answer first: one verdict per option, the same words as the report's summary.
+
+    Each verdict is a ``<div class="wb-verdict" data-candidate=...>``; user text is escaped.
+    """
+    parts = [f"<p><b>{esc(best_option(result))}</b></p>"]
+    for v in verdicts(result):
+        colour = "#a33a00" if v.raises_emissions else "inherit"
+        parts.append(f'<div class="wb-verdict" data-candidate="{esc(v.candidate)}" '
+                     f'style="margin:4px 0 8px"><b>{esc(v.name)}: {esc(v.word)}.</b> '
+                     f"{esc(v.headline)} <span style='color:{colour}'>{esc(v.emissions)}"
+                     f"</span> {esc(v.breakeven)}</div>")
+    return "".join(parts)
+
+
 class ChartSlot(widgets.VBox):
     """A chart menu above one :class:`FigurePane`; picking a chart redraws the same pane."""
 
@@ -144,11 +160,14 @@ class ResultsPanel(widgets.VBox):
         The chart slots.
     summary : ipywidgets.HTML
         The summary table.
+    verdict : ipywidgets.HTML
+        The verdicts in words (the app shows it on top).
     """
 
     def __init__(self, state: StudyState, *, charts: tuple[str, ...] = DEFAULT_CHARTS) -> None:
         self.state = state
         self.summary = widgets.HTML(summary_html(state.result) if state.result else "")
+        self.verdict = widgets.HTML(verdict_html(state.result) if state.result else "")
         self.slots = [ChartSlot(state, key) for key in charts]
         grid = widgets.GridBox(self.slots, layout=widgets.Layout(
             grid_template_columns="repeat(2, minmax(0, 1fr))", grid_gap="8px", width="100%"))
@@ -164,5 +183,6 @@ class ResultsPanel(widgets.VBox):
         if state.result is None:
             return
         self.summary.value = summary_html(state.result)
+        self.verdict.value = verdict_html(state.result)
         for slot in self.slots:
             slot.draw()

@@ -24,6 +24,7 @@ from workbench.models.economics.cashflow import (
 from workbench.models.economics.finance import (
     abatement_cost,
     annuity_factor,
+    break_even,
     capital_recovery_factor,
     discount_factors,
     discounted_payback,
@@ -57,6 +58,7 @@ __all__ = [
     "Response",
     "abatement_cost",
     "annuity_factor",
+    "break_even",
     "capital_recovery_factor",
     "compare",
     "cost_per_m",

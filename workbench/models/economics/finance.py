@@ -16,6 +16,7 @@ Conventions
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from typing import Literal
 
 import numpy as np
@@ -24,6 +25,7 @@ from numpy.typing import ArrayLike, NDArray
 __all__ = [
     "abatement_cost",
     "annuity_factor",
+    "break_even",
     "capital_recovery_factor",
     "discount_factors",
     "discounted_payback",
@@ -265,6 +267,41 @@ def abatement_cost(
     amount = np.asarray(npv(rate, av)) if discount_avoided else np.sum(av, axis=-1)
     with np.errstate(divide="ignore", invalid="ignore"):
         return _out(np.where(amount > 0.0, np.asarray(npv(rate, extra_cost)) / amount, np.nan))
+
+
+def break_even(f: Callable[[float], float], x0: float, *, steps: int = 4) -> float:
+    """Where a function of one input, linear or nearly so, crosses zero (secant steps).
+
+    Parameters
+    ----------
+    f : callable
+        The output (e.g. an NPV [currency]) as a function of the input.
+    x0 : float
+        Starting value of the input (its nominal value); the second point is 25 % above it
+        (1 when it is 0).
+    steps : int, optional
+        Secant steps; one is exact for a linear ``f``, the rest guard against curvature.
+
+    Returns
+    -------
+    float
+        The input value where ``f`` is zero; NaN when ``f`` does not change with the input,
+        or crosses zero only below zero.
+
+    Notes
+    -----
+    Secant step: :math:`x_{k+1} = x_k - f(x_k) (x_k - x_{k-1}) / (f(x_k) - f(x_{k-1}))`.
+    """
+    x1 = x0 * 1.25 if x0 else 1.0
+    y0, y1 = f(x0), f(x1)
+    root = float("nan")
+    for _ in range(steps):
+        if abs(y1 - y0) <= 1e-12 * max(abs(y0), abs(y1), 1.0):
+            break
+        x0, x1 = x1, x1 - y1 * (x1 - x0) / (y1 - y0)
+        y0, y1 = y1, f(x1)
+        root = x1
+    return root if np.isfinite(root) and root >= 0 else float("nan")
 
 
 def residual_value(

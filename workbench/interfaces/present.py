@@ -1,0 +1,243 @@
+"""Result tables as a person reads them: names instead of ids, labels with units, rounded.
+
+The tables of :class:`~workbench.study.results.StudyResult` keep glossary column names and
+machine ids for CSV, JSON and tests. The report and the panels show them through this module:
+ids become the study's names (``workbench.study.naming``), columns get a label with their unit
+and the study currency, internal columns (colours, baseline flags) are dropped, and numbers are
+rounded to three significant figures with thousands separators, shares as percentages, and
+"n/a" where a figure does not apply.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+
+import pandas as pd
+
+from workbench.study.results import StudyResult, missing_reason
+
+#: Columns that only drive charts or code; never shown to a reader.
+HIDDEN = frozenset({"colour", "is_baseline", "input", "draw"})
+#: Labels of columns whose name alone reads badly; ``{cur}`` is the study currency.
+LABELS = {
+    "candidate": "option", "vehicle_class": "vehicle class", "label": "input", "unit": "unit",
+    "name": "option", "npv_vs_baseline": "NPV vs baseline [{cur}]",
+    "npv_p10": "NPV P10 [{cur}]", "npv_p50": "NPV P50 [{cur}]", "npv_p90": "NPV P90 [{cur}]",
+    "p_npv_positive": "chance NPV > 0 [%]",
+    "p_discounted_payback_within_horizon": "chance of discounted payback within the horizon "
+                                           "[%]",
+    "co2e_avoided_t": "CO2e avoided over the programme [t]", "raises_co2e": "raises CO2e",
+    "nox_avoided_kg": "NOx avoided over the programme [kg]", "raises_nox": "raises NOx",
+    "payback_years": "simple payback [years]",
+    "discounted_payback_years": "discounted payback [years]",
+    "cost_per_t_co2e_avoided": "cost per t CO2e avoided [{cur}/t]",
+    "cost_per_kg_nox_avoided": "cost per kg NOx avoided [{cur}/kg]",
+    "levelised_cost_per_km": "levelised cost [{cur}/km]",
+    "cost_per_km": "cost per km in year 1, conversion annualised [{cur}/km]",
+    "cost_fuel_per_km": "fuel and carbon [{cur}/km]",
+    "cost_upkeep_per_km": "upkeep [{cur}/km]",
+    "cost_capital_per_km": "conversion capital [{cur}/km]",
+    "co2_ttw_g_per_km": "CO2 tank-to-wheel [g/km]",
+    "co2e_wtw_g_per_km": "CO2e well-to-wheel [g/km]",
+    "nox_g_per_km": "NOx tailpipe [g/km]",
+    "nox_engine_out_g_per_km": "NOx engine-out [g/km]",
+    "fuel_energy_mj_per_km": "fuel energy [MJ/km]",
+    "fuel_l_per_100km": "fuel [L/100 km]",
+    "fuel_kg_per_100km": "fuel [kg/100 km]",
+    "share_out_of_map": "time outside the map [%]",
+    "share_full_load": "time at full load [%]",
+    "year": "year", "cash_flow": "cash flow [{cur}]",
+    "cash_flow_vs_baseline": "cash flow vs baseline [{cur}]",
+    "discounted_vs_baseline": "discounted vs baseline [{cur}]",
+    "cumulative_discounted_vs_baseline": "cumulative discounted vs baseline [{cur}]",
+    "fuel_energy_gj": "fuel energy [GJ]", "co2_ttw_t": "CO2 tank-to-wheel [t]",
+    "co2e_wtw_t": "CO2e well-to-wheel [t]", "nox_t": "NOx [t]",
+    "catalyst_replacements": "catalyst replacements", "cost_total": "costs [{cur}]",
+    "month": "month", "catalyst_efficiency": "catalyst efficiency [%]",
+    "replaced": "catalyst replaced",
+    "energy_density_mj_per_kg": "fuel energy per kg [MJ/kg]",
+    "energy_density_mj_per_l": "fuel energy per litre [MJ/L]",
+    "system_energy_density_mj_per_kg": "tank system energy per kg [MJ/kg]",
+    "system_energy_density_mj_per_l": "tank system energy per litre [MJ/L]",
+    "tank_volume_l": "tank volume [L]", "tank_system_mass_kg": "tank system mass [kg]",
+    "range_km": "range [km]", "low_value": "low value", "high_value": "high value",
+    "npv_at_low": "NPV at low [{cur}]", "npv_at_high": "NPV at high [{cur}]",
+    "swing": "swing [{cur}]", "nominal_value": "value now",
+    "breakeven_value": "value where the NPV is zero",
+    "engine_speed_rpm": "engine speed [rpm]", "torque_nm": "torque [N·m]", "hours": "hours [h]",
+    "brake_efficiency": "brake efficiency [%]", "phi": "equivalence ratio phi",
+    "flame_temperature_k": "flame temperature [K]", "no_ppm": "thermal NO [ppm]",
+    "device": "aftertreatment", "replacements": "replacements",
+    "replacement_cost": "replacement cost [{cur}]", "reductant_cost": "reductant cost [{cur}]",
+    "best_interval_months": "best replacement interval [months]",
+    "best_total_cost": "upkeep + NOx damage at best interval [{cur}]",
+}
+#: Titles of the result tables for a reader.
+TABLE_TITLES = {
+    "candidates": "Options over the whole programme", "per_km": "Options per vehicle class",
+    "cash_flows": "Cash flows by year", "fleet_years": "Fleet totals by year",
+    "nox_monthly": "Tailpipe NOx by month as catalysts age", "storage": "Storage and range",
+    "monte_carlo": "Monte Carlo draws of the NPV", "tornado": "One input at a time",
+    "breakeven": "Values at which the NPV is zero",
+    "operating_points": "Engine operating points", "flame": "Flame temperature and thermal NO",
+    "catalyst": "Catalysts and their replacement", "inputs": "Inputs as written",
+}
+_PERCENT = re.compile(r"^(p_|share_)|efficiency$")
+_WHOLE = frozenset({"year", "month", "replacements", "catalyst_replacements", "draw"})
+
+
+def column_label(column: str, currency: str) -> str:
+    """Label of a result column for a reader, with its unit and the study currency.
+
+    Parameters
+    ----------
+    column : str
+        Glossary column name.
+    currency : str
+        Study currency.
+
+    Returns
+    -------
+    str
+    """
+    return LABELS.get(column, column.replace("_", " ")).replace("{cur}", currency)
+
+
+def significant(value: float, digits: int = 3) -> str:
+    """A number rounded to ``digits`` significant figures, with thousands separators.
+
+    Parameters
+    ----------
+    value : float
+        The number; NaN gives "n/a".
+    digits : int, optional
+        Significant figures.
+
+    Returns
+    -------
+    str
+        E.g. ``11555425.8 -> "11,600,000"``, ``0.19745 -> "0.197"``, ``-3.2 -> "-3.20"``.
+    """
+    if value is None or (isinstance(value, float) and math.isnan(value)):
+        return "n/a"
+    if value == 0:
+        return "0"
+    exponent = math.floor(math.log10(abs(value)))
+    decimals = max(digits - 1 - exponent, 0)
+    rounded = round(value, digits - 1 - exponent)
+    return f"{rounded:,.{decimals}f}"
+
+
+def money(value: float, currency: str = "", *, signed: bool = False) -> str:
+    """Money as a reader wants it: millions as ``11.6 M``, three significant figures.
+
+    Parameters
+    ----------
+    value : float
+        Amount [currency]; NaN gives "n/a".
+    currency : str, optional
+        Appended after a space when given.
+    signed : bool, optional
+        Show a plus sign on positive amounts.
+
+    Returns
+    -------
+    str
+    """
+    if value is None or (isinstance(value, float) and math.isnan(value)):
+        return "n/a"
+    sign = "+" if signed and value > 0 else ""
+    text = (f"{significant(value / 1e6)} M" if abs(value) >= 1e6 else significant(value))
+    return f"{sign}{text}{' ' + currency if currency else ''}"
+
+
+def percent(share: float, *, signed: bool = False) -> str:
+    """A share [-] as a percentage with at most one decimal ("n/a" for NaN)."""
+    if share is None or (isinstance(share, float) and math.isnan(share)):
+        return "n/a"
+    value = 100.0 * share
+    text = f"{value:+.1f}" if signed else f"{value:.1f}"
+    text = text[:-2] if text.endswith(".0") else text
+    return f"{text} %"
+
+
+def _cell(column: str, value: object) -> str:
+    if isinstance(value, bool):
+        return "yes" if value else "no"
+    if isinstance(value, int | float) and not isinstance(value, bool):
+        v = float(value)
+        if math.isnan(v):
+            return "n/a"
+        if column in _WHOLE:
+            return f"{round(v)}"
+        if _PERCENT.search(column):
+            return percent(v).removesuffix(" %")
+        return significant(v)
+    return str(value)
+
+
+def reader_table(name: str, result: StudyResult, table: pd.DataFrame | None = None
+                 ) -> pd.DataFrame:
+    """One result table as text for a reader: names, labelled columns, rounded values.
+
+    Parameters
+    ----------
+    name : str
+        Table name (a key of ``StudyResult.tables()``).
+    result : StudyResult
+        The result (its names and currency).
+    table : pandas.DataFrame, optional
+        Rows to show (default: the whole table).
+
+    Returns
+    -------
+    pandas.DataFrame
+        String cells, columns labelled; ids replaced by names.
+    """
+    t = (result.tables()[name] if table is None else table).copy()
+    names = result.names
+    if "candidate" in t and "name" in t:
+        t = t.drop(columns=["candidate"])
+    elif "candidate" in t:
+        t["candidate"] = t["candidate"].map(names.candidate)
+    if "vehicle_class" in t:
+        t["vehicle_class"] = t["vehicle_class"].map(names.vehicle_class)
+    if "fuel" in t:
+        t["fuel"] = t["fuel"].map(lambda f: " / ".join(names.fuel(x) for x in str(f).split("/")))
+    records = t.to_dict("records")
+    shown = [c for c in t.columns if c not in HIDDEN]
+    return pd.DataFrame({column_label(c, result.currency):
+                         [(missing_reason(r, c) if name == "candidates" else None)
+                          or _cell(c, r[c]) for r in records] for c in shown})
+
+
+def side_by_side(result: StudyResult, name: str = "candidates",
+                 vehicle_class: str | None = None) -> pd.DataFrame:
+    """A result table turned so that the options stand side by side as columns.
+
+    Parameters
+    ----------
+    result : StudyResult
+        The result.
+    name : {"candidates", "per_km", "storage"}, optional
+        Table with one row per option (or per option and class).
+    vehicle_class : str, optional
+        For a per-class table, the class to show.
+
+    Returns
+    -------
+    pandas.DataFrame
+        One row per figure (labelled with its unit), one column per option name.
+    """
+    t = result.tables()[name]
+    if vehicle_class is not None:
+        t = t[t["vehicle_class"] == vehicle_class].drop(columns=["vehicle_class"])
+    shown = reader_table(name, result, t)
+    options = [result.names.candidate(c) for c in t["candidate"]]
+    first = column_label("name" if "name" in t else "candidate", result.currency)
+    shown = shown.drop(columns=[first])
+    out = shown.T
+    out.columns = options
+    out.insert(0, "figure", out.index)
+    return out.reset_index(drop=True)

@@ -1,0 +1,177 @@
+"""The answer first: a study's verdict per option, written from its result tables.
+
+Every number in the summary is read from :class:`~workbench.study.results.StudyResult`
+(candidates, per-class figures, tornado, break-even) and only formatted here; nothing is
+computed beyond differences against the baseline row and the ranking by NPV. The report and the
+panels show the same :class:`Verdict` records.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+from workbench.interfaces.present import money, percent, significant
+from workbench.study.results import StudyResult
+
+#: Chance that the NPV is positive above which an option "pays", and below which it "does not
+#: pay"; between them the verdict says "likely" or "unlikely" (common practice, no source).
+SURE = 0.9
+#: How many inputs the verdict names as moving the NPV most.
+TOP_DRIVERS = 3
+
+
+@dataclass(frozen=True)
+class Verdict:
+    """One option's answer, in words and numbers.
+
+    Attributes
+    ----------
+    candidate : str
+        Option id.
+    name : str
+        Option name.
+    word : str
+        "pays", "likely pays", "unlikely to pay" or "does not pay".
+    headline : str
+        One sentence: verdict, NPV with its P10–P90 band and chance, payback.
+    emissions : str
+        Change in well-to-wheel CO2e and tailpipe NOx against the baseline, signed.
+    drivers : str
+        The inputs that move the NPV most, with the NPV at their P10 and P90.
+    breakeven : str
+        The values at which the verdict would change (NPV zero), where they exist.
+    per_class : tuple of str
+        Per vehicle class: cost per km and emissions against the baseline.
+    raises_emissions : bool
+        The option raises CO2e or NOx against the baseline.
+    """
+
+    candidate: str
+    name: str
+    word: str
+    headline: str
+    emissions: str
+    drivers: str
+    breakeven: str
+    per_class: tuple[str, ...]
+    raises_emissions: bool
+
+
+def _word(npv: float, chance: float) -> str:
+    if math.isnan(chance):
+        return "pays" if npv > 0 else "does not pay"
+    if chance >= SURE:
+        return "pays"
+    if chance <= 1 - SURE:
+        return "does not pay"
+    return "likely pays" if chance >= 0.5 else "unlikely to pay"
+
+
+def _change(new: float, old: float, unit: str) -> tuple[str, bool]:
+    """'−35 g/km (−10.9 %)' and whether it rose."""
+    diff = new - old
+    rel = diff / old if old else math.nan
+    word = significant(diff)
+    word = f"+{word}" if diff > 0 else word.replace("-", "−")
+    pct = percent(rel, signed=True).replace("-", "−")
+    return f"{word} {unit} ({pct})", diff > 0
+
+
+def verdicts(result: StudyResult) -> list[Verdict]:
+    """The verdict of every candidate against the baseline, best NPV first.
+
+    Parameters
+    ----------
+    result : StudyResult
+
+    Returns
+    -------
+    list of Verdict
+    """
+    cur = result.currency
+    cands = result.candidates
+    base = cands[cands["is_baseline"].astype(bool)].iloc[0]
+    others = cands[~cands["is_baseline"].astype(bool)].sort_values("npv_vs_baseline",
+                                                                      ascending=False)
+    horizon = len(result.cash_flows["year"].unique()) - 1 if len(result.cash_flows) else 0
+    draws = int(result.monte_carlo["draw"].nunique()) if len(result.monte_carlo) else 0
+    out = []
+    for _, row in others.iterrows():
+        cid = row["candidate"]
+        chance = float(row["p_npv_positive"])
+        word = _word(float(row["npv_vs_baseline"]), chance)
+        band = ""
+        if draws:
+            band = (f" (P10–P90 {money(row['npv_p10'], signed=True)} to "
+                    f"{money(row['npv_p90'], signed=True)}; positive in "
+                    f"{percent(chance)} of {draws:,} draws)")
+        pay = row["discounted_payback_years"]
+        payback = (f"; discounted payback {significant(pay, 2)} years" if not math.isnan(pay)
+                   else "; no discounted payback within the horizon")
+        headline = (f"{row['name']} {word}: NPV {money(row['npv_vs_baseline'], cur, signed=True)}"
+                    f" over {horizon} years against {base['name']}{band}{payback}.")
+        co2, co2_up = _change(row["co2e_wtw_g_per_km"], base["co2e_wtw_g_per_km"], "g/km")
+        nox, nox_up = _change(row["nox_g_per_km"], base["nox_g_per_km"], "g/km")
+        emissions = (f"Well-to-wheel CO2e {co2}{' — RAISED' if co2_up else ''}; tailpipe NOx "
+                     f"{nox}{' — RAISED' if nox_up else ''}, fleet average per km.")
+        out.append(Verdict(cid, row["name"], word, headline, emissions, _drivers(result, cid),
+                           _breakeven(result, cid), _per_class(result, cid),
+                           co2_up or nox_up))
+    return out
+
+
+def _amount(value: float, unit: str) -> str:
+    return f"{significant(value)} {unit}".strip()
+
+
+def _drivers(result: StudyResult, cid: str) -> str:
+    t = result.tornado[result.tornado["candidate"] == cid].sort_values("swing",
+                                                                       ascending=False)
+    if t.empty:
+        return "No uncertain inputs were given, so no input was swung."
+    parts = [f"{r['label']} (NPV {money(r['npv_at_low'], signed=True)} at "
+             f"{_amount(r['low_value'], r['unit'])}, {money(r['npv_at_high'], signed=True)} "
+             f"at {_amount(r['high_value'], r['unit'])})"
+             for _, r in t.head(TOP_DRIVERS).iterrows()]
+    return "Moves it most: " + "; ".join(parts) + "."
+
+
+def _breakeven(result: StudyResult, cid: str) -> str:
+    b = result.breakeven[(result.breakeven["candidate"] == cid)
+                         & result.breakeven["breakeven_value"].notna()]
+    if b.empty:
+        return "No single price or distance tried turns the NPV to zero."
+    parts = [f"{r['label']} at {_amount(r['breakeven_value'], r['unit'])} (now "
+             f"{_amount(r['nominal_value'], r['unit'])})" for _, r in b.iterrows()]
+    return "The NPV is zero at: " + "; ".join(parts) + "."
+
+
+def _per_class(result: StudyResult, cid: str) -> tuple[str, ...]:
+    pk = result.per_km
+    base_id = result.candidates.loc[result.candidates["is_baseline"].astype(bool),
+                                    "candidate"].iloc[0]
+    lines = []
+    for vclass in dict.fromkeys(pk["vehicle_class"]):
+        b = pk[(pk["candidate"] == base_id) & (pk["vehicle_class"] == vclass)]
+        c = pk[(pk["candidate"] == cid) & (pk["vehicle_class"] == vclass)]
+        if b.empty or c.empty or b["fuel"].iloc[0] == c["fuel"].iloc[0]:
+            continue
+        b, c = b.iloc[0], c.iloc[0]
+        cost, _ = _change(c["cost_per_km"], b["cost_per_km"], f"{result.currency}/km")
+        co2, _ = _change(c["co2e_wtw_g_per_km"], b["co2e_wtw_g_per_km"], "g/km")
+        nox, _ = _change(c["nox_g_per_km"], b["nox_g_per_km"], "g/km")
+        lines.append(f"{result.names.vehicle_class(vclass)} on "
+                     f"{result.names.fuel(c['fuel'])}: cost {cost}, CO2e {co2}, NOx {nox}.")
+    return tuple(lines)
+
+
+def best_option(result: StudyResult) -> str:
+    """One sentence naming the option with the highest NPV, or keeping today's fleet."""
+    vs = verdicts(result)
+    paying = [v for v in vs if v.word in ("pays", "likely pays")]
+    if not paying:
+        return "No candidate is likely to pay: keeping the fleet as it is costs least."
+    best = paying[0]
+    return f"Highest NPV: {best.name} ({best.word})."
+
