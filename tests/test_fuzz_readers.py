@@ -20,9 +20,9 @@ from hypothesis import given
 from hypothesis import strategies as st
 
 from workbench.core.paths import DATA
-from workbench.models.duty import read_profile
-from workbench.models.engine import read_map
-from workbench.models.vehicle import read_vehicle
+from workbench.io.maps import read_map
+from workbench.io.profiles import read_profile
+from workbench.io.vehicles import read_vehicle
 
 pytestmark = pytest.mark.timeout(60)
 
@@ -121,3 +121,18 @@ def test_vehicles_load_or_say_where(name, data):
 @given(st.binary(max_size=300))
 def test_vehicle_random_bytes(data):
     _check(only_input_errors(lambda: read_vehicle(_file(".toml", data))))
+
+
+@given(st.sampled_from(sorted(PROFILES)), st.sampled_from(["\n", "\r\n"]))
+def test_a_profile_with_a_byte_order_mark_reads_the_same(name, eol):
+    text = PROFILES[name]
+    plain = read_profile(_file(".csv", text.encode("utf-8")))
+    marked = read_profile(_file(".csv", b"\xef\xbb\xbf" + text.replace("\n", eol).encode()))
+    assert (marked.time == plain.time).all() and (marked.speed == plain.speed).all()
+
+
+@given(st.sampled_from(sorted(MAPS)))
+def test_a_map_with_a_byte_order_mark_reads_the_same(name):
+    plain = read_map(_file(".csv", MAPS[name].encode("utf-8")))
+    marked = read_map(_file(".csv", b"\xef\xbb\xbf" + MAPS[name].encode("utf-8")))
+    assert (marked.efficiency == plain.efficiency).all()

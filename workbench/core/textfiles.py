@@ -101,12 +101,40 @@ def read_toml(path: str | Path, *, name: str | None = None) -> dict[str, Any]:
     except (OSError, ValueError) as exc:
         reason = exc.strerror if isinstance(exc, OSError) and exc.strerror else str(exc)
         raise InputError(label, f"cannot read the file ({reason})") from None
-    try:
-        text = data.decode("utf-8-sig")
-    except UnicodeDecodeError as exc:
-        line = data[: exc.start].count(b"\n") + 1
-        raise InputError(f"{label} line {line}", "is not UTF-8 text; save the file as UTF-8")\
-            from None
+    return parse_toml(data, label)
+
+
+def parse_toml(data: bytes | str, name: str) -> dict[str, Any]:
+    """Parse the contents of a TOML file a user wrote (see :func:`read_toml`).
+
+    Parameters
+    ----------
+    data : bytes or str
+        The file's bytes (UTF-8, with or without a byte-order mark) or its decoded text.
+    name : str
+        What errors call the file.
+
+    Returns
+    -------
+    dict
+        The parsed tables.
+
+    Raises
+    ------
+    InputError
+        Bytes that are not UTF-8 (the line is named), TOML syntax errors, or nesting too deep
+        to parse.
+    """
+    label = _label(name)
+    if isinstance(data, bytes):
+        try:
+            text = data.decode("utf-8-sig")
+        except UnicodeDecodeError as exc:
+            line = data[: exc.start].count(b"\n") + 1
+            raise InputError(f"{label} line {line}", "is not UTF-8 text; save the file as "
+                             "UTF-8") from None
+    else:
+        text = data.removeprefix("\ufeff")
     try:
         return tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:

@@ -14,7 +14,6 @@ edited file is read again.
 from __future__ import annotations
 
 import hashlib
-import tomllib
 from pathlib import Path
 
 import numpy as np
@@ -22,6 +21,7 @@ import numpy as np
 from workbench.core.cache import memoize
 from workbench.core.constants import RPM
 from workbench.core.errors import InputError
+from workbench.core.textfiles import parse_toml
 from workbench.io.csvtext import CsvTable, parse_csv, read_file_bytes
 from workbench.models.duty import DutyTrace, ModeTable
 
@@ -50,10 +50,7 @@ def _side_units(name: str, text: str | None) -> dict[str, str]:
     if text is None:
         return {}
     side = str(Path(name).with_name(Path(name).stem + ".units.toml"))
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise InputError(side, f"not valid TOML ({exc}); fix the syntax") from None
+    data = parse_toml(text, side)
     units = data.get("units")
     if not isinstance(units, dict) or not all(isinstance(u, str) for u in units.values()):
         raise InputError(side, "needs a [units] table of column = \"unit\" strings")
@@ -169,7 +166,7 @@ def read_profile(path: str | Path) -> DutyTrace | ModeTable:
     side = None
     if side_path.is_file():
         try:
-            side = read_file_bytes(side_path).decode("utf-8")
+            side = read_file_bytes(side_path).decode("utf-8-sig")
         except UnicodeDecodeError:
             raise InputError(str(side_path), "is not UTF-8 text; save it as UTF-8") from None
     return _parse_profile(str(path), data, side)
