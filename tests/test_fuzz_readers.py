@@ -98,14 +98,19 @@ def _check(obj) -> None:
         assert_finite(obj, type(obj).__name__)
 
 
-@given(mutated_csv(PROFILES) | st.binary(max_size=300))
+@given(mutated_csv(PROFILES))
 def test_profiles_load_or_say_where(data):
     _check(only_input_errors(lambda: read_profile(_file(".csv", data))))
 
 
-@given(mutated_csv(MAPS) | st.binary(max_size=300))
+@given(mutated_csv(MAPS))
 def test_maps_load_or_say_where(data):
     _check(only_input_errors(lambda: read_map(_file(".csv", data))))
+
+
+@given(st.binary(max_size=300), st.sampled_from([read_profile, read_map]))
+def test_csv_random_bytes(data, reader):
+    _check(only_input_errors(lambda: reader(_file(".csv", data))))
 
 
 @given(st.sampled_from(sorted(VEHICLES)), st.data())
