@@ -43,6 +43,15 @@ MODE_COLUMNS: dict[str, dict[str, float]] = {
 }
 
 _SPECS = {"trace": TRACE_COLUMNS, "mode": MODE_COLUMNS}
+#: Upper ends of a profile's numbers [SI], far beyond any road vehicle, and how they are said:
+#: larger values overflow the road-load and fuel sums (v³, speed × time).
+HIGHEST: dict[str, tuple[float, str]] = {
+    "time": (1e9, "1e9 s (31 years)"),
+    "speed": (500 / 3.6, "500 km/h"),
+    "payload": (200_000.0, "200 t"),
+    "engine_speed": (20_000 * RPM, "20 000 rpm"),
+    "torque": (100_000.0, "100 000 N m"),
+}
 _REQUIRED = {"trace": ("time", "speed"), "mode": ("engine_speed", "torque", "time")}
 
 
@@ -115,6 +124,12 @@ def _parse_profile(name: str, data: bytes, side: str | None) -> DutyTrace | Mode
         raise InputError(name, f"missing column {q} (e.g. {q}_{next(iter(spec[q]))})")
     cols = {q: table.columns[j] if factor == 1.0 else table.columns[j] * factor
             for q, (j, factor) in found.items()}
+    for q, values in cols.items():
+        high, said = HIGHEST.get(q, (np.inf, ""))
+        beyond = values > high  # NaN is not beyond: the model names a missing cell
+        if beyond.any():
+            raise InputError(table.where(int(np.argmax(beyond))),
+                             f"{q} is beyond any road vehicle; at most {said}")
     if kind == "mode":
         return _mode_table(table, cols)
     return DutyTrace(time=cols["time"], speed=cols["speed"], grade=cols.get("grade"),
