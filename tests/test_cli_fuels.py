@@ -85,3 +85,32 @@ def test_bad_file_through_the_real_entry_point(tmp_path):
     assert proc.returncode == 2
     assert proc.stderr.strip().startswith("workbench: error:") and "bad.toml" in proc.stderr
     assert "Traceback" not in proc.stderr
+
+
+def test_fuels_option_puts_a_user_folder_first(run_cli, tmp_path):
+    # Turns 3rd ed. Table B.1 (from memory): methane LHV 50.016 MJ/kg; the user's "propane"
+    # here is methane, so its sheet must show methane's LHV, not propane's 46.357.
+    (tmp_path / "propane.toml").write_text(
+        'name = "house gas"\nstate = "gas"\n[species]\nsource = "test"\nCH4 = 1.0\n',
+        encoding="utf-8")
+    code, out, _ = run_cli("fuels", "show", "propane", "--fuels", str(tmp_path), "--json")
+    assert code == 0
+    assert abs(json.loads(out)["lhv_mj_per_kg"] - 50.016) < 0.1
+    (tmp_path / "loop.toml").write_text('state = "gas"\n[blend]\nsource = "t"\nloop = 1\n',
+                                        encoding="utf-8")
+    code, out, _ = run_cli("fuels", "list", "--fuels", str(tmp_path))
+    assert code == 0 and "house gas" in out and str(tmp_path) in out
+    assert "blend cycle loop.toml -> loop.toml" in out and "Natural gas" in out  # others stay
+    code, out, _ = run_cli("fuels", "show", "propane", "--json")  # gone after the call
+    assert abs(json.loads(out)["lhv_mj_per_kg"] - 46.357) < 0.1
+    code, _, err = run_cli("nox", "propane", "--fuels", str(tmp_path / "nope"))
+    assert code == 2 and "--fuels" in err and "no such folder" in err
+
+
+def test_docs_pages_are_shipped(run_cli):
+    code, out, _ = run_cli("docs")
+    assert code == 0 and {"fuels", "glossary", "nox", "storage", "study-file"} <= set(out.split())
+    code, out, _ = run_cli("docs", "fuels")
+    assert code == 0 and out.startswith("# The fuel library")
+    code, _, err = run_cli("docs", "nope")
+    assert code == 2 and "pick one of" in err

@@ -119,3 +119,109 @@ def test_user_file_with_mass_basis(tmp_path):
     expected = (0.5 / 16.043) / (0.5 / 16.043 + 0.5 / 30.069)
     assert_allclose(fuel.mole_fractions["CH4"], expected, rtol=1e-4)
     assert fuel.id == "mygas"
+
+
+# ----------------------------------------------------------------------------- where fuels live
+
+
+METHANE = 'state = "gas"\n[species]\nsource = "test"\nCH4 = 1.0\n'
+ETHANE = 'state = "gas"\n[species]\nsource = "test"\nC2H6 = 1.0\n'
+
+
+def test_shipped_library_is_package_data():
+    # common practice, no source: package data sits inside the package folder, read through
+    # importlib.resources, so an installed wheel finds it without a checkout.
+    from importlib import resources
+    from pathlib import Path
+
+    from workbench.core.fuels import LIBRARY
+
+    assert LIBRARY == Path(resources.files("workbench").joinpath("data", "fuels"))
+    assert (LIBRARY / "propane.toml").is_file()
+
+
+def test_an_edited_fuel_file_is_read_again(tmp_path):
+    # Turns, An Introduction to Combustion, 3rd ed., Table B.1: LHV of methane 50.016 MJ/kg,
+    # of ethane 47.489 MJ/kg (rtol 2e-3: Cantera's GRI-Mech 3.0 enthalpies, not the table's).
+    path = write(tmp_path, "mygas.toml", METHANE)
+    before = load_fuel(str(path))
+    assert_allclose(fuel_sheet(before).lhv_mass, 50.016e6, rtol=2e-3)
+    path.write_text(ETHANE, encoding="utf-8")  # same path, same process
+    after = load_fuel(str(path))
+    assert after.mole_fractions == {"C2H6": 1.0}
+    assert_allclose(fuel_sheet(after).lhv_mass, 47.489e6, rtol=2e-3)
+
+
+def test_a_blend_sees_an_edited_part(tmp_path):
+    # Closed form: a 50/50 mole blend of a part holds half of each of the part's species.
+    write(tmp_path, "part.toml", METHANE)
+    mix = write(tmp_path, "mix.toml", 'state = "gas"\n[blend]\nsource = "test"\n'
+                'part = 0.5\nethane = 0.5\n')
+    assert load_fuel(str(mix)).mole_fractions == {"C2H6": 0.5, "CH4": 0.5}
+    write(tmp_path, "part.toml", 'state = "gas"\n[species]\nsource = "test"\nH2 = 1.0\n')
+    assert load_fuel(str(mix)).mole_fractions == {"C2H6": 0.5, "H2": 0.5}
+
+
+def test_blend_parts_come_from_the_blend_files_own_folder(tmp_path, monkeypatch):
+    # The part "mygas" is in no library: only the blend file's folder has it.
+    folder = tmp_path / "mine"
+    folder.mkdir()
+    write(folder, "mygas.toml", ETHANE)
+    mix = write(folder, "mix.toml", 'state = "gas"\n[blend]\nsource = "test"\n'
+                'mygas = 0.25\nmethane = 0.75\n')
+    by_path = write(folder, "by-path.toml", 'state = "gas"\n[blend]\nsource = "test"\n'
+                    '"./mygas.toml" = 1.0\n')
+    monkeypatch.chdir(tmp_path)  # neither name resolves from the working folder
+    assert_allclose(load_fuel(mix).mole_fractions["C2H6"], 0.25, rtol=1e-12)
+    assert load_fuel(by_path).mole_fractions == {"C2H6": 1.0}
+    with pytest.raises(InputError, match="unknown fuel id"):
+        load_fuel("mygas")
+
+
+def test_user_fuel_folders_come_before_the_shipped_library(tmp_path, monkeypatch):
+    from workbench.core.fuels import FUELS_ENV, use_fuel_folders
+
+    env_dir, cli_dir = tmp_path / "env", tmp_path / "cli"
+    env_dir.mkdir()
+    cli_dir.mkdir()
+    write(env_dir, "propane.toml", 'name = "env propane"\n' + METHANE)
+    write(env_dir, "only-env.toml", METHANE)
+    write(cli_dir, "propane.toml", 'name = "cli propane"\n' + ETHANE)
+    monkeypatch.setenv(FUELS_ENV, str(env_dir))
+    assert load_fuel("propane").name == "env propane"
+    assert {"only-env", "propane", "lpg"} <= set(list_fuels())
+    previous = use_fuel_folders([cli_dir])
+    try:
+        assert load_fuel("propane").name == "cli propane"
+        # The shipped LPG blend takes its parts from its own folder, not the user's propane.
+        assert "C3H8" in load_fuel("lpg").mole_fractions
+    finally:
+        use_fuel_folders(previous)
+    monkeypatch.setenv(FUELS_ENV, str(tmp_path / "missing"))
+    with pytest.raises(InputError, match=f"{FUELS_ENV}: .*missing is no folder"):
+        load_fuel("propane")
+
+
+def test_a_blend_naming_itself_is_refused(tmp_path):
+    path = write(tmp_path, "loop.toml", 'state = "gas"\n[blend]\nsource = "test"\nloop = 1.0\n')
+    with pytest.raises(InputError, match=r"blend cycle loop\.toml -> loop\.toml") as err:
+        load_fuel(str(path))
+    assert "\n" not in str(err.value)
+
+
+def test_two_blends_naming_each_other_are_refused(tmp_path):
+    write(tmp_path, "a.toml", 'state = "gas"\n[blend]\nsource = "t"\nb = 0.5\nmethane = 0.5\n')
+    write(tmp_path, "b.toml", 'state = "gas"\n[blend]\nsource = "t"\n"./a.toml" = 1.0\n')
+    with pytest.raises(InputError, match=r"blend cycle a\.toml -> b\.toml -> a\.toml"):
+        load_fuel(str(tmp_path / "a.toml"))
+    # and nothing is left half-loaded: the same files load once the cycle is broken
+    write(tmp_path, "b.toml", ETHANE)
+    assert load_fuel(str(tmp_path / "a.toml")).mole_fractions == {"C2H6": 0.5, "CH4": 0.5}
+
+
+def test_a_cycle_through_a_link_is_refused(tmp_path):
+    # The same file under two names (a symbolic link) is still the same blend.
+    write(tmp_path, "a.toml", 'state = "gas"\n[blend]\nsource = "t"\n"./alias.toml" = 1.0\n')
+    (tmp_path / "alias.toml").symlink_to(tmp_path / "a.toml")
+    with pytest.raises(InputError, match=r"blend cycle a\.toml -> alias\.toml"):
+        load_fuel(str(tmp_path / "a.toml"))

@@ -5,41 +5,30 @@ from __future__ import annotations
 import pytest
 
 from workbench.core.errors import InputError
-from workbench.core.textfiles import MAX_NAME_BYTES, check_file_name, read_toml
+from workbench.core.textfiles import MAX_NAME_BYTES, check_file_name, parse_toml
 
 
-def test_a_byte_order_mark_is_read(tmp_path):
+def test_a_byte_order_mark_is_read():
     # UTF-8 BOM is EF BB BF (Unicode Standard, section 23.8); Notepad writes one.
-    path = tmp_path / "a.toml"
-    path.write_bytes(b"\xef\xbb\xbfx = 1\n")
-    assert read_toml(path) == {"x": 1}
+    assert parse_toml(b"\xef\xbb\xbfx = 1\n", "a.toml") == {"x": 1}
+    assert parse_toml("\ufeffx = 1\n", "a.toml") == {"x": 1}
 
 
-def test_bytes_that_are_not_utf8_name_the_line(tmp_path):
-    path = tmp_path / "a.toml"
-    path.write_bytes("x = 1\ny = 'Café'\n".encode("latin-1"))  # é is E9 in Latin-1
+def test_bytes_that_are_not_utf8_name_the_line():
+    raw = "x = 1\ny = 'Café'\n".encode("latin-1")  # é is E9 in Latin-1
     with pytest.raises(InputError, match="not UTF-8") as exc:
-        read_toml(path)
-    assert exc.value.where == f"{path} line 2"
+        parse_toml(raw, "a.toml")
+    assert exc.value.where == "a.toml line 2"
 
 
 @pytest.mark.parametrize(("text", "words"), [
     ("x = ", "not valid TOML"),
     ("a = " + "[" * 50_000 + "]" * 50_000, "nested too deeply"),  # tomllib recurses per level
 ])
-def test_broken_toml_is_one_line(tmp_path, text, words):
-    path = tmp_path / "a.toml"
-    path.write_text(text, encoding="utf-8")
+def test_broken_toml_is_one_line(text, words):
     with pytest.raises(InputError, match=words) as exc:
-        read_toml(path)
-    assert "\n" not in str(exc.value)
-
-
-def test_a_folder_and_a_missing_file(tmp_path):
-    with pytest.raises(InputError, match="is a folder"):
-        read_toml(tmp_path)
-    with pytest.raises(InputError, match="no such file"):
-        read_toml(tmp_path / "missing.toml")
+        parse_toml(text.encode("utf-8"), "a.toml")
+    assert "\n" not in str(exc.value) and exc.value.where == "a.toml"
 
 
 @pytest.mark.parametrize(("raw", "words"), [

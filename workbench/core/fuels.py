@@ -1,6 +1,9 @@
 """The fuel library: fuels from ``fuels/*.toml`` and blends of them.
 
-A fuel is one of three kinds of file (the format is documented in ``fuels/README.md``):
+The shipped library is package data (``workbench/data/fuels``, which the checkout's top-level
+``fuels/`` holds); the user's own folders (``--fuels DIR``, ``WORKBENCH_FUELS``) are searched
+first. A fuel is one of three kinds of file (the format is documented in ``fuels/README.md``,
+shipped as ``workbench docs fuels``):
 
 - ``[species]``: a mixture of species from Cantera's databases, by mole or mass fraction;
 - ``[blend]``: a mixture of other library fuels, by mole, mass or liquid-volume fraction;
@@ -14,7 +17,10 @@ usable everywhere a library fuel is.
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+import hashlib
+import os
+from collections.abc import Iterable, Mapping
+from contextvars import ContextVar
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Literal
@@ -23,11 +29,16 @@ from workbench.core import thermo
 from workbench.core.cache import memoize
 from workbench.core.constants import T_STANDARD, ZERO_CELSIUS
 from workbench.core.errors import InputError
-from workbench.core.textfiles import check_file_name, read_toml
+from workbench.core.paths import DATA
+from workbench.core.textfiles import check_file_name, parse_toml
 from workbench.core.units import read_number
 
-#: Folder of the shipped fuel library.
-LIBRARY = Path(__file__).resolve().parents[2] / "fuels"
+#: Folder of the shipped fuel library, inside the package (the checkout's ``fuels/`` is it).
+LIBRARY = DATA / "fuels"
+#: Environment variable naming the user's fuel folders, searched before the shipped library.
+FUELS_ENV = "WORKBENCH_FUELS"
+#: Folders given by :func:`use_fuel_folders` (the CLI's ``--fuels``), searched first.
+_USER_FOLDERS: tuple[Path, ...] = ()
 #: Fractions must sum to 1 within this tolerance before they are normalised.
 SUM_TOLERANCE = 1e-3
 #: Elements a pseudo-component may carry, with their TOML keys.
@@ -154,29 +165,125 @@ class Fuel:
 # ----------------------------------------------------------------------------- loading
 
 
-def list_fuels(library: Path = LIBRARY) -> list[str]:
-    """Ids of the fuels in a library folder, sorted.
+def user_fuel_folders() -> tuple[Path, ...]:
+    """The user's fuel folders, searched before the shipped library, first match wins.
+
+    Those given to :func:`use_fuel_folders` (the CLI's ``--fuels DIR``) come first, then those
+    named in the environment variable ``WORKBENCH_FUELS`` (separated by ``os.pathsep``).
+
+    Returns
+    -------
+    tuple of pathlib.Path
+
+    Raises
+    ------
+    InputError
+        A folder named in ``WORKBENCH_FUELS`` does not exist.
+    """
+    env = [Path(p) for p in os.environ.get(FUELS_ENV, "").split(os.pathsep) if p.strip()]
+    for folder in env:
+        if not folder.is_dir():
+            raise InputError(FUELS_ENV, f"{folder} is no folder; name folders of fuel .toml "
+                             f"files, separated by {os.pathsep!r}")
+    return (*_USER_FOLDERS, *env)
+
+
+def use_fuel_folders(folders: Iterable[str | Path]) -> tuple[Path, ...]:
+    """Search these folders for fuel ids before ``WORKBENCH_FUELS`` and the shipped library.
 
     Parameters
     ----------
-    library : pathlib.Path
-        Folder of ``*.toml`` fuel files; the shipped library by default.
+    folders : iterable of str or pathlib.Path
+        Folders of ``*.toml`` fuel files, first match wins; an empty iterable forgets them.
+
+    Returns
+    -------
+    tuple of pathlib.Path
+        The folders used before the call (to restore them).
+
+    Raises
+    ------
+    InputError
+        A folder does not exist.
+    """
+    global _USER_FOLDERS
+    new = tuple(Path(f) for f in folders)
+    for folder in new:
+        if not folder.is_dir():
+            raise InputError(f"--fuels {folder}", "no such folder; give a folder of fuel .toml "
+                             "files")
+    old, _USER_FOLDERS = _USER_FOLDERS, new
+    return old
+
+
+def fuel_folders(folder: Path | None = None) -> tuple[Path, ...]:
+    """Every folder searched for a fuel id, in order: ``folder``, the user's, the shipped one.
+
+    Parameters
+    ----------
+    folder : pathlib.Path, optional
+        Searched first (a blend file's own folder).
+
+    Returns
+    -------
+    tuple of pathlib.Path
+    """
+    return (*(() if folder is None else (folder,)), *user_fuel_folders(), LIBRARY)
+
+
+def list_fuels(library: Path | None = None) -> list[str]:
+    """Ids of the fuels in a library folder, or of every folder searched, sorted.
+
+    Parameters
+    ----------
+    library : pathlib.Path, optional
+        Folder of ``*.toml`` fuel files; by default every folder of :func:`fuel_folders`.
 
     Returns
     -------
     list of str
-        File stems.
+        File stems, each once.
     """
-    return sorted(p.stem for p in library.glob("*.toml"))
+    folders = fuel_folders() if library is None else (library,)
+    return sorted({p.stem for f in folders for p in f.glob("*.toml")})
 
 
-def load_fuel(ref: str | Path | Fuel) -> Fuel:
+def find_fuel(fuel_id: str, *, folder: Path | None = None) -> Path | None:
+    """The file a fuel id names: the first ``<id>.toml`` of :func:`fuel_folders`.
+
+    Parameters
+    ----------
+    fuel_id : str
+        Library id (file stem).
+    folder : pathlib.Path, optional
+        Searched first (a blend file's own folder).
+
+    Returns
+    -------
+    pathlib.Path or None
+        None when no folder holds it.
+    """
+    for f in fuel_folders(folder):
+        path = f / f"{fuel_id}.toml"
+        if _is_file(path):
+            return path
+    return None
+
+
+def load_fuel(ref: str | Path | Fuel, *, folder: Path | None = None) -> Fuel:
     """Load a fuel by library id or file path.
+
+    Ids are looked up in ``folder``, then in the user's fuel folders (:func:`use_fuel_folders`,
+    ``WORKBENCH_FUELS``), then in the shipped library. The file is read on every call and its
+    parse cached by the file's bytes, so an edited file is never served stale.
 
     Parameters
     ----------
     ref : str, pathlib.Path or Fuel
         A library id (``"propane"``), a path to a fuel TOML file, or a Fuel (returned as is).
+    folder : pathlib.Path, optional
+        Folder searched first for an id, and for a relative path before the working folder
+        (a blend file's own folder, for its parts).
 
     Returns
     -------
@@ -185,34 +292,82 @@ def load_fuel(ref: str | Path | Fuel) -> Fuel:
     Raises
     ------
     InputError
-        Unknown id, unreadable or malformed file, or a field that fails validation.
+        Unknown id, unreadable or malformed file, a blend that contains itself, or a field
+        that fails validation.
     """
     if isinstance(ref, Fuel):
         return ref
     text = check_file_name(str(ref) if isinstance(ref, Path) else ref, "fuel",
                            what="a library fuel id or a fuel .toml file")
     if text.endswith(".toml") or "/" in text or "\\" in text:
-        try:
-            path = Path(text).resolve()
-        except (OSError, RuntimeError) as exc:  # RuntimeError: a symlink loop (Python < 3.13)
-            raise InputError(text, f"cannot follow this path ({exc}); check it") from None
-        return _load_path(str(path))
-    path = LIBRARY / f"{text}.toml"
-    if not path.is_file():
-        known = ", ".join(list_fuels())
-        raise InputError(text, f"unknown fuel id; pick one of {known}, or give a .toml path")
-    return _load_path(str(path))
+        path = Path(text)
+        if folder is not None and not path.is_absolute() and _is_file(folder / path):
+            path = folder / path
+        return _load_path(Path(os.path.abspath(path)))
+    found = find_fuel(text, folder=folder)
+    if found is None:
+        known = ", ".join(list_fuels()) or "none"
+        searched = ", ".join(str(f) for f in fuel_folders(folder))
+        raise InputError(text, f"unknown fuel id; pick one of {known} (searched {searched}), "
+                         "or give a .toml path")
+    return _load_path(Path(os.path.abspath(found)))
 
 
-@memoize(maxsize=None)
-def _load_path(path: str) -> Fuel:
-    p = Path(path)
-    if not p.is_file():
-        raise InputError(path, "no such fuel file; check the path")
-    return fuel_from_dict(read_toml(p), fuel_id=p.stem, where=path)
+#: Fuel files being loaded in this context, outermost first, as (device, inode) and path:
+#: to refuse blend cycles, however each file was named.
+_LOADING: ContextVar[tuple[tuple[tuple[int, int], Path], ...]] = ContextVar(
+    "workbench_fuels_loading", default=())
 
 
-def fuel_from_dict(data: Mapping[str, Any], *, fuel_id: str, where: str) -> Fuel:
+def _load_path(path: Path) -> Fuel:
+    try:
+        with path.open("rb") as fh:
+            stat = os.fstat(fh.fileno())
+            raw = fh.read()
+    except OSError:
+        raise InputError(str(path), "no such fuel file; check the path") from None
+    chain = _LOADING.get()
+    ids = [file_id for file_id, _ in chain]
+    file_id = (stat.st_dev, stat.st_ino)
+    if file_id in ids:
+        names = [p.name for _, p in chain[ids.index(file_id):]]
+        raise InputError(str(path), f"blend cycle {' -> '.join([*names, path.name])}: a blend "
+                         "cannot contain itself; name other fuels as its parts")
+    token = _LOADING.set((*chain, (file_id, path)))
+    try:
+        digest = hashlib.sha256(raw).digest()
+        data = _parse_fuel_file(digest, raw, str(path))
+        table = data.get("blend")
+        parts = tuple(load_fuel(ref, folder=path.parent) for ref in table
+                      if ref not in ("basis", "source")) if isinstance(table, Mapping) else ()
+        return _fuel_of_file(digest, str(path), parts, data)
+    finally:
+        _LOADING.reset(token)
+
+
+@memoize(maxsize=512, key=lambda digest, raw, where: digest)
+def _parse_fuel_file(digest: bytes, raw: bytes, where: str) -> dict[str, Any]:
+    """The parsed TOML of a fuel file's bytes, cached by their digest (do not mutate it)."""
+    return parse_toml(raw, where)
+
+
+def _is_file(path: Path) -> bool:
+    try:
+        return path.is_file()
+    except OSError:  # a name too long for the system once joined to the folder
+        return False
+
+
+@memoize(maxsize=512, key=lambda digest, where, parts, data: (digest, where, parts))
+def _fuel_of_file(digest: bytes, where: str, parts: tuple[Fuel, ...],
+                  data: Mapping[str, Any]) -> Fuel:
+    """The fuel of a file, cached by its bytes' digest and, for a blend, by its parts."""
+    path = Path(where)
+    return fuel_from_dict(data, fuel_id=path.stem, where=where, folder=path.parent)
+
+
+def fuel_from_dict(data: Mapping[str, Any], *, fuel_id: str, where: str,
+                   folder: Path | None = None) -> Fuel:
     """Build a fuel from the parsed contents of a fuel file.
 
     Parameters
@@ -223,6 +378,8 @@ def fuel_from_dict(data: Mapping[str, Any], *, fuel_id: str, where: str) -> Fuel
         Id to give the fuel.
     where : str
         File name (or other label) that error messages name.
+    folder : pathlib.Path, optional
+        Folder searched first for a blend's parts (the file's own folder).
 
     Returns
     -------
@@ -254,7 +411,8 @@ def fuel_from_dict(data: Mapping[str, Any], *, fuel_id: str, where: str) -> Fuel
     if kind == "blend":
         basis = _basis(table, f"{where}: [blend]")
         parts = _fractions(table, f"{where}: [blend]")
-        fuel = blend(parts, basis, id=fuel_id, name=name, where=f"{where}: [blend]")
+        fuel = blend(parts, basis, id=fuel_id, name=name, where=f"{where}: [blend]",
+                     folder=folder)
         if fuel.is_gas != (state == "gas"):
             raise InputError(f"{where}: state", f'must be "{_state(fuel.is_gas)}" for these parts')
         if liquid is None:
@@ -525,6 +683,7 @@ def blend(
     id: str | None = None,
     name: str | None = None,
     where: str = "blend",
+    folder: Path | None = None,
 ) -> Fuel:
     """Mix library fuels into a new fuel.
 
@@ -540,6 +699,8 @@ def blend(
         Id and name of the blend; generated from the parts when omitted.
     where : str
         Label that error messages name.
+    folder : pathlib.Path, optional
+        Folder searched first for the parts (see :func:`load_fuel`).
 
     Returns
     -------
@@ -556,7 +717,7 @@ def blend(
     fuels = {}
     fractions = {}
     for ref, frac in parts.items():
-        fuel = load_fuel(ref)
+        fuel = load_fuel(ref, folder=folder)
         fuels[fuel.id] = fuel
         fractions[fuel.id] = fractions.get(fuel.id, 0.0) + float(frac)
     fractions = check_fractions(fractions, where)

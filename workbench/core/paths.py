@@ -2,8 +2,10 @@
 
 from __future__ import annotations
 
+from importlib import resources
 from pathlib import Path
 
-#: The shipped data folder (``workbench/data``): the invented demo profiles, vehicles, maps and
-#: the demo study.
-DATA = Path(__file__).resolve().parents[1] / "data"
+#: The shipped data folder (``workbench/data``), package data read through importlib.resources
+#: so an installed wheel finds it: the invented demo profiles, vehicles, maps and the demo
+#: study, the fuel library (``fuels``) and the documentation pages (``docs``).
+DATA = Path(resources.files("workbench").joinpath("data"))

@@ -1,10 +1,10 @@
 """Reading the TOML files users write, and checking the file names they type.
 
-Every TOML reader of the package (fuel files, study files, vehicle files, side files) goes
-through :func:`read_toml`: the file is read as UTF-8 with or without a byte-order mark (a
-Notepad save writes one), and anything that goes wrong — a missing file, a folder, bytes that
-are not UTF-8, broken TOML, a file far too large or nested far too deep — is one
-:class:`~workbench.core.errors.InputError` naming the file. :func:`check_file_name` refuses
+Every TOML reader of the package (fuel files, study files, vehicle files, side files) parses
+the file's bytes with :func:`parse_toml`: UTF-8 with or without a byte-order mark (a Notepad
+save writes one), and anything that goes wrong — bytes that are not UTF-8, broken TOML, a file
+far too large or nested far too deep — is one :class:`~workbench.core.errors.InputError`
+naming the file. :func:`check_file_name` refuses
 file names no operating system accepts (a null byte, a name longer than the system allows)
 before they reach it.
 """
@@ -12,7 +12,6 @@ before they reach it.
 from __future__ import annotations
 
 import tomllib
-from pathlib import Path
 from typing import Any
 
 from workbench.core.errors import InputError
@@ -65,47 +64,8 @@ def check_file_name(raw: object, where: str, *, what: str = "a file") -> str:
     return raw
 
 
-def read_toml(path: str | Path, *, name: str | None = None) -> dict[str, Any]:
-    """Read a TOML file a user wrote.
-
-    Parameters
-    ----------
-    path : str or pathlib.Path
-        The file.
-    name : str, optional
-        What errors call the file; its path by default.
-
-    Returns
-    -------
-    dict
-        The parsed tables.
-
-    Raises
-    ------
-    InputError
-        Missing or unreadable file, a folder, more than :data:`MAX_TOML_BYTES`, bytes that are
-        not UTF-8 (the line is named), TOML syntax errors, or nesting too deep to parse.
-    """
-    label = _label(str(path) if name is None else name)
-    p = Path(path)
-    try:
-        size = p.stat().st_size
-        if size > MAX_TOML_BYTES:
-            raise InputError(label, f"is {size / 1e6:.0f} MB; a TOML input file is at most "
-                             f"{MAX_TOML_BYTES / 1e6:.0f} MB")
-        data = p.read_bytes()
-    except FileNotFoundError:
-        raise InputError(label, "no such file; check the path") from None
-    except IsADirectoryError:
-        raise InputError(label, "is a folder; name a .toml file") from None
-    except (OSError, ValueError) as exc:
-        reason = exc.strerror if isinstance(exc, OSError) and exc.strerror else str(exc)
-        raise InputError(label, f"cannot read the file ({reason})") from None
-    return parse_toml(data, label)
-
-
 def parse_toml(data: bytes | str, name: str) -> dict[str, Any]:
-    """Parse the contents of a TOML file a user wrote (see :func:`read_toml`).
+    """Parse the contents of a TOML file a user wrote.
 
     Parameters
     ----------
@@ -122,10 +82,13 @@ def parse_toml(data: bytes | str, name: str) -> dict[str, Any]:
     Raises
     ------
     InputError
-        Bytes that are not UTF-8 (the line is named), TOML syntax errors, or nesting too deep
-        to parse.
+        More than :data:`MAX_TOML_BYTES`, bytes that are not UTF-8 (the line is named), TOML
+        syntax errors, or nesting too deep to parse.
     """
     label = _label(name)
+    if len(data) > MAX_TOML_BYTES:
+        raise InputError(label, f"is {len(data) / 1e6:.0f} MB; a TOML input file is at most "
+                         f"{MAX_TOML_BYTES / 1e6:.0f} MB")
     if isinstance(data, bytes):
         try:
             text = data.decode("utf-8-sig")

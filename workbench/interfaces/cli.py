@@ -19,7 +19,7 @@ from workbench.core.errors import InputError
 from workbench.core.text import json_safe
 
 #: Command modules, in the order their groups appear in ``workbench --help``.
-COMMAND_MODULES = ("fuels", "nox", "duty", "study")
+COMMAND_MODULES = ("fuels", "nox", "duty", "study", "docs")
 
 
 class _Parser(argparse.ArgumentParser):
@@ -70,6 +70,34 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
+def add_fuels_option(p: argparse.ArgumentParser) -> None:
+    """Add ``--fuels DIR`` to a command that reads fuels: the user's folders, searched first.
+
+    Parameters
+    ----------
+    p : argparse.ArgumentParser
+        The command's parser.
+    """
+    p.add_argument("--fuels", dest="fuel_folders", action="append", default=[], metavar="DIR",
+                   help="folder of your own fuel .toml files, searched for fuel ids before "
+                        "WORKBENCH_FUELS and the shipped library (repeatable)")
+
+
+def _call(args: argparse.Namespace) -> None:
+    """Run the command, with its ``--fuels`` folders searched for the length of the call."""
+    folders = getattr(args, "fuel_folders", None)
+    if not folders:
+        args.func(args)
+        return
+    from workbench.core.fuels import use_fuel_folders
+
+    previous = use_fuel_folders(folders)
+    try:
+        args.func(args)
+    finally:
+        use_fuel_folders(previous)
+
+
 def print_json(obj: Any) -> None:
     """Print ``obj`` as indented JSON on standard output (NaN becomes null)."""
     print(json.dumps(json_safe(obj), indent=2, ensure_ascii=False))
@@ -90,7 +118,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     """
     args = build_parser().parse_args(argv)
     try:
-        args.func(args)
+        _call(args)
     except InputError as exc:
         print(f"workbench: error: {exc}", file=sys.stderr)
         return 2

@@ -18,27 +18,30 @@ from typing import Any
 
 import pandas as pd
 import plotly.io as pio
-from plotly.io._base_renderers import NotebookRenderer
 
 from workbench.interfaces.charts import TEMPLATE
 
-#: Plotly renderer of the notebooks: JupyterLab's mimetype plus self-contained HTML.
-NOTEBOOK_RENDERER = "plotly_mimetype+workbench_notebook"
 _MATHJAX_SCRIPT = re.compile(r"<script[^>]*src=\"[^\"]*mathjax[^\"]*\"[^>]*>\s*</script>",
                              re.IGNORECASE)
 
+try:  # a private module of plotly (pyproject bounds plotly's major version for it)
+    from plotly.io._base_renderers import NotebookRenderer
+except ImportError:  # moved in a later plotly: its stock renderer, MathJax link and all
+    #: Plotly renderer of the notebooks: JupyterLab's mimetype plus self-contained HTML.
+    NOTEBOOK_RENDERER = "plotly_mimetype+notebook"
+else:
 
-class OfflineNotebookRenderer(NotebookRenderer):
-    """Plotly's notebook renderer without the MathJax link it adds to every figure."""
+    class OfflineNotebookRenderer(NotebookRenderer):
+        """Plotly's notebook renderer without the MathJax link it adds to every figure."""
 
-    def to_mimebundle(self, fig_dict: dict[str, Any]) -> dict[str, str]:
-        """The figure's HTML, with no script loaded from a CDN."""
-        bundle = super().to_mimebundle(fig_dict)
-        bundle["text/html"] = _MATHJAX_SCRIPT.sub("", bundle["text/html"])
-        return bundle
+        def to_mimebundle(self, fig_dict: dict[str, Any]) -> dict[str, str]:
+            """The figure's HTML, with no script loaded from a CDN."""
+            bundle = super().to_mimebundle(fig_dict)
+            bundle["text/html"] = _MATHJAX_SCRIPT.sub("", bundle["text/html"])
+            return bundle
 
-
-pio.renderers["workbench_notebook"] = OfflineNotebookRenderer()
+    pio.renderers["workbench_notebook"] = OfflineNotebookRenderer()
+    NOTEBOOK_RENDERER = "plotly_mimetype+workbench_notebook"
 
 
 def setup_notebook(*, renderer: str = NOTEBOOK_RENDERER, precision: int = 3) -> None:

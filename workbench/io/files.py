@@ -67,7 +67,7 @@ def write_text_atomic(path: str | os.PathLike[str], text: str, *, suffix: str,
     path : str or os.PathLike
         Destination.
     text : str
-        Contents.
+        Contents, written as UTF-8 exactly (no newline translation).
     suffix : str
         Required file-name ending (``".html"``, ``".toml"``, ``".csv"``).
     option : str

@@ -30,13 +30,14 @@ from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
-import tomli_w
+import tomlkit
+import tomlkit.items
 
 from workbench.core.errors import InputError
 from workbench.core.fuels import BASES, Fuel, blend, load_fuel
 from workbench.core.paths import DATA
 from workbench.core.text import sha256_hex
-from workbench.core.textfiles import check_file_name, read_toml
+from workbench.core.textfiles import check_file_name, parse_toml
 from workbench.core.units import (
     HEATING_VALUE_MARK,
     Price,
@@ -213,6 +214,10 @@ class Study:
         Name of the file (or other label) errors are prefixed with.
     base_dir : pathlib.Path, optional
         Folder relative paths in the study are resolved from.
+    text : str, optional
+        The study file's own TOML text, which ``data`` was parsed from: it is what
+        :meth:`to_toml` gives back and what an edit changes line by line (comments, key order
+        and layout kept). Without it, the text is generated from ``data``.
 
     Raises
     ------
@@ -221,8 +226,12 @@ class Study:
     """
 
     def __init__(self, data: Mapping[str, Any], *, where: str = "study",
-                 base_dir: Path | None = None) -> None:
+                 base_dir: Path | None = None, text: str | None = None) -> None:
         self._data = copy.deepcopy(dict(data))
+        self._text = text
+        # The text's tomlkit document (with the text's byte-order mark, if any), parsed on the
+        # first edit and handed on to the edited study, as parsing costs ~20 ms a file.
+        self._doc: tuple[str, tomlkit.TOMLDocument] | None = None
         self.where = where
         self.base_dir = base_dir or Path.cwd()
         self.inputs = _parse(self._data, self.base_dir)
@@ -277,26 +286,61 @@ class Study:
         -------
         Study
         """
-        data = copy.deepcopy(self._data)
+        text = self.to_toml()  # this study keeps its text; its document moves on
+        bom, doc = self._doc or (_split_bom(text)[0], tomlkit.parse(_split_bom(text)[1]))
+        self._doc = None
         for path, value in changes.items():
-            node, key = _parent(data, path)
+            node, key = _parent(doc, path)
             try:
-                node[key] = copy.deepcopy(value)
+                node[key] = _toml_value(node, key, copy.deepcopy(value))
             except (IndexError, TypeError):
                 raise InputError(path, "no such key in the study") from None
         for path in remove:
-            node, key = _parent(data, path)
+            node, key = _parent(doc, path)
             if isinstance(node, dict):
                 node.pop(key, None)
-        return Study(data, where=self.where, base_dir=self.base_dir)
+        edited = Study(doc.unwrap(), where=self.where, base_dir=self.base_dir)
+        edited._doc = (bom, doc)
+        return edited
 
     def to_toml(self) -> str:
-        """The study as TOML text; reading it back gives an equal study."""
-        return tomli_w.dumps(self._data)
+        """The study as TOML text: the file's own text, with edits changing only their lines.
+
+        Reading it back gives an equal study.
+        """
+        if self._text is None:
+            self._text = (self._doc[0] + tomlkit.dumps(self._doc[1]) if self._doc is not None
+                          else tomlkit.dumps(self._data))
+        return self._text
+
+    def to_bytes(self) -> bytes:
+        """The bytes :func:`write_study` saves: for a study read and not edited, the file's own."""
+        return self.to_toml().encode("utf-8")
 
     def digest(self) -> str:
-        """SHA-256 of the study's TOML text (identifies the inputs in reports)."""
-        return sha256_hex(self.to_toml())
+        """SHA-256 of :meth:`to_bytes` (identifies the inputs in reports; ``sha256sum`` of the
+        file for a study read from one and not edited)."""
+        return sha256_hex(self.to_bytes())
+
+
+def _split_bom(text: str) -> tuple[str, str]:
+    """A byte-order mark at the start of a text, and the rest (TOML parsers refuse the mark)."""
+    return ("\ufeff", text[1:]) if text.startswith("\ufeff") else ("", text)
+
+
+def _toml_value(node: Any, key: str | int, value: Any) -> Any:
+    """A raw value laid out as the file had it: a table stays a table, other tables inline."""
+    if not isinstance(value, Mapping):
+        return value
+    old = node.get(key) if isinstance(node, Mapping) else None
+    if isinstance(old, tomlkit.items.Table) or (
+            old is None and isinstance(node, tomlkit.TOMLDocument)):
+        table = tomlkit.table()
+        table.update(value)
+        return table
+    inline = tomlkit.inline_table()
+    inline.update(value)
+    return inline
 
 
 def _parent(data: dict[str, Any], path: str) -> tuple[Any, str | int]:
@@ -305,7 +349,7 @@ def _parent(data: dict[str, Any], path: str) -> tuple[Any, str | int]:
     node: Any = data
     for key in keys[:-1]:
         if isinstance(key, str) and isinstance(node, dict) and key not in node:
-            node[key] = {}
+            node[key] = _toml_value(node, key, {})
         try:
             node = node[key]
         except (KeyError, IndexError, TypeError):
@@ -342,15 +386,23 @@ def read_study(path: str | Path) -> Study:
         str(path) if isinstance(path, Path) else path, "study", what="a study .toml file"))
     if not p.is_file():
         raise InputError(str(path), "no such study file; check the path")
-    data = read_toml(p)
     try:
-        return Study(data, where=str(p), base_dir=p.resolve().parent)
+        raw = p.read_bytes()
+    except OSError as exc:
+        raise InputError(str(p), f"cannot read the file ({exc.strerror}); check it") from None
+    data = parse_toml(raw, str(p))  # the checks of every TOML reader (UTF-8, BOM, nesting)
+    text = raw.decode("utf-8")  # no newline translation: the text is the bytes
+    try:
+        return Study(data, where=str(p), base_dir=p.resolve().parent, text=text)
     except InputError as exc:
         raise InputError(f"{p.name}: {exc.where}", exc.message) from None
 
 
 def write_study(study: Study, path: str | Path) -> Path:
-    """Write a study file, whole or not at all.
+    """Write a study file, whole or not at all: the bytes of :meth:`Study.to_bytes`.
+
+    A study read from a file keeps that file's comments, key order and layout; each edit
+    (:meth:`Study.with_values`) changes only the lines of the values it changed.
 
     Parameters
     ----------

@@ -11,7 +11,7 @@ from pathlib import Path
 
 from workbench.core.errors import InputError
 from workbench.core.paths import DATA
-from workbench.interfaces.cli import finite_float
+from workbench.interfaces.cli import add_fuels_option, finite_float
 from workbench.io.profiles import read_profile
 from workbench.models.duty import DutySettings, DutyTrace, duty_stats
 
@@ -52,6 +52,7 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--extra-idle-share", type=finite_float, default=0.0, metavar="X",
                    help="share of time idling beyond the trace, e.g. waiting at a rank")
     p.add_argument("--json", action="store_true", help="print JSON")
+    add_fuels_option(p)
     p.set_defaults(func=_fuel)
 
 

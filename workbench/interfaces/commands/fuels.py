@@ -8,8 +8,16 @@ from pathlib import Path
 
 from workbench.core.constants import ZERO_CELSIUS
 from workbench.core.errors import InputError
-from workbench.core.fuels import BASES, blend, list_fuels, load_fuel
-from workbench.interfaces.cli import finite_float
+from workbench.core.fuels import (
+    BASES,
+    LIBRARY,
+    blend,
+    find_fuel,
+    fuel_folders,
+    list_fuels,
+    load_fuel,
+)
+from workbench.interfaces.cli import add_fuels_option, finite_float
 from workbench.interfaces.sheets import SHEET_FIELDS, format_table, fuel_record
 from workbench.io.files import write_text_atomic
 
@@ -24,8 +32,10 @@ def register(sub: argparse._SubParsersAction) -> None:
 
     register_storage(fsub)
 
-    p = fsub.add_parser("list", help="list the fuels in the library")
+    p = fsub.add_parser("list", help="list the fuels: your folders (--fuels, WORKBENCH_FUELS), "
+                        "then the shipped library")
     p.add_argument("--json", action="store_true", help="print JSON")
+    add_fuels_option(p)
     p.set_defaults(func=_list)
 
     p = fsub.add_parser("show", help="the property sheet of one fuel")
@@ -51,6 +61,7 @@ def register(sub: argparse._SubParsersAction) -> None:
 
 
 def _flame_options(p: argparse.ArgumentParser) -> None:
+    add_fuels_option(p)
     p.add_argument("--phi", type=finite_float, default=1.0,
                    help="fuel-air equivalence ratio of the flame (default 1)")
     p.add_argument("--t-unburnt", type=finite_float, default=25.0, metavar="C",
@@ -109,15 +120,32 @@ def _list(args: argparse.Namespace) -> None:
 
     rows = []
     for fid in list_fuels():
-        fuel = load_fuel(fid)
+        path = find_fuel(fid)
+        try:
+            fuel = load_fuel(fid)
+        except InputError as exc:  # one bad file of the user's does not hide the others
+            rows.append({"id": fid, "name": None, "state": None, "storage": None,
+                         "path": str(path), "error": str(exc)})
+            continue
         rows.append({"id": fid, "name": fuel.name, "state": "gas" if fuel.is_gas else "liquid",
-                     "storage": fuel.storage.kind if fuel.storage else None})
+                     "storage": fuel.storage.kind if fuel.storage else None,
+                     "path": str(path), "error": None})
     if args.json:
         print_json(rows)
         return
+    if not rows:
+        searched = ", ".join(str(f) for f in fuel_folders())
+        raise InputError("fuels list", f"no fuel files found in {searched}; reinstall the "
+                         "package or give --fuels DIR")
     w = max(len(r["id"]) for r in rows)
     for r in rows:
-        print(f"{r['id'].ljust(w)}  {r['state']:<6}  {r['storage'] or '—':<10}  {r['name']}")
+        folder = Path(r["path"]).parent
+        where = "" if folder == LIBRARY else f"  ({folder})"
+        if r["error"]:
+            print(f"{r['id'].ljust(w)}  error: {r['error']}")
+        else:
+            print(f"{r['id'].ljust(w)}  {r['state']:<6}  {r['storage'] or '—':<10}  "
+                  f"{r['name']}{where}")
 
 
 def _show(args: argparse.Namespace) -> None:

@@ -7,7 +7,7 @@ from dataclasses import replace
 
 from workbench.core.errors import InputError
 from workbench.core.fuels import load_fuel
-from workbench.interfaces.cli import finite_float
+from workbench.interfaces.cli import add_fuels_option, finite_float
 from workbench.interfaces.sheets import format_table
 from workbench.models.nox import ENGINE_PRESETS, nox_propensity
 
@@ -46,7 +46,7 @@ def register(sub: argparse._SubParsersAction) -> None:
         "nox",
         help="thermal-NO propensity of a fuel's flame (Zeldovich chemistry, GRI-Mech 3.0)",
         description="Thermal NO formed in a fuel's burnt gas at an engine-like setting, and its "
-        "index relative to a baseline fuel. A screening model: see docs/nox.md.",
+        "index relative to a baseline fuel. A screening model: see `workbench docs nox`.",
     )
     p.add_argument("fuel", help="library id or path to a fuel .toml file")
     p.add_argument("--baseline", help="fuel of index 1 (default: the fuel itself)")
@@ -63,6 +63,7 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--residence-time", type=finite_float, metavar="MS",
                    help="residence time in ms (overrides the crank-angle window)")
     p.add_argument("--json", action="store_true", help="print JSON")
+    add_fuels_option(p)
     p.set_defaults(func=_run)
 
 

@@ -12,7 +12,7 @@ from typing import Any
 from workbench.core.constants import P_STANDARD, ZERO_CELSIUS
 from workbench.core.errors import InputError
 from workbench.core.fuels import STORAGE_KINDS
-from workbench.interfaces.cli import finite_float
+from workbench.interfaces.cli import add_fuels_option, finite_float
 
 #: Model argument names and the options that set them, for error messages.
 _OPTIONS = {
@@ -50,7 +50,7 @@ def register_storage(fuels_sub: argparse._SubParsersAction) -> None:
     p.add_argument("--pressure", type=finite_float, metavar="BAR",
                    help="absolute pressure of a compressed gas or cryogenic tank [bar]")
     p.add_argument("--tank", metavar="ID", help="tank type (default: by storage kind); "
-                   "see docs/storage.md")
+                   "see `workbench docs storage`")
     p.add_argument("--range", type=finite_float, metavar="KM", dest="range_km",
                    help="size the tank for this range [km] (needs --energy-per-km)")
     p.add_argument("--tank-volume", type=finite_float, metavar="L",
@@ -60,6 +60,7 @@ def register_storage(fuels_sub: argparse._SubParsersAction) -> None:
     p.add_argument("--feed-pressure", type=finite_float, metavar="BAR",
                    help="gauge pressure the LPG feed system needs [bar] (default 1.5, typical)")
     p.add_argument("--json", action="store_true", help="print one JSON object")
+    add_fuels_option(p)
     p.set_defaults(func=_run)
 
 

@@ -8,6 +8,7 @@ from typing import Any
 
 from workbench.core.errors import InputError
 from workbench.core.text import json_safe
+from workbench.interfaces.cli import add_fuels_option
 from workbench.interfaces.sheets import format_table
 from workbench.io.files import check_target, write_text_atomic
 from workbench.study.results import StudyResult, missing_reason
@@ -37,19 +38,22 @@ def register(sub: argparse._SubParsersAction) -> None:
     ssub = group.add_subparsers(dest="study_command", required=True, parser_class=type(group))
 
     p = ssub.add_parser("check", help="check a study file and say what it holds")
-    p.add_argument("file", help="study .toml file (docs/study-file.md)")
+    p.add_argument("file", help="study .toml file (format: `workbench docs study-file`)")
+    add_fuels_option(p)
     p.set_defaults(func=_check)
 
     p = ssub.add_parser("run", help="run a study: candidates side by side")
     p.add_argument("file", help="study .toml file")
     _run_options(p)
     p.add_argument("--csv", metavar="DIR", help="also write every result table as CSV here")
+    add_fuels_option(p)
     p.set_defaults(func=_run)
 
     p = ssub.add_parser("report", help="write the study's self-contained HTML report")
     p.add_argument("file", help="study .toml file")
     p.add_argument("-o", "--output", required=True, metavar="HTML", help="report file (.html)")
     _run_options(p)
+    add_fuels_option(p)
     p.set_defaults(func=_report)
 
     p = sub.add_parser("demo", help="run the shipped demo study of a fictional fleet")

@@ -18,7 +18,7 @@ from typing import Any
 import ipywidgets as widgets
 
 from workbench.core.errors import InputError
-from workbench.core.fuels import BASES, LIBRARY, Fuel, list_fuels, load_fuel
+from workbench.core.fuels import BASES, Fuel, find_fuel, list_fuels, load_fuel
 from workbench.interfaces.panels.fields import error_widget, esc, show_error
 from workbench.interfaces.panels.state import StudyState, option_slots
 from workbench.interfaces.sheets import SHEET_FIELDS, format_cell, fuel_record
@@ -49,8 +49,8 @@ def fuel_slots(study: Study) -> list[FuelSlot]:
 
 def library_blend(fuel_id: str) -> tuple[str, str, str, float] | None:
     """The two parts, basis and first share of a library fuel that is a two-part blend."""
-    path = LIBRARY / f"{fuel_id}.toml"
-    if not path.is_file():
+    path = find_fuel(fuel_id)
+    if path is None:
         return None
     table = tomllib.loads(path.read_text(encoding="utf-8")).get("blend", {})
     parts = {k: v for k, v in table.items() if k not in ("basis", "source")}
