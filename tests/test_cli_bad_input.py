@@ -92,6 +92,8 @@ BAD_INVOCATIONS = [
     ("blend write wrong suffix", lambda t: ["fuels", "blend", "propane=0.5", "n-butane=0.5",
                                             "--write", str(t / "b.txt")]),
     ("missing profile", lambda t: ["duty", "stats", str(t / "missing.csv")]),
+    ("fuel folder missing", lambda t: ["fuels", "list", "--fuels", str(t / "none")]),
+    ("fuel folder name too long", lambda t: ["fuels", "show", "propane", "--fuels", "x" * 5000]),
 ]
 
 

@@ -41,7 +41,7 @@ WORDS = st.sampled_from([
     "liquid-volume", "--id", "--name", "--write", "--kind", "compressed", "--temperature",
     "--range", "--tank-volume", "--energy-per-km", "--feed-pressure", "--tank", "--vehicle",
     "--map", "--fuel", "--derate", "--efficiency-offset", "--accessory-kw", "--extra-idle-share",
-    "--engine-off-at-stops", "--csv", "-o", "--draws",
+    "--engine-off-at-stops", "--csv", "-o", "--draws", "--fuels", str(TMP), "x" * 300,
     "nan", "inf", "-inf", "1e999", "-1", "0", "0.5", "1", "3", "25", "200", "1e308", "1e-320",
     "10000000000000000000000", "a\x00b", "x" * 5000, "é", "\ufeff", " ", "",
     *FILES,

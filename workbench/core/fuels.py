@@ -182,9 +182,9 @@ def user_fuel_folders() -> tuple[Path, ...]:
     """
     env = [Path(p) for p in os.environ.get(FUELS_ENV, "").split(os.pathsep) if p.strip()]
     for folder in env:
-        if not folder.is_dir():
-            raise InputError(FUELS_ENV, f"{folder} is no folder; name folders of fuel .toml "
-                             f"files, separated by {os.pathsep!r}")
+        if not _is_dir(folder):
+            raise InputError(FUELS_ENV, f"{str(folder)[:80]} is no folder; name folders of "
+                             f"fuel .toml files, separated by {os.pathsep!r}")
     return (*_USER_FOLDERS, *env)
 
 
@@ -207,9 +207,10 @@ def use_fuel_folders(folders: Iterable[str | Path]) -> tuple[Path, ...]:
         A folder does not exist.
     """
     global _USER_FOLDERS
-    new = tuple(Path(f) for f in folders)
+    new = tuple(Path(check_file_name(str(f), "--fuels", what="a folder of fuel .toml files"))
+                for f in folders)
     for folder in new:
-        if not folder.is_dir():
+        if not _is_dir(folder):
             raise InputError(f"--fuels {folder}", "no such folder; give a folder of fuel .toml "
                              "files")
     old, _USER_FOLDERS = _USER_FOLDERS, new
@@ -349,6 +350,13 @@ def _load_path(path: Path) -> Fuel:
 def _parse_fuel_file(digest: bytes, raw: bytes, where: str) -> dict[str, Any]:
     """The parsed TOML of a fuel file's bytes, cached by their digest (do not mutate it)."""
     return parse_toml(raw, where)
+
+
+def _is_dir(path: Path) -> bool:
+    try:
+        return path.is_dir()
+    except OSError:  # a name too long for the system
+        return False
 
 
 def _is_file(path: Path) -> bool:
