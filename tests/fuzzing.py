@@ -8,10 +8,13 @@ result.
 
 from __future__ import annotations
 
+import atexit
 import copy
 import dataclasses
 import datetime as dt
 import math
+import shutil
+import tempfile
 from collections.abc import Callable, Iterator
 from pathlib import Path
 from typing import Any
@@ -53,6 +56,13 @@ TOML_VALUES = st.recursive(
         inner, max_size=3),
     max_leaves=6,
 )
+
+
+def scratch_folder(prefix: str) -> Path:
+    """A temporary folder for a fuzz module's files, removed when the test run ends."""
+    folder = Path(tempfile.mkdtemp(prefix=prefix))
+    atexit.register(shutil.rmtree, folder, ignore_errors=True)
+    return folder
 
 
 def key_paths(node: Any, prefix: tuple = ()) -> Iterator[tuple]:

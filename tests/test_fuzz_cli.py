@@ -10,10 +10,9 @@ from __future__ import annotations
 
 import contextlib
 import io
-import tempfile
-from pathlib import Path
 
 import pytest
+from fuzzing import scratch_folder
 from hypothesis import event, given
 from hypothesis import strategies as st
 
@@ -21,7 +20,7 @@ from workbench.interfaces.cli import main
 
 pytestmark = pytest.mark.timeout(120)
 
-TMP = Path(tempfile.mkdtemp(prefix="workbench-fuzz-cli-"))
+TMP = scratch_folder("workbench-fuzz-cli-")
 (TMP / "latin.toml").write_bytes("name = 'Café'".encode("latin-1"))
 (TMP / "random.csv").write_bytes(bytes(range(256)))
 (TMP / "folder.toml").mkdir()

@@ -8,13 +8,11 @@ key; random bytes and a byte-order mark are handled the same way. Common practic
 from __future__ import annotations
 
 import itertools
-import tempfile
 import tomllib
-from pathlib import Path
 
 import pytest
 import tomli_w
-from fuzzing import assert_finite, check_error, mutate, only_input_errors
+from fuzzing import assert_finite, check_error, mutate, only_input_errors, scratch_folder
 from hypothesis import given
 from hypothesis import strategies as st
 
@@ -25,7 +23,7 @@ pytestmark = pytest.mark.timeout(60)
 
 FILES = {name: tomllib.loads((LIBRARY / f"{name}.toml").read_text(encoding="utf-8"))
          for name in ("natural-gas", "lpg", "diesel")}
-TMP = Path(tempfile.mkdtemp(prefix="workbench-fuzz-fuels-"))
+TMP = scratch_folder("workbench-fuzz-fuels-")
 _names = itertools.count()
 
 

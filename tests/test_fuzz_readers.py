@@ -9,13 +9,19 @@ file (and row). Valid vehicle mutations round-trip through TOML. Common practice
 from __future__ import annotations
 
 import itertools
-import tempfile
 import tomllib
 from pathlib import Path
 
 import pytest
 import tomli_w
-from fuzzing import NASTY_NUMBERS, TOML_VALUES, assert_finite, mutate, only_input_errors
+from fuzzing import (
+    NASTY_NUMBERS,
+    TOML_VALUES,
+    assert_finite,
+    mutate,
+    only_input_errors,
+    scratch_folder,
+)
 from hypothesis import given
 from hypothesis import strategies as st
 
@@ -26,7 +32,7 @@ from workbench.io.vehicles import read_vehicle
 
 pytestmark = pytest.mark.timeout(60)
 
-TMP = Path(tempfile.mkdtemp(prefix="workbench-fuzz-readers-"))
+TMP = scratch_folder("workbench-fuzz-readers-")
 _names = itertools.count()
 
 

@@ -8,12 +8,10 @@ a mutation that loads survives a TOML round trip unchanged. Common practice, no 
 
 from __future__ import annotations
 
-import tempfile
 import tomllib
-from pathlib import Path
 
 import pytest
-from fuzzing import assert_finite, check_error, mutate, only_input_errors
+from fuzzing import assert_finite, check_error, mutate, only_input_errors, scratch_folder
 from hypothesis import given
 from hypothesis import strategies as st
 
@@ -23,7 +21,7 @@ from workbench.study.studyfile import DEMO_STUDY, Study, read_study
 DEMO = tomllib.loads(DEMO_STUDY.read_text(encoding="utf-8"))
 Study(DEMO, base_dir=DEMO_STUDY.parent)  # warm the fuel sheets before any deadline runs
 NEVER = frozenset({"life", "replacement_interval"})
-TMP = Path(tempfile.mkdtemp(prefix="workbench-fuzz-study-"))
+TMP = scratch_folder("workbench-fuzz-study-")
 
 pytestmark = pytest.mark.timeout(60)
 
