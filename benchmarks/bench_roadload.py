@@ -4,8 +4,10 @@ The year is the demo taxi shift repeated, generated a chunk at a time so that me
 bounded. For every chunk the same arrays go through
 ``workbench.models.vehicle.road_load`` and through
 a plain numpy expression of the same formula; the ratio of their rates is the figure (target
->= 0.3). The full fuel pipeline (road load, gears, map lookup, sums) is timed on the whole year
-as well, and the peak resident memory is printed.
+>= 0.3). The full fuel pipeline (road load, gears, map lookup, sums: the fused kernel of
+``workbench.models.fused``) is timed on the same chunks, its rate a ratio of that road-load
+floor (target >= 0.25); ``duty_energy`` on the whole year end to end (making the chunks
+included), and the peak resident memory are printed.
 
 Run: ``python benchmarks/bench_roadload.py [--chunk N] [--samples N]``
 """
@@ -26,6 +28,7 @@ from workbench.io.profiles import read_trace
 from workbench.io.vehicles import read_vehicle
 from workbench.models.duty import DutySettings, DutyTrace
 from workbench.models.engine import duty_energy
+from workbench.models.fused import trace_sums
 from workbench.models.vehicle import Vehicle, road_load
 
 YEAR = 365 * 24 * 3600
@@ -62,24 +65,33 @@ def main() -> None:
     vehicle = read_vehicle(DATA / "vehicles" / "taxi.toml")
     engine_map = read_map(DATA / "maps" / "taxi-si-1.8l.csv")
 
-    ours = ref = 0.0
+    settings = DutySettings(accessory_power=1000.0)
+    trace_sums([next(year_chunks(base, 1000, 1000))], vehicle, engine_map)  # compile once
+    ours = ref = fused = 0.0
     worst = 0.0
+    fuel = 0.0
     for k, piece in enumerate(year_chunks(base, args.samples, args.chunk)):
         arrays = (piece.time, piece.speed, piece.grade, piece.payload)
-        for first in ((0, 1) if k % 2 == 0 else (1, 0)):  # alternate the order
+        order = (0, 1, 2) if k % 2 == 0 else (2, 1, 0)  # alternate the order
+        for which in order:
             t0 = time.perf_counter()
-            if first == 0:
+            if which == 0:
                 power = road_load(vehicle, piece).wheel_power
                 ours += time.perf_counter() - t0
-            else:
+            elif which == 1:
                 expected = reference(vehicle, *arrays)
                 ref += time.perf_counter() - t0
+            else:
+                fuel += trace_sums([piece], vehicle, engine_map, settings=settings
+                                   ).sums["fuel_energy"]
+                fused += time.perf_counter() - t0
         worst = max(worst, float(np.max(np.abs(power - expected) / (np.abs(expected) + 1.0))))
 
     t0 = time.perf_counter()
     energy = duty_energy(year_chunks(base, args.samples, args.chunk), vehicle, engine_map,
-                         settings=DutySettings(accessory_power=1000.0))
+                         settings=settings)
     pipeline = time.perf_counter() - t0
+    assert abs(energy.fuel_energy / fuel - 1.0) < 1e-9
     peak_mb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
 
     n = args.samples
@@ -88,8 +100,11 @@ def main() -> None:
     print(f"plain numpy, same formula       {n / ref / 1e6:8.1f} M samples/s  ({ref:.2f} s)")
     print(f"ratio road_load / numpy         {ref / ours:8.2f}   (target >= 0.3)")
     print(f"largest relative difference     {worst:8.1e}")
-    print(f"full fuel pipeline (duty_energy){n / pipeline / 1e6:8.1f} M samples/s  "
-          f"({pipeline:.1f} s, {energy.distance / 1e3:,.0f} km)")
+    print(f"fused fuel pipeline (trace_sums){n / fused / 1e6:8.1f} M samples/s  ({fused:.2f} s:"
+          " road load, gears, operating points, map, histograms)")
+    print(f"ratio pipeline / road-load floor{ref / fused:8.2f}   (target >= 0.25)")
+    print(f"duty_energy end to end          {n / pipeline / 1e6:8.1f} M samples/s  "
+          f"({pipeline:.1f} s with making the chunks, {energy.distance / 1e3:,.0f} km)")
     print(f"peak resident memory            {peak_mb:8.0f} MB")
 
 

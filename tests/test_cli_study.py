@@ -19,6 +19,25 @@ def test_check_says_what_the_file_holds(run_cli):
     assert code == 0 and out.startswith("ok:") and "2 candidates" in out
 
 
+def test_check_lists_the_defaults_and_warns_about_a_kept_map(run_cli, tmp_path):
+    code, out, _ = run_cli("study", "check", str(DEMO_STUDY))
+    lines = out.splitlines()
+    assert any(line.startswith("default: cng-fleet/van: engine-out NOx = 7 g/kWh (")
+               for line in lines)
+    assert any(line.startswith("default: cng-fleet/bus: derate = 15.0 %") for line in lines)
+    assert not any(line.startswith("warning:") for line in lines)
+    text = DEMO_STUDY.read_text(encoding="utf-8").replace(
+        'conversion = { taxi = "bi-fuel-si", van = "dedicated-si", bus = "dedicated-si" }',
+        'conversion = { taxi = "bi-fuel-si", van = "none", bus = "dedicated-si" }')
+    study = tmp_path / "s.toml"
+    study.write_text(text, encoding="utf-8")
+    code, out, _ = run_cli("study", "check", str(study), "--quiet-defaults")
+    assert code == 0
+    assert out.splitlines()[1:] == [
+        "warning: cng-fleet/van: natural-gas (spark-ignition) runs unchanged on a map made for "
+        "compression-ignition: name a conversion kind or give the converted engine's map"]
+
+
 def test_run_json_has_the_promised_keys(run_cli):
     code, out, _ = run_cli("study", "run", str(DEMO_STUDY), "--json", "--draws", "300")
     assert code == 0
@@ -26,6 +45,8 @@ def test_run_json_has_the_promised_keys(run_cli):
     assert data["currency"] == "KBD"
     cands = data["candidates"]
     assert [c["id"] for c in cands] == ["today", "lpg-taxis", "cng-fleet"]
+    assert data["notices"] == [] and {"quantity", "value", "unit", "source"} <= set(
+        data["defaults"][0])
     for c in cands:
         assert set(KEYS) <= set(c)
     assert cands[0]["npv_vs_baseline"] is None  # the baseline has no NPV against itself

@@ -361,6 +361,22 @@ def test_import_workbench_does_not_import_widgets():
     subprocess.run([sys.executable, "-c", code], check=True)
 
 
+def test_conversion_kind_picked_in_the_panel_reaches_the_study_and_the_warning(app):
+    row = app.candidates.conversions["candidates[1].conversion.van"]
+    assert row.choice.value == "dedicated-si"
+    assert "van: dedicated-si" in row.kinds.value
+    assert "warning:" not in app.results.defaults.value
+    row.choice.value = "none"  # the diesel van's map kept for natural gas: the trap, flagged
+    assert app.study.get("candidates[1].conversion.van") == "none"
+    assert "warning: cng-fleet/van: natural-gas (spark-ignition) runs unchanged" in html.unescape(
+        app.results.defaults.value)
+    assert "best mix by class" in app.results.defaults.value
+    lpg = app.candidates.conversions["candidates[0].conversion"]
+    lpg.choice.value = "(inferred from the fuels)"  # the key removed: the study infers it
+    assert "conversion" not in app.study.data["candidates"][0]
+    assert "taxi: bi-fuel-si" in lpg.kinds.value
+
+
 def test_the_answer_is_on_top_in_the_report_s_words(app):
     from workbench.interfaces.report import SAFETY_CAUTION
     from workbench.interfaces.summary import verdicts

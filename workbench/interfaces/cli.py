@@ -19,7 +19,7 @@ from workbench.core.errors import InputError
 from workbench.core.text import json_safe
 
 #: Command modules, in the order their groups appear in ``workbench --help``.
-COMMAND_MODULES = ("fuels", "nox", "duty", "study", "docs")
+COMMAND_MODULES = ("fuels", "nox", "duty", "fleet", "study", "docs")
 
 
 class _Parser(argparse.ArgumentParser):

@@ -42,6 +42,9 @@ LABELS = {
     "co2e_wtw_g_per_km": "CO2e well-to-wheel [g/km]",
     "nox_g_per_km": "NOx tailpipe [g/km]",
     "nox_engine_out_g_per_km": "NOx engine-out [g/km]",
+    "pm_mg_per_km": "particulate mass [mg/km]", "co_g_per_km": "CO [g/km]",
+    "thc_g_per_km": "hydrocarbons incl. methane [g/km]",
+    "in_best_mix": "in the best mix", "quantity": "quantity", "source": "source",
     "fuel_energy_mj_per_km": "fuel energy [MJ/km]",
     "fuel_l_per_100km": "fuel [L/100 km]",
     "fuel_kg_per_100km": "fuel [kg/100 km]",
@@ -82,6 +85,8 @@ TABLE_TITLES = {
     "breakeven": "Values at which the NPV is zero",
     "operating_points": "Engine operating points", "flame": "Flame temperature and thermal NO",
     "catalyst": "Catalysts and their replacement", "inputs": "Inputs as written",
+    "defaults": "Defaults the run applied", "notices": "Warnings",
+    "class_decisions": "Each class converted on its own", "best_mix": "Best mix by class",
 }
 _PERCENT = re.compile(r"^(p_|share_)|efficiency$")
 _WHOLE = frozenset({"year", "month", "replacements", "catalyst_replacements", "draw"})

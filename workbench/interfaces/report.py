@@ -35,7 +35,8 @@ from workbench.interfaces.present import TABLE_TITLES, reader_table, side_by_sid
 from workbench.interfaces.summary import best_option, verdicts
 from workbench.io.files import check_target, write_text_atomic
 from workbench.models.engine import EngineMap
-from workbench.study.results import StudyResult
+from workbench.study.decisions import mix_line
+from workbench.study.results import StudyResult, notice_lines
 from workbench.study.studyfile import Study
 
 #: The caution every report carries, word for word, once.
@@ -280,6 +281,32 @@ def _data(result: StudyResult, study_text: str) -> str:
     return "".join(out)
 
 
+def defaults_html(result: StudyResult) -> str:
+    """Every default the run took, with value and source, as HTML (report and panels)."""
+    if result.defaults.empty:
+        return "<p>The study gave every value the run used.</p>"
+    return ("<p>The study did not give these values; the run took typical defaults. "
+            "Replace them with the fleet's own where known.</p>"
+            f'<div class="scroll" id="defaults-table">{_table_html(result.defaults)}</div>')
+
+
+def _decisions_html(result: StudyResult) -> str:
+    """Each class's conversion on its own, and the best mix with its NPV."""
+    if result.best_mix.empty:
+        return "<p>The result has no per-class decisions.</p>"
+    names = dict(zip(result.candidates["candidate"], result.candidates["name"], strict=True))
+    return (f'<p id="best-mix"><strong>{_esc(mix_line(result.best_mix, names))}</strong> '
+            f"({_esc(result.currency)}). Each class's own conversion below leaves out the "
+            "programme costs (station, workshop); the mix counts those of each candidate it "
+            "uses once.</p>"
+            f'<div class="scroll">{_table_html(result.class_decisions)}</div>')
+
+
+def _notices_html(result: StudyResult) -> str:
+    return "".join(f'<p class="caution notice">{_esc(line)}</p>'
+                   for line in notice_lines(result.notices))
+
+
 def html_report(
     result: StudyResult,
     *,
@@ -344,6 +371,8 @@ def html_report(
 <li><a href="#summary">Summary</a></li>
 <li><a href="#job">The question</a></li>
 <li><a href="#results">Results side by side</a></li>
+<li><a href="#classes">A decision per class</a></li>
+<li><a href="#defaults">Defaults the run applied</a></li>
 <li><a href="#charts">Charts</a></li>
 <li><a href="#inputs">Inputs and assumptions</a></li>
 <li><a href="#caveats">Caveats, limitations and safety</a></li>
@@ -358,6 +387,11 @@ def html_report(
 <div class="scroll">{side}</div>
 <h3>Per vehicle class</h3>
 {per_class}
+<h2 id="classes">A decision per class</h2>
+{_decisions_html(result)}
+<h2 id="defaults">Defaults the run applied</h2>
+{_notices_html(result)}
+{defaults_html(result)}
 <h2 id="charts">Charts</h2>
 {"".join(charts)}
 <h2 id="inputs">Inputs and assumptions</h2>

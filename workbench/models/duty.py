@@ -44,6 +44,24 @@ def _readonly(a: np.ndarray) -> np.ndarray:
     return a
 
 
+def _seconds(name: str, attr: str, value: object) -> np.ndarray:
+    """``value`` as float seconds: datetime64 from the Unix epoch, timedelta64 as a duration.
+
+    A pandas ``DatetimeIndex`` or ``TimedeltaIndex`` arrives here as datetime64 / timedelta64;
+    a plain float conversion would read its nanosecond integers as seconds.
+    """
+    a = np.asarray(value)
+    if a.dtype.kind == "M":
+        return (a.astype("datetime64[ns]").astype(np.int64) / 1e9).ravel()
+    if a.dtype.kind == "m":
+        return (a.astype("timedelta64[ns]").astype(np.int64) / 1e9).ravel()
+    if a.dtype.kind in "OUS":
+        raise InputError(name, f"{attr} must be numbers of seconds or datetime64/timedelta64, "
+                               f"not {a.dtype.name} values (a time-zone-aware index: "
+                               "pass index.tz_convert(None))")
+    return a.astype(float).ravel()
+
+
 def _label(name: str, rows: Sequence[int] | None, offset: int, i: int) -> str:
     if rows is not None:
         return f"{name} row {int(rows[i])}"
@@ -57,7 +75,9 @@ class DutyTrace:
     Parameters
     ----------
     time : numpy.ndarray
-        Sample times, strictly increasing [s].
+        Sample times, strictly increasing [s]. ``datetime64`` values (a pandas
+        ``DatetimeIndex``) become seconds since the Unix epoch and ``timedelta64`` values
+        seconds; text or objects are refused.
     speed : numpy.ndarray
         Vehicle speed at each sample, finite and >= 0 [m/s].
     grade : numpy.ndarray, optional
@@ -94,7 +114,8 @@ class DutyTrace:
         for attr in ("time", "speed", "grade", "payload"):
             value = getattr(self, attr)
             if value is not None:
-                value = _readonly(np.asarray(value, dtype=float).ravel())
+                value = _readonly(_seconds(self.name, attr, value) if attr == "time"
+                                  else np.asarray(value, dtype=float).ravel())
                 object.__setattr__(self, attr, value)
         n = self.time.size
         if n < 2:

@@ -43,6 +43,7 @@ from workbench.core.cache import content_digest
 from workbench.core.constants import RPM, to_rpm
 from workbench.core.errors import InputError
 from workbench.models.duty import DutySettings, DutyTrace, ModeTable
+from workbench.models.fused import trace_sums
 from workbench.models.vehicle import FIRED, IDLE, Vehicle, operating_points, road_load
 
 if TYPE_CHECKING:
@@ -474,6 +475,29 @@ class DutyEnergy:
         return self.time_at_full_load / self.duration
 
 
+def energy_from_sums(sums: dict[str, float], engine_map: EngineMap,
+                     settings: DutySettings) -> DutyEnergy:
+    """A :class:`DutyEnergy` from the sums of a trace, with the settings' extra idling added.
+
+    Parameters
+    ----------
+    sums : dict of str to float
+        The fields of :class:`DutyEnergy` summed over the trace's intervals
+        (:func:`workbench.models.fused.trace_sums`).
+    engine_map : EngineMap
+        The map (its idle point fuels the extra idling).
+    settings : DutySettings
+        Extra idle share and accessory power.
+
+    Returns
+    -------
+    DutyEnergy
+    """
+    if sums["duration"] == 0.0:
+        raise InputError("trace", "no samples to run")
+    return DutyEnergy(**_with_extra_idle(dict(sums), engine_map, settings))
+
+
 def _with_extra_idle(sums: dict[str, float], engine_map: EngineMap,
                      settings: DutySettings) -> dict[str, float]:
     share = settings.extra_idle_share
@@ -521,35 +545,14 @@ def duty_energy(
     -----
     Per interval, fuel power comes from :meth:`EngineMap.fuel_power` at the operating point of
     :func:`workbench.models.vehicle.operating_points` while the engine is fired or idling; overrun
-    (fuel cut) and engine-off intervals use no fuel.
+    (fuel cut) and engine-off intervals use no fuel. The loop is the fused kernel of
+    :func:`workbench.models.fused.trace_sums` (same numbers, one pass, no gears × samples
+    matrices).
     """
     settings = settings or DutySettings()
     pieces = trace.chunks(chunk_size) if isinstance(trace, DutyTrace) else trace
-    sums = dict.fromkeys(("distance", "duration", "wheel_energy", "braking_energy",
-                          "engine_energy", "fuel_energy", "time_idle", "time_out_of_map",
-                          "time_at_full_load"), 0.0)
-    for piece in pieces:
-        load = road_load(vehicle, piece)
-        ops = operating_points(vehicle, piece, load, idle_speed=engine_map.idle_speed,
-                               settings=settings, full_load_torque=engine_map.max_torque)
-        dt = load.duration
-        work = load.wheel_power * dt
-        burning = (ops.state == FIRED) | (ops.state == IDLE)
-        dt_b = dt[burning]
-        look = engine_map.fuel_power(ops.engine_speed[burning], ops.engine_torque[burning])
-        sums["distance"] += float(load.distance.sum())
-        sums["duration"] += float(dt.sum())
-        sums["wheel_energy"] += float(work[work > 0.0].sum())
-        sums["braking_energy"] -= float(work[work < 0.0].sum())
-        sums["engine_energy"] += float(
-            np.dot(ops.engine_speed[burning] * ops.engine_torque[burning], dt_b))
-        sums["fuel_energy"] += float(np.dot(look.fuel_power, dt_b))
-        sums["time_idle"] += float(dt[ops.state == IDLE].sum())
-        sums["time_out_of_map"] += float(dt_b[look.out_of_map].sum())
-        sums["time_at_full_load"] += float(dt_b[look.at_full_load].sum())
-    if sums["duration"] == 0.0:
-        raise InputError("trace", "no samples to run")
-    return DutyEnergy(**_with_extra_idle(sums, engine_map, settings))
+    sums = trace_sums(pieces, vehicle, engine_map, settings=settings).sums
+    return energy_from_sums(sums, engine_map, settings)
 
 
 def mode_energy(table: ModeTable, engine_map: EngineMap, *,

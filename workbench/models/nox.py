@@ -688,8 +688,9 @@ class EngineOutNOx:
 #: practice, from memory): labelled defaults, replace them with the fleet's measured values.
 DEFAULT_ENGINE_OUT: dict[str, EngineOutNOx] = {
     "spark-ignition": EngineOutNOx(
-        10.0, "g/kWh", "typical stoichiometric SI engine-out (Heywood 1988 ch. 11, from memory)",
-        True,
+        7.0, "g/kWh", "typical stoichiometric SI engine-out over an urban cycle, cooled EGR or "
+        "retarded spark at part load (Heywood 1988 ch. 11: a few thousand ppm at full load, "
+        "far less at part load; from memory)", True,
     ),
     "lean-burn-gas": EngineOutNOx(
         3.0, "g/kWh", "typical lean-burn gas engine-out (common practice, from memory)", True

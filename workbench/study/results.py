@@ -33,8 +33,9 @@ COLUMNS: dict[str, tuple[str, ...]] = {
     "per_km": (
         "candidate", "vehicle_class", "fuel", "fuel_energy_mj_per_km", "fuel_l_per_100km",
         "fuel_kg_per_100km", "co2_ttw_g_per_km", "co2e_wtw_g_per_km", "nox_engine_out_g_per_km",
-        "nox_g_per_km", "cost_fuel_per_km", "cost_upkeep_per_km", "cost_capital_per_km",
-        "cost_per_km", "share_out_of_map", "share_full_load",
+        "nox_g_per_km", "pm_mg_per_km", "co_g_per_km", "thc_g_per_km", "cost_fuel_per_km",
+        "cost_upkeep_per_km", "cost_capital_per_km", "cost_per_km", "share_out_of_map",
+        "share_full_load",
     ),
     # one row per candidate x year of the programme (year 0 = conversion year)
     "cash_flows": (
@@ -80,6 +81,23 @@ COLUMNS: dict[str, tuple[str, ...]] = {
         "candidate", "vehicle_class", "device", "replacements", "replacement_cost",
         "reductant_cost", "best_interval_months", "best_total_cost",
     ),
+    # one row per option x vehicle class x value a run took that the study did not give
+    "defaults": ("candidate", "vehicle_class", "quantity", "value", "unit", "source"),
+    # one row per line to show beside the results: a fuel on a map of another regime
+    "notices": ("candidate", "vehicle_class", "message"),
+    # one row per candidate x class it converts: that class's conversion alone (no programme
+    # costs) against the baseline
+    "class_decisions": (
+        "candidate", "vehicle_class", "npv_vs_baseline", "discounted_payback_years",
+        "co2e_avoided_t", "nox_avoided_kg", "npv_p10", "npv_p50", "npv_p90", "p_npv_positive",
+        "in_best_mix",
+    ),
+    # one row per class: the option the best mix gives it, and the mix's own figures (with
+    # the programme costs of each candidate it uses)
+    "best_mix": (
+        "vehicle_class", "candidate", "npv_vs_baseline", "discounted_payback_years",
+        "co2e_avoided_t", "nox_avoided_kg", "npv_p10", "npv_p50", "npv_p90", "p_npv_positive",
+    ),
 }
 
 
@@ -94,8 +112,13 @@ class StudyResult:
     currency : str
         Currency code or label of every money column.
     candidates, per_km, cash_flows, fleet_years, nox_monthly, storage, monte_carlo, tornado,
-    operating_points, flame, catalyst, breakeven, inputs : pandas.DataFrame
-        The tables of :data:`COLUMNS`.
+    operating_points, flame, catalyst, breakeven, inputs, defaults, notices : pandas.DataFrame
+        The tables of :data:`COLUMNS`. ``defaults`` lists every value the run took that the
+        study did not give (conversion kind, engine setting, engine-out NOx, catalyst, lambda,
+        methane slip, derate, efficiency, pollutant factors) with its source; ``notices`` the
+        one-line warnings (a fuel on a map made for another combustion regime);
+        ``class_decisions`` each class's conversion on its own and ``best_mix`` the best
+        choice per class (``workbench.study.decisions``).
     assumptions : dict
         Flat record of the inputs that shaped the result (for the report), values as text.
     fictional : bool
@@ -126,6 +149,14 @@ class StudyResult:
         columns=list(COLUMNS["inputs"])))
     fictional: bool = False
     names: Names = field(default_factory=Names)
+    defaults: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
+        columns=list(COLUMNS["defaults"])))
+    notices: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
+        columns=list(COLUMNS["notices"])))
+    class_decisions: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
+        columns=list(COLUMNS["class_decisions"])))
+    best_mix: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
+        columns=list(COLUMNS["best_mix"])))
     assumptions: dict[str, str] = field(default_factory=dict)
     sources: dict[str, str] = field(default_factory=dict)
 
@@ -136,6 +167,23 @@ class StudyResult:
     def colours(self) -> dict[str, str]:
         """Colour of each candidate, the same in every chart."""
         return dict(zip(self.candidates["candidate"], self.candidates["colour"], strict=True))
+
+
+def notice_lines(notices: pd.DataFrame | list[dict]) -> list[str]:
+    """One line per row of a ``notices`` table (or its rows): ``warning: option/class:
+    message``."""
+    table = pd.DataFrame(notices, columns=list(COLUMNS["notices"]))
+    return [f"warning: {r.candidate}/{r.vehicle_class}: {r.message}"
+            for r in table.itertuples(index=False)]
+
+
+def default_lines(defaults: pd.DataFrame | list[dict]) -> list[str]:
+    """One line per row of a ``defaults`` table (or its rows): ``default: option/class:
+    quantity = value unit (source)``."""
+    table = pd.DataFrame(defaults, columns=list(COLUMNS["defaults"]))
+    return [f"default: {r.candidate}/{r.vehicle_class}: {r.quantity} = "
+            f"{' '.join(str(x) for x in (r.value, r.unit) if x)} ({r.source})"
+            for r in table.itertuples(index=False)]
 
 
 def check_columns(result: StudyResult) -> None:

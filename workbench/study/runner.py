@@ -24,20 +24,26 @@ import numpy as np
 import pandas as pd
 
 from workbench.core.cache import memoize
+from workbench.core.constants import J_PER_KWH
 from workbench.core.errors import InputError
 from workbench.core.fuels import Fuel
 from workbench.core.thermo import molar_mass
 from workbench.core.units import Price, price_per_energy
+from workbench.io.logs import FleetSource
 from workbench.models import economics as econ
 from workbench.models.aftertreatment import Aftertreatment, optimal_interval, programme_nox
 from workbench.models.combustion import FuelSheet, fuel_sheet
+from workbench.models.conversion import KINDS, convert, kind_derate
 from workbench.models.duty import DutySettings, DutyTrace, ModeTable
 from workbench.models.emissions import co2e
 from workbench.models.engine import DutyRun, EngineMap, fuel_per_distance_for, run_duty
 from workbench.models.engine_out import engine_out_per_m
+from workbench.models.nox import DEFAULT_ENGINE_OUT
+from workbench.models.pollutants import pollutant_factors
 from workbench.models.storage import tank_for_range
 from workbench.models.vehicle import Vehicle
 from workbench.study import tables
+from workbench.study.fleet import FleetDutyRun, fleet_duty
 from workbench.study.results import StudyResult
 from workbench.study.studyfile import (
     ClassOption,
@@ -53,14 +59,47 @@ from workbench.study.studyfile import (
 
 
 @memoize(maxsize=128)
-def duty_physics(profile: DutyTrace | ModeTable, vehicle: Vehicle, engine_map: EngineMap,
-                 derate: float, efficiency_offset: float, settings: DutySettings) -> DutyRun:
+def converted_map(engine_map: EngineMap, derate: float, efficiency_offset: float,
+                  conversion: str = "none", fuel: Fuel | None = None
+                  ) -> tuple[EngineMap, dict[str, tuple[float, str, str]]]:
+    """The map a fuel runs on, and the numbers a derived map used (cached by their content).
+
+    Parameters
+    ----------
+    engine_map : EngineMap
+        The class's engine map.
+    derate : float
+        Share of full-load torque lost [-].
+    efficiency_offset : float
+        Added to every map cell [-].
+    conversion : str
+        Conversion kind whose derived map applies (``none``: the map adjusted only).
+    fuel : Fuel, optional
+        The fuel a derived map burns.
+
+    Returns
+    -------
+    (EngineMap, dict)
+    """
+    sheet = fuel_sheet(fuel) if fuel is not None else None
+    out = convert(engine_map, KINDS[conversion], sheet, None, derate=derate,
+                  efficiency_offset=efficiency_offset)
+    return out.engine_map, out.parameters
+
+
+@memoize(maxsize=128)
+def duty_physics(profile: DutyTrace | ModeTable | FleetSource, vehicle: Vehicle | None,
+                 engine_map: EngineMap, derate: float, efficiency_offset: float,
+                 settings: DutySettings, conversion: str = "none", fuel: Fuel | None = None
+                 ) -> DutyRun:
     """Run a profile with a vehicle and an adjusted map (cached by their content).
 
     Parameters
     ----------
-    profile : DutyTrace or ModeTable
-        The class's duty, read when the study was checked.
+    profile : DutyTrace or ModeTable or FleetSource
+        The class's duty, read when the study was checked; or its vehicles' logs, listed when
+        it was checked and run here (``workbench.study.fleet.fleet_duty``; a
+        :class:`~workbench.study.fleet.FleetDutyRun` comes back).
     vehicle : Vehicle
         Road load and driveline (unused for a time-at-mode table).
     engine_map : EngineMap
@@ -71,12 +110,16 @@ def duty_physics(profile: DutyTrace | ModeTable, vehicle: Vehicle, engine_map: E
         Added to every map cell [-].
     settings : DutySettings
         Accessories, engine-off at stops, extra idling.
+    conversion, fuel
+        Conversion kind whose derived map applies, and its fuel (:func:`converted_map`).
 
     Returns
     -------
     DutyRun
     """
-    emap = engine_map.adjusted(derate=derate, efficiency_offset=efficiency_offset)
+    emap = converted_map(engine_map, derate, efficiency_offset, conversion, fuel)[0]
+    if isinstance(profile, FleetSource):
+        return fleet_duty(profile, vehicle, emap, settings=settings)
     return run_duty(profile, vehicle, emap, settings=settings)
 
 
@@ -93,6 +136,9 @@ class ClassPhysics:
     tailpipe_co2e_per_m: float  # [kg/m]: CO2, slipped methane and N2O on AR6 GWP-100
     engine_out_nox_per_m: float  # [kg/m]
     nox_source: str
+    pm_per_m: float  # tailpipe particulate mass [kg/m]
+    co_per_m: float  # tailpipe carbon monoxide [kg/m]
+    nmhc_per_m: float  # tailpipe non-methane hydrocarbons [kg/m]
     monthly: pd.DataFrame  # programme_nox monthly table
     yearly: pd.DataFrame  # programme_nox yearly table
     replacements: int
@@ -110,9 +156,18 @@ def _settings(c: FleetClass) -> DutySettings:
                         extra_idle_share=c.extra_idle_share)
 
 
+def applied_derate(co: ClassOption) -> float:
+    """Full-load derate an option applies to a class [-]: the study's or its kind's, or for a
+    bi-fuel kit the air its gas displaces against the original fuel."""
+    if co.derate_against is None:
+        return co.derate
+    return kind_derate(KINDS[co.conversion], fuel_sheet(co.fuel), fuel_sheet(co.derate_against))
+
+
 def _duty_for(c: FleetClass, co: ClassOption) -> DutyRun:
-    return duty_physics(c.profile_data, c.vehicle_data, co.map_data, co.derate,
-                        co.efficiency_offset, _settings(c))
+    kind, fuel = (co.conversion, co.fuel) if co.derived_map else ("none", None)
+    return duty_physics(c.profile_data, c.vehicle_data, co.map_data, applied_derate(co),
+                        co.efficiency_offset, _settings(c), kind, fuel)
 
 
 @memoize(maxsize=256)
@@ -155,6 +210,8 @@ def class_physics(c: FleetClass, co: ClassOption, base: ClassOption, months: int
                          fleet_size=c.count, nox_damage_cost=damage)
     best = _best_interval(co.aftertreatment, eo, km_month, months, damage, c.count)
     ch4_per_m = co.methane_slip * _methane_mass_share(co.fuel) * mass_m
+    factors = pollutant_factors(co.engine, co.aftertreatment.name)
+    work_m = duty.energy.engine_energy / duty.energy.distance
     return ClassPhysics(
         sheet=sheet,
         fuel_energy_per_m=energy_m,
@@ -165,6 +222,9 @@ def class_physics(c: FleetClass, co: ClassOption, base: ClassOption, months: int
         tailpipe_co2e_per_m=float(co2e(per_m.co2_ttw_per_m, ch4_per_m, co.n2o_per_m)),
         engine_out_nox_per_m=eo,
         nox_source=source,
+        pm_per_m=factors.pm * work_m,
+        co_per_m=factors.co * work_m,
+        nmhc_per_m=factors.nmhc * work_m,
         monthly=prog.monthly,
         yearly=prog.yearly,
         replacements=prog.replacements,
@@ -396,11 +456,12 @@ def run(study: Study, *, draws: int | None = None,
     say("money")
     det = _money(plan, {}, 1)
     draws_of: dict[str, econ.NPVDraws] = {}
+    samples: dict[str, np.ndarray] = {}
     sensitivity: dict[str, pd.DataFrame] = {}
     if n > 0:
         say(f"Monte Carlo, {n} draws")
-        samples = econ.sample_inputs(inputs.uncertain, n, inputs.seed,
-                                     correlation=inputs.correlation)
+        samples = econ.sample_inputs({**inputs.uncertain, **_vehicle_spread(plan)}, n,
+                                     inputs.seed, correlation=inputs.correlation)
         money = _money(plan, samples, n)
         for o in inputs.candidates:
             draws_of[o.id] = econ.npv_draws(money, o.id, inputs.baseline.id)
@@ -408,8 +469,68 @@ def run(study: Study, *, draws: int | None = None,
                 sensitivity[o.id] = _sensitivity(plan, o.id)
     result = tables.study_result(study, plan, _lines(plan, {}, 1), det, draws_of,
                                  sensitivity, n, _break_even(plan))
+    from workbench.study.decisions import decision_tables  # it builds on this module
+
+    say("decisions per class")
+    decisions, mix = decision_tables(plan, samples, n, {k: v.npv for k, v in draws_of.items()})
+    result = replace(result, defaults=tables.frame("defaults", defaults_rows(inputs, plan.physics)),
+                     notices=tables.frame("notices", notice_rows(inputs)),
+                     class_decisions=tables.frame("class_decisions", decisions),
+                     best_mix=tables.frame("best_mix", mix))
+    result.assumptions.update(_fleet_notes(plan))
     say("done")
     return result
+
+
+#: P90 of the standard normal distribution (scipy.stats.norm.ppf(0.9)).
+_Z90 = 1.2815515655446004
+
+
+def _vehicle_spread(plan: Plan) -> dict[str, econ.Distribution]:
+    """The spread between a fleet-log class's vehicles as an uncertain physics input.
+
+    A normal factor on the class's fuel energy per km (mean 1) whose P10 and P90 are the
+    vehicles' P10 and P90 over the class's value (baseline option); every option of the class
+    takes the same draw, scaling its fuel energy and tailpipe CO2e per km. Adds the responses
+    to ``plan`` and returns the distributions to draw, by key path.
+    """
+    out = {}
+    for c in plan.inputs.classes:
+        duty = plan.physics[plan.inputs.baseline.id, c.id].duty
+        if not isinstance(duty, FleetDutyRun):
+            continue
+        agg = duty.fleet.aggregate
+        sd = (agg.spread_per_m[1] - agg.spread_per_m[0]) / (2 * _Z90) / agg.energy_per_m
+        if sd <= 0.0:
+            continue
+        path = f"classes.{c.id}.vehicle_spread"
+        dist = econ.Distribution("normal", mean=1.0, sd=sd, where=path)
+        nodes = np.asarray(dist.ppf(np.array(RESPONSE_QUANTILES)), dtype=float)
+        for o in plan.inputs.options:
+            ph = plan.physics[o.id, c.id]
+            plan.responses[o.id, c.id].append(econ.Response(
+                path, nodes, ph.fuel_energy_per_m * nodes, ph.tailpipe_co2e_per_m * nodes,
+                np.tile(plan.catalyst_cost[o.id, c.id], (nodes.size, 1))))
+        out[path] = dist
+    return out
+
+
+def _fleet_notes(plan: Plan) -> dict[str, str]:
+    """One assumption line per fleet-log class: vehicles used, left out, spread."""
+    out = {}
+    for c in plan.inputs.classes:
+        duty = plan.physics[plan.inputs.baseline.id, c.id].duty
+        if not isinstance(duty, FleetDutyRun):
+            continue
+        run = duty.fleet
+        lo, hi = (x / 1e3 for x in run.aggregate.spread_per_m)
+        left = f"; left out: {'; '.join(run.problems)}" if run.problems else ""
+        out[f"vehicle logs, {c.name}"] = (
+            f"{len(run.summaries)} of {run.found} vehicles used, "
+            f"{run.aggregate.energy.distance / 1e3:,.0f} km, km-weighted; between vehicles "
+            f"P10-P90 {lo:.2f}-{hi:.2f} MJ/km on the baseline, drawn in the Monte Carlo as "
+            f"the spread between the class's vehicles{left}")
+    return out
 
 
 def _break_even(plan: Plan) -> dict[str, list[tuple[Uncertain, float]]]:
@@ -446,3 +567,70 @@ def _sensitivity(plan: Plan, option: str) -> pd.DataFrame:
         return econ.npv_draws(_money(plan, params, n), option, base).npv
 
     return econ.tornado(npv_of, plan.inputs.uncertain)
+
+
+# ----------------------------------------------------------------------------- defaults
+
+
+def _shown(inputs: StudyInputs) -> list[tuple[str, str, ClassOption]]:
+    """(option id, class id, class option) of the baseline and of each class a candidate
+    converts."""
+    return [(o.id, cid, co) for o in inputs.options for cid, co in o.per_class.items()
+            if o.is_baseline or co.converts]
+
+
+def notice_rows(inputs: StudyInputs) -> list[dict]:
+    """Rows of the ``notices`` table: one line each where a fuel runs on a map made for
+    another combustion regime."""
+    return [{"candidate": oid, "vehicle_class": cid, "message": m}
+            for oid, cid, co in _shown(inputs) for m in co.notices]
+
+
+def defaults_rows(inputs: StudyInputs,
+                  physics: Mapping[tuple[str, str], ClassPhysics] | None = None) -> list[dict]:
+    """Rows of the ``defaults`` table: every value a run takes that the study did not give.
+
+    Parameters
+    ----------
+    inputs : StudyInputs
+        The checked study.
+    physics : mapping, optional
+        Physics by (option, class) of a run; with it, the engine-out NOx rows carry the value
+        per km the run used.
+
+    Returns
+    -------
+    list of dict
+        ``candidate``, ``vehicle_class``, ``quantity``, ``value``, ``unit``, ``source``.
+    """
+    rows = []
+    for oid, cid, co in _shown(inputs):
+        def add(quantity: str, value: str, unit: str, source: str,
+                _oid: str = oid, _cid: str = cid) -> None:
+            rows.append({"candidate": _oid, "vehicle_class": _cid, "quantity": quantity,
+                         "value": value, "unit": unit, "source": source})
+
+        for quantity, value, unit, source in co.defaults:
+            add(quantity, value, unit, source)
+        if co.derate_against is not None:
+            add("derate", f"{applied_derate(co) * 100:.1f}", "%",
+                KINDS[co.conversion].sources["derate"])
+        if co.derived_map:
+            for name, (value, unit, source) in converted_map(
+                    co.map_data, co.derate, co.efficiency_offset, co.conversion,
+                    co.fuel)[1].items():
+                add(name, f"{value:.4g}", unit, source)
+        base = inputs.baseline.per_class[cid]
+        if co.engine_out_nox is None and (base.engine != co.engine or co is base
+                                          or base.engine_out_nox is None):
+            spec = DEFAULT_ENGINE_OUT[co.engine]
+            add("engine-out NOx", f"{spec.value:g}", spec.unit, spec.source)
+            if physics is not None:
+                add("engine-out NOx on the duty",
+                    f"{physics[oid, cid].engine_out_nox_per_m * 1e6:.3g}", "g/km",
+                    "the default above with the class's brake work per km")
+        f = pollutant_factors(co.engine, co.aftertreatment.name)
+        g_kwh = 1e3 * J_PER_KWH  # [g/kWh] per [kg/J]
+        add("PM, CO, NMHC factors", f"{f.pm * g_kwh:g}, {f.co * g_kwh:g}, {f.nmhc * g_kwh:g}",
+            "g/kWh", f.source)
+    return rows

@@ -47,10 +47,22 @@ from workbench.core.units import (
     read_number,
 )
 from workbench.io.files import write_text_atomic
+from workbench.io.logs import FleetSource, fleet_source, list_vehicles
 from workbench.io.maps import read_map
 from workbench.io.profiles import read_profile
 from workbench.io.vehicles import read_vehicle
 from workbench.models.aftertreatment import DEVICE_PRESETS, Aftertreatment
+from workbench.models.conversion import (
+    KINDS,
+    REGIME_DEVICE,
+    REGIME_LAMBDA,
+    REGIME_SLIP,
+    ConversionKind,
+    conversion_kind,
+    fuel_regime,
+    infer_kind,
+    regime_mismatch,
+)
 from workbench.models.duty import DutyTrace, ModeTable
 from workbench.models.economics import DISTRIBUTION_PARAMETERS, Correlation, Distribution
 from workbench.models.engine import EngineMap
@@ -130,7 +142,7 @@ class FleetClass:
     accessory_power: float  # [W]
     engine_off_at_stops: bool
     extra_idle_share: float
-    profile_data: DutyTrace | ModeTable  # read from ``profile`` when the study was checked
+    profile_data: DutyTrace | ModeTable | FleetSource  # read (logs: listed) when checked
     vehicle_data: Vehicle  # read from ``vehicle``
     map_data: EngineMap  # read from ``engine_map``
     varied: tuple[tuple[str, Uncertain], ...] = ()  # physics inputs with a distribution
@@ -158,6 +170,15 @@ class ClassOption:
     methane_slip: float  # share of the fuel's methane leaving unburnt [-]
     aftertreatment: Aftertreatment
     varied: tuple[tuple[str, Uncertain], ...] = ()  # physics inputs with a distribution
+    conversion: str = "none"  # conversion kind (workbench.models.conversion.KINDS)
+    derived_map: bool = False  # the kind derives the map from the class's (no engine_map given)
+    map_regime: str = ""  # combustion regime the class's map was made for
+    #: Defaults applied to this class: (quantity, value, unit, source) each.
+    defaults: tuple[tuple[str, str, str, str], ...] = ()
+    notices: tuple[str, ...] = ()  # one line each: a fuel on a map of another regime
+    #: The derate is the air the gas displaces against this fuel (bi-fuel-si, none given),
+    #: worked out when the study runs (it needs both fuels' sheets).
+    derate_against: Fuel | None = None
 
 
 @dataclass(frozen=True)
@@ -897,6 +918,19 @@ def _read_data_file(raw: Any, where: str, kind: str, base_dir: Path,
         raise InputError(f"{where}: {exc.where}", exc.message) from None
 
 
+def _profile(raw: Any, where: str, base_dir: Path
+             ) -> tuple[Path, DutyTrace | ModeTable | FleetSource]:
+    """A shipped profile or a profile CSV, read; or a fleet's logs (folder, glob, Parquet
+    dataset, relative to the study's folder), listed (each vehicle is read when run)."""
+    logs = fleet_source(raw, base_dir) if isinstance(raw, str) and raw.strip() else None
+    if logs is None:
+        return _read_data_file(raw, where, "profile", base_dir, read_profile)
+    try:
+        return logs, list_vehicles(logs)
+    except InputError as exc:
+        raise InputError(f"{where}: {exc.where}", exc.message) from None
+
+
 def _watts(raw: Any, where: str) -> float:
     return parse_quantity(raw, "[power]", where=where)
 
@@ -923,8 +957,7 @@ def _fleet_class(r: _Reader, base_dir: Path, currency: str) -> FleetClass:
         raise InputError(r.at("id"), "use letters, digits, - and _ only")
     varied: list[tuple[str, Uncertain]] = []
     physics = _physics_input(varied)
-    profile, duty = _read_data_file(r.raw("profile"), r.at("profile"), "profile", base_dir,
-                                    read_profile)
+    profile, duty = _profile(r.raw("profile"), r.at("profile"), base_dir)
     vehicle, vehicle_data = _read_data_file(r.raw("vehicle"), r.at("vehicle"), "vehicle",
                                             base_dir, read_vehicle)
     engine_map, map_data = _read_data_file(r.raw("engine_map"), r.at("engine_map"), "map",
@@ -972,7 +1005,7 @@ def _option(r: _Reader, classes: tuple[FleetClass, ...], baseline: Option | None
             "efficiency_offset", "conversion_cost", "upkeep_change_per_year", "downtime_days",
             "tank_inspection_interval_years", "tank_inspection_cost", "n2o",
             "engine_out_nox", "lambda_overall", "methane_slip", "aftertreatment",
-            "programme_capital", "programme_upkeep_per_year"), "an option")
+            "programme_capital", "programme_upkeep_per_year", "conversion"), "an option")
     class_ids = {c.id for c in classes}
     converts = class_ids
     if baseline is not None and r.has("classes"):
@@ -987,7 +1020,8 @@ def _option(r: _Reader, classes: tuple[FleetClass, ...], baseline: Option | None
             assert baseline is not None
             per_class[c.id] = _unchanged(baseline.per_class[c.id])
             continue
-        per_class[c.id] = _class_option(r, c, class_ids, baseline is None, base_dir, currency)
+        base = None if baseline is None else baseline.per_class[c.id]
+        per_class[c.id] = _class_option(r, c, class_ids, base, base_dir, currency)
     return Option(
         id=oid,
         name=r.text("name", oid),
@@ -1004,8 +1038,10 @@ def _unchanged(base: ClassOption) -> ClassOption:
     return ClassOption(**{**base.__dict__, "converts": False})
 
 
-def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], is_baseline: bool,
+def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOption | None,
                   base_dir: Path, currency: str) -> ClassOption:
+    is_baseline = base is None
+
     def at(key: str) -> str:
         value = r.raw(key, None)
         if isinstance(value, Mapping) and value and set(value) <= class_ids:
@@ -1026,8 +1062,33 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], is_baseline: b
         return u.nominal
 
     fuel = _fuel(_per_class(r, "fuel", c.id, class_ids, ...), at("fuel"), base_dir)
-    engine = _choice(_per_class(r, "engine", c.id, class_ids, _default_engine(fuel)),
-                     at("engine"), ENGINE_PRESETS, "engine setting")
+
+    def given(key: str) -> bool:
+        return _per_class(r, key, c.id, class_ids, None) is not None
+
+    defaults: list[tuple[str, str, str, str]] = []
+    if is_baseline and given("conversion"):
+        raise InputError(at("conversion"), "the baseline converts nothing; name the conversion "
+                         "on the candidates")
+    map_regime = fuel_regime(fuel) if base is None else base.engine
+    if given("conversion"):
+        kind = conversion_kind(_per_class(r, "conversion", c.id, class_ids, None),
+                               where=at("conversion"))
+    else:
+        kind = KINDS[infer_kind(fuel, map_regime, None if base is None else base.fuel)]
+        if kind.name != "none":
+            defaults.append(("conversion", kind.name, "", f"inferred: {fuel.id} on a "
+                             f"{map_regime} map ({kind.summary})"))
+    if kind.name == "dual-fuel-ci":
+        raise InputError(at("conversion"), "dual-fuel-ci burns two fuels and a study option "
+                         "burns one; compare it with `workbench duty fuel --conversion "
+                         "dual-fuel-ci`, or give the measured dual-fuel engine_map")
+    default_engine = kind.nox_engine or fuel_regime(fuel)
+    engine = _choice(_per_class(r, "engine", c.id, class_ids, default_engine), at("engine"),
+                     ENGINE_PRESETS, "engine setting")
+    if not given("engine") and not is_baseline:
+        defaults.append(("engine setting (NOx regime)", engine, "",
+                         f"conversion {kind.name}" if kind.nox_engine else "by fuel"))
     map_raw = _per_class(r, "engine_map", c.id, class_ids, None)
     engine_map, map_data = (c.engine_map, c.map_data) if map_raw is None else _read_data_file(
         map_raw, at("engine_map"), "map", base_dir, read_map)
@@ -1041,16 +1102,52 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], is_baseline: b
         return _uncertain(value, parse, at(key), low, unit=(unit, 1.0))
 
     nox_raw = _per_class(r, "engine_out_nox", c.id, class_ids, None)
-    lam_default = 1.6 if engine == "compression-ignition" else (
-        1.5 if engine == "lean-burn-gas" else 1.0)
+    lam_default, slip_default, device_default, derate_default = _kind_values(kind, engine,
+                                                                             fuel)
+    base_ppm = (base is not None and base.engine == engine and base.engine_out_nox is not None
+                and base.engine_out_nox.unit == "ppm")
+    if not given("lambda_overall") and ("ppm" in str(nox_raw) or (nox_raw is None and base_ppm)):
+        defaults.append(("lambda", f"{lam_default:g}", "-", f"{engine} default "
+                         "(Heywood 1988 ch. 1 and 11, from memory)"))
+    if slip_default and not given("methane_slip"):
+        defaults.append(("methane slip", f"{slip_default:.2%}", "of the fuel's methane",
+                         kind.sources.get("methane_slip", f"{engine} default (models/"
+                                          "conversion.py REGIME_SLIP)")))
+    derived = kind.name == "dedicated-si" and map_raw is None
+    air_derate = kind.derate is None and not given("derate")
+    if derate_default and not given("derate"):
+        defaults.append(("derate", f"{derate_default * 100:.1f}", "%", kind.sources["derate"]))
+    if kind.efficiency_offset and not given("efficiency_offset"):
+        defaults.append(("efficiency offset", f"{kind.efficiency_offset * 100:+g}", "points",
+                         kind.sources["efficiency_offset"]))
+    if derived:
+        defaults.append(("engine map", f"{c.engine_map.stem} converted", "",
+                         f"{kind.name}: {kind.source}"))
+    at_raw = _per_class(r, "aftertreatment", c.id, class_ids, None)
+    if at_raw is None or (isinstance(at_raw, Mapping) and "preset" not in at_raw):
+        d = DEVICE_PRESETS[device_default]
+        defaults.append(("aftertreatment", device_default, "", f"default device of {engine}"
+                         + (f" (conversion {kind.name})" if kind.aftertreatment else "")))
+        if d.efficiency_new > 0:
+            given_at = set(at_raw or ())
+            for key, label in (("efficiency_new", "catalyst efficiency new"),
+                               ("efficiency_aged", "catalyst efficiency aged")):
+                if key not in given_at:
+                    defaults.append((label, f"{getattr(d, key):.0%}", "",
+                                     "device preset (models/aftertreatment.py DEVICE_PRESETS: "
+                                     "Euro 6 / Euro VI limits met new and at durability "
+                                     "distance, from memory)"))
+        at_raw = {"preset": device_default, **(at_raw or {})}
+    mismatch = None if map_raw is not None else regime_mismatch(fuel, kind, map_regime)
     return ClassOption(
         converts=not is_baseline,
         fuel=fuel,
         engine=engine,
         engine_map=engine_map,
         map_data=map_data,
-        derate=varying("derate", "0 %", 0.0, 0.9),
-        efficiency_offset=varying("efficiency_offset", "0 %", -0.3, 0.3),
+        derate=varying("derate", f"{derate_default:.9%}", 0.0, 0.9),
+        efficiency_offset=varying("efficiency_offset", f"{kind.efficiency_offset:.9%}", -0.3,
+                                  0.3),
         conversion_cost=uq("conversion_cost", _money, currency),
         upkeep_change_per_year=uq("upkeep_change_per_year", _money_per_year,
                                   f"{currency}/year", low=None),
@@ -1063,11 +1160,15 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], is_baseline: b
                          "[mass] / [length]", at("n2o"), None, 0.0, 1e-4),
         engine_out_nox=None if nox_raw is None else _engine_out(nox_raw, at("engine_out_nox")),
         lambda_overall=fixed("lambda_overall", lam_default, 0.5, 5.0),
-        methane_slip=varying("methane_slip", "0 %", 0.0, 0.2),
-        aftertreatment=_aftertreatment(_per_class(r, "aftertreatment", c.id, class_ids,
-                                                  {"preset": "none"}), at("aftertreatment"),
-                                       varied, currency),
+        methane_slip=varying("methane_slip", f"{slip_default:.6%}", 0.0, 0.2),
+        aftertreatment=_aftertreatment(at_raw, at("aftertreatment"), varied, currency),
         varied=tuple(varied),
+        conversion=kind.name,
+        derived_map=derived,
+        map_regime=map_regime,
+        defaults=tuple(defaults),
+        notices=() if mismatch is None else (mismatch,),
+        derate_against=(base.fuel if base is not None else fuel) if air_derate else None,
     )
 
 
@@ -1079,16 +1180,29 @@ def _choice(value: Any, where: str, choices: Iterable[str], what: str) -> str:
     return value
 
 
+def _kind_values(kind: ConversionKind, engine: str, fuel: Fuel
+                 ) -> tuple[float, float, str, float]:
+    """Lambda [-], methane slip [-], device and derate [-] a conversion implies for a class.
+
+    The kind's own values hold while the engine setting is the kind's; a setting the study
+    names otherwise takes that setting's defaults. A fuel without methane slips none. A kind
+    whose derate follows from the fuels (``bi-fuel-si``) gives 0 here: the run works it out
+    (``ClassOption.derate_against``), so reading a study runs no chemistry.
+    """
+    own = kind.nox_engine in (None, engine)
+    lam = kind.lambda_overall if own and kind.lambda_overall else REGIME_LAMBDA[engine]
+    slip = kind.methane_slip if own and kind.name != "none" else REGIME_SLIP[engine]
+    if fuel.mole_fractions.get("CH4", 0.0) == 0.0:
+        slip = 0.0
+    device = kind.aftertreatment if own and kind.aftertreatment else REGIME_DEVICE[engine]
+    return lam, slip, device, kind.derate or 0.0
+
+
 def _whole(value: Any, where: str) -> int:
     if isinstance(value, bool) or not isinstance(value, int) or not 0 <= value <= MAX_YEARS:
         raise InputError(where, f"must be a whole number of years from 0 (none) to {MAX_YEARS}; "
                          f"got {_short(value)}")
     return value
-
-
-def _default_engine(fuel: Fuel) -> str:
-    return "spark-ignition" if fuel.is_gas or "GASOLINE" in fuel.mole_fractions \
-        else "compression-ignition"
 
 
 def _fuel(raw: Any, where: str, base_dir: Path) -> Fuel:

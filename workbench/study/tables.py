@@ -55,7 +55,7 @@ def study_result(study: Study, plan: Plan, lines: Mapping[str, econ.OptionLines]
     """
     inputs = plan.inputs
     colours = {o.id: PALETTE[i % len(PALETTE)] for i, o in enumerate(inputs.options)}
-    per_km = _frame("per_km", _per_km_rows(plan, lines, det))
+    per_km = frame("per_km", _per_km_rows(plan, lines, det))
     return StudyResult(
         title=inputs.title,
         currency=inputs.currency,
@@ -70,7 +70,7 @@ def study_result(study: Study, plan: Plan, lines: Mapping[str, econ.OptionLines]
         monte_carlo=_monte_carlo_table({k: v.npv for k, v in draws.items()}),
         tornado=_tornado_table(plan, sensitivity),
         breakeven=_breakeven_table(inputs, break_even),
-        inputs=_frame("inputs", input_rows(study.data, inputs)),
+        inputs=frame("inputs", input_rows(study.data, inputs)),
         operating_points=_operating_points_table(plan),
         flame=_flame_table(plan),
         catalyst=_catalyst_table(plan),
@@ -83,7 +83,8 @@ def _empty(name: str) -> pd.DataFrame:
     return pd.DataFrame({c: pd.Series(dtype=float) for c in COLUMNS[name]})
 
 
-def _frame(name: str, rows: list[dict]) -> pd.DataFrame:
+def frame(name: str, rows: list[dict]) -> pd.DataFrame:
+    """Table ``name`` of :data:`COLUMNS` from its rows (an empty, typed table for none)."""
     return pd.DataFrame(rows, columns=list(COLUMNS[name])) if rows else _empty(name)
 
 
@@ -109,6 +110,9 @@ def _per_km_rows(plan: Plan, lines: Mapping[str, econ.OptionLines],
                 "co2e_wtw_g_per_km": co2e_m * 1e6,
                 "nox_engine_out_g_per_km": ph.engine_out_nox_per_m * 1e6,
                 "nox_g_per_km": float(ph.monthly["tailpipe_g_per_km"].mean()),
+                "pm_mg_per_km": ph.pm_per_m * 1e9,
+                "co_g_per_km": ph.co_per_m * 1e6,
+                "thc_g_per_km": (ph.nmhc_per_m + ph.ch4_per_m) * 1e6,
                 "cost_fuel_per_km": cost["fuel"] * 1e3,
                 "cost_upkeep_per_km": cost["upkeep"] * 1e3,
                 "cost_capital_per_km": cost["capital"] * 1e3,
@@ -165,7 +169,7 @@ def _candidates_table(plan: Plan, det: econ.Money, per_km: pd.DataFrame,
                 econ.probability_payback_within(mc.discounted_payback, h)),
             "npv_p10": pct[0], "npv_p50": pct[1], "npv_p90": pct[2],
         })
-    return _frame("candidates", rows)
+    return frame("candidates", rows)
 
 
 def _cash_flow_table(plan: Plan, det: econ.Money) -> pd.DataFrame:
@@ -184,7 +188,7 @@ def _cash_flow_table(plan: Plan, det: econ.Money) -> pd.DataFrame:
                          "cash_flow": flows[y], "cash_flow_vs_baseline": diff[y],
                          "discounted_vs_baseline": disc[y],
                          "cumulative_discounted_vs_baseline": cum[y]})
-    return _frame("cash_flows", rows)
+    return frame("cash_flows", rows)
 
 
 def _fleet_years_table(plan: Plan, det: econ.Money) -> pd.DataFrame:
@@ -205,7 +209,7 @@ def _fleet_years_table(plan: Plan, det: econ.Money) -> pd.DataFrame:
                          "fuel_energy_gj": energy / 1e9, "co2_ttw_t": ttw / 1e3,
                          "co2e_wtw_t": det.co2e[o.id][0][y] / 1e3, "nox_t": nox,
                          "catalyst_replacements": repl, "cost_total": det.costs[o.id][0][y]})
-    return _frame("fleet_years", rows)
+    return frame("fleet_years", rows)
 
 
 def _nox_monthly_table(plan: Plan) -> pd.DataFrame:
@@ -223,7 +227,7 @@ def _storage_table(plan: Plan) -> pd.DataFrame:
     rows = [{"candidate": oid, "vehicle_class": cid,
              "fuel": _fuel(plan.inputs, oid, cid).id, **ph.storage}
             for (oid, cid), ph in plan.physics.items()]
-    return _frame("storage", rows)
+    return frame("storage", rows)
 
 
 def _fuel(inputs: StudyInputs, option_id: str, class_id: str) -> Fuel:
@@ -261,7 +265,7 @@ def _breakeven_table(inputs: StudyInputs,
              "unit": display_unit(u.unit, inputs.currency), "nominal_value": u.nominal * u.scale,
              "breakeven_value": root * u.scale}
             for oid, found in break_even.items() for u, root in found]
-    return _frame("breakeven", rows)
+    return frame("breakeven", rows)
 
 
 def _operating_points_table(plan: Plan) -> pd.DataFrame:
@@ -291,7 +295,7 @@ def _flame_table(plan: Plan) -> pd.DataFrame:
                 rows.append({"candidate": o.id, "fuel": co.fuel.id, "phi": r["phi"],
                              "flame_temperature_k": r["flame_temperature_k"],
                              "no_ppm": r["no_ppm"]})
-    return _frame("flame", rows)
+    return frame("flame", rows)
 
 
 def _catalyst_table(plan: Plan) -> pd.DataFrame:
@@ -304,7 +308,7 @@ def _catalyst_table(plan: Plan) -> pd.DataFrame:
                      "reductant_cost": float(ph.yearly["reductant_cost"].sum()),
                      "best_interval_months": ph.best_interval_months,
                      "best_total_cost": ph.best_total_cost})
-    return _frame("catalyst", rows)
+    return frame("catalyst", rows)
 
 
 def _assumptions(study: Study, draws: int) -> dict[str, str]:

@@ -7,12 +7,15 @@ PROFILE, ``--vehicle`` and ``--map`` take the name of a shipped demo (``taxi-shi
 from __future__ import annotations
 
 import argparse
+from dataclasses import replace
 from pathlib import Path
 
+from workbench.core.constants import RPM
 from workbench.core.errors import InputError
 from workbench.core.paths import DATA
 from workbench.interfaces.cli import add_fuels_option, finite_float
 from workbench.io.profiles import read_profile
+from workbench.models.conversion import KINDS
 from workbench.models.duty import DutySettings, DutyTrace, duty_stats
 
 #: Demo kind -> (data sub-directory, file suffix).
@@ -40,11 +43,18 @@ def register(sub: argparse._SubParsersAction) -> None:
                    help=f"demo map ({', '.join(demo_names('map'))}) or a map CSV path")
     p.add_argument("--fuel", required=True, action="append", metavar="F",
                    help="fuel id or fuel TOML; repeat for candidates. The first is the engine's "
-                        "original fuel; --derate and --efficiency-offset apply to the others")
-    p.add_argument("--derate", type=finite_float, default=0.0, metavar="X",
-                   help="share of full-load power lost on the candidate fuels (default 0)")
-    p.add_argument("--efficiency-offset", type=finite_float, default=0.0, metavar="X",
-                   help="added to the map's brake efficiency on the candidate fuels, e.g. -0.01")
+                        "original fuel; --conversion, --derate and --efficiency-offset apply "
+                        "to the others")
+    p.add_argument("--conversion", choices=list(KINDS), metavar="KIND",
+                   help=f"how the engine is converted for the other fuels ({', '.join(KINDS)}); "
+                        "default: inferred from the fuels (a gas on a diesel map: "
+                        "dedicated-si; on a gasoline map: bi-fuel-si)")
+    p.add_argument("--derate", type=finite_float, metavar="X",
+                   help="share of full-load power lost on the candidate fuels (default: the "
+                        "conversion's)")
+    p.add_argument("--efficiency-offset", type=finite_float, metavar="X",
+                   help="added to the map's brake efficiency on the candidate fuels, e.g. -0.01 "
+                        "(default: the conversion's)")
     p.add_argument("--accessory-kw", type=finite_float, default=0.0, metavar="KW",
                    help="accessory power while the engine runs, kW (default 0)")
     p.add_argument("--engine-off-at-stops", action="store_true",
@@ -128,6 +138,14 @@ def _fuel(args: argparse.Namespace) -> None:
     from workbench.io.maps import read_map
     from workbench.io.vehicles import read_vehicle
     from workbench.models.combustion import fuel_sheet
+    from workbench.models.conversion import (
+        convert,
+        duty_gas_share,
+        fuel_regime,
+        infer_kind,
+        kind_derate,
+        regime_mismatch,
+    )
     from workbench.models.engine import fuel_per_distance_for, run_duty
 
     settings = _settings(args)
@@ -139,39 +157,83 @@ def _fuel(args: argparse.Namespace) -> None:
             raise InputError("--vehicle", "a speed trace needs a vehicle (demo name or TOML)")
         vehicle = read_vehicle(resolve(args.vehicle, "vehicle", "--vehicle"))
     fuels = [load_fuel(f) for f in args.fuel]
-    maps = [base_map]
-    if (args.derate, args.efficiency_offset) != (0.0, 0.0):
-        maps.append(base_map.adjusted(derate=args.derate,
-                                      efficiency_offset=args.efficiency_offset))
-    energies = [run_duty(profile, vehicle, m, settings=settings).energy for m in maps]
-    rows = []
+    regime = fuel_regime(fuels[0])
+    reference = fuel_sheet(fuels[0])
+    rows, notices, defaults = [], [], []
+    first = None
     for k, fuel in enumerate(fuels):
-        energy = energies[min(k, len(maps) - 1)]
-        result = fuel_per_distance_for(energy, fuel, fuel_sheet(fuel))
-        rows.append({"fuel": fuel.id,
-                     "derate": 0.0 if k == 0 else args.derate,
-                     "efficiency_offset": 0.0 if k == 0 else args.efficiency_offset,
-                     **result.trade_units()})
-    energy = energies[0]
+        sheet = fuel_sheet(fuel)
+        name = args.conversion or infer_kind(fuel, regime, fuels[0])
+        kind = KINDS["none"] if k == 0 else KINDS[name]
+        if k and args.conversion is None and kind.name != "none":
+            defaults.append(f"default: {fuel.id}: conversion = {kind.name} (inferred: "
+                            f"{fuel.id} on a {regime} map; --conversion none keeps the map)")
+        derate = args.derate if k and args.derate is not None else (
+            kind_derate(kind, sheet, reference) if k else 0.0)
+        offset = args.efficiency_offset if k and args.efficiency_offset is not None else (
+            kind.efficiency_offset if k else 0.0)
+        for key, value, given in (("derate", derate, args.derate),
+                                  ("efficiency_offset", offset, args.efficiency_offset)):
+            if k and given is None and value:
+                defaults.append(f"default: {fuel.id}: {key} = {value:.3g} "
+                                f"({kind.sources.get(key, kind.source)})")
+        mismatch = regime_mismatch(fuel, kind, regime)
+        if mismatch:
+            notices.append(f"warning: {fuel.id}: {mismatch}")
+        derived = kind.name in ("dedicated-si", "dual-fuel-ci")
+        try:
+            engine = convert(base_map, kind if derived else KINDS["none"], sheet, reference,
+                             derate=derate, efficiency_offset=offset)
+        except InputError as exc:
+            option = {"derate": "--derate", "efficiency_offset": "--efficiency-offset"}
+            raise InputError(option.get(exc.where, exc.where), exc.message) from None
+        phys = run_duty(profile, vehicle, engine.engine_map, settings=settings)
+        for key, (value, unit, source) in engine.parameters.items():
+            defaults.append(f"default: {fuel.id}: {key} = {value:.4g} {unit} ({source})")
+        first = first or phys
+        record = {"fuel": fuel.id, "conversion": kind.name, "derate": derate,
+                  "efficiency_offset": offset}
+        if kind.name == "dual-fuel-ci":
+            pts = phys.points
+            work = pts["torque_nm"] * pts["engine_speed_rpm"] * RPM * pts["seconds"]
+            share = duty_gas_share(pts["engine_speed_rpm"] * RPM, pts["torque_nm"],
+                                   work / pts["brake_efficiency"], engine.engine_map)
+            record["gas_energy_share"] = share
+            total = phys.energy.fuel_energy
+            gas = fuel_per_distance_for(replace(phys.energy, fuel_energy=total * share), fuel,
+                                        sheet)
+            pilot = fuel_per_distance_for(replace(phys.energy, fuel_energy=total * (1 - share)),
+                                          fuels[0], reference)
+            rows.append(record | gas.trade_units())
+            rows.append({"fuel": f"{fuels[0].id} pilot", "conversion": kind.name,
+                         "derate": derate, "efficiency_offset": offset,
+                         "gas_energy_share": share} | pilot.trade_units())
+        else:
+            rows.append(record | fuel_per_distance_for(phys.energy, fuel, sheet).trade_units())
+    energy = first.energy
     record = {
         "profile": args.profile,
         "vehicle": args.vehicle,
         "map": args.map,
+        "map_regime": regime,
         "distance_km": energy.distance / 1e3,
         "duration_h": energy.duration / 3600.0,
         "wheel_energy_mj_per_km": energy.wheel_energy / energy.distance * 1e-3,
         "fuels": rows,
+        "notices": notices,
+        "defaults": defaults,
     }
     if args.json:
         print_json(record)
         return
-    head = {k: v for k, v in record.items() if k != "fuels"}
+    head = {k: v for k, v in record.items() if k not in ("fuels", "notices", "defaults")}
     lines = [f"{k:34s} {_fmt(v)}" for k, v in head.items()]
-    lines.append(f"{'':34s} " + " ".join(f"{r['fuel']:>12s}" for r in rows))
-    for key in rows[0]:
+    lines.append(f"{'':34s} " + " ".join(f"{r['fuel']:>14s}" for r in rows))
+    keys = list(dict.fromkeys(k for r in rows for k in r))
+    for key in keys:
         if key != "fuel":
-            lines.append(f"{key:34s} " + " ".join(f"{_fmt(r[key]):>12s}" for r in rows))
-    print("\n".join(lines))
+            lines.append(f"{key:34s} " + " ".join(f"{_fmt(r.get(key)):>14s}" for r in rows))
+    print("\n".join(lines + notices + defaults))
 
 
 def _fmt(value: object) -> str:

@@ -11,7 +11,7 @@ from workbench.core.text import json_safe
 from workbench.interfaces.cli import add_fuels_option
 from workbench.interfaces.sheets import format_table
 from workbench.io.files import check_target, write_text_atomic
-from workbench.study.results import StudyResult, missing_reason
+from workbench.study.results import StudyResult, default_lines, missing_reason, notice_lines
 from workbench.study.studyfile import DEMO_STUDY, Study, read_study
 
 #: Keys of each candidate in ``study run --json``, from the candidates table.
@@ -37,9 +37,11 @@ def register(sub: argparse._SubParsersAction) -> None:
     group = sub.add_parser("study", help="check, run and report a study file")
     ssub = group.add_subparsers(dest="study_command", required=True, parser_class=type(group))
 
-    p = ssub.add_parser("check", help="check a study file and say what it holds")
+    p = ssub.add_parser("check", help="check a study file and say what it holds and assumes")
     p.add_argument("file", help="study .toml file (format: `workbench docs study-file`)")
     add_fuels_option(p)
+    p.add_argument("--quiet-defaults", action="store_true",
+                   help="leave out the list of defaults applied (warnings are still shown)")
     p.set_defaults(func=_check)
 
     p = ssub.add_parser("run", help="run a study: candidates side by side")
@@ -83,11 +85,27 @@ def _result(study: Study, args: argparse.Namespace) -> StudyResult:
 
 
 def _check(args: argparse.Namespace) -> None:
+    from workbench.io.logs import FleetSource
+    from workbench.study.runner import defaults_rows, notice_rows
+
     i = _study(args.file).inputs  # reads every file the study names: errors name file and row
+    for c in i.classes:
+        if isinstance(c.profile_data, FleetSource):
+            print(f"class {c.id}: {len(c.profile_data.vehicles)} vehicles' logs in {c.profile}")
+            for line in c.profile_data.problems:
+                print(f"class {c.id}: left out: {line}")
     print(f"ok: {args.file}: {len(i.classes)} vehicle classes "
           f"({sum(c.count for c in i.classes)} vehicles), baseline {i.baseline.id!r}, "
           f"{len(i.candidates)} candidates, {len(i.uncertain)} uncertain inputs, "
           f"{i.horizon_years} years from {i.start_year}")
+    _print_lines(notice_lines(notice_rows(i)))
+    if not args.quiet_defaults:
+        _print_lines(default_lines(defaults_rows(i)))
+
+
+def _print_lines(lines: list[str]) -> None:
+    if lines:
+        print("\n".join(lines))
 
 
 def result_json(result: StudyResult) -> dict[str, Any]:
@@ -103,13 +121,18 @@ def result_json(result: StudyResult) -> dict[str, Any]:
     dict
         ``title``, ``currency``, ``candidates`` (one object per option, baseline first,
         keys of :data:`JSON_KEYS`; missing values and payback that never comes are null) and
-        ``per_km`` (one object per option and vehicle class).
+        ``per_km`` (one object per option and vehicle class), ``defaults`` (one object per
+        value the run took that the study did not give), ``notices`` (one-line warnings),
+        ``class_decisions`` (each class's conversion alone) and ``best_mix`` (the best option
+        per class, one object per class with the mix's figures).
     """
     cands = [{k: json_safe(row[col]) for k, col in JSON_KEYS.items()}
              for row in result.candidates.to_dict("records")]
     per_km = [json_safe(row) for row in result.per_km.to_dict("records")]
+    tables = {name: [json_safe(row) for row in getattr(result, name).to_dict("records")]
+              for name in ("defaults", "notices", "class_decisions", "best_mix")}
     return {"title": result.title, "currency": result.currency, "candidates": cands,
-            "per_km": per_km}
+            "per_km": per_km, **tables}
 
 
 def _print_result(result: StudyResult, args: argparse.Namespace) -> None:
@@ -133,6 +156,21 @@ def _print_result(result: StudyResult, args: argparse.Namespace) -> None:
     print(result.title)
     print(format_table([{k: missing_reason(r, k) or r.get(k) for k in units} for r in records],
                        units))
+    from workbench.study.decisions import mix_line
+
+    if len(result.class_decisions):
+        print("\nEach class converted on its own (no programme costs):")
+        decisions = [{"name": f"{r['candidate']}/{r['vehicle_class']}", **r}
+                     for r in result_json(result)["class_decisions"]]
+        print(format_table(decisions, {
+            "name": "", "npv_vs_baseline": cur, "discounted_payback_years": "year",
+            "co2e_avoided_t": "t", "nox_avoided_kg": "kg", "p_npv_positive": "-"}))
+    _print_lines([mix_line(result.best_mix)] if len(result.best_mix) else [])
+    _print_lines(notice_lines(result.notices))
+    if len(result.defaults):
+        print(f"{len(result.defaults)} defaults applied (the study did not give them); "
+              "`workbench study check FILE` lists each with its source, --json has them as "
+              "'defaults'")
 
 
 def _run(args: argparse.Namespace) -> None:

@@ -6,7 +6,9 @@ blend table that keeps the option's fuel id, so the price, escalation and upstre
 that id still apply. Picking a fuel the study has no price for copies the old fuel's price,
 escalation and upstream entries to the new id (the panel says so: check them in the economics
 panel) and drops the old fuel's entries when no option uses it any more. Each row shows the
-fuel's sheet (``workbench.interfaces.sheets.fuel_record``) as a table.
+fuel's sheet (``workbench.interfaces.sheets.fuel_record``) as a table. Each candidate's
+conversion kind (``bi-fuel-si``, ``dedicated-si``, ...) is picked beside its fuel, or left to
+the study's inference; the row says which kind each class gets.
 """
 
 from __future__ import annotations
@@ -20,8 +22,9 @@ import ipywidgets as widgets
 from workbench.core.errors import InputError
 from workbench.core.fuels import BASES, Fuel, find_fuel, list_fuels, load_fuel
 from workbench.interfaces.panels.fields import error_widget, esc, show_error
-from workbench.interfaces.panels.state import StudyState, option_slots
+from workbench.interfaces.panels.state import OptionSlot, StudyState, option_slots
 from workbench.interfaces.sheets import SHEET_FIELDS, format_cell, fuel_record
+from workbench.models.conversion import KINDS
 from workbench.study.studyfile import Study
 
 #: Dropdown value meaning "a blend of two library fuels".
@@ -177,6 +180,56 @@ class FuelRow(widgets.VBox):
             self._refresh()
 
 
+#: Dropdown value meaning "no conversion key: the study infers the kind per class".
+INFERRED = "(inferred from the fuels)"
+#: Kinds a study option can name (a dual-fuel engine burns two fuels; a study option one).
+STUDY_KINDS = tuple(k for k in KINDS if k != "dual-fuel-ci")
+
+
+def kinds_text(study: Study, option_id: str) -> str:
+    """Which conversion kind each class of an option gets, as one line."""
+    option = next(o for o in study.inputs.options if o.id == option_id)
+    return "; ".join(f"{cid}: {co.conversion}" for cid, co in option.per_class.items()
+                     if co.converts)
+
+
+class ConversionRow(widgets.HBox):
+    """The conversion kind of one candidate (or of one of its classes)."""
+
+    def __init__(self, state: StudyState, slot: OptionSlot) -> None:
+        self.state = state
+        self.path = slot.path
+        self.option_id = slot.option.id
+        raw = state.study.get(slot.path) if _has(state.study, slot.path) else None
+        value = raw if raw in STUDY_KINDS else INFERRED
+        self.choice = widgets.Dropdown(options=[INFERRED, *STUDY_KINDS], value=value,
+                                       description="conversion",
+                                       layout=widgets.Layout(width="320px"))
+        self.error = error_widget()
+        self.kinds = widgets.HTML(f"<i>{esc(kinds_text(state.study, self.option_id))}</i>")
+        self.choice.observe(self._changed, names="value")
+        super().__init__([self.choice, self.kinds, self.error],
+                         layout=widgets.Layout(flex_flow="row wrap"))
+
+    def _changed(self, change: dict[str, Any]) -> None:
+        if change["new"] == INFERRED:
+            error = self.state.apply_many({}, remove=(self.path,)) if _has(
+                self.state.study, self.path) else None
+        else:
+            error = self.state.apply(self.path, change["new"])
+        show_error(self.error, error)
+        if error is None:
+            self.kinds.value = f"<i>{esc(kinds_text(self.state.study, self.option_id))}</i>"
+
+
+def _has(study: Study, path: str) -> bool:
+    try:
+        study.get(path)
+    except (KeyError, IndexError, TypeError, InputError):
+        return False
+    return True
+
+
 class CandidatesPanel(widgets.VBox):
     """Fuel of each option (baseline and candidates), with its sheet.
 
@@ -189,9 +242,17 @@ class CandidatesPanel(widgets.VBox):
     ----------
     rows : dict of str to FuelRow
         The editor of each fuel choice, by key path.
+    conversions : dict of str to ConversionRow
+        The conversion kind of each candidate (or candidate and class), by key path.
     """
 
     def __init__(self, state: StudyState) -> None:
         self.state = state
         self.rows = {s.path: FuelRow(state, s) for s in fuel_slots(state.study)}
-        super().__init__([widgets.HTML("<h3>Fuel candidates</h3>"), *self.rows.values()])
+        self.conversions = {s.path: ConversionRow(state, s)
+                            for s in option_slots(state.study, "conversion")
+                            if not s.option.is_baseline}
+        super().__init__([widgets.HTML("<h3>Fuel candidates</h3>"), *self.rows.values(),
+                          widgets.HTML("<b>Conversion kinds</b> (docs/study-file.md: the map, "
+                                       "NOx setting, catalyst and slip each implies)"),
+                          *self.conversions.values()])

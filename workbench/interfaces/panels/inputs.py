@@ -22,6 +22,7 @@ from workbench.interfaces.charts import TEMPLATE, MapGrid, efficiency_map_chart
 from workbench.interfaces.panels.fields import error_widget, esc, label, save_upload, show_error
 from workbench.interfaces.panels.results import FigurePane
 from workbench.interfaces.panels.state import StudyState
+from workbench.io.logs import FleetSource
 from workbench.io.maps import read_map
 from workbench.io.profiles import read_profile
 from workbench.models.duty import DutyTrace, ModeTable, duty_stats
@@ -109,8 +110,12 @@ class ClassFileChoice(widgets.VBox):
         self.choice.value = str(saved)
 
 
-def stats_html(duty: DutyTrace | ModeTable) -> str:
+def stats_html(duty: DutyTrace | ModeTable | FleetSource) -> str:
     """Statistics of a duty profile as an HTML table (a time-at-mode table says so)."""
+    if isinstance(duty, FleetSource):
+        return (f"<p>Vehicle logs: {len(duty.vehicles)} vehicles in {esc(duty.source)}"
+                f"{f', {len(duty.problems)} files left out' if duty.problems else ''}; each "
+                "is run when the study runs (docs/fleet-logs.md).</p>")
     if not isinstance(duty, DutyTrace):
         hours = float(np.sum(duty.duration)) / 3600.0
         return (f"<p>Time-at-mode table: {len(duty.duration)} modes, {hours:,.1f} h; no speed "
@@ -130,7 +135,7 @@ def stats_html(duty: DutyTrace | ModeTable) -> str:
     return f'<table class="wb-duty-stats" style="font-size:13px">{body}</table>'
 
 
-def speed_figure(duty: DutyTrace | ModeTable, profile: Path) -> go.Figure:
+def speed_figure(duty: DutyTrace | ModeTable | FleetSource, profile: Path) -> go.Figure:
     """Speed against time of a trace profile (empty for a time-at-mode table).
 
     ``profile`` is the file it was read from, named in the title.

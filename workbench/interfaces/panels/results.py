@@ -20,8 +20,9 @@ import plotly.io as pio
 from workbench.interfaces import charts
 from workbench.interfaces.panels.fields import esc
 from workbench.interfaces.panels.state import StudyState
+from workbench.interfaces.report import defaults_html
 from workbench.interfaces.summary import best_option, verdicts
-from workbench.study.results import StudyResult, missing_reason
+from workbench.study.results import StudyResult, missing_reason, notice_lines
 
 #: Charts the panel can show, by chart key: (menu label, builder).
 CHARTS = {
@@ -103,6 +104,23 @@ def summary_html(result: StudyResult) -> str:
             f'<tbody>{"".join(rows)}</tbody></table>')
 
 
+def _defaults(result: StudyResult | None) -> str:
+    """Warnings in full, the defaults applied folded under one line (as in the report)."""
+    if result is None:
+        return ""
+    body = defaults_html(result)
+    n = len(result.defaults)
+    from workbench.study.decisions import mix_line
+
+    names = dict(zip(result.candidates["candidate"], result.candidates["name"], strict=True))
+    mix = (f'<p class="wb-best-mix">{esc(mix_line(result.best_mix, names))}</p>'
+           if len(result.best_mix) else "")
+    lines = mix + "".join(f'<p style="color:#D55E00">{esc(line)}</p>'
+                          for line in notice_lines(result.notices))
+    return (f'{lines}<details class="wb-defaults"><summary>{n} defaults applied '
+            f"(values the study did not give)</summary>{body}</details>")
+
+
 def verdict_html(result: StudyResult) -> str:
     """The answer first: one verdict per option, the same words as the report's summary.
 
@@ -162,17 +180,20 @@ class ResultsPanel(widgets.VBox):
         The summary table.
     verdict : ipywidgets.HTML
         The verdicts in words (the app shows it on top).
+    defaults : ipywidgets.HTML
+        The best mix by class, the one-line warnings and the defaults the run applied.
     """
 
     def __init__(self, state: StudyState, *, charts: tuple[str, ...] = DEFAULT_CHARTS) -> None:
         self.state = state
         self.summary = widgets.HTML(summary_html(state.result) if state.result else "")
+        self.defaults = widgets.HTML(_defaults(state.result))
         self.verdict = widgets.HTML(verdict_html(state.result) if state.result else "")
         self.slots = [ChartSlot(state, key) for key in charts]
         grid = widgets.GridBox(self.slots, layout=widgets.Layout(
             grid_template_columns="repeat(2, minmax(0, 1fr))", grid_gap="8px", width="100%"))
         state.on_change(self.show)
-        super().__init__([widgets.HTML("<h3>Results</h3>"), self.summary, grid])
+        super().__init__([widgets.HTML("<h3>Results</h3>"), self.summary, self.defaults, grid])
 
     def figure(self, key: str) -> go.Figure | None:
         """The widget showing chart ``key``, or None when no slot shows it."""
@@ -183,6 +204,7 @@ class ResultsPanel(widgets.VBox):
         if state.result is None:
             return
         self.summary.value = summary_html(state.result)
+        self.defaults.value = _defaults(state.result)
         self.verdict.value = verdict_html(state.result)
         for slot in self.slots:
             slot.draw()

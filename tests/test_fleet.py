@@ -1,0 +1,132 @@
+"""Tests of a class as its vehicles: workbench.models.fleet and workbench.study.fleet."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from numpy.testing import assert_allclose
+
+from workbench.core.errors import InputError
+from workbench.io import demo_fleet, demo_profiles
+from workbench.io.maps import read_map
+from workbench.io.vehicles import read_vehicle
+from workbench.models.engine import DutyEnergy
+from workbench.models.fleet import VehicleSummary, aggregate
+from workbench.study.fleet import run_fleet
+
+DATA = demo_profiles.DATA
+LOGS = demo_fleet.DATA / "logs"
+
+
+def summary(vid: str, km: float, mj: float, hours: float = 1.0) -> VehicleSummary:
+    energy = DutyEnergy(distance=km * 1e3, duration=hours * 3600.0, wheel_energy=1.0,
+                        braking_energy=1.0, engine_energy=1.0, fuel_energy=mj * 1e6,
+                        time_idle=0.25 * hours * 3600.0, time_out_of_map=0.0,
+                        time_at_full_load=0.0)
+    return VehicleSummary(vid, energy, np.ones((2, 2)), np.full((2, 2), mj), {})
+
+
+def test_class_is_the_km_weighted_mean():
+    # Hand-computed: A drives 100 km at 2.5 MJ/km, B 300 km at 2.0 MJ/km, C 50 km at 3.0.
+    # km-weighted mean = (100*2.5 + 300*2.0 + 50*3.0) / 450 = 1000 / 450 = 2.2222 MJ/km;
+    # the plain mean of the three would be 2.5.
+    agg = aggregate([summary("A", 100, 250), summary("B", 300, 600), summary("C", 50, 150)])
+    assert_allclose(agg.energy_per_m * 1e3 / 1e6, 1000 / 450, rtol=1e-14)
+    assert_allclose(agg.energy.distance, 450e3)
+    assert_allclose(agg.energy.share_idle, 0.25)
+    assert agg.vehicles == 3
+    assert_allclose(agg.seconds, 3.0)  # histograms add
+    assert_allclose(agg.fuel, 1000.0)
+
+
+def test_spread_is_p10_p90_between_vehicles():
+    # Eleven vehicles at 1..11 MJ/km: linear quantiles at (n-1) q = 1 and 9 -> 2 and 10 MJ/km
+    # (numpy's default "linear" method, hand-computed).
+    agg = aggregate([summary(str(k), 10.0 * k, 10.0 * k * k) for k in range(1, 12)])
+    assert_allclose(np.array(agg.spread_per_m) / 1e3, [2.0, 10.0], rtol=1e-12)
+
+
+def test_no_vehicles():
+    with pytest.raises(InputError, match="no vehicle could be used"):
+        aggregate([])
+
+
+@pytest.fixture(scope="module")
+def taxi():
+    return (read_vehicle(DATA / "vehicles" / "taxi.toml"),
+            read_map(DATA / "maps" / "taxi-si-1.8l.csv"))
+
+
+@pytest.fixture(scope="module")
+def serial(taxi):
+    seen = []
+    run = run_fleet(LOGS, *taxi, engine="serial", progress=lambda d, n: seen.append((d, n)))
+    return run, seen
+
+
+def test_shipped_example_runs_and_leaves_the_broken_file_out(serial):
+    run, seen = serial
+    assert run.found == 13
+    assert len(run.summaries) == 12
+    (problem,) = run.problems
+    assert "KB-T13.csv row" in problem and "is not a number" in problem
+    assert seen[-1] == (13, 13) and len(seen) == 13
+    table = run.table()
+    assert list(table["vehicle"]) == [f"KB-T{k:02d}" for k in range(1, 13)]
+    # invented demo: urban taxi energy per km is plausible, 1.5-3 MJ/km (~4.5-9 L/100 km of
+    # gasoline; common practice, no source)
+    assert 1.5 < run.aggregate.energy_per_m / 1e3 < 3.0
+    assert (table["spikes"] >= 3).all()  # three spikes were planted per shift
+    # the aggregate is the km-weighted mean of the table (hand-computed from its columns)
+    weighted = np.average(table["fuel_energy_mj_per_km"], weights=table["distance_km"])
+    assert_allclose(run.aggregate.energy_per_m / 1e3, weighted, rtol=1e-12)
+
+
+def test_mph_file_read_in_mph(serial):
+    # Vehicle 7's logger writes mph; read as km/h it would drive 1.6x as far at the same time
+    # and use far more fuel per hour. Its km per hour sits with the others'.
+    table = serial[0].table()
+    speed = table["distance_km"] / table["hours"]
+    assert speed[table["vehicle"] == "KB-T07"].iloc[0] < 1.3 * speed.median()
+
+
+@pytest.mark.slow
+def test_process_pool_gives_the_same_numbers(taxi, serial):
+    run = run_fleet(LOGS, *taxi, engine="process", workers=2)
+    assert_allclose(run.aggregate.energy_per_m, serial[0].aggregate.energy_per_m, rtol=1e-12)
+    assert run.problems == serial[0].problems
+
+
+@pytest.mark.slow
+def test_dask_local_cluster_gives_the_same_numbers(taxi, serial):
+    distributed = pytest.importorskip("distributed")
+    with distributed.LocalCluster(n_workers=1, processes=False, protocol="tcp",
+                                  host="127.0.0.1", dashboard_address=None) as cluster:
+        run = run_fleet(LOGS, *taxi, engine=cluster.scheduler_address)
+    assert_allclose(run.aggregate.energy_per_m, serial[0].aggregate.energy_per_m, rtol=1e-12)
+    assert run.problems == serial[0].problems
+
+
+def test_unreachable_scheduler(taxi):
+    dask = pytest.importorskip("dask")
+    pytest.importorskip("distributed")
+    with (dask.config.set({"distributed.comm.timeouts.connect": "1s"}),
+          pytest.raises(InputError, match="cannot reach the dask scheduler")):
+        run_fleet(LOGS, *taxi, engine="tcp://127.0.0.1:1")
+
+
+def test_generator_parquet_fleet(tmp_path, taxi):
+    fleet = demo_fleet.write_demo_fleet(tmp_path, vehicles=13, days=2, shift_hours=0.2,
+                                        parquet=True)
+    run = run_fleet(fleet.logs, *taxi, engine="serial")
+    assert len(run.summaries) == 12
+    (problem,) = run.problems
+    assert "KB-T13.parquet" in problem
+    assert (run.table()["trips"] >= 2).all()  # two days, so at least two trips each
+
+
+def test_shipped_example_is_the_seeded_output(tmp_path):
+    fleet = demo_fleet.write_shipped_example(tmp_path)
+    for path in fleet.logs.iterdir():
+        assert path.read_bytes() == (LOGS / path.name).read_bytes(), path.name
+    assert fleet.fuel_cards.read_bytes() == (LOGS.parent / "fuel-cards.csv").read_bytes()

@@ -1,0 +1,555 @@
+"""Readers of vehicle logger exports: CSV or Parquet, one file per vehicle or one long file.
+
+A fleet's logs are named by one *source*: a file, a folder, a glob pattern or a Parquet
+dataset (a folder of Parquet files, optionally partitioned ``vehicle=<id>/``).
+:func:`list_vehicles` finds the vehicles in it as small picklable :class:`VehicleLog`
+descriptions (so worker processes read their own vehicle); :func:`read_batches` streams one
+vehicle's raw samples in SI as :class:`~workbench.models.logs.LogBatch` es for
+:func:`~workbench.models.logs.clean_log`. Column names and units: ``docs/fleet-logs.md``.
+
+Columns are found by name (case, spaces and brackets do not matter: ``Speed (km/h)`` is
+``speed_km_per_h``); units come from the name or from a side file ``<stem>.units.toml``
+(``[units] speed = "mph"``). Other columns, text or not, are ignored. CSV files may start with
+a byte-order mark, separate fields by ``,``, ``;`` or tabs (with ``;`` the decimal mark is a
+comma), quote fields, and carry ``#`` comment lines.
+"""
+
+from __future__ import annotations
+
+import csv
+import glob
+import re
+from collections.abc import Iterator
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from workbench.core.errors import InputError
+from workbench.io.csvtext import read_file_bytes
+from workbench.io.profiles import _side_units as _profile_units
+from workbench.models.logs import LogBatch
+
+#: Speed units: token -> factor to m/s (mph exact: NIST Handbook 44, Appendix C).
+SPEED_UNITS = {"km_per_h": 1.0 / 3.6, "kmh": 1.0 / 3.6, "kph": 1.0 / 3.6,
+               "m_per_s": 1.0, "mps": 1.0, "mph": 0.44704}
+#: Elapsed-time units: token -> seconds.
+ELAPSED_UNITS = {"s": 1.0, "min": 60.0, "h": 3600.0}
+#: Epoch-time units: token -> seconds (counted from 1970-01-01T00:00Z).
+EPOCH_UNITS = {"epoch_s": 1.0, "unix_s": 1.0, "epoch_ms": 1e-3, "unix_ms": 1e-3}
+#: Text timestamps (ISO 8601; without a zone they are read as UTC).
+ISO_UNITS = ("iso",)
+#: Other quantities: name -> {unit: factor to SI}; altitude in metres or feet (exact).
+OTHER_UNITS = {
+    "altitude": {"m": 1.0, "ft": 0.3048},
+    "grade": {"percent": 0.01, "fraction": 1.0},
+    "payload": {"kg": 1.0, "t": 1000.0},
+}
+#: Names of the vehicle column (long files).
+VEHICLE_NAMES = ("vehicle", "vehicle_id")
+_TIME_NAMES = ("timestamp", "datetime", "time", "elapsed")
+#: Rows read at a time from one CSV file per vehicle.
+CSV_CHUNK_ROWS = 1_000_000
+_SUFFIXES = (".csv", ".txt", ".parquet", ".pq")
+
+
+def normalise(name: str) -> str:
+    """A column name as a key: lower case, ``/`` as ``_per_``, brackets and spaces as ``_``.
+
+    Parameters
+    ----------
+    name : str
+        Column name as written in the file.
+
+    Returns
+    -------
+    str
+        E.g. ``"Speed (km/h)"`` -> ``"speed_km_per_h"``.
+    """
+    s = name.strip().lower().replace("/", "_per_")
+    s = re.sub(r"[\s\[\]\(\)\-\.]+", "_", s)
+    return re.sub(r"_+", "_", s).strip("_")
+
+
+@dataclass(frozen=True)
+class Columns:
+    """Which raw column holds what, and its unit.
+
+    Attributes
+    ----------
+    time, speed : tuple of (str, str)
+        (raw column name, unit token).
+    extras : dict of str to tuple of (str, str)
+        ``altitude``, ``grade``, ``payload`` when present.
+    vehicle : str or None
+        Raw name of the vehicle column.
+    """
+
+    time: tuple[str, str]
+    speed: tuple[str, str]
+    extras: dict[str, tuple[str, str]]
+    vehicle: str | None
+
+    @property
+    def names(self) -> list[str]:
+        """Raw names of every column used."""
+        out = [self.time[0], self.speed[0], *(c for c, _ in self.extras.values())]
+        return out + ([self.vehicle] if self.vehicle else [])
+
+
+def _side_units(path: Path) -> dict[str, str]:
+    """``<stem>.units.toml`` beside ``path`` (the profiles' format), names and units
+    normalised; empty when there is none."""
+    side = path.with_name(path.stem + ".units.toml")
+    if not side.is_file():
+        return {}
+    try:
+        text = read_file_bytes(side).decode("utf-8")
+    except UnicodeDecodeError:
+        raise InputError(str(side), "is not UTF-8 text; save it as UTF-8") from None
+    return {normalise(k): normalise(v) for k, v in _profile_units(str(path), text).items()}
+
+
+def _split_unit(key: str, prefixes: tuple[str, ...]) -> tuple[str, str] | None:
+    for p in prefixes:
+        if key == p:
+            return p, ""
+        if key.startswith(p + "_"):
+            return p, key[len(p) + 1:]
+    return None
+
+
+def resolve_columns(path: Path, header: list[str], *, text_time: bool | None = None
+                    ) -> Columns:
+    """Find the time, speed, optional and vehicle columns of a header and their units.
+
+    Parameters
+    ----------
+    path : pathlib.Path
+        The file (for messages and its side units file).
+    header : list of str
+        Raw column names.
+    text_time : bool, optional
+        Whether the time column holds text; a unitless time column of text is ISO 8601.
+
+    Returns
+    -------
+    Columns
+
+    Raises
+    ------
+    InputError
+        No time or speed column, a unit missing or unknown; the message names the column.
+    """
+    side = _side_units(path)
+    time = speed = None
+    extras: dict[str, tuple[str, str]] = {}
+    vehicle = None
+    for raw in header:
+        key = normalise(raw)
+        if key in VEHICLE_NAMES and vehicle is None:
+            vehicle = raw
+            continue
+        unit_of = side.get(key)
+        if speed is None and (hit := _split_unit(key, ("speed",))):
+            unit = unit_of or hit[1]
+            if unit not in SPEED_UNITS:
+                raise InputError(f"{path} column {raw}", _unit_hint(path, raw, unit, SPEED_UNITS))
+            speed = (raw, unit)
+        elif time is None and (hit := _split_unit(key, _TIME_NAMES)):
+            unit = unit_of or hit[1]
+            if not unit and (text_time or hit[0] in ("timestamp", "datetime")):
+                unit = "iso"
+            known = (*ELAPSED_UNITS, *EPOCH_UNITS, *ISO_UNITS)
+            if unit not in known:
+                raise InputError(f"{path} column {raw}", _unit_hint(path, raw, unit, known))
+            time = (raw, unit)
+        else:
+            for q, units in OTHER_UNITS.items():
+                if q not in extras and (hit := _split_unit(key, (q,))):
+                    unit = unit_of or hit[1]
+                    if unit not in units:
+                        raise InputError(f"{path} column {raw}",
+                                         _unit_hint(path, raw, unit, units))
+                    extras[q] = (raw, unit)
+                    break
+    if time is None or speed is None:
+        missing = "time" if time is None else "speed"
+        example = "time_s, timestamp" if time is None else "speed_km_per_h, speed_mph"
+        raise InputError(str(path), f"no {missing} column (e.g. {example}); columns are "
+                                    f"{', '.join(header)}")
+    if "grade" in extras and "altitude" in extras:
+        del extras["altitude"]  # a measured grade wins over one derived from altitude
+    return Columns(time=time, speed=speed, extras=extras, vehicle=vehicle)
+
+
+def _unit_hint(path: Path, raw: str, unit: str, known: object) -> str:
+    what = f"unknown unit '{unit}'" if unit else "no unit"
+    return (f"{what}; use one of {', '.join(known)} in the name (e.g. {normalise(raw)}_"  # type: ignore[arg-type]
+            f"{next(iter(known))}) or in {path.stem}.units.toml [units]")  # type: ignore[call-overload]
+
+
+# ----------------------------------------------------------------------------- CSV
+
+
+@dataclass(frozen=True)
+class _Dialect:
+    sep: str
+    decimal: str
+    header: list[str]
+    header_line: int  # 1-based line of the header
+
+
+def _dialect(path: Path) -> _Dialect:
+    try:
+        with path.open(encoding="utf-8-sig", newline="") as fh:
+            lineno = 0
+            for line in fh:
+                lineno += 1
+                stripped = line.strip()
+                if stripped and not stripped.startswith("#"):
+                    break
+            else:
+                raise InputError(str(path), "no header row found")
+    except FileNotFoundError:
+        raise InputError(str(path), "file not found") from None
+    except (OSError, UnicodeDecodeError) as exc:
+        raise InputError(str(path), f"cannot read the file as UTF-8 text ({exc.__class__.__name__})"
+                         ) from None
+    counts = {s: stripped.count(s) for s in (",", ";", "\t")}
+    sep = max(counts, key=lambda s: counts[s])
+    header = next(csv.reader([stripped], delimiter=sep))
+    return _Dialect(sep=sep, decimal="," if sep == ";" else ".", header=header,
+                    header_line=lineno)
+
+
+def _read_csv(path: Path, d: _Dialect, usecols: list[str], chunksize: int | None
+              ) -> Iterator[pd.DataFrame]:
+    """The named columns, in chunks (types inferred: forcing text columns to ``str`` made
+    pandas' C parser five times slower)."""
+    try:
+        reader = pd.read_csv(path, sep=d.sep, decimal=d.decimal, comment="#",
+                             encoding="utf-8", usecols=usecols, skip_blank_lines=True,
+                             skipinitialspace=True, chunksize=chunksize, engine="c")
+        if chunksize is None:
+            yield reader
+        else:
+            with reader:
+                yield from reader
+    except (pd.errors.ParserError, ValueError, UnicodeDecodeError) as exc:
+        line = re.search(r"line (\d+)", str(exc))
+        where = f"{path} row {line.group(1)}" if line else str(path)
+        raise InputError(where, f"not a readable CSV row ({str(exc).splitlines()[0][:80]})"
+                         ) from None
+
+
+def _numbers(values: pd.Series, where: str, first_row: int, name: str) -> np.ndarray:
+    """A column as floats; text with a decimal comma is read, other text named by row."""
+    if values.dtype.kind in "fiu":
+        return values.to_numpy(dtype=float)
+    text = values.astype("string").str.strip()
+    out = pd.to_numeric(text.str.replace(",", ".", regex=False), errors="coerce")
+    bad = out.isna() & text.notna() & (text != "")
+    if bad.any():
+        k = int(np.argmax(bad.to_numpy()))
+        raise InputError(f"{where} row {first_row + k}",
+                         f"{name} '{text.iloc[k]}' is not a number")
+    return out.to_numpy(dtype=float, na_value=np.nan)
+
+
+def _arrow_seconds(values: pd.Series) -> np.ndarray | None:
+    """ISO 8601 text as epoch seconds through Arrow's parser (three times pandas' speed), or
+    None when Arrow cannot read every cell (dates only, spaces for ``T``, bad cells): pandas
+    then parses and names the bad row."""
+    import pyarrow as pa
+    import pyarrow.compute as pc
+
+    try:
+        arr = pa.array(values, from_pandas=True)  # pandas' own Arrow strings: no copy
+    except (pa.ArrowInvalid, pa.ArrowTypeError):
+        return None
+    if not (pa.types.is_string(arr.type) or pa.types.is_large_string(arr.type)):
+        return None
+    for kind in (pa.timestamp("ns", tz="UTC"), pa.timestamp("ns")):
+        try:
+            ns = pc.cast(pc.cast(arr, kind), pa.int64())
+        except (pa.ArrowInvalid, pa.ArrowNotImplementedError):
+            continue
+        return ns.to_numpy(zero_copy_only=False).astype(float) / 1e9
+    return None
+
+
+def _seconds(values: pd.Series, unit: str, where: str, first_row: int, name: str) -> np.ndarray:
+    """A time column as float seconds (elapsed or since the epoch)."""
+    if unit in ISO_UNITS or values.dtype.kind == "M":
+        if values.dtype.kind == "M":
+            stamps = values
+        else:
+            fast = _arrow_seconds(values)
+            if fast is not None:
+                return fast
+            stamps = pd.to_datetime(values, errors="coerce", utc=True, format="ISO8601")
+            bad = stamps.isna() & values.notna()
+            if bad.any():
+                k = int(np.argmax(bad.to_numpy()))
+                raise InputError(f"{where} row {first_row + k}",
+                                 f"{name} '{values.iloc[k]}' is not an ISO 8601 time "
+                                 "(e.g. 2026-03-01T08:00:00Z)")
+        if getattr(stamps.dt, "tz", None) is not None:
+            stamps = stamps.dt.tz_convert("UTC").dt.tz_localize(None)
+        ns = stamps.to_numpy(dtype="datetime64[ns]").astype(np.int64).astype(float)
+        ns[stamps.isna().to_numpy()] = np.nan
+        return ns / 1e9
+    factor = ELAPSED_UNITS.get(unit) or EPOCH_UNITS[unit]
+    return _numbers(values, where, first_row, name) * factor
+
+
+def _batch(frame: pd.DataFrame, cols: Columns, where: str, first_row: int) -> LogBatch:
+    t = _seconds(frame[cols.time[0]], cols.time[1], where, first_row, cols.time[0])
+    v = _numbers(frame[cols.speed[0]], where, first_row, cols.speed[0]) * SPEED_UNITS[
+        cols.speed[1]]
+    extras = {q: _numbers(frame[raw], where, first_row, raw) * OTHER_UNITS[q][unit]
+              for q, (raw, unit) in cols.extras.items()}
+    return LogBatch(time=t, speed=v, extras=extras)
+
+
+# ----------------------------------------------------------------------------- sources
+
+
+@dataclass(frozen=True)
+class VehicleLog:
+    """Where one vehicle's samples are: a file, and its id in the vehicle column if shared.
+
+    Attributes
+    ----------
+    vehicle : str
+        Vehicle id (the vehicle column's value, else the file stem).
+    path : str
+        File, or Parquet dataset folder.
+    kind : {"csv", "parquet", "dataset"}
+    shared : bool
+        The file holds several vehicles (rows filtered by the vehicle column).
+    """
+
+    vehicle: str
+    path: str
+    kind: str
+    shared: bool = False
+
+
+@dataclass(frozen=True)
+class FleetSource:
+    """The vehicles found in a source and the files that could not be read.
+
+    Attributes
+    ----------
+    vehicles : tuple of VehicleLog
+    problems : tuple of str
+        One line per file left out (``file: message``).
+    source : str
+        What was listed.
+    files : tuple
+        :func:`fingerprint` of the source when listed: equal listings of unchanged files are
+        equal (and hash alike), so runs cached on them see edited files.
+    """
+
+    vehicles: tuple[VehicleLog, ...]
+    problems: tuple[str, ...]
+    source: str = ""
+    files: tuple[tuple[str, int, int], ...] = ()
+
+
+def _kind(path: Path) -> str:
+    return "parquet" if path.suffix.lower() in (".parquet", ".pq") else "csv"
+
+
+def _files(source: str | Path) -> list[Path]:
+    text = str(source)
+    if any(ch in text for ch in "*?["):
+        return sorted(Path(p) for p in glob.glob(text, recursive=True)
+                      if Path(p).suffix.lower() in _SUFFIXES)
+    path = Path(source)
+    if path.is_dir():
+        return sorted(p for p in path.iterdir() if p.suffix.lower() in _SUFFIXES)
+    if path.exists():
+        return [path]
+    raise InputError(text, "no such file, folder or pattern; give a logger file, a folder of "
+                           "them, a glob like 'logs/*.csv' or a Parquet dataset folder")
+
+
+def _parquet_names(path: Path) -> list[str]:
+    import pyarrow.parquet as pq
+
+    return list(pq.read_schema(path).names)
+
+
+def _dataset(path: Path):  # -> pyarrow.dataset.Dataset
+    import pyarrow.dataset as ds
+
+    return ds.dataset(path, format="parquet", partitioning="hive")
+
+
+def _vehicles_in(path: Path, kind: str) -> list[VehicleLog]:
+    if kind == "dataset":
+        data = _dataset(path)
+        cols = resolve_columns(path, list(data.schema.names))
+        if cols.vehicle is None:
+            raise InputError(str(path), "a Parquet dataset needs a vehicle column or "
+                                        "vehicle=<id> folders")
+        ids = data.to_table(columns=[cols.vehicle]).column(0).unique().to_pylist()
+        return [VehicleLog(str(v), str(path), kind, True) for v in sorted(map(str, ids))]
+    if kind == "parquet":
+        cols = resolve_columns(path, _parquet_names(path))
+    else:
+        d = _dialect(path)
+        cols = resolve_columns(path, d.header)
+    if cols.vehicle is None:
+        return [VehicleLog(path.stem, str(path), kind)]
+    if kind == "parquet":
+        import pyarrow.parquet as pq
+
+        ids = pq.read_table(path, columns=[cols.vehicle]).column(0).unique().to_pylist()
+    else:
+        frame = next(_read_csv(path, d, [cols.vehicle], None))
+        ids = frame[cols.vehicle].dropna().unique().tolist()
+    ids = sorted(str(v).strip() for v in ids)
+    return [VehicleLog(v, str(path), kind, len(ids) > 1) for v in ids]
+
+
+def fleet_source(raw: str, base_dir: Path) -> Path | None:
+    """The logs a study's ``profile`` names, when it names logs rather than one profile CSV.
+
+    Parameters
+    ----------
+    raw : str
+        The ``profile`` value: a folder, a glob pattern or a Parquet file or dataset, relative
+        to the study file's folder unless absolute.
+    base_dir : pathlib.Path
+        The study file's folder.
+
+    Returns
+    -------
+    pathlib.Path or None
+        The resolved source (a pattern stays a pattern), or None for anything else.
+    """
+    path = base_dir / raw
+    if any(ch in raw for ch in "*?["):
+        return path
+    if path.is_dir() or (path.is_file() and path.suffix.lower() in (".parquet", ".pq")):
+        return path.resolve()
+    return None
+
+
+def fingerprint(source: str | Path) -> tuple[tuple[str, int, int], ...]:
+    """Name, size and modification time of every file of a source, to key cached runs.
+
+    Returns
+    -------
+    tuple
+        ``(path, bytes, mtime_ns)`` per file, sorted; empty when nothing matches.
+    """
+    path = Path(source)
+    if path.is_dir():
+        files = sorted(p for p in path.rglob("*") if p.is_file())
+    else:
+        files = sorted(Path(p) for p in glob.glob(str(source), recursive=True))
+    return tuple((str(f), f.stat().st_size, f.stat().st_mtime_ns) for f in files)
+
+
+def list_vehicles(source: str | Path) -> FleetSource:
+    """The vehicles of a fleet's logs; files that cannot be read are reported, not raised.
+
+    Parameters
+    ----------
+    source : str or pathlib.Path
+        A logger file, a folder of them, a glob pattern, or a Parquet dataset folder.
+
+    Returns
+    -------
+    FleetSource
+        Vehicles sorted by id, and one line per file left out.
+
+    Raises
+    ------
+    InputError
+        The source names nothing, or nothing in it could be read.
+    """
+    path = Path(source)
+    if path.is_dir() and any(p.is_dir() and "=" in p.name for p in path.iterdir()):
+        return FleetSource(tuple(_vehicles_in(path, "dataset")), (), str(source),
+                           fingerprint(source))
+    vehicles: list[VehicleLog] = []
+    problems: list[str] = []
+    for f in _files(source):
+        try:
+            vehicles += _vehicles_in(f, _kind(f))
+        except InputError as exc:
+            problems.append(str(exc))
+        except Exception as exc:  # a corrupt Parquet file: any pyarrow error
+            problems.append(f"{f}: cannot read ({exc.__class__.__name__}: {str(exc)[:80]})")
+    seen: dict[str, str] = {}
+    unique = []
+    for v in vehicles:
+        if v.vehicle in seen:
+            problems.append(f"{v.path}: vehicle {v.vehicle} is also in {seen[v.vehicle]}; "
+                            "left out here (one vehicle, one file or one id)")
+            continue
+        seen[v.vehicle] = v.path
+        unique.append(v)
+    if not unique:
+        raise InputError(str(source), "no readable vehicle log: "
+                         + ("; ".join(problems[:3]) or "no .csv or .parquet files"))
+    return FleetSource(tuple(sorted(unique, key=lambda v: v.vehicle)), tuple(problems),
+                       str(source), fingerprint(source))
+
+
+def read_batches(log: VehicleLog, *, batch_rows: int = CSV_CHUNK_ROWS) -> Iterator[LogBatch]:
+    """Stream one vehicle's raw samples in SI, a batch of rows at a time.
+
+    Parameters
+    ----------
+    log : VehicleLog
+        From :func:`list_vehicles`.
+    batch_rows : int
+        Rows per batch (memory grows with it).
+
+    Yields
+    ------
+    LogBatch
+
+    Raises
+    ------
+    InputError
+        Unreadable file or a bad value; names the file and row.
+    """
+    path = Path(log.path)
+    if log.kind == "csv":
+        d = _dialect(path)
+        cols = resolve_columns(path, d.header)
+        row = d.header_line + 1
+        for frame in _read_csv(path, d, cols.names, batch_rows):
+            n = len(frame)
+            if cols.vehicle:
+                frame = frame[frame[cols.vehicle].astype("string").str.strip() == log.vehicle]
+            yield _batch(frame, cols, str(path), row)
+            row += n
+        return
+    import pyarrow.compute as pc
+    import pyarrow.parquet as pq
+
+    if log.kind == "dataset":
+        data = _dataset(path)
+        cols = resolve_columns(path, list(data.schema.names))
+        batches = data.to_batches(columns=cols.names, batch_size=batch_rows,
+                                  filter=pc.field(cols.vehicle).cast("string") == log.vehicle)
+    else:
+        cols = resolve_columns(path, _parquet_names(path))
+        batches = pq.ParquetFile(path).iter_batches(batch_size=batch_rows, columns=cols.names)
+    row = 1
+    for b in batches:
+        frame = b.to_pandas()
+        if log.kind == "parquet" and log.shared:
+            frame = frame[frame[cols.vehicle].astype("string") == log.vehicle]
+        yield _batch(frame, cols, str(path), row)
+        row += b.num_rows

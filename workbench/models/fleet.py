@@ -1,0 +1,132 @@
+"""A vehicle class as its vehicles: per-vehicle duty summaries and their km-weighted aggregate.
+
+Each vehicle's cleaned trips run through the fused pipeline once; what is kept of it is a
+:class:`VehicleSummary` (energy sums, operating-point histograms, what cleaning dropped). The
+class is the sum of its vehicles (:func:`aggregate`): its fuel energy per km is total fuel over
+total distance, which is the km-weighted mean of the vehicles' energy per km, and its spread is
+the P10–P90 of the vehicles' energy per km (each vehicle counted once).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass, fields
+
+import numpy as np
+import pandas as pd
+
+from workbench.core.errors import InputError
+from workbench.models.engine import DutyEnergy
+
+#: Quantiles of the between-vehicle spread [-].
+SPREAD_QUANTILES = (0.10, 0.90)
+
+
+@dataclass(frozen=True, eq=False)
+class VehicleSummary:
+    """One vehicle's duty, summarised.
+
+    Attributes
+    ----------
+    vehicle : str
+        Vehicle id.
+    energy : DutyEnergy
+        Energy flows over all its trips (extra idling included).
+    seconds : numpy.ndarray
+        Time burning fuel per (engine speed, torque) bin [s].
+    fuel : numpy.ndarray
+        Fuel energy per bin [J].
+    tally : dict of str to float
+        What cleaning kept and dropped (:class:`~workbench.models.logs.LogTally`).
+    """
+
+    vehicle: str
+    energy: DutyEnergy
+    seconds: np.ndarray
+    fuel: np.ndarray
+    tally: dict[str, float]
+
+    @property
+    def energy_per_m(self) -> float:
+        """Fuel energy per distance, LHV basis [J/m]."""
+        return self.energy.fuel_energy / self.energy.distance
+
+
+@dataclass(frozen=True, eq=False)
+class ClassAggregate:
+    """The km-weighted sum of a class's vehicles.
+
+    Attributes
+    ----------
+    energy : DutyEnergy
+        Sum of the vehicles' energy flows.
+    energy_per_m : float
+        Total fuel energy over total distance [J/m].
+    spread_per_m : tuple of float
+        P10 and P90 of the vehicles' energy per distance [J/m].
+    seconds, fuel : numpy.ndarray
+        Summed operating-point histograms [s], [J].
+    vehicles : int
+        Vehicles in the aggregate.
+    """
+
+    energy: DutyEnergy
+    energy_per_m: float
+    spread_per_m: tuple[float, float]
+    seconds: np.ndarray
+    fuel: np.ndarray
+    vehicles: int
+
+
+def aggregate(summaries: Sequence[VehicleSummary]) -> ClassAggregate:
+    """Sum a class's vehicle summaries.
+
+    Parameters
+    ----------
+    summaries : sequence of VehicleSummary
+        One per vehicle, each with a positive distance.
+
+    Returns
+    -------
+    ClassAggregate
+
+    Notes
+    -----
+    ``sum(E_i) / sum(d_i) = sum(d_i * (E_i / d_i)) / sum(d_i)``: the class's energy per km is
+    the distance-weighted mean of the vehicles' energy per km.
+    """
+    if not summaries:
+        raise InputError("profile", "no vehicle could be used; see the problems listed")
+    total = {f.name: sum(getattr(s.energy, f.name) for s in summaries)
+             for f in fields(DutyEnergy)}
+    energy = DutyEnergy(**total)
+    per_m = np.array([s.energy_per_m for s in summaries])
+    p10, p90 = np.quantile(per_m, SPREAD_QUANTILES)
+    return ClassAggregate(
+        energy=energy,
+        energy_per_m=energy.fuel_energy / energy.distance,
+        spread_per_m=(float(p10), float(p90)),
+        seconds=np.sum([s.seconds for s in summaries], axis=0),
+        fuel=np.sum([s.fuel for s in summaries], axis=0),
+        vehicles=len(summaries),
+    )
+
+
+def vehicle_table(summaries: Sequence[VehicleSummary]) -> pd.DataFrame:
+    """One row per vehicle: distance, energy per km, idle share and what cleaning dropped.
+
+    Returns
+    -------
+    pandas.DataFrame
+        Columns ``vehicle``, ``distance_km``, ``hours``, ``fuel_energy_mj_per_km``,
+        ``share_idle``, ``share_out_of_map`` and the tally's counts.
+    """
+    rows = []
+    for s in summaries:
+        e = s.energy
+        rows.append({"vehicle": s.vehicle, "distance_km": e.distance / 1e3,
+                     "hours": e.duration / 3600.0,
+                     "fuel_energy_mj_per_km": s.energy_per_m / 1e3,
+                     "share_idle": e.share_idle, "share_out_of_map": e.share_out_of_map,
+                     **s.tally})
+    return pd.DataFrame(rows)
