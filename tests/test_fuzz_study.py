@@ -19,6 +19,7 @@ from workbench.core.errors import InputError
 from workbench.study.studyfile import DEMO_STUDY, Study, read_study
 
 DEMO = tomllib.loads(DEMO_STUDY.read_text(encoding="utf-8"))
+DEMO["candidates"][0]["conversion"] = "bi-fuel-si"  # a key the demo leaves to its default
 Study(DEMO, base_dir=DEMO_STUDY.parent)  # warm the fuel sheets before any deadline runs
 NEVER = frozenset({"life", "replacement_interval"})
 TMP = scratch_folder("workbench-fuzz-study-")

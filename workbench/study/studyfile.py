@@ -1072,7 +1072,8 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOpt
                          "on the candidates")
     map_regime = fuel_regime(fuel) if base is None else base.engine
     if given("conversion"):
-        kind = conversion_kind(_per_class(r, "conversion", c.id, class_ids, None),
+        kind = conversion_kind(_choice(_per_class(r, "conversion", c.id, class_ids, None),
+                                       at("conversion"), KINDS, "conversion kind"),
                                where=at("conversion"))
     else:
         kind = KINDS[infer_kind(fuel, map_regime, None if base is None else base.fuel)]
