@@ -922,6 +922,8 @@ def _profile(raw: Any, where: str, base_dir: Path
              ) -> tuple[Path, DutyTrace | ModeTable | FleetSource]:
     """A shipped profile or a profile CSV, read; or a fleet's logs (folder, glob, Parquet
     dataset, relative to the study's folder), listed (each vehicle is read when run)."""
+    if isinstance(raw, str) and raw.strip():
+        check_file_name(raw, where, what="a profile .csv file or a folder of logs")
     logs = fleet_source(raw, base_dir) if isinstance(raw, str) and raw.strip() else None
     if logs is None:
         return _read_data_file(raw, where, "profile", base_dir, read_profile)
