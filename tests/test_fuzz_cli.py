@@ -30,10 +30,11 @@ FILES = [str(TMP / n) for n in ("latin.toml", "random.csv", "folder.toml", "miss
 COMMANDS = st.sampled_from([
     ["fuels", "list"], ["fuels", "show"], ["fuels", "compare"], ["fuels", "blend"],
     ["fuels", "storage"], ["study", "check"], ["duty", "stats"], ["duty", "fuel"], [],
-    ["fuels"], ["study"], ["nope"],
+    ["fuels"], ["study"], ["nope"], ["docs"], ["fleet", "run"],
 ])
 WORDS = st.sampled_from([
-    "propane", "lpg", "diesel", "natural-gas", "methane", "hydrogen", "gasoline", "unknown-fuel",
+    "study-file", "glossary", "--path", "propane", "lpg", "diesel", "natural-gas", "methane",
+    "hydrogen", "gasoline", "unknown-fuel",
     "demo", "taxi-shift", "van-day", "taxi", "taxi-si-1.8l", "propane=0.6", "n-butane=0.4",
     "propane=nan", "propane=inf", "propane=-1", "x=1", "=", "propane=", "=0.5",
     "--phi", "--t-unburnt", "--pressure", "--air", "dry", "--json", "--basis", "mass",
