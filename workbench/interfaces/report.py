@@ -287,7 +287,8 @@ def defaults_html(result: StudyResult) -> str:
         return "<p>The study gave every value the run used.</p>"
     return ("<p>The study did not give these values; the run took typical defaults. "
             "Replace them with the fleet's own where known.</p>"
-            f'<div class="scroll" id="defaults-table">{_table_html(result.defaults)}</div>')
+            f'<div class="scroll" id="defaults-table">'
+            f'{_table_html(reader_table("defaults", result))}</div>')
 
 
 def _decisions_html(result: StudyResult) -> str:
@@ -299,7 +300,7 @@ def _decisions_html(result: StudyResult) -> str:
             f"({_esc(result.currency)}). Each class's own conversion below leaves out the "
             "programme costs (station, workshop); the mix counts those of each candidate it "
             "uses once.</p>"
-            f'<div class="scroll">{_table_html(result.class_decisions)}</div>')
+            f'<div class="scroll">{_table_html(reader_table("class_decisions", result))}</div>')
 
 
 def _notices_html(result: StudyResult) -> str:

@@ -49,6 +49,7 @@ KEY_WORDS = {
     "tank_inspection_interval_years": "tank inspection interval [years]",
     "classes": "converted classes",
     "n2o": "tailpipe N2O",
+    "vehicle_spread": "spread of fuel use between its vehicles",
 }
 #: Words for the top-level tables keyed by fuel id.
 _BY_FUEL = {"prices": "price of {}", "escalation": "price escalation of {}",
@@ -152,6 +153,9 @@ def input_label(path: str, inputs: StudyInputs) -> str:
         kind, index = head.group(1), int(head.group(2))
         table = inputs.classes if kind == "classes" else inputs.candidates
         owner.append(table[index].name if index < len(table) else parts[0])
+    elif parts[0] == "classes" and len(parts) > 2 and parts[1] in names.classes:
+        owner.append(names.vehicle_class(parts[1]))
+        rest = parts[2:]
     elif parts[0] == "baseline":
         owner.append(inputs.baseline.name)
     elif parts[0] in _BY_FUEL and len(parts) == 2:
