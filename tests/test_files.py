@@ -47,3 +47,66 @@ def test_a_folder_is_not_a_file(tmp_path):
     (tmp_path / "d.toml").mkdir()
     with pytest.raises(InputError, match="is a folder"):
         write_text_atomic(tmp_path / "d.toml", "x", suffix=".toml", option="path")
+
+
+# --- a hard kill during a write ------------------------------------------------------------
+# The child writes a new version of the target and stops, as if killed, at the worst moment
+# our code can be interrupted by a signal: with all the data written, just before it is made
+# durable (os.fsync) and given a name. It says so on stdout and waits for the SIGKILL.
+_CHILD = """
+import os, sys, time
+import workbench.io.files as files
+files.USE_UNNAMED = {unnamed}
+def stall(fd):
+    print("writing", flush=True)
+    time.sleep(60)
+os.fsync = stall
+files.write_text_atomic(sys.argv[1], "new " * 100_000, suffix=".toml", option="path")
+"""
+
+
+def _kill_mid_write(target, *, unnamed):
+    import signal
+    import subprocess
+    import sys
+
+    env = {**os.environ, "PYTHONPATH": os.pathsep.join(sys.path)}
+    child = subprocess.Popen([sys.executable, "-c", _CHILD.format(unnamed=unnamed), str(target)],
+                             stdout=subprocess.PIPE, text=True, env=env)
+    try:
+        assert child.stdout.readline() == "writing\n"
+    finally:
+        child.send_signal(signal.SIGKILL)
+        child.wait(timeout=30)
+    assert child.returncode == -signal.SIGKILL
+
+
+@pytest.mark.skipif(not hasattr(os, "O_TMPFILE"), reason="O_TMPFILE is Linux only")
+def test_a_kill_mid_write_leaves_nothing_and_the_old_file(tmp_path):
+    target = tmp_path / "s.toml"
+    target.write_text("old", encoding="utf-8")
+    _kill_mid_write(target, unnamed=True)
+    assert [p.name for p in tmp_path.iterdir()] == ["s.toml"]  # the unnamed file died with it
+    assert target.read_text(encoding="utf-8") == "old"
+
+
+def test_without_unnamed_files_the_next_write_sweeps_what_a_kill_left(tmp_path):
+    target = tmp_path / "s.toml"
+    target.write_text("old", encoding="utf-8")
+    (tmp_path / ".other.toml.1.0123456789abcdef.part").write_text("not ours to sweep")
+    _kill_mid_write(target, unnamed=False)
+    left = sorted(p.name for p in tmp_path.iterdir())
+    assert len(left) == 3 and left[1].startswith(".s.toml.") and left[1].endswith(".part")
+    assert target.read_text(encoding="utf-8") == "old"
+    write_text_atomic(target, "newer", suffix=".toml", option="path")
+    assert sorted(p.name for p in tmp_path.iterdir()) == [
+        ".other.toml.1.0123456789abcdef.part", "s.toml"]
+    assert target.read_text(encoding="utf-8") == "newer"
+
+
+def test_a_running_writers_temporary_is_left_alone(tmp_path):
+    target = tmp_path / "s.toml"
+    mine = tmp_path / f".s.toml.{os.getppid()}.0123456789abcdef.part"  # our parent: running
+    mine.write_text("in progress")
+    write_text_atomic(target, "x", suffix=".toml", option="path")
+    assert mine.exists()

@@ -34,7 +34,7 @@ def test_read_demo_vehicles():
          r"final_drive: must be a positive number"),
         (lambda t: t.replace("[4.15, 2.37", "[2.37, 4.15"), r"gear_ratios: must be positive and"),
         (lambda t: t.replace("wheel_radius_m", "# wheel_radius_m"), r"missing key wheel_radius_m"),
-        (lambda t: t + "\n[[broken", r"not a readable TOML file"),
+        (lambda t: t + "\n[[broken", r"not valid TOML"),
     ],
 )
 def test_bad_vehicle_files(tmp_path, edit, match):

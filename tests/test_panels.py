@@ -126,7 +126,7 @@ def test_negative_discount_rate_is_refused(app):
     field.params["low"].value = "-150 %"
 
     assert "programme.discount_rate" in field.error.value
-    assert "-99 %" in html.unescape(field.error.value)
+    assert "must be at least -10 %, got -150 %" in html.unescape(field.error.value)
     assert app.study.get("programme.discount_rate") == before
     assert _npv(app, "cng-fleet") == npv
 

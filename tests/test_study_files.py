@@ -183,7 +183,8 @@ def test_relative_paths_are_read_from_the_study_folder(tmp_path, monkeypatch):
                                r"a .csv file"),
     ({"vehicle": "taxi.csv"}, r"classes\[0\].vehicle: 'taxi.csv' is not a vehicle file"),
     ({"engine_map": "maps/none.csv"}, r"no map file at .*sub/maps/none.csv"),
-    ({"profile": "bad\x00name.csv"}, r"classes\[0\].profile: must name a .csv file"),
+    ({"profile": "bad\x00name.csv"},
+     r"classes\[0\].profile: .* holds a null byte; name a profile .csv file"),
 ])
 def test_bad_file_references_name_the_path_tried(tmp_path, taxi, match):
     with pytest.raises(InputError, match=match) as info:

@@ -303,3 +303,36 @@ def test_gas_price_agrees_with_the_fuel_sheet():
         parse_price("1.1 per Sm3", where="p"), lhv_mass=sheet.lhv_mass, molar_mass=sheet.molar_mass
     )
     assert_allclose(per_j, 1.1 / sheet.lhv_volume, rtol=1e-9)  # R differs in the 10th figure
+
+
+@pytest.mark.parametrize(
+    ("text", "words"),
+    [
+        # pint's own parser evaluates these as Python arithmetic: a hang, a ZeroDivisionError,
+        # and a silent sum (STACK-NOTES); the grammar refuses each in one line.
+        ("9 ** 9 ** 9 km", "unexpected '\\*\\*'"),
+        ("1 / 0 km", "must be a positive amount"),
+        ("5 km + 3 m", "unexpected '\\+'"),
+        ("450 (km", "bracket is not closed"),
+        ("1 km((((km))))", "nested brackets"),
+        ("1 m^9", "from 1 to 4"),
+        ("1 1 km", "two numbers in a row"),
+        ("1 km 3", "may only follow"),
+        ("1 __class__", "not a unit"),
+        ("1 nan", "not a unit"),
+        ("1e16 km", "at most 1e\\+15"),
+        ("1 " + "km*" * 100 + "km", "characters long"),
+    ],
+)
+def test_the_grammar_refuses_arithmetic_and_excess(text, words):
+    with pytest.raises(InputError, match=words) as exc:
+        parse_quantity(text, "[length]", where="classes[0].range")
+    assert exc.value.where == "classes[0].range" and "\n" not in str(exc.value)
+
+
+@pytest.mark.parametrize(("value", "words"), [
+    (float("nan"), "finite"), (float("inf"), "finite"), (10**400, "finite"), ([1], "expected"),
+])
+def test_typed_numbers_must_be_finite(value, words):
+    with pytest.raises(InputError, match=words):
+        parse_quantity(value, "[]", where="x")

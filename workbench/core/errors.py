@@ -18,9 +18,14 @@ class InputError(ValueError):
         (``candidates[2].price``), a CLI option (``--phi``) or a widget label.
     message : str
         What is wrong with it and how to fix it, one line.
+
+    Notes
+    -----
+    Line breaks and runs of white space in either part (a file name or a quoted value may carry
+    them) are written as one space, so the error is always one line.
     """
 
     def __init__(self, where: str, message: str) -> None:
-        self.where = where
-        self.message = message
-        super().__init__(f"{where}: {message}")
+        self.where = " ".join(str(where).split()) or "input"
+        self.message = " ".join(str(message).split())
+        super().__init__(f"{self.where}: {self.message}")

@@ -19,7 +19,6 @@ from __future__ import annotations
 
 import hashlib
 import os
-import tomllib
 from collections.abc import Iterable, Iterator, Mapping
 from contextlib import contextmanager
 from contextvars import ContextVar
@@ -32,6 +31,8 @@ from workbench.core.cache import memoize
 from workbench.core.constants import T_STANDARD, ZERO_CELSIUS
 from workbench.core.errors import InputError
 from workbench.core.paths import DATA
+from workbench.core.textfiles import check_file_name, parse_toml
+from workbench.core.values import read_number
 
 #: Folder of the shipped fuel library, inside the package (the checkout's ``fuels/`` is it).
 LIBRARY = DATA / "fuels"
@@ -50,6 +51,19 @@ StorageKind = Literal["liquid", "liquefied", "compressed", "cryogenic"]
 Basis = Literal["mole", "mass", "liquid_volume"]
 STORAGE_KINDS: tuple[str, ...] = ("liquid", "liquefied", "compressed", "cryogenic")
 BASES: tuple[str, ...] = ("mole", "mass", "liquid_volume")
+# Ends of the physical ranges a fuel file's numbers must lie in (well beyond any real fuel).
+#: Liquid density [kg/m3] (water 1000; no hydrocarbon fuel is above 1000).
+MAX_LIQUID_DENSITY = 2000.0
+#: Storage pressure [bar] (compressed hydrogen is stored at 700 bar).
+MAX_STORAGE_BAR = 1000.0
+#: Storage temperature [°C].
+MAX_STORAGE_C = 200.0
+#: Lower heating value [MJ/kg] (hydrogen, the highest of any fuel, is 120).
+MAX_LHV_MJ_PER_KG = 150.0
+#: Molar mass of a pseudo-component [kg/kmol] (heavy fuel oil is a few hundred).
+MAX_MOLAR_MASS = 1000.0
+#: Specific heat of a pseudo-component [kJ/(kg K)] (hydrogen gas, the highest, is 14.3).
+MAX_CP_KJ_PER_KG_K = 50.0
 
 
 @dataclass(frozen=True)
@@ -169,9 +183,9 @@ def user_fuel_folders() -> tuple[Path, ...]:
     """
     env = [Path(p) for p in os.environ.get(FUELS_ENV, "").split(os.pathsep) if p.strip()]
     for folder in env:
-        if not folder.is_dir():
-            raise InputError(FUELS_ENV, f"{folder} is no folder; name folders of fuel .toml "
-                             f"files, separated by {os.pathsep!r}")
+        if not _is_dir(folder):
+            raise InputError(FUELS_ENV, f"{str(folder)[:80]} is no folder; name folders of "
+                             f"fuel .toml files, separated by {os.pathsep!r}")
     return (*_USER_FOLDERS, *env)
 
 
@@ -194,9 +208,10 @@ def use_fuel_folders(folders: Iterable[str | Path]) -> tuple[Path, ...]:
         A folder does not exist.
     """
     global _USER_FOLDERS
-    new = tuple(Path(f) for f in folders)
+    new = tuple(Path(check_file_name(str(f), "--fuels", what="a folder of fuel .toml files"))
+                for f in folders)
     for folder in new:
-        if not folder.is_dir():
+        if not _is_dir(folder):
             raise InputError(f"--fuels {folder}", "no such folder; give a folder of fuel .toml "
                              "files")
     old, _USER_FOLDERS = _USER_FOLDERS, new
@@ -252,7 +267,7 @@ def find_fuel(fuel_id: str, *, folder: Path | None = None) -> Path | None:
     """
     for f in fuel_folders(folder):
         path = f / f"{fuel_id}.toml"
-        if path.is_file():
+        if _is_file(path):
             return path
     return None
 
@@ -289,10 +304,11 @@ def load_fuel(ref: str | Path | Fuel, *, folder: Path | None = None) -> Fuel:
 
 def _fuel_path(ref: str | Path, folder: Path | None = None) -> Path:
     """A library id or a path -> the absolute path of the fuel file (see :func:`load_fuel`)."""
-    text = str(ref)
+    text = check_file_name(str(ref) if isinstance(ref, Path) else ref, "fuel",
+                           what="a library fuel id or a fuel .toml file")
     if text.endswith(".toml") or "/" in text or "\\" in text:
         path = Path(text)
-        if folder is not None and not path.is_absolute() and (folder / path).is_file():
+        if folder is not None and not path.is_absolute() and _is_file(folder / path):
             path = folder / path
         return Path(os.path.abspath(path))
     found = find_fuel(text, folder=folder)
@@ -418,10 +434,21 @@ def _load_path(path: Path) -> Fuel:
 @memoize(maxsize=512, key=lambda digest, raw, where: digest)
 def _parse_fuel_file(digest: bytes, raw: bytes, where: str) -> dict[str, Any]:
     """The parsed TOML of a fuel file's bytes, cached by their digest (do not mutate it)."""
+    return parse_toml(raw, where)
+
+
+def _is_dir(path: Path) -> bool:
     try:
-        return tomllib.loads(raw.decode("utf-8"))
-    except (tomllib.TOMLDecodeError, UnicodeDecodeError) as exc:
-        raise InputError(where, f"not valid TOML ({exc}); fix the syntax") from None
+        return path.is_dir()
+    except OSError:  # a name too long for the system
+        return False
+
+
+def _is_file(path: Path) -> bool:
+    try:
+        return path.is_file()
+    except OSError:  # a name too long for the system once joined to the folder
+        return False
 
 
 @memoize(maxsize=512, key=lambda digest, where, parts, data: (digest, where, parts))
@@ -457,7 +484,8 @@ def fuel_from_dict(data: Mapping[str, Any], *, fuel_id: str, where: str,
     liquid = None
     if "liquid" in data:
         ltable = _table(data, "liquid", where)
-        liquid = _positive(ltable, "density_kg_per_m3", f"{where}: [liquid]")
+        liquid = _positive(ltable, "density_kg_per_m3", f"{where}: [liquid]",
+                           MAX_LIQUID_DENSITY)
         sources.append(("liquid", _source(ltable, f"{where}: [liquid]")))
     if storage is not None:
         sources.append(("storage", storage.source))
@@ -533,17 +561,16 @@ def _source(table: Mapping[str, Any], where: str) -> str:
     return src
 
 
-def _number(table: Mapping[str, Any], key: str, where: str) -> float:
+def _number(table: Mapping[str, Any], key: str, where: str, *, low: float | None = None,
+            high: float | None = None) -> float:
     if key not in table:
         raise InputError(f"{where}.{key}", "is required")
-    value = table[key]
-    if isinstance(value, bool) or not isinstance(value, int | float):
-        raise InputError(f"{where}.{key}", f"must be a number, got {value!r}")
-    return float(value)
+    return read_number(table[key], f"{where}.{key}", low=low, high=high)
 
 
-def _positive(table: Mapping[str, Any], key: str, where: str) -> float:
-    value = _number(table, key, where)
+def _positive(table: Mapping[str, Any], key: str, where: str, high: float) -> float:
+    """A number above zero and at most ``high``, the end of its physical range."""
+    value = _number(table, key, where, high=high)
     if not value > 0:
         raise InputError(f"{where}.{key}", f"must be above zero, got {value:g}")
     return value
@@ -611,10 +638,10 @@ def _storage(table: Mapping[str, Any], where: str, state: str) -> StorageSpec:
         raise InputError(f"{where}.kind", '"liquid" is for liquid fuels')
     pressure = None
     if kind == "compressed":
-        pressure = _positive(table, "pressure_bar", where) * 1e5
+        pressure = _positive(table, "pressure_bar", where, MAX_STORAGE_BAR) * 1e5
     temperature = T_STANDARD
     if "temperature_c" in table:
-        temperature = _number(table, "temperature_c", where) + ZERO_CELSIUS
+        temperature = _number(table, "temperature_c", where, high=MAX_STORAGE_C) + ZERO_CELSIUS
         if temperature <= 0:
             raise InputError(f"{where}.temperature_c", "must be above -273.15")
     return StorageSpec(kind=kind, pressure=pressure, temperature=temperature,
@@ -633,11 +660,11 @@ def _pseudo_species(table: Mapping[str, Any], fuel_id: str, where: str) -> therm
     if "lhv_mj_per_kg" not in table:
         raise InputError(f"{where}.lhv_mj_per_kg", "is required for a pseudo-component "
                          "(its measured lower heating value)")
-    lhv = _positive(table, "lhv_mj_per_kg", where) * 1e6
-    mw = _positive(table, "molar_mass_kg_per_kmol", where)
+    lhv = _positive(table, "lhv_mj_per_kg", where, MAX_LHV_MJ_PER_KG) * 1e6
+    mw = _positive(table, "molar_mass_kg_per_kmol", where, MAX_MOLAR_MASS)
     cp_mass = DEFAULT_PSEUDO_CP_MASS
     if "cp_kj_per_kg_k" in table:
-        cp_mass = _positive(table, "cp_kj_per_kg_k", where) * 1e3
+        cp_mass = _positive(table, "cp_kj_per_kg_k", where, MAX_CP_KJ_PER_KG_K) * 1e3
     total = sum(mass_fractions.values())
     atoms = {el: y / total * mw / thermo.atomic_weight(el) for el, y in mass_fractions.items()
              if y > 0}

@@ -45,10 +45,20 @@ Price text
 ``"<number> [CODE] per <basis> [LHV|HHV]"`` or with ``/`` for ``per``; the code may also lead
 (``"EUR 1.45 per L"``). The basis may carry a number (``"per 1000 L"``, ``"per (5.660 lb)"``).
 A mapping ``{value = 1.45, per = "L"}`` (optionally ``currency``) is the same as ``"1.45 per L"``.
+
+The grammar
+-----------
+Quantity and price text is read by hand, never evaluated: pint's own parser runs the text as
+Python arithmetic ("9 ** 9 ** 9 km" hangs, "1 / 0 km" divides by zero, "5 km + 3 m" adds). A
+number (sign, decimals, an exponent of at most three digits, at most :data:`MAX_NUMBER` in
+size) is followed by a unit text that :func:`parse_unit` reads: unit names looked up one at a
+time, ``*``, ``/`` or ``per``, brackets, small whole powers, and positive numbers only where a
+group starts. ``docs/prices.md`` gives the grammar in full.
 """
 
 from __future__ import annotations
 
+import math
 import re
 from collections.abc import Mapping
 from dataclasses import dataclass, field
@@ -58,8 +68,11 @@ import numpy as np
 import pint
 from numpy.typing import ArrayLike, NDArray
 
+from workbench.core.cache import memoize
 from workbench.core.constants import MOLAR_VOLUME_STANDARD, T_NORMAL, T_STANDARD
 from workbench.core.errors import InputError
+from workbench.core.values import read_number
+from workbench.core.values import show as _show
 
 __all__ = [
     "DGE_NATURAL_GAS_MASS",
@@ -108,21 +121,226 @@ def _build_registry() -> pint.UnitRegistry:
 #: The package's one unit registry.
 ureg: pint.UnitRegistry = _build_registry()
 
-_NUMBER = r"[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?"
+#: Longest quantity or price text read [characters]; a quantity is a number and a unit.
+MAX_TEXT_LENGTH = 200
+#: Largest magnitude of a number a user types (1e15: a quadrillion of anything).
+MAX_NUMBER = 1e15
+#: Largest power a unit may be raised to (``m**3``, ``s**-2``).
+MAX_UNIT_POWER = 4
+_MAX_DEPTH = 3  # brackets nested in a unit text
+_NUMBER = r"[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d{1,3})?"
 _CODE = re.compile(r"\b[A-Z]{3}\b")
 #: A heating-value mark closing a price text ("per kWh HHV", "per GJ net").
 HEATING_VALUE_MARK = re.compile(r"\s+(LHV|HHV|NCV|GCV|net|gross)\s*$", re.IGNORECASE)
-# What pint raises on text it cannot read (UndefinedUnitError is an AttributeError, the tokenizer
-# raises SyntaxError/TokenError subclasses of ValueError or AssertionError on empty input).
-_PINT_ERRORS = (
-    pint.errors.PintError,
-    ValueError,
-    TypeError,
-    AttributeError,
-    SyntaxError,
-    AssertionError,
+_TOKEN = re.compile(
+    r"\s*(?:(?P<number>(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d{1,3})?)|(?P<name>[A-Za-z_][A-Za-z_0-9]*)"
+    r"|(?P<op>\*\*|\^|[*/()%·²³]))"
 )
+_POWER_NAME = re.compile(r"(mm|cm|dm|m|km|in|ft|yd)([23])")  # m3 = m**3, km2 = km**2
 _BASES = "a volume (L, m3, US_gallon), a mass (kg, lb), a standard gas volume (Sm3, Nm3) or an energy (GJ, kWh, therm, MMBtu, GGE, DGE, GLE, DLE)"  # noqa: E501
+
+
+def _number(text: str, where: str, whole: str) -> float:
+    """A written number, finite and within :data:`MAX_NUMBER`."""
+    value = float(text)
+    if not math.isfinite(value) or abs(value) > MAX_NUMBER:
+        raise InputError(where, f"{_show(whole)}: {text} is not a finite number of at most "
+                         f"{MAX_NUMBER:.0e} in size")
+    return value
+
+
+@memoize(maxsize=1024)
+def _named_unit(name: str) -> pint.Unit | None:
+    """The registry's unit called ``name`` (one identifier; never an expression), or None."""
+    m = _POWER_NAME.fullmatch(name)
+    if m is not None and not ureg.parse_unit_name(name):
+        return ureg.Unit(m.group(1)) ** int(m.group(2))
+    if name == "dimensionless":
+        return ureg.dimensionless
+    found = ureg.parse_unit_name(name)  # (prefix, unit, suffix) readings; nothing is evaluated
+    if not found:
+        return None
+    prefix, unit, _suffix = found[0]
+    return ureg.Unit(prefix + unit)
+
+
+class _UnitText:
+    """Recursive-descent reader of a unit text; see :func:`parse_unit`."""
+
+    def __init__(self, text: str, where: str, whole: str) -> None:
+        self.text, self.where, self.whole = text, where, whole
+        self.tokens: list[tuple[str, str]] = []
+        pos = 0
+        while pos < len(text):
+            m = _TOKEN.match(text, pos)
+            if m is None or m.end() == pos:
+                if not text[pos:].strip():
+                    break
+                self.fail(f"unexpected {text[pos:].lstrip()[0]!r}")
+            kind = m.lastgroup
+            assert kind is not None
+            self.tokens.append((kind, m.group(kind)))
+            pos = m.end()
+        self.i = 0
+
+    def fail(self, why: str) -> None:
+        raise InputError(self.where, f"cannot read the unit in {_show(self.whole)}: {why}; "
+                         "write a number and a unit such as '15000 km', '8.5 L/100 km' or "
+                         "'1.45 per L' (no arithmetic)")
+
+    def peek(self) -> tuple[str, str] | None:
+        return self.tokens[self.i] if self.i < len(self.tokens) else None
+
+    def take(self) -> tuple[str, str]:
+        tok = self.peek()
+        if tok is None:
+            self.fail("it ends too early")
+        self.i += 1
+        return tok  # type: ignore[return-value]
+
+    def is_division(self, tok: tuple[str, str] | None) -> bool:
+        return tok is not None and (tok == ("op", "/") or tok == ("name", "per"))
+
+    def expression(self, depth: int) -> tuple[float, pint.Unit]:
+        """``[/] factor {(* | / | per | space) factor}``; a leading number is a scale."""
+        scale, unit = 1.0, ureg.dimensionless
+        first = True
+        while True:
+            tok = self.peek()
+            if tok is None or tok == ("op", ")"):
+                if first:
+                    self.fail("a unit is missing")
+                return scale, unit
+            divide = self.is_division(tok)
+            if divide or tok in (("op", "*"), ("op", "·")):
+                self.take()
+            elif not first and tok[0] == "number":
+                self.fail(f"a number ({tok[1]}) inside a unit may only follow '/' or '('")
+            s, u = self.factor(depth, divide or first)
+            scale, unit = (scale / s, unit / u) if divide else (scale * s, unit * u)
+            first = False
+
+    def factor(self, depth: int, number_allowed: bool) -> tuple[float, pint.Unit]:
+        """``[number] atom [** power]``: a number only where a group may start."""
+        scale = 1.0
+        if self.peek() is not None and self.peek()[0] == "number":  # type: ignore[index]
+            if not number_allowed:
+                self.fail("a number inside a unit may only follow '/' or '('")
+            scale = _number(self.take()[1], self.where, self.whole)
+            if scale <= 0:
+                self.fail(f"the number {scale:g} inside the unit must be a positive amount")
+            if self.peek() is None or self.peek() == ("op", ")") or self.is_division(
+                    self.peek()):
+                return scale, ureg.dimensionless
+        kind, value = self.take()
+        if (kind, value) == ("op", "("):
+            if depth >= _MAX_DEPTH:
+                self.fail(f"more than {_MAX_DEPTH} nested brackets")
+            s, unit = self.expression(depth + 1)
+            if self.peek() != ("op", ")"):
+                self.fail("a bracket is not closed")
+            self.take()
+            scale *= s
+        elif (kind, value) == ("op", "%"):
+            unit = ureg.percent
+        elif kind == "name" and value != "per":
+            named = _named_unit(value)
+            if named is None:
+                self.fail(f"{value!r} is not a unit the workbench knows")
+            unit = named
+        else:
+            self.fail(f"unexpected {value!r}")
+        if self.peek() in (("op", "²"), ("op", "³")):
+            power = "2" if self.take()[1] == "²" else "3"
+        elif self.peek() in (("op", "**"), ("op", "^")):
+            self.take()
+            kind, power = self.take()
+            if kind != "number" or not power.isdigit() or not 1 <= int(power) <= MAX_UNIT_POWER:
+                self.fail(f"a power must be a whole number from 1 to {MAX_UNIT_POWER}")
+        else:
+            return scale, unit
+        return scale ** int(power), unit ** int(power)
+
+
+def parse_unit(text: str, *, where: str, whole: str | None = None,
+               leading_number: bool = True) -> pint.Quantity:
+    """Read a unit text (``"km"``, ``"L/100 km"``, ``"kg/m3"``, ``"(5.660 lb)"``) strictly.
+
+    The grammar has unit names from :data:`ureg`, ``%``, ``*``, ``/`` or ``per``, brackets
+    (at most three deep), powers ``**`` or ``^`` from 1 to :data:`MAX_UNIT_POWER`, and positive
+    numbers only where a group starts (``per 1000 L``, ``L/100 km``: the number and the unit
+    after it are one divisor). Nothing is evaluated: pint is handed one unit name at a time.
+
+    Parameters
+    ----------
+    text : str
+        The unit as written.
+    where : str
+        Key path or field named in errors.
+    whole : str, optional
+        The full text the unit was cut from, quoted in errors.
+    leading_number : bool
+        Whether the text may start with a number (``"1000 L"`` after a price's ``per``); the
+        unit after a quantity's own number may not (``"5 3 km"``).
+
+    Returns
+    -------
+    pint.Quantity
+        The unit with its numeric scale (``"1000 L"`` is 1000 litres).
+
+    Raises
+    ------
+    InputError
+        Text outside the grammar, an unknown unit, or a text longer than
+        :data:`MAX_TEXT_LENGTH`.
+    """
+    whole = text if whole is None else whole
+    if len(whole) > MAX_TEXT_LENGTH:
+        raise InputError(where, f"is {len(whole)} characters long; a quantity is a number and a "
+                         f"unit of at most {MAX_TEXT_LENGTH} characters")
+    reader = _UnitText(text, where, whole)
+    first = reader.peek()
+    if not leading_number and first is not None and first[0] == "number":
+        reader.fail("two numbers in a row")
+    scale, unit = reader.expression(0)
+    if reader.peek() is not None:
+        reader.fail(f"unexpected {reader.peek()[1]!r}")  # type: ignore[index]
+    return ureg.Quantity(scale, unit)
+
+
+def _split_code(text: str, currency: str | None, where: str) -> tuple[str, str | None]:
+    """Remove one currency code (three capitals that are not a unit) from ``text``."""
+    codes = [m for m in _CODE.finditer(text) if m.group() not in ureg]
+    if not codes:
+        return text, None
+    if len(codes) > 1:
+        raise InputError(where, f"{_show(text)} has more than one currency code; write one at "
+                         "most")
+    code = codes[0].group()
+    if currency is not None and code != currency:
+        raise InputError(
+            where, f"{_show(text)} is in {code} but the study currency is {currency}; convert "
+            "it first"
+        )
+    m = codes[0]
+    return (text[: m.start()] + " " + text[m.end() :]).strip(), code
+
+
+def _quantity(text: str, where: str) -> pint.Quantity:
+    """Read ``number [unit]``: the number by hand, the unit by :func:`parse_unit`."""
+    if len(text) > MAX_TEXT_LENGTH:
+        parse_unit(text, where=where)  # raises: too long
+    m = re.fullmatch(rf"\s*({_NUMBER})(?![0-9.eE])\s*(.*?)\s*", text)
+    if m is None:
+        raise InputError(where, f"{_show(text)} must start with a number, e.g. '15000 km'")
+    number = _number(m.group(1), where, text)
+    if not m.group(2):
+        return ureg.Quantity(number, ureg.dimensionless)
+    unit = parse_unit(m.group(2), where=where, whole=text, leading_number=False)
+    try:
+        return ureg.Quantity(number * unit.magnitude, unit.units)
+    except pint.errors.PintError as exc:
+        raise InputError(where, f"cannot use the unit in {_show(text)} ({exc})") from None
 
 
 @dataclass(frozen=True)
@@ -152,45 +370,6 @@ class Price:
     currency: str | None = None
     text: str = ""
     where: str = field(default="price", compare=False)
-
-
-def _normalise(text: str) -> str:
-    """Write ``per`` as ``/``, ``m3`` as ``m**3``, and group ``/ 100 km`` as ``/ (100 km)``."""
-    s = re.sub(r"\bper\b", "/", text)
-    s = re.sub(r"\b(mm|cm|dm|m|km|in|ft|yd)([23])\b", r"\1**\2", s)
-    return re.sub(rf"/\s*({_NUMBER})\s*([A-Za-z_][A-Za-z_0-9]*(?:\s*\*\*\s*\d)?)", r"/ (\1 \2)", s)
-
-
-def _split_code(text: str, currency: str | None, where: str) -> tuple[str, str | None]:
-    """Remove one currency code (three capitals that are not a unit) from ``text``."""
-    codes = [m for m in _CODE.finditer(text) if m.group() not in ureg]
-    if not codes:
-        return text, None
-    if len(codes) > 1:
-        raise InputError(where, f"{text!r} has more than one currency code; write one at most")
-    code = codes[0].group()
-    if currency is not None and code != currency:
-        raise InputError(
-            where, f"{text!r} is in {code} but the study currency is {currency}; convert it first"
-        )
-    m = codes[0]
-    return (text[: m.start()] + " " + text[m.end() :]).strip(), code
-
-
-def _quantity(text: str, where: str) -> pint.Quantity:
-    """Parse ``number unit`` into a Quantity; InputError on anything pint cannot read."""
-    s = _normalise(text)
-    m = re.fullmatch(rf"\s*({_NUMBER})\s*(.*?)\s*", s)
-    if m is None:
-        raise InputError(where, f"{text!r} must start with a number, e.g. '15000 km'")
-    number, unit = m.groups()
-    try:
-        try:
-            return ureg.parse_expression(s)
-        except pint.errors.OffsetUnitCalculusError:  # "15 degC": pint will not multiply it
-            return ureg.Quantity(float(number), unit)
-    except _PINT_ERRORS as exc:
-        raise InputError(where, f"cannot read the unit in {text!r} ({exc})") from None
 
 
 def parse_quantity(
@@ -236,25 +415,41 @@ def parse_quantity(
     1.5
     """
     if isinstance(text, bool) or not isinstance(text, str | int | float):
-        raise InputError(where, f"expected a number with a unit, got {text!r}")
+        raise InputError(where, f"expected a number with a unit, got {_show(repr(text))}")
+    if not isinstance(text, str):
+        read_number(text, where)
+    try:
+        return _quantity_value(str(text), expected_dimension, unit, currency)
+    except InputError as exc:
+        raise InputError(where, exc.message) from None
+
+
+@memoize(maxsize=4096)
+def _quantity_value(text: str, expected_dimension: str, unit: str | None,
+                    currency: str | None) -> float:
+    """:func:`parse_quantity` without ``where`` (errors name ``input``), cached by its text."""
+    where = "input"
     if "[" in expected_dimension:
         want = ureg.get_dimensionality(expected_dimension)
     else:
-        want = ureg.parse_expression(_normalise(expected_dimension)).dimensionality
-    body = str(text)
+        want = parse_unit(expected_dimension, where=where).dimensionality
+    body = text
     if want.get("[currency]", 0) != 0:
         body, _ = _split_code(body, currency, where)
     q = _quantity(body, where)
-    if want.get("[currency]", 0) != 0 and q.dimensionality.get("[currency]", 0) == 0:
-        q = q * ureg.currency_unit
-    if q.dimensionality != want:
-        if q.dimensionless:
-            raise InputError(where, f"{text!r} needs a unit of {want}, e.g. '{text} km'")
-        raise InputError(where, f"{text!r} is {q.dimensionality}, expected {want}")
-    out = q.to(unit) if unit is not None else q.to_base_units()
+    try:
+        if want.get("[currency]", 0) != 0 and q.dimensionality.get("[currency]", 0) == 0:
+            q = q * ureg.currency_unit
+        if q.dimensionality != want:
+            if q.dimensionless:
+                raise InputError(where, f"{_show(text)} needs a unit of {want}")
+            raise InputError(where, f"{_show(text)} is {q.dimensionality}, expected {want}")
+        out = q.to(unit) if unit is not None else q.to_base_units()
+    except pint.errors.PintError as exc:
+        raise InputError(where, f"cannot use the unit in {_show(text)} ({exc})") from None
     value = float(out.magnitude)
-    if not np.isfinite(value):
-        raise InputError(where, f"{text!r} is not a finite number")
+    if not math.isfinite(value):
+        raise InputError(where, f"{_show(text)} is not a finite number")
     return value
 
 
@@ -301,16 +496,19 @@ def parse_price(
             or not isinstance(per, str)
         ):
             raise InputError(where, "'value' must be a number and 'per' a unit text such as \"L\"")
+        read_number(value, where)
         code = text_or_mapping.get("currency", "")
         if not isinstance(code, str) or not re.fullmatch(r"(?:[A-Z]{3})?", code):
             raise InputError(
-                where, f"'currency' must be a three-letter code such as \"EUR\", got {code!r}"
+                where, f"'currency' must be a three-letter code such as \"EUR\", got "
+                f"{_show(repr(code))}"
             )
         text = f"{code} {value!r} per {per}".strip()
     elif isinstance(text_or_mapping, str):
         text = text_or_mapping
     else:
-        raise InputError(where, f"a price is a text such as '1.45 per L', got {text_or_mapping!r}")
+        raise InputError(where, "a price is a text such as '1.45 per L', got "
+                         f"{_show(repr(text_or_mapping))}")
 
     heating_value: Literal["LHV", "HHV"] = "LHV"
     hv = HEATING_VALUE_MARK.search(text)
@@ -319,21 +517,16 @@ def parse_price(
         heating_value = "LHV" if hv.group(1).upper() in ("LHV", "NCV", "NET") else "HHV"
         body = text[: hv.start()]
     body, code = _split_code(body, currency, where)
-    m = re.fullmatch(rf"\s*({_NUMBER})\s*(?:/|\bper\b)\s*(\S.*?)\s*", body)
+    m = re.fullmatch(rf"\s*({_NUMBER})(?![0-9.eE])\s*(?:/|\bper\b)\s*(\S.*?)\s*", body)
     if m is None:
         raise InputError(
-            where, f"write a price as '<number> per <unit>', e.g. '1.45 per L'; got {text!r}"
+            where, f"write a price as '<number> per <unit>', e.g. '1.45 per L'; got {_show(text)}"
         )
-    amount = float(m.group(1))
-    if not np.isfinite(amount) or amount < 0:
-        raise InputError(where, f"price {text!r} must be zero or positive")
+    amount = _number(m.group(1), where, text)
+    if amount < 0:
+        raise InputError(where, f"price {_show(text)} must be zero or positive")
     per = m.group(2)
-    try:
-        per_q = ureg.parse_expression(_normalise(per))
-    except _PINT_ERRORS as exc:
-        raise InputError(where, f"cannot read the unit {per!r} in {text!r} ({exc})") from None
-    if not isinstance(per_q, pint.Quantity):
-        raise InputError(where, f"{text!r} has no unit after 'per'; price per {_BASES}")
+    per_q = parse_unit(per, where=where, whole=text)
     dims = per_q.dimensionality
     bases = {
         "liquid_volume": ureg.get_dimensionality("[length] ** 3"),
@@ -343,14 +536,18 @@ def parse_price(
     }
     basis = next((name for name, d in bases.items() if d == dims), None)
     if basis is None:
-        raise InputError(where, f"cannot price fuel per {per!r} ({dims}); price per {_BASES}")
+        raise InputError(where, f"cannot price fuel per {_show(per)} ({dims}); price per {_BASES}")
     if hv is not None and basis != "energy":
         raise InputError(
-            where, f"{hv.group(1)} applies only to a price per energy; drop it from {text!r}"
+            where, f"{hv.group(1)} applies only to a price per energy; drop it from {_show(text)}"
         )
-    size = float(per_q.to_base_units().magnitude)
-    if not np.isfinite(size) or size <= 0:
-        raise InputError(where, f"the unit after 'per' in {text!r} must be a positive amount")
+    try:
+        size = float(per_q.to_base_units().magnitude)
+    except pint.errors.PintError as exc:
+        raise InputError(where, f"cannot use the unit in {_show(text)} ({exc})") from None
+    if not math.isfinite(size) or size <= 0:
+        raise InputError(where, f"the unit after 'per' in {_show(text)} must be a positive "
+                         "amount")
     return Price(amount / size, basis, heating_value, code, text, where)
 
 

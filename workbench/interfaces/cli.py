@@ -17,6 +17,7 @@ from __future__ import annotations
 import argparse
 import importlib
 import json
+import math
 import sys
 from collections.abc import Callable, Iterable, Iterator, Sequence
 from typing import Any
@@ -127,6 +128,32 @@ def command(sub: argparse._SubParsersAction, name: str, *, help: str, descriptio
                           epilog="example" + ("s" if len(examples) > 1 else "") + ":\n"
                           + "\n".join(f"  {e}" for e in examples),
                           formatter_class=_Formatter)
+
+
+def finite_float(text: str) -> float:
+    """Argument type of every numeric option: a finite number (no NaN, no infinity).
+
+    Parameters
+    ----------
+    text : str
+        The option's value as typed.
+
+    Returns
+    -------
+    float
+
+    Raises
+    ------
+    argparse.ArgumentTypeError
+        Not a number, or NaN or infinite; argparse prints it as one usage line (exit 2).
+    """
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"must be a number, got {text[:40]!r}") from None
+    if not math.isfinite(value):
+        raise argparse.ArgumentTypeError(f"must be a finite number, got {text[:40]!r}")
+    return value
 
 
 def build_parser() -> argparse.ArgumentParser:

@@ -163,8 +163,12 @@ def _decode(raw: bytes, name: str, lineno: int) -> str:
                                               "(\"CSV UTF-8\" in a spreadsheet)") from None
 
 
-def _split(line: str) -> list[str]:
-    return [c.strip() for c in next(csv.reader([line]))]
+def _split(line: str, name: str, lineno: int) -> list[str]:
+    try:
+        return [c.strip() for c in next(csv.reader([line]))]
+    except csv.Error as exc:  # a lone carriage return or a stray quote inside the line
+        raise InputError(f"{name} row {lineno}", f"cannot be split into fields ({exc}); save "
+                         "the file as plain CSV") from None
 
 
 def _heads(data: bytes, offset: int, name: str, head_rows: int
@@ -184,7 +188,7 @@ def _heads(data: bytes, offset: int, name: str, head_rows: int
         if text.startswith("#"):
             comments.append((lineno, text[1:].strip()))
         elif text:
-            heads.append(tuple(_split(text)))
+            heads.append(tuple(_split(text, name, lineno)))
             lines.append(lineno)
         offset, lineno = end, lineno + 1
     return tuple(heads), tuple(lines), comments, offset, lineno
@@ -263,7 +267,7 @@ def _slow(body: bytes, name: str, header: tuple[str, ...], wanted: list[int], fi
         if s.startswith("#"):
             comments.append((lineno, s[1:].strip()))
             continue
-        cells = _split(s.split("#", 1)[0] if "#" in s and '"' not in s else s)
+        cells = _split(s.split("#", 1)[0] if "#" in s and '"' not in s else s, name, lineno)
         if len(cells) != width:
             raise InputError(f"{name} row {lineno}", f"has {len(cells)} fields, the header has "
                                                      f"{width}; make every row as wide as it")

@@ -43,6 +43,19 @@ def _numbers(table: CsvTable, cells: tuple[str, ...], lineno: int, what: str) ->
     return out
 
 
+#: Upper ends of a map's numbers, far beyond any vehicle engine: speed [rpm], torque [N m]
+#: (a truck engine gives some 3000), idle fuel [kW].
+MAX_SPEED_RPM = 20_000.0
+MAX_TORQUE = 100_000.0
+MAX_IDLE_FUEL_KW = 1000.0
+
+
+def _at_most(values: np.ndarray, high: float, where: str, what: str) -> None:
+    if np.any(values > high):
+        raise InputError(where, f"{what} {float(values.max()):g} is beyond any vehicle engine; at "
+                         f"most {high:g}")
+
+
 def _meta_number(name: str, meta: dict[str, tuple[int, str]], key: str) -> float:
     text = meta[key][1]
     try:
@@ -84,6 +97,7 @@ def _parse_map(name: str, data: bytes) -> EngineMap:
         raise InputError(f"{name} row {hline}",
                          "first header cell must be torque_n_m/speed_rpm (or speed_rad_per_s)")
     speed = _numbers(table, header, hline, "speed") * _SPEED_UNITS[m.group(1)]
+    _at_most(to_rpm(speed), MAX_SPEED_RPM, f"{name} row {hline}", "speed [rpm]")
     bad = np.flatnonzero(np.diff(speed) <= 0)
     if bad.size:
         raise InputError(f"{name} row {hline} column {bad[0] + 3}",
@@ -92,6 +106,7 @@ def _parse_map(name: str, data: bytes) -> EngineMap:
         raise InputError(f"{name} row {fline}",
                          "second row must be the full_load torque row, 'full_load,<N m>...'")
     full = _numbers(table, full_row, fline, "full_load")
+    _at_most(full, MAX_TORQUE, f"{name} row {fline}", "full-load torque [N m]")
     values = np.column_stack([table.columns[j] for j in range(len(header))])
     missing = ~np.isfinite(values)
     if missing.any():
@@ -99,6 +114,7 @@ def _parse_map(name: str, data: bytes) -> EngineMap:
         raise InputError(f"{table.where(int(i))} column {j + 1}",
                          "map cell '' is missing or not a number; fill every cell")
     torque = values[:, 0]
+    _at_most(torque, MAX_TORQUE, f"{name} column 1", "torque [N m]")
     bad = np.flatnonzero(np.diff(torque) <= 0)
     if bad.size:
         raise InputError(table.where(int(bad[0]) + 1),
@@ -117,11 +133,13 @@ def _parse_map(name: str, data: bytes) -> EngineMap:
         i, j = np.argwhere(bad_cells)[0]
         raise InputError(f"{table.where(int(i))} column {j + 2}",
                          "efficiency must be in (0, 1); check the value kind and units")
+    idle_kw = _meta_number(name, meta, "idle_fuel_power_kw")
+    _at_most(np.array([idle_kw]), MAX_IDLE_FUEL_KW, f"{name}: idle_fuel_power_kw", "idle fuel [kW]")
     try:
         return EngineMap(name=name, speed=speed, torque=torque, efficiency=grid,
                          full_load_torque=full,
                          idle_speed=_meta_number(name, meta, "idle_speed_rpm") * RPM,
-                         idle_fuel_power=_meta_number(name, meta, "idle_fuel_power_kw") * 1e3)
+                         idle_fuel_power=idle_kw * 1e3)
     except InputError as exc:
         raise InputError(f"{name}: {exc.where.split(': ')[-1]}", exc.message) from None
 

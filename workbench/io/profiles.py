@@ -14,7 +14,6 @@ edited file is read again.
 from __future__ import annotations
 
 import hashlib
-import tomllib
 from pathlib import Path
 
 import numpy as np
@@ -22,6 +21,7 @@ import numpy as np
 from workbench.core.cache import memoize
 from workbench.core.constants import RPM
 from workbench.core.errors import InputError
+from workbench.core.textfiles import parse_toml
 from workbench.io.csvtext import CsvTable, parse_csv, read_file_bytes
 from workbench.models.duty import DutyTrace, ModeTable
 
@@ -43,6 +43,15 @@ MODE_COLUMNS: dict[str, dict[str, float]] = {
 }
 
 _SPECS = {"trace": TRACE_COLUMNS, "mode": MODE_COLUMNS}
+#: Upper ends of a profile's numbers [SI], far beyond any road vehicle, and how they are said:
+#: larger values overflow the road-load and fuel sums (v³, speed × time).
+HIGHEST: dict[str, tuple[float, str]] = {
+    "time": (1e9, "1e9 s (31 years)"),
+    "speed": (500 / 3.6, "500 km/h"),
+    "payload": (200_000.0, "200 t"),
+    "engine_speed": (20_000 * RPM, "20 000 rpm"),
+    "torque": (100_000.0, "100 000 N m"),
+}
 _REQUIRED = {"trace": ("time", "speed"), "mode": ("engine_speed", "torque", "time")}
 
 
@@ -50,10 +59,7 @@ def _side_units(name: str, text: str | None) -> dict[str, str]:
     if text is None:
         return {}
     side = str(Path(name).with_name(Path(name).stem + ".units.toml"))
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise InputError(side, f"not valid TOML ({exc}); fix the syntax") from None
+    data = parse_toml(text, side)
     units = data.get("units")
     if not isinstance(units, dict) or not all(isinstance(u, str) for u in units.values()):
         raise InputError(side, "needs a [units] table of column = \"unit\" strings")
@@ -118,6 +124,12 @@ def _parse_profile(name: str, data: bytes, side: str | None) -> DutyTrace | Mode
         raise InputError(name, f"missing column {q} (e.g. {q}_{next(iter(spec[q]))})")
     cols = {q: table.columns[j] if factor == 1.0 else table.columns[j] * factor
             for q, (j, factor) in found.items()}
+    for q, values in cols.items():
+        high, said = HIGHEST.get(q, (np.inf, ""))
+        beyond = values > high  # NaN is not beyond: the model names a missing cell
+        if beyond.any():
+            raise InputError(table.where(int(np.argmax(beyond))),
+                             f"{q} is beyond any road vehicle; at most {said}")
     if kind == "mode":
         return _mode_table(table, cols)
     return DutyTrace(time=cols["time"], speed=cols["speed"], grade=cols.get("grade"),
@@ -169,7 +181,7 @@ def read_profile(path: str | Path) -> DutyTrace | ModeTable:
     side = None
     if side_path.is_file():
         try:
-            side = read_file_bytes(side_path).decode("utf-8")
+            side = read_file_bytes(side_path).decode("utf-8-sig")
         except UnicodeDecodeError:
             raise InputError(str(side_path), "is not UTF-8 text; save it as UTF-8") from None
     return _parse_profile(str(path), data, side)

@@ -9,12 +9,13 @@ file's content.
 from __future__ import annotations
 
 import hashlib
-import tomllib
 from pathlib import Path
 
 from workbench.core.cache import memoize
 from workbench.core.constants import RPM
 from workbench.core.errors import InputError
+from workbench.core.textfiles import parse_toml
+from workbench.core.values import read_number
 from workbench.io.csvtext import read_file_bytes
 from workbench.models.vehicle import Vehicle
 
@@ -37,10 +38,24 @@ _TOML_FIELDS: dict[str, tuple[str, float]] = {
 _OPTIONAL = {"air_density_kg_per_m3", "rotating_mass_factor"}
 
 
+#: Upper ends of the vehicle numbers [unit of the key], far beyond any road vehicle (a 40 t
+#: truck, a 3 m² bus front, 20 000 rpm); the lower ends are the model's own checks.
+_HIGHEST = {
+    "mass_kg": 200_000.0, "payload_kg": 200_000.0, "frontal_area_m2": 50.0,
+    "wheel_radius_m": 3.0, "final_drive": 50.0, "shift_speed_rpm": 20_000.0,
+    "max_engine_speed_rpm": 20_000.0, "air_density_kg_per_m3": 5.0,
+}
+#: Largest gear ratio and most gears.
+_MAX_GEAR_RATIO = 100.0
+_MAX_GEARS = 30
+
+
 def _number(path: Path, key: str, raw: object) -> object:
     value = raw.get("value") if isinstance(raw, dict) else raw
     if isinstance(value, bool) or not isinstance(value, int | float | list):
         raise InputError(f"{path}: {key}", "must be a number or { value = ..., source = \"...\" }")
+    if not isinstance(value, list):
+        read_number(value, f"{path}: {key}", high=_HIGHEST.get(key))
     return value
 
 
@@ -74,18 +89,15 @@ def _key(name: str, data: bytes) -> tuple[str, bytes]:
 def _parse_vehicle(name: str, data: bytes) -> Vehicle:
     """A vehicle from the file's bytes (cached by their content)."""
     path = Path(name)
-    try:
-        tree = tomllib.loads(data.decode("utf-8-sig"))
-    except UnicodeDecodeError:
-        raise InputError(str(path), "is not UTF-8 text; save it as UTF-8") from None
-    except tomllib.TOMLDecodeError as exc:
-        raise InputError(str(path), f"not a readable TOML file ({exc}); fix the syntax"
-                         ) from None
+    tree = parse_toml(data, str(path))
     known = {"name", "description", "invented", "source", "gear_ratios", *_TOML_FIELDS}
     for key in tree:
         if key not in known:
             raise InputError(f"{path}: {key}", f"unknown key; known keys: {', '.join(known)}")
-    kwargs: dict[str, object] = {"name": str(tree.get("name", path.stem))}
+    name = tree.get("name", path.stem)
+    if not isinstance(name, str):
+        raise InputError(f"{path}: name", f"must be a text, got {type(name).__name__}")
+    kwargs: dict[str, object] = {"name": name}
     for key, (attr, factor) in _TOML_FIELDS.items():
         if key not in tree:
             if key in _OPTIONAL:
@@ -101,6 +113,10 @@ def _parse_vehicle(name: str, data: bytes) -> Vehicle:
     if not isinstance(gears, list) or not all(
             isinstance(g, int | float) and not isinstance(g, bool) for g in gears):
         raise InputError(f"{path}: gear_ratios", "must be a list of numbers, first gear first")
+    if len(gears) > _MAX_GEARS:
+        raise InputError(f"{path}: gear_ratios", f"lists {len(gears)} gears; at most {_MAX_GEARS}")
+    for i, g in enumerate(gears):
+        read_number(g, f"{path}: gear_ratios[{i}]", high=_MAX_GEAR_RATIO)
     kwargs["gear_ratios"] = tuple(float(g) for g in gears)
     try:
         return Vehicle(**kwargs)  # type: ignore[arg-type]

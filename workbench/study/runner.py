@@ -51,6 +51,7 @@ from workbench.study.studyfile import (
     Study,
     StudyInputs,
     Uncertain,
+    check_draws,
     sold_as_liquid,
 )
 
@@ -480,9 +481,7 @@ def run(study: Study, *, draws: int | None = None,
     """
     inputs = study.inputs
     say = progress or (lambda _text: None)
-    n = inputs.draws if draws is None else draws
-    if n < 0:
-        raise InputError("draws", "must be 0 or more")
+    n = inputs.draws if draws is None else check_draws(draws, inputs, "draws")
     say("physics and chemistry (cached after the first run)")
     plan, physics_tables = _plan(inputs)
     say("money")

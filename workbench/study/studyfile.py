@@ -25,7 +25,6 @@ from __future__ import annotations
 import copy
 import math
 import re
-import tomllib
 from collections.abc import Callable, Iterable, Mapping
 from dataclasses import dataclass, field, replace
 from pathlib import Path
@@ -38,12 +37,14 @@ from workbench.core.errors import InputError
 from workbench.core.fuels import BASES, Fuel, blend, load_fuel
 from workbench.core.paths import DATA
 from workbench.core.text import sha256_hex
+from workbench.core.textfiles import check_file_name, parse_toml
 from workbench.core.units import (
     HEATING_VALUE_MARK,
     Price,
     check_price_basis,
     parse_price,
     parse_quantity,
+    read_number,
 )
 from workbench.io.files import write_text_atomic
 from workbench.io.logs import FleetSource, fleet_source, list_vehicles
@@ -63,7 +64,7 @@ from workbench.models.conversion import (
     regime_mismatch,
 )
 from workbench.models.duty import DutyTrace, ModeTable
-from workbench.models.economics import Correlation, Distribution
+from workbench.models.economics import DISTRIBUTION_PARAMETERS, Correlation, Distribution
 from workbench.models.engine import EngineMap
 from workbench.models.nox import ENGINE_PRESETS, EngineOutNOx
 from workbench.models.vehicle import Vehicle
@@ -73,6 +74,26 @@ DEMO_STUDY = DATA / "studies" / "kestrel-bay.toml"
 
 _DIST_PARAMS = ("value", "low", "mode", "high", "mean", "sd")
 PERCENT = ("%", 100.0)
+#: Calendar years a programme may start in.
+START_YEARS = (1900, 2200)
+#: Longest horizon and remaining life [years]; a fleet programme runs a few decades at most.
+MAX_YEARS = 100
+#: Most vehicles in one class.
+MAX_COUNT = 10_000_000
+#: Most distance per vehicle and year [m]: 24 h a day at 200 km/h is 1.75 million km.
+MAX_KM_PER_YEAR = 2.0e9
+#: Longest target range for tank sizing [m].
+MAX_RANGE = 1.0e7
+#: Largest engine-out NOx by unit: far beyond any engine (a diesel without controls emits
+#: some 10 g/kWh, about 2000 ppm); 10^6 ppm is the whole exhaust.
+MAX_ENGINE_OUT_NOX = {"g/km": 1000.0, "g/kWh": 1000.0, "ppm": 1e6}
+#: Largest well-to-tank CO2e [g/MJ] (coal-to-liquid fuels are some 200 g/MJ, from memory).
+MAX_WTT_G_PER_MJ = 1000.0
+#: Most Monte Carlo draws; each draw keeps every option's yearly cash flows in memory.
+MAX_DRAWS = 1_000_000
+#: Real discount rate per year [-]: from -10 % (rates below zero have happened) to 100 %;
+#: near -100 % the discount factor (1 + r)^-t explodes.
+DISCOUNT_RATE_RANGE = (-0.10, 1.0)
 
 
 @dataclass(frozen=True)
@@ -394,17 +415,21 @@ def read_study(path: str | Path) -> Study:
     -------
     Study
     """
-    p = DEMO_STUDY if str(path) == "demo" else Path(path)
+    p = DEMO_STUDY if str(path) == "demo" else Path(check_file_name(
+        str(path) if isinstance(path, Path) else path, "study", what="a study .toml file"))
     if not p.is_file():
         raise InputError(str(path), "no such study file; check the path")
     try:
-        text = p.read_bytes().decode("utf-8")  # no newline translation: the text is the bytes
-    except UnicodeDecodeError as exc:
-        raise InputError(str(p), f"not valid TOML ({exc}); fix the syntax") from None
-    return parse_study(text, where=str(p), base_dir=p.resolve().parent)
+        raw = p.read_bytes()
+    except OSError as exc:
+        raise InputError(str(p), f"cannot read the file ({exc.strerror}); check it") from None
+    data = parse_toml(raw, str(p))  # the checks of every TOML reader (UTF-8, BOM, nesting)
+    text = raw.decode("utf-8")  # no newline translation: the text is the bytes
+    return parse_study(text, where=str(p), base_dir=p.resolve().parent, data=data)
 
 
-def parse_study(text: str, *, where: str, base_dir: Path) -> Study:
+def parse_study(text: str, *, where: str, base_dir: Path,
+                data: Mapping[str, Any] | None = None) -> Study:
     """Check the text of a study file (read from a file, or from standard input).
 
     Parameters
@@ -415,15 +440,15 @@ def parse_study(text: str, *, where: str, base_dir: Path) -> Study:
         Name of the file (or ``<stdin>``) that errors name.
     base_dir : pathlib.Path
         Folder the study's relative paths are resolved from.
+    data : mapping, optional
+        The text already parsed (by :func:`read_study`); parsed here when omitted.
 
     Returns
     -------
     Study
     """
-    try:
-        data = tomllib.loads(_split_bom(text)[1])
-    except tomllib.TOMLDecodeError as exc:
-        raise InputError(where, f"not valid TOML ({exc}); fix the syntax") from None
+    if data is None:
+        data = parse_toml(text.encode("utf-8"), where)
     try:
         return Study(data, where=where, base_dir=base_dir, text=text)
     except InputError as exc:
@@ -465,6 +490,13 @@ class _Reader:
     def at(self, key: str) -> str:
         return f"{self.path}.{key}" if self.path else key
 
+    def only(self, known: Iterable[str], what: str) -> None:
+        """Refuse keys not in ``known`` (a misspelt key would otherwise be ignored)."""
+        names = sorted(known)
+        for key in self.table:
+            if key not in names:
+                raise InputError(self.at(str(key)), f"unknown key; {what} has {', '.join(names)}")
+
     def has(self, key: str) -> bool:
         return key in self.table
 
@@ -475,18 +507,19 @@ class _Reader:
             raise InputError(self.at(key), "is required")
         return default
 
-    def text(self, key: str, default: Any = ...) -> str:
+    def text(self, key: str, default: Any = ..., *, empty: bool = False) -> str:
         value = self.raw(key, default)
-        if not isinstance(value, str) or not value.strip():
-            raise InputError(self.at(key), f"must be a non-empty text, got {value!r}")
+        if not isinstance(value, str) or not (empty or value.strip()):
+            raise InputError(self.at(key), f"must be a non-empty text, got {_short(value)}")
         return value
 
-    def integer(self, key: str, default: Any = ..., *, low: int = 0) -> int:
+    def integer(self, key: str, default: Any = ..., *, low: int = 0, high: int) -> int:
         value = self.raw(key, default)
         if isinstance(value, bool) or not isinstance(value, int):
-            raise InputError(self.at(key), f"must be a whole number, got {value!r}")
-        if value < low:
-            raise InputError(self.at(key), f"must be {low} or more, got {value}")
+            raise InputError(self.at(key), f"must be a whole number, got {_short(value)}")
+        if not low <= value <= high:
+            raise InputError(self.at(key), f"must be from {low:,} to {high:,}, got "
+                             f"{_short(value)}")
         return value
 
     def flag(self, key: str, default: bool) -> bool:
@@ -548,6 +581,7 @@ def _uncertain(raw: Any, parse: Callable[[Any, str], float], where: str,
     if "kind" not in raw:
         raise InputError(f"{where}.kind", "a distribution needs a kind: uniform, triangular, "
                          "normal, lognormal or fixed")
+    _choice(raw["kind"], f"{where}.kind", DISTRIBUTION_PARAMETERS, "distribution kind")
     params = {}
     for k, v in raw.items():
         if k == "kind":
@@ -560,15 +594,21 @@ def _uncertain(raw: Any, parse: Callable[[Any, str], float], where: str,
         dist = Distribution.from_mapping({"kind": raw["kind"], **params}, where=where)
     except InputError as exc:
         raise InputError(exc.where, _as_written(exc, raw)) from None
+    for k in ("low", "high", "value"):  # the number the user typed is named first
+        if params.get(k) is not None:
+            _check_range(params[k], f"{where}.{k}", low, high, unit)
     if dist.kind == "normal":  # cut to the input's range: no negative price, km or cost
         _check_range(params["mean"], f"{where}.mean", low, high, unit)
         dist = replace(dist, lower=low, upper=high)
     nominal = dist.mode if dist.kind == "triangular" else dist.expected_value()
     _check_range(float(nominal), where, low, high, unit)
-    for k in ("low", "high", "value"):
-        if params.get(k) is not None:
-            _check_range(params[k], f"{where}.{k}", low, high, unit)
     return Uncertain(float(nominal), dist, where, *unit)
+
+
+def _short(value: Any) -> str:
+    """``repr(value)`` cut to 60 characters, for an error line."""
+    text = repr(value)
+    return text if len(text) <= 60 else text[:57] + "..."
 
 
 #: Messages of a distribution's order checks, in the user's own text (not SI values).
@@ -597,7 +637,7 @@ def _money(raw: Any, where: str) -> float:
 
 def _money_per_year(raw: Any, where: str) -> float:
     if isinstance(raw, int | float) and not isinstance(raw, bool):
-        return float(raw)  # a bare number is per year
+        return read_number(raw, where)  # a bare number is per year
     return parse_quantity(raw, "[currency] / [time]", where=where, unit="currency_unit / year")
 
 
@@ -607,7 +647,7 @@ def _fraction(raw: Any, where: str) -> float:
 
 def _days(raw: Any, where: str) -> float:
     if isinstance(raw, int | float) and not isinstance(raw, bool):
-        return float(raw)
+        return read_number(raw, where)
     return parse_quantity(raw, "[time]", where=where, unit="day")
 
 
@@ -618,24 +658,20 @@ def _km_per_year(raw: Any, where: str) -> float:
 def _per_mass(unit_mass: str) -> Callable[[Any, str], float]:
     def parse(raw: Any, where: str) -> float:
         if isinstance(raw, int | float) and not isinstance(raw, bool):
-            return float(raw) / parse_quantity(f"1 {unit_mass}", "[mass]", where=where)
+            return read_number(raw, where) / parse_quantity(f"1 {unit_mass}", "[mass]",
+                                                            where=where)
         return parse_quantity(raw, "[currency] / [mass]", where=where)
     return parse
 
 
 def _g_per_mj(raw: Any, where: str) -> float:
-    if isinstance(raw, bool) or not isinstance(raw, int | float):
-        raise InputError(where, f"must be a number of g CO2e per MJ, got {raw!r}")
-    return float(raw) * 1e-9  # [kg/J]
+    return read_number(raw, where, what="a number of g CO2e per MJ") * 1e-9  # [kg/J]
 
 
 def _parse(data: Mapping[str, Any], base_dir: Path) -> StudyInputs:
     top = _Reader(data, "")
-    known = {"title", "currency", "fictional", "notes", "programme", "classes", "baseline",
-             "candidates", "prices", "escalation", "upstream", "correlations"}
-    for key in data:
-        if key not in known:
-            raise InputError(key, f"unknown key; a study has {', '.join(sorted(known))}")
+    top.only(("title", "currency", "fictional", "notes", "programme", "classes", "baseline",
+              "candidates", "prices", "escalation", "upstream", "correlations"), "a study")
     currency = top.text("currency")
     if not re.fullmatch(r"[A-Z]{3}", currency):
         raise InputError("currency", f"must be a three-letter code such as EUR, got {currency!r}")
@@ -667,7 +703,7 @@ def _parse(data: Mapping[str, Any], base_dir: Path) -> StudyInputs:
         title=top.text("title"),
         currency=currency,
         fictional=top.flag("fictional", False),
-        notes=str(top.raw("notes", "")),
+        notes=top.text("notes", "", empty=True),
         classes=classes,
         baseline=baseline,
         candidates=candidates,
@@ -689,16 +725,20 @@ def _local_sections(top: _Reader, fuels: Mapping[str, Fuel], currency: str,
     out: dict[str, Any] = {}
     if "programme" in sections:
         prog = _Reader(top.raw("programme"), "programme")
-        out["horizon_years"] = prog.integer("horizon_years", low=1)
-        out["start_year"] = prog.integer("start_year", 2027, low=1900)
-        out["discount_rate"] = prog.uncertain("discount_rate", _fraction, low=-0.99, high=1.0,
-                                              unit=PERCENT)
+        prog.only(("start_year", "horizon_years", "discount_rate", "carbon_price",
+                   "nox_damage_cost", "monte_carlo_draws", "seed"), "[programme]")
+        out["horizon_years"] = prog.integer("horizon_years", low=1, high=MAX_YEARS)
+        out["start_year"] = prog.integer("start_year", 2027, low=START_YEARS[0],
+                                         high=START_YEARS[1])
+        out["discount_rate"] = prog.uncertain("discount_rate", _fraction,
+                                              low=DISCOUNT_RATE_RANGE[0],
+                                              high=DISCOUNT_RATE_RANGE[1], unit=PERCENT)
         out["carbon_price"] = prog.uncertain("carbon_price", _per_mass("t"), 0.0, low=0.0,
                                              unit=(f"{currency}/t", 1e3))
         out["nox_damage_cost"] = prog.uncertain("nox_damage_cost", _per_mass("kg"), 0.0,
                                                 low=0.0, unit=(f"{currency}/kg", 1.0))
-        out["draws"] = prog.integer("monte_carlo_draws", 10_000, low=0)
-        out["seed"] = prog.integer("seed", 12345, low=0)
+        out["draws"] = prog.integer("monte_carlo_draws", 10_000, low=0, high=2**63)
+        out["seed"] = prog.integer("seed", 12345, low=0, high=2**63 - 1)
     if "prices" in sections:
         out["prices"] = _prices(_Reader(top.raw("prices"), "prices"), fuels, currency)
     if "escalation" in sections:
@@ -722,8 +762,60 @@ def _with_uncertain(inputs: StudyInputs, correlations: Any) -> StudyInputs:
     (the raw ``[[correlations]]`` tables, checked against them) filled in."""
     uncertain = {u.path: u.dist for u in all_uncertain(inputs) if u.dist is not None
                  and not u.dist.spread_is_zero}
-    return replace(inputs, uncertain=uncertain,
-                   correlation=_correlations(correlations, uncertain))
+    inputs = replace(inputs, uncertain=uncertain,
+                     correlation=_correlations(correlations, uncertain))
+    check_draws(inputs.draws, inputs, "programme.monte_carlo_draws")
+    return inputs
+
+
+def check_draws(draws: int, inputs: StudyInputs, where: str) -> int:
+    """Check a number of Monte Carlo draws against :data:`MAX_DRAWS`.
+
+    Parameters
+    ----------
+    draws : int
+        Draws asked for; 0 turns the Monte Carlo off.
+    inputs : StudyInputs
+        The study (its options, horizon and uncertain inputs set the memory a draw takes).
+    where : str
+        Key path or option named in the error.
+
+    Returns
+    -------
+    int
+        ``draws``.
+
+    Raises
+    ------
+    InputError
+        Not a whole number, below 0, or above :data:`MAX_DRAWS`; the message gives the memory
+        the draws would take: 8 bytes per draw for each uncertain input and for each option's
+        costs, cash flow and CO2e and the fleet's distance in every year.
+    """
+    if isinstance(draws, bool) or not isinstance(draws, int):
+        raise InputError(where, f"must be a whole number of draws, got {_short(draws)}")
+    if draws < 0:
+        raise InputError(where, f"must be 0 or more, got {draws}")
+    if draws > MAX_DRAWS:
+        per_draw = 8 * (len(inputs.uncertain)
+                        + (3 * len(inputs.options) + 1) * (inputs.horizon_years + 1))
+        raise InputError(where, f"{_count(draws)} draws would need ~{_size(draws * per_draw)} of "
+                         f"memory; at most {MAX_DRAWS:,}")
+    return draws
+
+
+def _count(n: int) -> str:
+    exponent = len(str(n)) - 1
+    return f"10^{exponent}" if n == 10**exponent else f"{n:,}" if exponent < 16 else \
+        f"{n:.2e}"
+
+
+def _size(n_bytes: float) -> str:
+    for unit in ("B", "kB", "MB", "GB", "TB", "PB", "EB"):
+        if n_bytes < 1000 or unit == "EB":
+            return f"{n_bytes:.0f} {unit}"
+        n_bytes /= 1000
+    raise AssertionError("unreachable")
 
 
 def _correlations(raw: Any, uncertain: Mapping[str, Distribution]) -> Correlation | None:
@@ -855,8 +947,9 @@ def resolve_data_file(raw: Any, where: str, kind: str, base_dir: Path) -> Path:
         shipped = sorted(p.stem for p in (DATA / folder).glob(f"*{suffixes[0]}")) if folder else []
         return f" or a shipped {kind} ({', '.join(shipped)})" if shipped else ""
 
-    if not isinstance(raw, str) or not raw.strip() or "\x00" in raw or len(raw) > 4096:
+    if not isinstance(raw, str) or not raw.strip():
         raise InputError(where, f"must name a {'/'.join(suffixes)} file{names()}")
+    check_file_name(raw, where, what=f"a {'/'.join(suffixes)} file")
     if folder and re.fullmatch(r"[A-Za-z0-9_.-]+", raw) and not raw.endswith(suffixes):
         shipped = DATA / folder / f"{raw}{suffixes[0]}"
         if shipped.is_file():
@@ -890,6 +983,8 @@ def _profile(raw: Any, where: str, base_dir: Path
              ) -> tuple[Path, DutyTrace | ModeTable | FleetSource]:
     """A shipped profile or a profile CSV, read; or a fleet's logs (folder, glob, Parquet
     dataset, relative to the study's folder), listed (each vehicle is read when run)."""
+    if isinstance(raw, str) and raw.strip():
+        check_file_name(raw, where, what="a profile .csv file or a folder of logs")
     logs = fleet_source(raw, base_dir) if isinstance(raw, str) and raw.strip() else None
     if logs is None:
         return _read_data_file(raw, where, "profile", base_dir, read_profile)
@@ -917,6 +1012,9 @@ def _physics_input(varied: list[tuple[str, Uncertain]]) -> Callable[..., float]:
 
 
 def _fleet_class(r: _Reader, base_dir: Path, currency: str) -> FleetClass:
+    r.only(("id", "name", "count", "km_per_year", "hours_per_day", "remaining_life_years",
+            "profile", "vehicle", "engine_map", "range", "upkeep_per_year", "daily_revenue",
+            "accessory_power", "engine_off_at_stops", "extra_idle_share"), "a class")
     cid = r.text("id")
     if not re.fullmatch(r"[A-Za-z0-9_-]+", cid):
         raise InputError(r.at("id"), "use letters, digits, - and _ only")
@@ -929,18 +1027,19 @@ def _fleet_class(r: _Reader, base_dir: Path, currency: str) -> FleetClass:
                                            base_dir, read_map)
     return FleetClass(
         id=cid,
-        name=str(r.raw("name", cid)),
-        count=r.integer("count", low=1),
-        km_per_year=r.uncertain("km_per_year", _km_per_year, low=1.0, unit=("km", 1e-3)),
+        name=r.text("name", cid),
+        count=r.integer("count", low=1, high=MAX_COUNT),
+        km_per_year=r.uncertain("km_per_year", _km_per_year, low=1.0, high=MAX_KM_PER_YEAR,
+                                unit=("km", 1e-3)),
         hours_per_day=r.quantity("hours_per_day", "[]", 8, low=0.0, high=24.0),
-        remaining_life_years=r.integer("remaining_life_years", low=1),
+        remaining_life_years=r.integer("remaining_life_years", low=1, high=MAX_YEARS),
         profile=profile,
         vehicle=vehicle,
         engine_map=engine_map,
         profile_data=duty,
         vehicle_data=vehicle_data,
         map_data=map_data,
-        range=r.quantity("range", "[length]", "500 km", low=1.0),
+        range=r.quantity("range", "[length]", "500 km", low=1.0, high=MAX_RANGE),
         upkeep_per_year=r.uncertain("upkeep_per_year", _money_per_year, 0.0, low=0.0,
                                     unit=(f"{currency}/year", 1.0)),
         daily_revenue=r.uncertain("daily_revenue", _money, 0.0, low=0.0,
@@ -965,19 +1064,17 @@ def _option(r: _Reader, classes: tuple[FleetClass, ...], baseline: Option | None
     oid = r.text("id")
     if not re.fullmatch(r"[A-Za-z0-9_-]+", oid):
         raise InputError(r.at("id"), "use letters, digits, - and _ only")
-    known = {"id", "name", "fuel", "classes", "engine", "engine_map", "derate",
-             "efficiency_offset", "conversion_cost", "upkeep_change_per_year", "downtime_days",
-             "tank_inspection_interval_years", "tank_inspection_cost", "n2o",
-             "engine_out_nox", "lambda_overall", "methane_slip", "aftertreatment",
-             "programme_capital", "programme_upkeep_per_year", "conversion"}
-    for key in r.table:
-        if key not in known:
-            raise InputError(r.at(key), f"unknown key; an option has {', '.join(sorted(known))}")
+    r.only(("id", "name", "fuel", "classes", "engine", "engine_map", "derate",
+            "efficiency_offset", "conversion_cost", "upkeep_change_per_year", "downtime_days",
+            "tank_inspection_interval_years", "tank_inspection_cost", "n2o",
+            "engine_out_nox", "lambda_overall", "methane_slip", "aftertreatment",
+            "programme_capital", "programme_upkeep_per_year", "conversion"), "an option")
     class_ids = {c.id for c in classes}
     converts = class_ids
     if baseline is not None and r.has("classes"):
         raw = r.raw("classes")
-        if not isinstance(raw, list) or not raw or not set(raw) <= class_ids:
+        if not isinstance(raw, list) or not raw or not all(
+                isinstance(x, str) and x in class_ids for x in raw):
             raise InputError(r.at("classes"), f"must list class ids from {sorted(class_ids)}")
         converts = set(raw)
     per_class = {}
@@ -990,7 +1087,7 @@ def _option(r: _Reader, classes: tuple[FleetClass, ...], baseline: Option | None
         per_class[c.id] = _class_option(r, c, class_ids, base, base_dir, currency)
     return Option(
         id=oid,
-        name=str(r.raw("name", oid)),
+        name=r.text("name", oid),
         is_baseline=baseline is None,
         per_class=per_class,
         programme_capital=r.uncertain("programme_capital", _money, 0.0, low=0.0,
@@ -1038,7 +1135,8 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOpt
                          "on the candidates")
     map_regime = fuel_regime(fuel) if base is None else base.engine
     if given("conversion"):
-        kind = conversion_kind(_per_class(r, "conversion", c.id, class_ids, None),
+        kind = conversion_kind(_choice(_per_class(r, "conversion", c.id, class_ids, None),
+                                       at("conversion"), KINDS, "conversion kind"),
                                where=at("conversion"))
     else:
         kind = KINDS[infer_kind(fuel, map_regime, None if base is None else base.fuel)]
@@ -1050,13 +1148,11 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOpt
                          "burns one; compare it with `workbench duty fuel --conversion "
                          "dual-fuel-ci`, or give the measured dual-fuel engine_map")
     default_engine = kind.nox_engine or fuel_regime(fuel)
-    engine = _per_class(r, "engine", c.id, class_ids, default_engine)
+    engine = _choice(_per_class(r, "engine", c.id, class_ids, default_engine), at("engine"),
+                     ENGINE_PRESETS, "engine setting")
     if not given("engine") and not is_baseline:
         defaults.append(("engine setting (NOx regime)", engine, "",
                          f"conversion {kind.name}" if kind.nox_engine else "by fuel"))
-    if engine not in ENGINE_PRESETS:
-        raise InputError(at("engine"), f"unknown engine setting {engine!r}; use one of "
-                         f"{', '.join(sorted(ENGINE_PRESETS))}")
     map_raw = _per_class(r, "engine_map", c.id, class_ids, None)
     engine_map, map_data = (c.engine_map, c.map_data) if map_raw is None else _read_data_file(
         map_raw, at("engine_map"), "map", base_dir, read_map)
@@ -1140,6 +1236,14 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOpt
     )
 
 
+def _choice(value: Any, where: str, choices: Iterable[str], what: str) -> str:
+    """One of ``choices`` (a text; a list or a table where a name is due is refused)."""
+    names = sorted(choices)
+    if not isinstance(value, str) or value not in names:
+        raise InputError(where, f"unknown {what} {_short(value)}; use one of {', '.join(names)}")
+    return value
+
+
 def _kind_values(kind: ConversionKind, engine: str, fuel: Fuel
                  ) -> tuple[float, float, str, float]:
     """Lambda [-], methane slip [-], device and derate [-] a conversion implies for a class.
@@ -1159,8 +1263,9 @@ def _kind_values(kind: ConversionKind, engine: str, fuel: Fuel
 
 
 def _whole(value: Any, where: str) -> int:
-    if isinstance(value, bool) or not isinstance(value, int) or value < 0:
-        raise InputError(where, f"must be a whole number of years, 0 for none; got {value!r}")
+    if isinstance(value, bool) or not isinstance(value, int) or not 0 <= value <= MAX_YEARS:
+        raise InputError(where, f"must be a whole number of years from 0 (none) to {MAX_YEARS}; "
+                         f"got {_short(value)}")
     return value
 
 
@@ -1200,11 +1305,15 @@ def _engine_out(raw: Any, where: str) -> EngineOutNOx:
                          '"900 ppm"')
     m = re.fullmatch(r"\s*([-+]?[0-9.eE+-]+)\s*(g/km|g/kWh|ppm)\s*", raw)
     if m is None:
-        raise InputError(where, f'{raw!r}: use a number and one of g/km, g/kWh, ppm')
+        raise InputError(where, f'{_short(raw)}: use a number and one of g/km, g/kWh, ppm')
     try:
         value = float(m.group(1))
     except ValueError:
         raise InputError(where, f"{m.group(1)!r} is not a number") from None
+    limit = MAX_ENGINE_OUT_NOX[m.group(2)]
+    if not value <= limit:
+        raise InputError(where, f"{raw.strip()} is beyond any engine; at most {limit:g} "
+                         f"{m.group(2)}")
     try:
         return EngineOutNOx(value, m.group(2), source=f"study file ({where})")
     except InputError as exc:
@@ -1221,14 +1330,8 @@ def _aftertreatment(raw: Any, where: str, varied: list[tuple[str, Uncertain]],
                     currency: str) -> Aftertreatment:
     """The device at its nominal values; inputs with a distribution are added to ``varied``."""
     r = _Reader(raw, where)
-    for key in r.table:
-        if key not in _AFTERTREATMENT_KEYS:
-            raise InputError(r.at(key), "unknown key; aftertreatment takes "
-                             f"{', '.join(sorted(_AFTERTREATMENT_KEYS))}")
-    preset = r.raw("preset", "none")
-    if preset not in DEVICE_PRESETS:
-        raise InputError(r.at("preset"), f"unknown device {preset!r}; use one of "
-                         f"{', '.join(sorted(DEVICE_PRESETS))}")
+    r.only(_AFTERTREATMENT_KEYS, "aftertreatment")
+    preset = _choice(r.raw("preset", "none"), r.at("preset"), DEVICE_PRESETS, "device")
     device = DEVICE_PRESETS[preset]
     changes: dict[str, Any] = {}
     age_bases: set[str] = set()
@@ -1264,7 +1367,8 @@ def _aftertreatment(raw: Any, where: str, varied: list[tuple[str, Uncertain]],
     if age_bases:
         changes["age_basis"] = age_bases.pop()
     if r.has("policy"):
-        changes["policy"] = r.raw("policy")
+        changes["policy"] = _choice(r.raw("policy"), r.at("policy"), ("interval", "threshold"),
+                                    "policy")
     try:
         return Aftertreatment(**{**device.__dict__, **changes})
     except InputError as exc:
@@ -1338,6 +1442,8 @@ def _upstream(r: _Reader, fuels: Mapping[str, Fuel]) -> tuple[dict[str, Uncertai
             raise InputError(r.at(fid), "is required: well-to-tank CO2e of this fuel, "
                              '{ wtt_co2e_g_per_mj = 15.0, source = "…" }')
         sub = _Reader(r.table[fid], r.at(fid))
+        sub.only(("wtt_co2e_g_per_mj", "source"), "an upstream entry")
         sources[fid] = sub.text("source")
-        out[fid] = sub.uncertain("wtt_co2e_g_per_mj", _g_per_mj, low=0.0, unit=("g/MJ", 1e9))
+        out[fid] = sub.uncertain("wtt_co2e_g_per_mj", _g_per_mj, low=0.0,
+                                 high=MAX_WTT_G_PER_MJ * 1e-9, unit=("g/MJ", 1e9))
     return out, sources

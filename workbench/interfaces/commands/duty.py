@@ -14,7 +14,7 @@ from typing import TYPE_CHECKING
 from workbench.core.constants import RPM
 from workbench.core.errors import InputError
 from workbench.core.paths import DATA
-from workbench.interfaces.cli import LazyChoices, add_fuels_option, command
+from workbench.interfaces.cli import LazyChoices, add_fuels_option, command, finite_float
 
 if TYPE_CHECKING:
     from workbench.models.duty import DutySettings
@@ -65,17 +65,17 @@ def register(sub: argparse._SubParsersAction) -> None:
                    help="how the engine is converted for the other fuels (%(choices)s); "
                         "default: inferred from the fuels (a gas on a diesel map: "
                         "dedicated-si; on a gasoline map: bi-fuel-si)")
-    p.add_argument("--derate", type=float, metavar="X",
+    p.add_argument("--derate", type=finite_float, metavar="X",
                    help="share of full-load power lost on the candidate fuels (default: the "
                         "conversion's)")
-    p.add_argument("--efficiency-offset", type=float, metavar="X",
+    p.add_argument("--efficiency-offset", type=finite_float, metavar="X",
                    help="added to the map's brake efficiency on the candidate fuels, e.g. -0.01 "
                         "(default: the conversion's)")
-    p.add_argument("--accessory-kw", type=float, default=0.0, metavar="KW",
+    p.add_argument("--accessory-kw", type=finite_float, default=0.0, metavar="KW",
                    help="accessory power while the engine runs, kW (default 0)")
     p.add_argument("--engine-off-at-stops", action="store_true",
                    help="stop the engine at every stop")
-    p.add_argument("--extra-idle-share", type=float, default=0.0, metavar="X",
+    p.add_argument("--extra-idle-share", type=finite_float, default=0.0, metavar="X",
                    help="share of time idling beyond the trace, e.g. waiting at a rank")
     p.add_argument("--json", action="store_true", help="print JSON")
     add_fuels_option(p)

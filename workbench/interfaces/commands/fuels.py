@@ -17,7 +17,7 @@ from workbench.core.fuels import (
     list_fuels,
     load_fuel,
 )
-from workbench.interfaces.cli import STDIO, add_fuels_option, command
+from workbench.interfaces.cli import STDIO, add_fuels_option, command, finite_float
 from workbench.io.files import write_text_atomic
 
 
@@ -80,11 +80,11 @@ def register(sub: argparse._SubParsersAction) -> None:
 
 def _flame_options(p: argparse.ArgumentParser) -> None:
     add_fuels_option(p)
-    p.add_argument("--phi", type=float, default=1.0,
+    p.add_argument("--phi", type=finite_float, default=1.0,
                    help="fuel-air equivalence ratio of the flame (default 1)")
-    p.add_argument("--t-unburnt", type=float, default=25.0, metavar="C",
+    p.add_argument("--t-unburnt", type=finite_float, default=25.0, metavar="C",
                    help="unburnt mixture temperature in °C (default 25)")
-    p.add_argument("--pressure", type=float, default=1.01325, metavar="BAR",
+    p.add_argument("--pressure", type=finite_float, default=1.01325, metavar="BAR",
                    help="flame pressure in bar absolute (default 1.01325)")
     p.add_argument("--air", choices=["21/79", "dry"], default="21/79",
                    help="air model: 21/79 O2/N2 (default) or standard dry air")

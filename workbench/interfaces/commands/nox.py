@@ -6,7 +6,7 @@ import argparse
 from dataclasses import replace
 
 from workbench.core.errors import InputError
-from workbench.interfaces.cli import LazyChoices, add_fuels_option, command
+from workbench.interfaces.cli import LazyChoices, add_fuels_option, command, finite_float
 
 #: Keys of :meth:`workbench.models.nox.NOxPropensity.to_record` shown, with their units.
 NOX_FIELDS: dict[str, str] = {
@@ -52,15 +52,15 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--engine", choices=LazyChoices(_presets), default="spark-ignition",
                    metavar="PRESET",
                    help="engine setting preset: %(choices)s (default spark-ignition)")
-    p.add_argument("--compression-ratio", type=float, metavar="R",
+    p.add_argument("--compression-ratio", type=finite_float, metavar="R",
                    help="compression ratio (default: the preset's)")
-    p.add_argument("--phi", type=float, metavar="X",
+    p.add_argument("--phi", type=finite_float, metavar="X",
                    help="flame-zone equivalence ratio (default: the preset's)")
-    p.add_argument("--dilution", type=float, metavar="X",
+    p.add_argument("--dilution", type=finite_float, metavar="X",
                    help="burnt-gas (residual/EGR) mass fraction of the charge")
-    p.add_argument("--rpm", dest="engine_speed_rpm", type=float, metavar="N",
+    p.add_argument("--rpm", dest="engine_speed_rpm", type=finite_float, metavar="N",
                    help="engine speed in rev/min, sets the residence time")
-    p.add_argument("--residence-time", type=float, metavar="MS",
+    p.add_argument("--residence-time", type=finite_float, metavar="MS",
                    help="residence time in ms (overrides the crank-angle window)")
     p.add_argument("--json", action="store_true", help="print JSON")
     add_fuels_option(p)

@@ -12,7 +12,7 @@ from typing import Any
 from workbench.core.constants import P_STANDARD, ZERO_CELSIUS
 from workbench.core.errors import InputError
 from workbench.core.fuels import STORAGE_KINDS
-from workbench.interfaces.cli import add_fuels_option, command
+from workbench.interfaces.cli import add_fuels_option, command, finite_float
 
 #: Model argument names and the options that set them, for error messages.
 _OPTIONS = {
@@ -48,19 +48,19 @@ def register_storage(fuels_sub: argparse._SubParsersAction) -> None:
     )
     p.add_argument("fuel", metavar="FUEL", help="library id (lpg, natural-gas, ...) or .toml path")
     p.add_argument("--kind", choices=STORAGE_KINDS, help="storage model (default: the fuel's)")
-    p.add_argument("--temperature", type=float, metavar="C",
+    p.add_argument("--temperature", type=finite_float, metavar="C",
                    help="fuel temperature [°C] (default: declared storage, 15 °C)")
-    p.add_argument("--pressure", type=float, metavar="BAR",
+    p.add_argument("--pressure", type=finite_float, metavar="BAR",
                    help="absolute pressure of a compressed gas or cryogenic tank [bar]")
     p.add_argument("--tank", metavar="ID", help="tank type (default: by storage kind); "
                    "see `workbench docs storage`")
-    p.add_argument("--range", type=float, metavar="KM", dest="range_km",
+    p.add_argument("--range", type=finite_float, metavar="KM", dest="range_km",
                    help="size the tank for this range [km] (needs --energy-per-km)")
-    p.add_argument("--tank-volume", type=float, metavar="L",
+    p.add_argument("--tank-volume", type=finite_float, metavar="L",
                    help="range of a tank of this water volume [L] (needs --energy-per-km)")
-    p.add_argument("--energy-per-km", type=float, metavar="MJ",
+    p.add_argument("--energy-per-km", type=finite_float, metavar="MJ",
                    help="fuel energy (LHV) used per km [MJ/km]")
-    p.add_argument("--feed-pressure", type=float, metavar="BAR",
+    p.add_argument("--feed-pressure", type=finite_float, metavar="BAR",
                    help="gauge pressure the LPG feed system needs [bar] (default 1.5, typical)")
     p.add_argument("--json", action="store_true", help="print one JSON object")
     add_fuels_option(p)

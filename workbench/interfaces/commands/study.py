@@ -134,9 +134,10 @@ def _study(path: str) -> Study:
 
 def _result(study: Study, args: argparse.Namespace) -> StudyResult:
     from workbench.study.runner import run
+    from workbench.study.studyfile import check_draws
 
-    if args.draws is not None and args.draws < 0:
-        raise InputError("--draws", f"must be 0 or more, got {args.draws}")
+    if args.draws is not None:
+        check_draws(args.draws, study.inputs, "--draws")
     return run(study, draws=args.draws, progress=progress(args))
 
 

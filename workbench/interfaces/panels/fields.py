@@ -235,7 +235,7 @@ def save_upload(folder: Path, name: str, content: bytes,
     if not name.lower().endswith(".csv"):
         raise InputError(name, "upload a .csv file")
     try:
-        text = content.decode("utf-8")
+        text = content.decode("utf-8-sig")  # a spreadsheet's "CSV UTF-8" has a BOM
     except UnicodeDecodeError:
         raise InputError(name, "is not UTF-8 text; save the CSV as UTF-8") from None
     stem = re.sub(r"[^A-Za-z0-9_-]+", "-", Path(name).stem).strip("-") or "upload"
