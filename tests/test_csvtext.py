@@ -128,3 +128,15 @@ def test_same_bytes_are_parsed_once(tmp_path, monkeypatch):
     path.write_bytes(b"time_s,speed_km_per_h\n0,0\n1,72\n")
     assert_allclose(read_trace(path).speed, [0.0, 20.0], rtol=1e-15)
     assert calls == [str(path), str(path)]
+
+
+def test_a_row_wider_than_the_header_is_named_not_cut(tmp_path):
+    # pandas would drop the extra cell with a ParserWarning; the reader names the row instead
+    import warnings
+
+    p = tmp_path / "wide.csv"
+    p.write_text("time_s,speed_km_per_h\n0,0\n1,5,7\n2,10\n", encoding="utf-8")
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        with pytest.raises(InputError, match="row 3: has 3 fields, the header has 2"):
+            read_profile(p)

@@ -20,6 +20,7 @@ from __future__ import annotations
 import csv
 import io
 import math
+import warnings
 from collections.abc import Callable, Collection
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -224,12 +225,18 @@ def _fast(data: bytes, offset: int, header: tuple[str, ...], wanted: list[int], 
     # read as rows of NaN (and sent to the slow pass), so row i is line first + i.
     plain = data.find(b"#", offset, end) < 0
     try:
-        frame = pd.read_csv(io.BufferedReader(_Window(body)), header=None,
-                            names=list(range(width)),
-                            index_col=False, comment=None if plain else "#",
-                            skip_blank_lines=not plain, dtype=dict.fromkeys(wanted, np.float64),
-                            engine="c", encoding="utf-8")
-    except (ValueError, pd.errors.ParserError, UnicodeDecodeError, pd.errors.EmptyDataError):
+        with warnings.catch_warnings():
+            # a row wider than the header is cut by pandas with a warning: let the slow pass
+            # name it instead of losing its cells
+            warnings.simplefilter("error", pd.errors.ParserWarning)
+            frame = pd.read_csv(io.BufferedReader(_Window(body)), header=None,
+                                names=list(range(width)),
+                                index_col=False, comment=None if plain else "#",
+                                skip_blank_lines=not plain,
+                                dtype=dict.fromkeys(wanted, np.float64),
+                                engine="c", encoding="utf-8")
+    except (ValueError, pd.errors.ParserError, pd.errors.ParserWarning, UnicodeDecodeError,
+            pd.errors.EmptyDataError):
         return None
     columns = {j: frame[j].to_numpy(dtype=np.float64) for j in wanted}
     if any(math.isnan(c.sum()) for c in columns.values()):  # NaN (or +inf and -inf)

@@ -20,7 +20,7 @@ from collections.abc import Sequence
 import numpy as np
 
 from workbench.core.constants import J_PER_KWH, M_NO2
-from workbench.core.fuels import Fuel, load_fuel
+from workbench.core.fuels import Fuel
 from workbench.models.combustion import exhaust, fuel_sheet
 from workbench.models.engine import DutyEnergy
 from workbench.models.nox import (
@@ -77,7 +77,8 @@ def engine_out_per_m(fuel: Fuel, engine: str, *, given: EngineOutNOx | None,
                      baseline_fuel: Fuel, baseline_engine: str,
                      baseline_given: EngineOutNOx | None, baseline_energy: DutyEnergy,
                      nox_speeds_rpm: Sequence[float] | np.ndarray,
-                     nox_weights: Sequence[float] | np.ndarray) -> tuple[float, str]:
+                     nox_weights: Sequence[float] | np.ndarray,
+                     reference_fuel: Fuel) -> tuple[float, str]:
     """Engine-out NOx of one option on one duty, and where the number comes from.
 
     Parameters
@@ -106,6 +107,9 @@ def engine_out_per_m(fuel: Fuel, engine: str, *, given: EngineOutNOx | None,
         Engine-speed bin centres the propensity is weighted over [rev/min].
     nox_weights : array_like
         Fuel energy in each bin [J].
+    reference_fuel : Fuel
+        The fuel the engine setting's typical engine-out NOx holds for
+        (:data:`DEFAULT_REFERENCE_FUEL`), loaded by the caller.
 
     Returns
     -------
@@ -123,7 +127,7 @@ def engine_out_per_m(fuel: Fuel, engine: str, *, given: EngineOutNOx | None,
                 baseline_energy.fuel_energy / baseline_energy.engine_energy)
     else:
         spec = DEFAULT_ENGINE_OUT[engine]
-        reference = load_fuel(DEFAULT_REFERENCE_FUEL[engine])
+        reference = reference_fuel
         ratio = 1.0
     value = spec.value
     source = spec.source + (" (typical default)" if spec.is_default else "")

@@ -203,7 +203,7 @@ def class_physics(c: FleetClass, co: ClassOption, base: ClassOption, months: int
         energy=duty.energy, fuel_energy_per_m=energy_m, baseline_fuel=base.fuel,
         baseline_engine=base.engine, baseline_given=base.engine_out_nox,
         baseline_energy=base_duty.energy, nox_speeds_rpm=duty.nox_speeds,
-        nox_weights=duty.nox_weights)
+        nox_weights=duty.nox_weights, reference_fuel=co.reference_fuel)
     km_month = c.km_per_year.nominal / 12.0
     damage = nox_damage_cost
     prog = programme_nox(co.aftertreatment, eo, distance_per_month=km_month, months=months,

@@ -66,6 +66,7 @@ from workbench.models.conversion import (
 from workbench.models.duty import DutyTrace, ModeTable
 from workbench.models.economics import DISTRIBUTION_PARAMETERS, Correlation, Distribution
 from workbench.models.engine import EngineMap
+from workbench.models.engine_out import DEFAULT_REFERENCE_FUEL
 from workbench.models.nox import ENGINE_PRESETS, EngineOutNOx
 from workbench.models.vehicle import Vehicle
 
@@ -179,6 +180,9 @@ class ClassOption:
     #: The derate is the air the gas displaces against this fuel (bi-fuel-si, none given),
     #: worked out when the study runs (it needs both fuels' sheets).
     derate_against: Fuel | None = None
+    #: The fuel the engine setting's typical engine-out NOx was measured on (read when the
+    #: study is checked, so that a run reads no file).
+    reference_fuel: Fuel | None = None
 
 
 @dataclass(frozen=True)
@@ -1233,6 +1237,7 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOpt
         defaults=tuple(defaults),
         notices=() if mismatch is None else (mismatch,),
         derate_against=(base.fuel if base is not None else fuel) if air_derate else None,
+        reference_fuel=load_fuel(DEFAULT_REFERENCE_FUEL[engine]),
     )
 
 
