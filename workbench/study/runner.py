@@ -409,16 +409,28 @@ def _lines(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> dict[str, ec
     """What the cash flows of each option need, for ``n`` draws of the uncertain inputs
     (nominal where absent)."""
     inputs = plan.inputs
+    seen: dict[tuple[str, float], np.ndarray] = {}
 
     def val(u: Uncertain) -> np.ndarray:
-        return _values(u, params, n)
+        # synthetic options share their class options' inputs: make each array once
+        key = (u.path, u.nominal)
+        if key not in seen:
+            seen[key] = _values(u, params, n)
+        return seen[key]
 
     options = {}
+    made: dict[tuple[int, ...], econ.ClassLine] = {}
     for o in inputs.options:
         lines = []
         for c in inputs.classes:
             co = o.per_class[c.id]
             ph = plan.physics[o.id, c.id]
+            # a synthetic option reuses a (candidate, class)'s objects: one line for them all
+            key = tuple(map(id, (c, co, ph, plan.catalyst_cost[o.id, c.id],
+                                 plan.responses[o.id, c.id], plan.nox_t[o.id, c.id])))
+            if key in made:
+                lines.append(made[key])
+                continue
             fid = co.fuel.id
             energy, tailpipe, catalyst = econ.physics_draws(
                 ph.fuel_energy_per_m, ph.tailpipe_co2e_per_m, plan.catalyst_cost[o.id, c.id],
@@ -436,6 +448,7 @@ def _lines(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> dict[str, ec
                 conversion_cost=val(co.conversion_cost), downtime_days=val(co.downtime_days),
                 daily_revenue=val(c.daily_revenue), remaining_life_years=c.remaining_life_years,
                 nox_mass=plan.nox_t[o.id, c.id] * 1e3))
+            made[key] = lines[-1]
         options[o.id] = econ.OptionLines(lines, val(o.programme_capital),
                                          val(o.programme_upkeep_per_year))
     return options

@@ -293,7 +293,38 @@ class Money:
 
 def _column(x: ArrayLike, n: int) -> FloatArray:
     """A value per draw as a column, shape (n, 1)."""
-    return np.broadcast_to(np.asarray(x, dtype=float), (n,))[:, None]
+    a = np.asarray(x, dtype=float)
+    if a.shape != (n,):  # a scalar or one value: broadcast (slow, so only when needed)
+        a = np.broadcast_to(a, (n,))
+    return a[:, None]
+
+
+def _class_terms(c: ClassLine, n: int, years: np.ndarray, carbon: FloatArray) -> tuple:
+    """One class line's share of an option's money (see :func:`programme_money`): fleet
+    distance, CO2e, the yearly costs (fuel, carbon, upkeep, inspections, catalysts), and for a
+    converted class its year-0 capital with downtime and its residual value (else None)."""
+    horizon = len(years) - 1
+    act = c.active
+    km_year = _column(c.km_per_year, n)
+    km = km_year * act * c.count
+    energy = _column(np.asarray(c.fuel_energy_per_m).reshape(-1), n)
+    co2e_m = (_column(c.upstream_co2e_per_j, n) * energy
+              + _column(np.asarray(c.tailpipe_co2e_per_m).reshape(-1), n))
+    emitted = km * co2e_m
+    price = escalate(np.broadcast_to(np.asarray(c.price_per_j, dtype=float), (n,)),
+                     np.broadcast_to(np.asarray(c.escalation, dtype=float), (n,)), years)
+    parts = (km * energy * price,
+             emitted * carbon,
+             _column(c.upkeep_per_year, n) * c.count * act,
+             (_column(c.tank_inspection_cost, n) * c.count * act
+              * inspection_years(c.tank_inspection_interval, horizon)),
+             c.catalyst_cost * (km_year / c.km_per_year_nominal))
+    if not c.converts:
+        return km, emitted, parts, None, None
+    capital = _column(c.conversion_cost, n) * c.count
+    first = capital + _column(c.downtime_days, n) * _column(c.daily_revenue, n) * c.count
+    return km, emitted, parts, first, residual_value(capital, horizon,
+                                                     life=c.remaining_life_years)
 
 
 def programme_money(options: Mapping[str, OptionLines], *, baseline: str, rate: ArrayLike,
@@ -340,6 +371,7 @@ def programme_money(options: Mapping[str, OptionLines], *, baseline: str, rate: 
     carbon = _column(carbon_price, n)
     km_total = np.zeros((n, horizon + 1))
     costs, residuals, carbons, cash, co2e, nox = {}, {}, {}, {}, {}, {}
+    terms: dict[int, tuple] = {}
     for oid, option in options.items():
         cost = np.zeros((n, horizon + 1))
         residual = np.zeros((n, horizon + 1))
@@ -348,34 +380,20 @@ def programme_money(options: Mapping[str, OptionLines], *, baseline: str, rate: 
         nox_mass = np.zeros(horizon + 1)
         any_active = np.zeros(horizon + 1)
         for c in option.classes:
-            act = c.active
-            any_active = np.maximum(any_active, act)
-            km_year = _column(c.km_per_year, n)
-            km = km_year * act * c.count
+            if id(c) not in terms:  # options sharing a class line share its terms
+                terms[id(c)] = _class_terms(c, n, years, carbon)
+            km, emitted, parts, first_year, residual_end = terms[id(c)]
+            any_active = np.maximum(any_active, c.active)
             if oid == baseline:
                 km_total += km
-            energy = _column(np.asarray(c.fuel_energy_per_m).reshape(-1), n)
-            co2e_m = (_column(c.upstream_co2e_per_j, n) * energy
-                      + _column(np.asarray(c.tailpipe_co2e_per_m).reshape(-1), n))
-            emissions += km * co2e_m
+            emissions += emitted
             nox_mass = nox_mass + c.nox_mass
-            price = escalate(np.broadcast_to(np.asarray(c.price_per_j, dtype=float), (n,)),
-                             np.broadcast_to(np.asarray(c.escalation, dtype=float), (n,)),
-                             years)
-            cost += km * energy * price
-            carbon_cost = km * co2e_m * carbon
-            paid += carbon_cost
-            cost += carbon_cost
-            cost += _column(c.upkeep_per_year, n) * c.count * act
-            cost += (_column(c.tank_inspection_cost, n) * c.count * act
-                     * inspection_years(c.tank_inspection_interval, horizon))
-            cost += c.catalyst_cost * (km_year / c.km_per_year_nominal)
-            if c.converts:
-                capital = _column(c.conversion_cost, n) * c.count
-                cost[:, :1] += capital + (_column(c.downtime_days, n)
-                                          * _column(c.daily_revenue, n) * c.count)
-                residual[:, -1:] += residual_value(capital, horizon,
-                                                   life=c.remaining_life_years)
+            paid += parts[1]
+            for part in parts:
+                cost += part
+            if first_year is not None:
+                cost[:, :1] += first_year
+                residual[:, -1:] += residual_end
         cost += _column(option.programme_upkeep_per_year, n) * any_active
         cost[:, :1] += _column(option.programme_capital, n)
         costs[oid], residuals[oid], carbons[oid] = cost, residual, paid
