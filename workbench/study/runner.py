@@ -604,7 +604,8 @@ def _break_even(plan: Plan) -> dict[str, list[tuple[Uncertain, float]]]:
         # draw i moves subject i's input alone; money inputs only, so a path held at its
         # nominal value in the other draws is the same as not naming it
         money = _money(plan, {p: np.where(m, x, nominal[p]) for p, m in varies.items()}, n)
-        npv = {oid: econ.npv_draws(money, oid, base).npv for oid, _ in subjects}
+        npv = {oid: np.asarray(econ.npv(money.rate, money.cash[oid] - money.cash[base])
+                               ).reshape(-1) for oid, _ in dict(subjects).items()}
         return np.array([npv[oid][i] for i, (oid, _) in enumerate(subjects)])
 
     roots = econ.break_even(npv_at, np.array([u.nominal for _, u in subjects]))
