@@ -75,13 +75,18 @@ def _extend(plan: Plan, options: dict[str, tuple[Option, Mapping[str, str]]], *,
     return replace(plan, inputs=inputs, **keyed)
 
 
+def _npv(money: econ.Money, oid: str, base: str) -> float:
+    """NPV of option ``oid`` against ``base`` in the first draw [currency]."""
+    return float(np.asarray(econ.npv(money.rate[0], money.cash[oid][0] - money.cash[base][0])))
+
+
 def _row(money: econ.Money, plan: Plan, oid: str, base: str, choice: Mapping[str, str]) -> dict:
     rate = money.rate
     diff = money.cash[oid] - money.cash[base]
     nox_kg = sum(float((plan.nox_t[base, c] - plan.nox_t[o, c]).sum()) for c, o in
                  choice.items()) * 1e3
     return {
-        "npv_vs_baseline": float(np.asarray(econ.npv(rate[0], diff[0]))),
+        "npv_vs_baseline": _npv(money, oid, base),
         "discounted_payback_years": float(np.asarray(econ.discounted_payback(rate[0],
                                                                                diff[0]))),
         "co2e_avoided_t": float((money.co2e[base][0] - money.co2e[oid][0]).sum()) / 1e3,
@@ -164,14 +169,12 @@ def decision_tables(plan: Plan, samples: Mapping[str, np.ndarray], n: int,
     ext = _extend(plan, {**single, **mixes})
     det = _money(ext, {}, 1)
     if mixes:
-        best_id = max(mixes, key=lambda m: _row(det, ext, m, base, mixes[m][1])
-                      ["npv_vs_baseline"])
+        best_id = max(mixes, key=lambda m: _npv(det, m, base))
     else:  # too many to try: each class its own best conversion
         choice = {}
         for cid in classes:
             options = [(oid, ch) for oid, (_, ch) in single.items() if ch[cid] != base]
-            scores = [(_row(det, ext, oid, base, ch)["npv_vs_baseline"], ch[cid])
-                      for oid, ch in options]
+            scores = [(_npv(det, oid, base), ch[cid]) for oid, ch in options]
             choice[cid] = max([(0.0, base), *scores])[1]
         mixes = {"mix": (_synthetic(plan, choice, "mix", programme=True), choice)}
         ext = _extend(plan, {**single, **mixes})
