@@ -132,7 +132,7 @@ def physics_draws(energy: float, tailpipe_co2e: float, catalyst: np.ndarray,
     """
     e = np.full((n, 1), energy)
     t = np.full((n, 1), tailpipe_co2e)
-    c = np.broadcast_to(catalyst, (n, len(catalyst))).copy()
+    c = np.repeat(catalyst[None, :], n, axis=0)  # a copy per draw (quicker than broadcast)
     for r in responses:
         if r.path not in draws:
             continue
@@ -291,12 +291,17 @@ class Money:
     rate: np.ndarray
 
 
-def _column(x: ArrayLike, n: int) -> FloatArray:
-    """A value per draw as a column, shape (n, 1)."""
+def _per_draw(x: ArrayLike, n: int) -> FloatArray:
+    """A value per draw, shape (n,)."""
     a = np.asarray(x, dtype=float)
     if a.shape != (n,):  # a scalar or one value: broadcast (slow, so only when needed)
         a = np.broadcast_to(a, (n,))
-    return a[:, None]
+    return a
+
+
+def _column(x: ArrayLike, n: int) -> FloatArray:
+    """A value per draw as a column, shape (n, 1)."""
+    return _per_draw(x, n)[:, None]
 
 
 def _class_terms(c: ClassLine, n: int, years: np.ndarray, carbon: FloatArray) -> tuple:
@@ -311,8 +316,7 @@ def _class_terms(c: ClassLine, n: int, years: np.ndarray, carbon: FloatArray) ->
     co2e_m = (_column(c.upstream_co2e_per_j, n) * energy
               + _column(np.asarray(c.tailpipe_co2e_per_m).reshape(-1), n))
     emitted = km * co2e_m
-    price = escalate(np.broadcast_to(np.asarray(c.price_per_j, dtype=float), (n,)),
-                     np.broadcast_to(np.asarray(c.escalation, dtype=float), (n,)), years)
+    price = escalate(_per_draw(c.price_per_j, n), _per_draw(c.escalation, n), years)
     parts = (km * energy * price,
              emitted * carbon,
              _column(c.upkeep_per_year, n) * c.count * act,
@@ -367,7 +371,7 @@ def programme_money(options: Mapping[str, OptionLines], *, baseline: str, rate: 
     Programme upkeep falls in every year any class runs, programme capital in year 0.
     """
     years = np.arange(horizon + 1)
-    rate_n = np.broadcast_to(np.asarray(rate, dtype=float), (n,))
+    rate_n = _per_draw(rate, n)
     carbon = _column(carbon_price, n)
     km_total = np.zeros((n, horizon + 1))
     costs, residuals, carbons, cash, co2e, nox = {}, {}, {}, {}, {}, {}
