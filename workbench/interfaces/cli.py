@@ -204,8 +204,37 @@ def progress(args: argparse.Namespace) -> Callable[[str], None] | None:
     return say
 
 
+def read_bytes_arg(ref: str, option: str) -> bytes:
+    """The bytes of standard input, for a file argument given as ``-``.
+
+    Parameters
+    ----------
+    ref : str
+        The argument (``-``).
+    option : str
+        How the user gave it, for the error message.
+
+    Returns
+    -------
+    bytes
+
+    Raises
+    ------
+    InputError
+        Standard input is a terminal, or holds nothing but white space.
+    """
+    hint = "pipe the file in (workbench ... - < file)"
+    if sys.stdin is None or sys.stdin.isatty():
+        raise InputError(option, f"'{ref}' reads standard input: {hint}")
+    stream = getattr(sys.stdin, "buffer", None)  # a text stream in tests has no bytes below
+    data = stream.read() if stream is not None else sys.stdin.read().encode("utf-8")
+    if not data.removeprefix(b"\xef\xbb\xbf").strip():
+        raise InputError(option, f"'{ref}' read nothing from standard input: {hint}")
+    return data
+
+
 def read_text_arg(ref: str, option: str) -> str:
-    """The text of standard input, for a file argument given as ``-``.
+    """The text of standard input (UTF-8, a byte-order mark dropped), for ``-``.
 
     Parameters
     ----------
@@ -217,14 +246,17 @@ def read_text_arg(ref: str, option: str) -> str:
     Returns
     -------
     str
+
+    Raises
+    ------
+    InputError
+        As :func:`read_bytes_arg`, and when the bytes are not UTF-8.
     """
-    hint = "pipe the file in (workbench ... - < file)"
-    if sys.stdin is None or sys.stdin.isatty():
-        raise InputError(option, f"'{ref}' reads standard input: {hint}")
-    text = sys.stdin.read()
-    if not text.strip():
-        raise InputError(option, f"'{ref}' read nothing from standard input: {hint}")
-    return text
+    try:
+        return read_bytes_arg(ref, option).decode("utf-8-sig")
+    except UnicodeDecodeError:
+        raise InputError(option, f"'{ref}': standard input is not UTF-8 text; save the file "
+                                 "as UTF-8") from None
 
 
 def open_in_browser(path: Any) -> None:
