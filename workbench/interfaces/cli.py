@@ -238,10 +238,8 @@ def read_text_arg(ref: str, option: str) -> str:
 
     Parameters
     ----------
-    ref : str
-        The argument (``-``).
-    option : str
-        How the user gave it, for the error message.
+    ref, option : str
+        As :func:`read_bytes_arg`.
 
     Returns
     -------
