@@ -12,6 +12,7 @@ import atexit
 import copy
 import dataclasses
 import datetime as dt
+import itertools
 import math
 import shutil
 import tempfile
@@ -63,6 +64,17 @@ def scratch_folder(prefix: str) -> Path:
     folder = Path(tempfile.mkdtemp(prefix=prefix))
     atexit.register(shutil.rmtree, folder, ignore_errors=True)
     return folder
+
+
+_file_numbers = itertools.count()
+
+
+def fresh_file(folder: Path, name: str, data: bytes) -> Path:
+    """``data`` written as ``name`` in a new sub-folder of ``folder`` (no side files)."""
+    path = folder / f"f{next(_file_numbers)}" / name
+    path.parent.mkdir()
+    path.write_bytes(data)
+    return path
 
 
 def key_paths(node: Any, prefix: tuple = ()) -> Iterator[tuple]:
@@ -161,3 +173,61 @@ def assert_finite(obj: Any, path: str = "result", *, allow_inf: frozenset[str] =
     elif isinstance(obj, list | tuple):
         for i, v in enumerate(obj):
             assert_finite(v, f"{path}[{i}]", allow_inf=allow_inf, seen=seen)
+
+
+def head(path: Path, rows: int) -> str:
+    """A CSV file's comments, header and first ``rows`` data rows."""
+    lines = path.read_text(encoding="utf-8").splitlines(keepends=True)
+    first = next(i for i, line in enumerate(lines) if not line.startswith("#"))
+    return "".join(lines[: first + 1 + rows])
+
+
+#: Header names a profile mutation may rename a column to.
+PROFILE_HEADER_NAMES = ("time", "speed", "speed_mph", "time_s", "TIME_S", "grade_%", "", "x")
+#: Cells that break naive CSV readers.
+CELLS = st.one_of(
+    NASTY_NUMBERS.map(repr), st.sampled_from([
+        "", " ", "nan", "NaN", "inf", "-inf", "Infinity", "1e400", "-1", "0", "x", '"', '"1"',
+        "1,2", "#", "\ufeff", "\x00", "é", "1_000", "0x10", "1e", "--1", "2e308", "5e-324"]),
+    st.text(max_size=6),
+)
+
+
+@st.composite
+def mutated_csv(draw, files: dict[str, str],
+                header_names: tuple[str, ...] = PROFILE_HEADER_NAMES) -> bytes:
+    """One of ``files`` (name -> CSV text) with 1 to 3 changes, as bytes.
+
+    A change replaces a cell, drops, doubles or cuts a line, renames a header cell to one of
+    ``header_names``, adds a column or inserts random bytes; a byte-order mark may lead.
+    """
+    lines = files[draw(st.sampled_from(sorted(files)))].splitlines()
+    for _ in range(draw(st.integers(1, 3))):
+        i = draw(st.integers(0, len(lines) - 1))
+        action = draw(st.sampled_from(["cell", "cell", "cell", "drop", "double", "cut",
+                                       "header", "bytes", "column"]))
+        cells = lines[i].split(",")
+        if action == "cell":
+            cells[draw(st.integers(0, len(cells) - 1))] = draw(CELLS)
+            lines[i] = ",".join(cells)
+        elif action == "drop":
+            del lines[i]
+        elif action == "double":
+            lines.insert(i, lines[i])
+        elif action == "cut":
+            lines = lines[: i + 1]
+            lines[i] = lines[i][: draw(st.integers(0, len(lines[i])))]
+        elif action == "header":
+            j = next((k for k, line in enumerate(lines) if not line.startswith("#")), i)
+            names = lines[j].split(",")
+            names[draw(st.integers(0, len(names) - 1))] = draw(st.sampled_from(header_names))
+            lines[j] = ",".join(names)
+        elif action == "column":
+            lines[i] += "," + draw(CELLS)
+        else:
+            lines.insert(i, draw(st.binary(max_size=20)).decode("utf-8", "surrogateescape"))
+        if not lines:
+            break
+    text = "\n".join(lines) + draw(st.sampled_from(["\n", "", "\r\n"]))
+    raw = text.encode("utf-8", "surrogateescape")
+    return draw(st.sampled_from([b"", b"\xef\xbb\xbf"])) + raw

@@ -22,6 +22,7 @@ import pytest
 
 import workbench
 from workbench.core.fuels import LIBRARY, list_fuels
+from workbench.core.paths import DATA
 from workbench.interfaces.cli import build_parser, main
 from workbench.study.results import COLUMNS
 from workbench.study.studyfile import DEMO_STUDY
@@ -162,6 +163,49 @@ def test_standard_input_from_a_terminal_or_empty_is_refused(run_cli, monkeypatch
         monkeypatch.setattr(sys, "stdin", stdin)
         code, _, err = run_cli("study", "check", "-")
         assert code == 2 and "FILE" in err and "standard input" in err
+        assert err.count("\n") == 1
+
+
+def piped(data: bytes) -> io.TextIOWrapper:
+    """A standard input that holds ``data``, with the byte stream below it as a shell gives."""
+    return io.TextIOWrapper(io.BytesIO(data), encoding="utf-8")
+
+
+def test_duty_stats_reads_a_profile_from_standard_input(run_cli, monkeypatch):
+    # 10 s at a steady 36 km/h (10 m/s), after a byte-order mark: 100 m (closed form, d = v t)
+    monkeypatch.setattr(sys, "stdin", piped(b"\xef\xbb\xbftime_s,speed_km_per_h\n0,36\n10,36\n"))
+    code, out, err = run_cli("duty", "stats", "-", "--json")
+    assert code == 0 and err == ""
+    got = json.loads(out)
+    assert got["distance_km"] == pytest.approx(0.1) and got["mean_speed_km_per_h"] == 36.0
+
+
+def test_duty_fuel_reads_a_profile_from_standard_input(run_cli, monkeypatch):
+    # the same numbers as from the file itself (the file route: tests/test_cli_duty.py)
+    profile = DATA / "profiles" / "taxi-shift.csv"
+    argv = ("--vehicle", "taxi", "--map", "taxi-si-1.8l", "--fuel", "gasoline", "--json")
+    code, out, _ = run_cli("duty", "fuel", str(profile), *argv)
+    assert code == 0
+    monkeypatch.setattr(sys, "stdin", piped(profile.read_bytes()))
+    code, piped_out, err = run_cli("duty", "fuel", "-", *argv)
+    assert code == 0 and err == ""
+    want, got = json.loads(out), json.loads(piped_out)
+    assert got.pop("profile") == "-"
+    want.pop("profile")
+    assert got == want
+
+
+def test_a_bad_profile_on_standard_input_is_named_by_row(run_cli, monkeypatch):
+    monkeypatch.setattr(sys, "stdin", piped(b"time_s,speed_km_per_h\n0,36\n10,fast\n"))
+    code, _, err = run_cli("duty", "stats", "-")
+    assert code == 2 and "<stdin> row 3" in err and err.count("\n") == 1
+
+
+def test_an_empty_profile_on_standard_input_is_refused(run_cli, monkeypatch):
+    for stdin in (Terminal(), piped(b""), piped(b"\xef\xbb\xbf \n")):
+        monkeypatch.setattr(sys, "stdin", stdin)
+        code, _, err = run_cli("duty", "stats", "-")
+        assert code == 2 and "PROFILE" in err and "standard input" in err
         assert err.count("\n") == 1
 
 

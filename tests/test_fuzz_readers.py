@@ -8,7 +8,6 @@ file (and row). Valid vehicle mutations round-trip through TOML. Common practice
 
 from __future__ import annotations
 
-import itertools
 import tomllib
 from pathlib import Path
 
@@ -18,7 +17,10 @@ from fuzzing import (
     NASTY_NUMBERS,
     TOML_VALUES,
     assert_finite,
+    fresh_file,
+    head,
     mutate,
+    mutated_csv,
     only_input_errors,
     scratch_folder,
 )
@@ -33,70 +35,16 @@ from workbench.io.vehicles import read_vehicle
 pytestmark = pytest.mark.timeout(60)
 
 TMP = scratch_folder("workbench-fuzz-readers-")
-_names = itertools.count()
 
 
-def _head(path: Path, rows: int) -> str:
-    """The file's comments, header and first ``rows`` data rows."""
-    lines = path.read_text(encoding="utf-8").splitlines(keepends=True)
-    first = next(i for i, line in enumerate(lines) if not line.startswith("#"))
-    return "".join(lines[: first + 1 + rows])
-
-
-PROFILES = {p.stem: _head(p, 40) for p in sorted((DATA / "profiles").glob("*.csv"))}
+PROFILES = {p.stem: head(p, 40) for p in sorted((DATA / "profiles").glob("*.csv"))}
 MAPS = {p.stem: p.read_text(encoding="utf-8") for p in sorted((DATA / "maps").glob("*.csv"))}
 VEHICLES = {p.stem: tomllib.loads(p.read_text(encoding="utf-8"))
             for p in sorted((DATA / "vehicles").glob("*.toml"))}
 
-CELLS = st.one_of(
-    NASTY_NUMBERS.map(repr), st.sampled_from([
-        "", " ", "nan", "NaN", "inf", "-inf", "Infinity", "1e400", "-1", "0", "x", '"', '"1"',
-        "1,2", "#", "\ufeff", "\x00", "é", "1_000", "0x10", "1e", "--1", "2e308", "5e-324"]),
-    st.text(max_size=6),
-)
-
-
-@st.composite
-def mutated_csv(draw, files: dict[str, str]) -> bytes:
-    """A shipped CSV with 1 to 3 changes, as bytes."""
-    lines = files[draw(st.sampled_from(sorted(files)))].splitlines()
-    for _ in range(draw(st.integers(1, 3))):
-        i = draw(st.integers(0, len(lines) - 1))
-        action = draw(st.sampled_from(["cell", "cell", "cell", "drop", "double", "cut",
-                                       "header", "bytes", "column"]))
-        cells = lines[i].split(",")
-        if action == "cell":
-            cells[draw(st.integers(0, len(cells) - 1))] = draw(CELLS)
-            lines[i] = ",".join(cells)
-        elif action == "drop":
-            del lines[i]
-        elif action == "double":
-            lines.insert(i, lines[i])
-        elif action == "cut":
-            lines = lines[: i + 1]
-            lines[i] = lines[i][: draw(st.integers(0, len(lines[i])))]
-        elif action == "header":
-            j = next((k for k, line in enumerate(lines) if not line.startswith("#")), i)
-            head = lines[j].split(",")
-            head[draw(st.integers(0, len(head) - 1))] = draw(st.sampled_from(
-                ["time", "speed", "speed_mph", "time_s", "TIME_S", "grade_%", "", "x"]))
-            lines[j] = ",".join(head)
-        elif action == "column":
-            lines[i] += "," + draw(CELLS)
-        else:
-            lines.insert(i, draw(st.binary(max_size=20)).decode("utf-8", "surrogateescape"))
-        if not lines:
-            break
-    text = "\n".join(lines) + draw(st.sampled_from(["\n", "", "\r\n"]))
-    raw = text.encode("utf-8", "surrogateescape")
-    return draw(st.sampled_from([b"", b"\xef\xbb\xbf"])) + raw
-
 
 def _file(suffix: str, data: bytes) -> Path:
-    path = TMP / f"f{next(_names)}" / f"fuzz{suffix}"
-    path.parent.mkdir()
-    path.write_bytes(data)
-    return path
+    return fresh_file(TMP, f"fuzz{suffix}", data)
 
 
 def _check(obj) -> None:

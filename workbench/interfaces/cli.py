@@ -204,8 +204,8 @@ def progress(args: argparse.Namespace) -> Callable[[str], None] | None:
     return say
 
 
-def read_text_arg(ref: str, option: str) -> str:
-    """The text of standard input, for a file argument given as ``-``.
+def read_bytes_arg(ref: str, option: str) -> bytes:
+    """The bytes of standard input, for a file argument given as ``-``.
 
     Parameters
     ----------
@@ -216,15 +216,45 @@ def read_text_arg(ref: str, option: str) -> str:
 
     Returns
     -------
-    str
+    bytes
+
+    Raises
+    ------
+    InputError
+        Standard input is a terminal, or holds nothing but white space.
     """
     hint = "pipe the file in (workbench ... - < file)"
     if sys.stdin is None or sys.stdin.isatty():
         raise InputError(option, f"'{ref}' reads standard input: {hint}")
-    text = sys.stdin.read()
-    if not text.strip():
+    stream = getattr(sys.stdin, "buffer", None)  # a text stream in tests has no bytes below
+    data = stream.read() if stream is not None else sys.stdin.read().encode("utf-8")
+    if not data.removeprefix(b"\xef\xbb\xbf").strip():
         raise InputError(option, f"'{ref}' read nothing from standard input: {hint}")
-    return text
+    return data
+
+
+def read_text_arg(ref: str, option: str) -> str:
+    """The text of standard input (UTF-8, a byte-order mark dropped), for ``-``.
+
+    Parameters
+    ----------
+    ref, option : str
+        As :func:`read_bytes_arg`.
+
+    Returns
+    -------
+    str
+
+    Raises
+    ------
+    InputError
+        As :func:`read_bytes_arg`, and when the bytes are not UTF-8.
+    """
+    try:
+        return read_bytes_arg(ref, option).decode("utf-8-sig")
+    except UnicodeDecodeError:
+        raise InputError(option, f"'{ref}': standard input is not UTF-8 text; save the file "
+                                 "as UTF-8") from None
 
 
 def open_in_browser(path: Any) -> None:

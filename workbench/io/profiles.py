@@ -187,6 +187,29 @@ def read_profile(path: str | Path) -> DutyTrace | ModeTable:
     return _parse_profile(str(path), data, side)
 
 
+def parse_profile(data: bytes, name: str = "<stdin>") -> DutyTrace | ModeTable:
+    """A duty profile from a CSV file's bytes (e.g. standard input); see :func:`read_profile`.
+
+    Parameters
+    ----------
+    data : bytes
+        The CSV file's content (UTF-8, a byte-order mark allowed); units from column names
+        only, as there is no side file.
+    name : str
+        What messages and the profile call the input.
+
+    Returns
+    -------
+    DutyTrace or ModeTable
+
+    Raises
+    ------
+    InputError
+        As :func:`read_profile`.
+    """
+    return _parse_profile(name, data, None)
+
+
 def read_trace(path: str | Path) -> DutyTrace:
     """Read a speed–time trace from CSV (see :func:`read_profile`).
 

@@ -305,7 +305,7 @@ def clean_log(batches: Iterable[LogBatch], rules: LogRules, tally: LogTally, *,
                                {k: np.asarray(a, float) for k, a in batch.extras.items()},
                                after, tally)
             if pend_x is None:
-                pend_x = x
+                pend_x = {k: np.empty(0) for k in x}
             if set(x) != set(pend_x):
                 raise InputError(name, "columns change between parts of the log")
             if pend_t.size and t.size and t[0] <= pend_t[-1]:

@@ -14,10 +14,10 @@ from typing import TYPE_CHECKING
 from workbench.core.constants import RPM
 from workbench.core.errors import InputError
 from workbench.core.paths import DATA
-from workbench.interfaces.cli import LazyChoices, add_fuels_option, command, finite_float
+from workbench.interfaces.cli import STDIO, LazyChoices, add_fuels_option, command, finite_float
 
 if TYPE_CHECKING:
-    from workbench.models.duty import DutySettings
+    from workbench.models.duty import DutySettings, DutyTrace, ModeTable
 
 #: Demo kind -> (data sub-directory, file suffix).
 _DEMOS = {"profile": ("profiles", ".csv"), "vehicle": ("vehicles", ".toml"),
@@ -39,9 +39,11 @@ def register(sub: argparse._SubParsersAction) -> None:
                 description="Distance, duration, mean and top speed, idle share, stops per km "
                 "and positive kinetic energy of a speed trace.",
                 example=["workbench duty stats taxi-shift",
-                         "workbench duty stats my-day.csv --json"])
+                         "workbench duty stats my-day.csv --json",
+                         "workbench duty stats - < my-day.csv"])
     p.add_argument("profile", metavar="PROFILE",
-                   help=f"demo profile ({', '.join(demo_names('profile'))}) or a CSV path")
+                   help=f"demo profile ({', '.join(demo_names('profile'))}), a CSV path, or "
+                        f"'{STDIO}' for standard input")
     p.add_argument("--json", action="store_true", help="print JSON")
     p.set_defaults(func=_stats)
 
@@ -51,7 +53,8 @@ def register(sub: argparse._SubParsersAction) -> None:
                 "engine's original fuel.",
                 example="workbench duty fuel taxi-shift --vehicle taxi --map taxi-si-1.8l "
                         "--fuel gasoline --fuel lpg --derate 0.05")
-    p.add_argument("profile", metavar="PROFILE", help="demo profile or a trace/mode-table CSV")
+    p.add_argument("profile", metavar="PROFILE",
+                   help=f"demo profile, a trace/mode-table CSV, or '{STDIO}' for standard input")
     p.add_argument("--vehicle", metavar="V",
                    help=f"demo vehicle ({', '.join(demo_names('vehicle'))}) or a TOML path; "
                         "needed for a speed trace")
@@ -121,12 +124,22 @@ def resolve(ref: str, kind: str, option: str) -> Path:
                              f"({', '.join(demo_names(kind))}) nor an existing file")
 
 
+def _profile(ref: str) -> DutyTrace | ModeTable:
+    """PROFILE: a demo name, a file, or ``-`` for a CSV on standard input."""
+    from workbench.io.profiles import parse_profile, read_profile
+
+    if ref == STDIO:
+        from workbench.interfaces.cli import read_bytes_arg
+
+        return parse_profile(read_bytes_arg(ref, "PROFILE"), "<stdin>")
+    return read_profile(resolve(ref, "profile", "PROFILE"))
+
+
 def _stats(args: argparse.Namespace) -> None:
     from workbench.interfaces.cli import print_json
-    from workbench.io.profiles import read_profile
     from workbench.models.duty import DutyTrace, duty_stats
 
-    trace = read_profile(resolve(args.profile, "profile", "PROFILE"))
+    trace = _profile(args.profile)
     if not isinstance(trace, DutyTrace):
         raise InputError(args.profile, "is a time-at-mode table; stats need a speed trace")
     s = duty_stats(trace)
@@ -162,7 +175,6 @@ def _fuel(args: argparse.Namespace) -> None:
     from workbench.core.fuels import load_fuel
     from workbench.interfaces.cli import print_json
     from workbench.io.maps import read_map
-    from workbench.io.profiles import read_profile
     from workbench.io.vehicles import read_vehicle
     from workbench.models.combustion import fuel_sheet
     from workbench.models.conversion import (
@@ -178,7 +190,7 @@ def _fuel(args: argparse.Namespace) -> None:
     from workbench.models.engine import fuel_per_distance_for, run_duty
 
     settings = _settings(args)
-    profile = read_profile(resolve(args.profile, "profile", "PROFILE"))
+    profile = _profile(args.profile)
     base_map = read_map(resolve(args.map, "map", "--map"))
     vehicle = None
     if isinstance(profile, DutyTrace):
