@@ -75,7 +75,6 @@ def study_result(study: Study, plan: Plan, lines: Mapping[str, econ.OptionLines]
         tornado=_tornado_table(plan, sensitivity),
         breakeven=_breakeven_table(inputs, break_even),
         inputs=frame("inputs", input_rows(study.data, inputs)),
-        duty=_duty_table(inputs),
         **{name: table.copy() for name, table in physics.items()},
         assumptions=_assumptions(study, n),
         sources=_sources(inputs),
@@ -93,11 +92,12 @@ def physics_tables(plan: Plan) -> dict[str, pd.DataFrame]:
     Returns
     -------
     dict of str to DataFrame
-        ``nox_monthly``, ``storage``, ``operating_points``, ``flame`` and ``catalyst``.
+        ``nox_monthly``, ``storage``, ``operating_points``, ``flame``, ``catalyst`` and
+        ``duty``.
     """
     return {"nox_monthly": _nox_monthly_table(plan), "storage": _storage_table(plan),
             "operating_points": _operating_points_table(plan), "flame": _flame_table(plan),
-            "catalyst": _catalyst_table(plan)}
+            "catalyst": _catalyst_table(plan), "duty": _duty_table(plan.inputs)}
 
 
 def _empty(name: str) -> pd.DataFrame:
