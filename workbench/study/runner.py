@@ -454,10 +454,13 @@ def _lines(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> dict[str, ec
     return options
 
 
-def _money(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> econ.Money:
-    """The programme's money for ``n`` draws of the uncertain inputs (nominal where absent)."""
+def _money(plan: Plan, params: Mapping[str, np.ndarray], n: int,
+           lines: Mapping[str, econ.OptionLines] | None = None) -> econ.Money:
+    """The programme's money for ``n`` draws of the uncertain inputs (nominal where absent),
+    from ``lines`` when the caller made them (:func:`_lines` of the same arguments)."""
     inputs = plan.inputs
-    return econ.programme_money(_lines(plan, params, n), baseline=inputs.baseline.id,
+    lines = _lines(plan, params, n) if lines is None else lines
+    return econ.programme_money(lines, baseline=inputs.baseline.id,
                                 rate=_values(inputs.discount_rate, params, n),
                                 carbon_price=_values(inputs.carbon_price, params, n),
                                 horizon=inputs.horizon_years, n=n)
@@ -498,7 +501,8 @@ def run(study: Study, *, draws: int | None = None,
     say("physics and chemistry (cached after the first run)")
     plan, physics_tables = _plan(inputs)
     say("money")
-    det = _money(plan, {}, 1)
+    lines = _lines(plan, {}, 1)
+    det = _money(plan, {}, 1, lines)
     draws_of: dict[str, econ.NPVDraws] = {}
     samples: dict[str, np.ndarray] = {}
     sensitivity: dict[str, pd.DataFrame] = {}
@@ -511,7 +515,7 @@ def run(study: Study, *, draws: int | None = None,
             draws_of[o.id] = econ.npv_draws(money, o.id, inputs.baseline.id)
             if inputs.uncertain:
                 sensitivity[o.id] = _sensitivity(plan, o.id)
-    result = tables.study_result(study, plan, _lines(plan, {}, 1), det, draws_of,
+    result = tables.study_result(study, plan, lines, det, draws_of,
                                  sensitivity, n, _break_even(plan), physics_tables)
     from workbench.study.decisions import decision_tables  # it builds on this module
 
