@@ -75,6 +75,8 @@ LABELS = {
     "replacement_cost": "replacement cost [{cur}]", "reductant_cost": "reductant cost [{cur}]",
     "best_interval_months": "best replacement interval [months]",
     "best_total_cost": "upkeep + NOx damage at best interval [{cur}]",
+    "vehicle": "vehicle", "distance_km": "distance logged [km]",
+    "share_idle": "time idling [%]", "outlier": "outlier (Tukey's fences)",
 }
 #: Titles of the result tables for a reader.
 TABLE_TITLES = {
@@ -87,6 +89,7 @@ TABLE_TITLES = {
     "catalyst": "Catalysts and their replacement", "inputs": "Inputs as written",
     "defaults": "Defaults the run applied", "notices": "Warnings",
     "class_decisions": "Each class converted on its own", "best_mix": "Best mix by class",
+    "vehicles": "Each vehicle of a class run from its logs",
 }
 _PERCENT = re.compile(r"^(p_|share_)|efficiency$")
 _WHOLE = frozenset({"year", "month", "replacements", "catalyst_replacements", "draw"})
