@@ -127,3 +127,13 @@ def test_no_vehicles_chart_without_fleet_logs():
     plain = run(read_study(DEMO), draws=0)
     assert plain.vehicles.empty and tuple(plain.vehicles.columns) == COLUMNS["vehicles"]
     assert "vehicles" not in charts.all_figures(plain)
+
+
+def test_report_shows_the_vehicles_table_and_chart(fleet_study, result):
+    from workbench.interfaces.report import html_report
+
+    html = html_report(result, study_text="# fleet study\n")
+    assert 'id="table-vehicles"' in html
+    assert "Each vehicle of a class run from its logs" in html
+    assert "Fuel per 100 km across the vehicles of each class" in html
+    assert "distance logged [km]" in html and "KB-T11" in html
