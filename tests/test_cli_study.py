@@ -85,9 +85,17 @@ def test_bad_study_files_end_in_one_line(run_cli, tmp_path, edit, named):
     assert err.count("\n") == 1 and named in err and "bad.toml" in err
 
 
+def test_csv_folder_is_made_when_missing(run_cli, tmp_path):
+    folder = tmp_path / "results" / "run-1"
+    code, _, err = run_cli("study", "run", str(DEMO_STUDY), "--draws", "0", "--csv", str(folder))
+    assert code == 0, err
+    assert (folder / "candidates.csv").is_file()
+
+
 def test_bad_output_paths(run_cli, tmp_path):
-    code, _, err = run_cli("study", "run", str(DEMO_STUDY), "--csv", str(tmp_path / "nope"))
-    assert code == 2 and "--csv" in err
+    (tmp_path / "a-file").write_text("x", encoding="utf-8")
+    code, _, err = run_cli("study", "run", str(DEMO_STUDY), "--csv", str(tmp_path / "a-file"))
+    assert code == 2 and "--csv" in err and "is a file" in err
     code, _, err = run_cli("study", "report", str(DEMO_STUDY), "-o", str(tmp_path / "r.txt"))
     assert code == 2 and "-o" in err
     code, _, err = run_cli("study", "run", "missing.toml")

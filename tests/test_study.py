@@ -385,3 +385,17 @@ def test_a_candidate_that_raises_co2e_says_so(demo):
     assert missing_reason(row.to_dict(), "cost_per_t_co2e_avoided") == "raises CO2e"
     base = res.candidates.set_index("candidate").loc["today"].to_dict()
     assert missing_reason(base, "cost_per_t_co2e_avoided") == "n/a (baseline)"
+
+
+def test_duty_table_reports_each_class_profile(demo):
+    # The report's duty statistics are the profile's own (duty_stats is checked against hand
+    # computations in tests/test_duty.py); one row per class, in the study's units.
+    from workbench.models.duty import duty_stats
+
+    res = run(demo, draws=0)
+    for c in demo.inputs.classes:
+        row = res.duty.set_index("vehicle_class").loc[c.id]
+        s = duty_stats(c.profile_data)
+        assert_allclose(row["distance_km"], s.distance / 1e3, rtol=1e-12)
+        assert_allclose(row["mean_speed_km_per_h"], s.mean_speed * 3.6, rtol=1e-12)
+        assert 0 <= row["idle_share"] <= 1

@@ -71,6 +71,10 @@ LABELS = {
     "engine_speed_rpm": "engine speed [rpm]", "torque_nm": "torque [N·m]", "hours": "hours [h]",
     "brake_efficiency": "brake efficiency [%]", "phi": "equivalence ratio phi",
     "flame_temperature_k": "flame temperature [K]", "no_ppm": "thermal NO [ppm]",
+    "profile": "duty profile", "distance_km": "distance per pass [km]",
+    "duration_h": "time per pass [h]", "mean_speed_km_per_h": "mean speed, stops included [km/h]",
+    "max_speed_km_per_h": "top speed [km/h]", "idle_share": "time standing [%]",
+    "stops_per_km": "stops per km",
     "device": "aftertreatment", "replacements": "replacements",
     "replacement_cost": "replacement cost [{cur}]", "reductant_cost": "reductant cost [{cur}]",
     "best_interval_months": "best replacement interval [months]",
@@ -87,11 +91,12 @@ TABLE_TITLES = {
     "breakeven": "Values at which the NPV is zero",
     "operating_points": "Engine operating points", "flame": "Flame temperature and thermal NO",
     "catalyst": "Catalysts and their replacement", "inputs": "Inputs as written",
+    "duty": "Duty profiles per class",
     "defaults": "Defaults the run applied", "notices": "Warnings",
     "class_decisions": "Each class converted on its own", "best_mix": "Best mix by class",
     "vehicles": "Each vehicle of a class run from its logs",
 }
-_PERCENT = re.compile(r"^(p_|share_)|efficiency$")
+_PERCENT = re.compile(r"^(p_|share_)|_share$|efficiency$")
 _WHOLE = frozenset({"year", "month", "replacements", "catalyst_replacements", "draw"})
 
 

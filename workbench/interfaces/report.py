@@ -399,6 +399,8 @@ def html_report(
 <p>Every input of the study file as written; the file itself is attached under
 <a href="#data">Data</a>.</p>
 {_inputs(result)}
+<h3>Duty profiles per class</h3>
+<div class="scroll">{_table_html(reader_table("duty", result))}</div>
 <h3>Assumptions</h3>
 {assumptions}
 <h2 id="caveats">Caveats, limitations and safety</h2>

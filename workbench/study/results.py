@@ -65,6 +65,9 @@ COLUMNS: dict[str, tuple[str, ...]] = {
         "candidate", "input", "label", "unit", "low_value", "high_value", "npv_at_low",
         "npv_at_high", "swing",
     ),
+    # one row per vehicle class: the statistics of its duty profile (a speed trace)
+    "duty": ("vehicle_class", "profile", "distance_km", "duration_h", "mean_speed_km_per_h",
+             "max_speed_km_per_h", "idle_share", "stops_per_km"),
     # one row per input of the study file, as written (for a reviewer to rebuild it)
     "inputs": ("section", "input", "value"),
     # one row per candidate x input: the value at which the NPV vs baseline crosses zero
@@ -118,7 +121,8 @@ class StudyResult:
     currency : str
         Currency code or label of every money column.
     candidates, per_km, cash_flows, fleet_years, nox_monthly, storage, monte_carlo, tornado,
-    operating_points, flame, catalyst, breakeven, inputs, defaults, notices : pandas.DataFrame
+    operating_points, flame, catalyst, breakeven, inputs, duty, defaults, notices :
+    pandas.DataFrame
         The tables of :data:`COLUMNS`. ``defaults`` lists every value the run took that the
         study did not give (conversion kind, engine setting, engine-out NOx, catalyst, lambda,
         methane slip, derate, efficiency, pollutant factors) with its source; ``notices`` the
@@ -154,6 +158,8 @@ class StudyResult:
         columns=list(COLUMNS["breakeven"])))
     inputs: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
         columns=list(COLUMNS["inputs"])))
+    duty: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
+        columns=list(COLUMNS["duty"])))
     fictional: bool = False
     names: Names = field(default_factory=Names)
     defaults: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(

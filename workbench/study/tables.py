@@ -5,6 +5,7 @@ candidate × class × metric or per year; column names in ``workbench.study.resu
 from __future__ import annotations
 
 from collections.abc import Mapping
+from pathlib import Path
 from typing import TYPE_CHECKING
 
 import numpy as np
@@ -13,6 +14,7 @@ import pandas as pd
 from workbench.core.cache import memoize
 from workbench.core.fuels import Fuel
 from workbench.models import economics as econ
+from workbench.models.duty import DutyTrace, duty_stats
 from workbench.models.nox import DEFAULT_ENGINE_OUT, engine_preset, nox_sweep
 from workbench.study.naming import display_unit, input_label, input_rows, study_names
 from workbench.study.results import COLUMNS, PALETTE, StudyResult
@@ -73,6 +75,7 @@ def study_result(study: Study, plan: Plan, lines: Mapping[str, econ.OptionLines]
         tornado=_tornado_table(plan, sensitivity),
         breakeven=_breakeven_table(inputs, break_even),
         inputs=frame("inputs", input_rows(study.data, inputs)),
+        duty=_duty_table(inputs),
         **{name: table.copy() for name, table in physics.items()},
         assumptions=_assumptions(study, n),
         sources=_sources(inputs),
@@ -285,6 +288,22 @@ def _tornado_table(plan: Plan, sensitivity: Mapping[str, pd.DataFrame]) -> pd.Da
             "npv_at_low": t["output_low"], "npv_at_high": t["output_high"],
             "swing": t["swing"]}))
     return pd.concat(frames, ignore_index=True) if frames else _empty("tornado")
+
+
+def _duty_table(inputs: StudyInputs) -> pd.DataFrame:
+    """Each class's duty profile in numbers (speed traces; NaN for a time-at-mode table or a
+    folder of logs, whose figures are elsewhere)."""
+    rows = []
+    for c in inputs.classes:
+        row = {"vehicle_class": c.id, "profile": Path(str(c.profile)).stem}
+        if isinstance(c.profile_data, DutyTrace):
+            s = duty_stats(c.profile_data)
+            row.update(distance_km=s.distance / 1e3, duration_h=s.duration / 3600.0,
+                       mean_speed_km_per_h=s.mean_speed * 3.6,
+                       max_speed_km_per_h=s.max_speed * 3.6, idle_share=s.idle_share,
+                       stops_per_km=s.stops_per_m * 1e3)
+        rows.append(row)
+    return frame("duty", rows)
 
 
 def _breakeven_table(inputs: StudyInputs,

@@ -237,17 +237,23 @@ def _run(args: argparse.Namespace) -> None:
     if args.csv == STDIO and args.json:
         raise InputError("--csv", f"'{STDIO}' and --json both print to standard output; "
                          "pick one")
-    if args.csv and args.csv != STDIO and not Path(args.csv).is_dir():
-        raise InputError("--csv", f"folder {args.csv} does not exist; create it first")
+    folder = Path(args.csv) if args.csv and args.csv != STDIO else None
+    if folder is not None and folder.exists() and not folder.is_dir():
+        raise InputError("--csv", f"{folder} is a file, not a folder; name a folder")
     study = _study(args.file)
     result = _result(study, args)
     if args.csv == STDIO:
         print("\n".join(f"# {name}\n{table.to_csv(index=False)}"
                         for name, table in result.tables().items()), end="")
         return
-    if args.csv:
+    if folder is not None:
+        try:
+            folder.mkdir(parents=True, exist_ok=True)  # the folder is made when it is missing
+        except OSError as exc:
+            raise InputError("--csv", f"cannot make the folder {folder} ({exc.strerror}); "
+                             "name another") from None
         for name, table in result.tables().items():
-            write_text_atomic(Path(args.csv) / f"{name}.csv", table.to_csv(index=False),
+            write_text_atomic(folder / f"{name}.csv", table.to_csv(index=False),
                               suffix=".csv", option="--csv")
     _print_result(result, args)
 
