@@ -92,7 +92,7 @@ def test_vehicles_table_is_each_vehicle_on_the_baseline_fuel(fleet_study, result
     assert tuple(got.columns) == COLUMNS["vehicles"]
     assert set(got["vehicle_class"]) == {"taxi"}  # the other classes run a profile
     assert list(got["vehicle"]) == list(expected["vehicle"])
-    assert_allclose(got["distance_km"], expected["distance_km"], rtol=1e-12)
+    assert_allclose(got["distance_logged_km"], expected["distance_km"], rtol=1e-12)
     assert_allclose(got["fuel_energy_mj_per_km"], expected["fuel_energy_mj_per_km"],
                     rtol=1e-12)
     assert_allclose(got["share_idle"], expected["share_idle"], rtol=1e-12)

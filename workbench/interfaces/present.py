@@ -79,7 +79,7 @@ LABELS = {
     "replacement_cost": "replacement cost [{cur}]", "reductant_cost": "reductant cost [{cur}]",
     "best_interval_months": "best replacement interval [months]",
     "best_total_cost": "upkeep + NOx damage at best interval [{cur}]",
-    "vehicle": "vehicle", "distance_km": "distance logged [km]",
+    "vehicle": "vehicle", "distance_logged_km": "distance logged [km]",
     "share_idle": "time idling [%]", "outlier": "outlier (Tukey's fences)",
 }
 #: Titles of the result tables for a reader.

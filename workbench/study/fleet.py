@@ -424,7 +424,7 @@ def vehicle_rows(vehicle_class: str, duty: DutyRun, fuel: Fuel, sheet: FuelSheet
     Returns
     -------
     list of dict
-        ``vehicle_class``, ``vehicle``, ``fuel``, ``distance_km``, ``fuel_energy_mj_per_km``,
+        ``vehicle_class``, ``vehicle``, ``fuel``, ``distance_logged_km``, ``fuel_energy_mj_per_km``,
         ``fuel_l_per_100km`` (NaN for a fuel not sold as a liquid), ``share_idle`` and
         ``outlier`` (outside Tukey's fences of the class's L/100 km, or of its MJ/km when
         the fuel has no litres; :func:`workbench.models.fleet.tukey_outliers`).
@@ -436,7 +436,7 @@ def vehicle_rows(vehicle_class: str, duty: DutyRun, fuel: Fuel, sheet: FuelSheet
     energy = np.array([p.fuel_energy_per_m * 1e-3 for p in per_m])
     outlier = tukey_outliers(litres if np.isfinite(litres).all() else energy)
     return [{"vehicle_class": vehicle_class, "vehicle": s.vehicle, "fuel": fuel.id,
-             "distance_km": s.energy.distance / 1e3, "fuel_energy_mj_per_km": energy[i],
+             "distance_logged_km": s.energy.distance / 1e3, "fuel_energy_mj_per_km": energy[i],
              "fuel_l_per_100km": litres[i], "share_idle": s.energy.share_idle,
              "outlier": bool(outlier[i])}
             for i, s in enumerate(duty.fleet.summaries)]

@@ -104,7 +104,7 @@ COLUMNS: dict[str, tuple[str, ...]] = {
     # one row per vehicle of a class run from its logs, on the baseline's fuel (empty when no
     # class is): the distribution across vehicles, outliers by Tukey's fences
     "vehicles": (
-        "vehicle_class", "vehicle", "fuel", "distance_km", "fuel_energy_mj_per_km",
+        "vehicle_class", "vehicle", "fuel", "distance_logged_km", "fuel_energy_mj_per_km",
         "fuel_l_per_100km", "share_idle", "outlier",
     ),
 }
