@@ -370,7 +370,7 @@ def test_conversion_kind_picked_in_the_panel_reaches_the_study_and_the_warning(a
     assert app.study.get("candidates[1].conversion.van") == "none"
     assert "warning: cng-fleet/van: natural-gas (spark-ignition) runs unchanged" in html.unescape(
         app.results.defaults.value)
-    assert "best mix by class" in app.results.defaults.value
+    assert "Best choice per class — Taxis: " in app.results.defaults.value
     lpg = app.candidates.conversions["candidates[0].conversion"]
     lpg.choice.value = "(inferred from the fuels)"  # the key removed: the study infers it
     assert "conversion" not in app.study.data["candidates"][0]

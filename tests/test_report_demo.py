@@ -44,6 +44,8 @@ def test_no_key_path_id_boolean_or_colour_code_reaches_the_reader(demo):
         hit = re.search(pattern, text)
         where = text[hit.start() - 60:hit.end() + 60] if hit else ""
         assert hit is None, f"{pattern!r} shows in the page: ...{where}..."
+    for cid in result.per_km["vehicle_class"].unique():  # class ids never stand for names
+        assert not re.search(rf"\b{cid}:", text), cid
     # option ids never stand where a name belongs (the baseline's id "today" is a word too)
     for cid in [c for c in result.candidates["candidate"] if "-" in c]:
         assert not re.search(rf"(?<![\w-]){re.escape(cid)}(?![\w-])", text), cid
@@ -60,6 +62,10 @@ def test_summary_numbers_are_the_result_tables(demo):
         assert money(row["npv_p90"], signed=True) in summary
         assert percent(row["p_npv_positive"]) in summary
         assert significant(row["discounted_payback_years"], 2) in summary
+    mix = result.best_mix.iloc[0]
+    assert money(mix["npv_vs_baseline"], result.currency, signed=True) in summary
+    for vclass in result.best_mix["vehicle_class"]:
+        assert f"{result.names.vehicle_class(vclass)}: " in summary
     for _, b in result.breakeven.dropna(subset=["breakeven_value"]).iterrows():
         assert f"{significant(b['breakeven_value'])} {b['unit']}" in summary
 

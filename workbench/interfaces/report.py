@@ -32,10 +32,9 @@ from workbench.core.text import escape_html as _esc
 from workbench.core.text import sha256_hex
 from workbench.interfaces.charts import MapGrid, all_figures
 from workbench.interfaces.present import TABLE_TITLES, reader_table, side_by_side
-from workbench.interfaces.summary import best_option, verdicts
+from workbench.interfaces.summary import best_mix_text, best_option, verdicts
 from workbench.io.files import check_target, write_text_atomic
 from workbench.models.engine import EngineMap
-from workbench.study.decisions import mix_line
 from workbench.study.results import StudyResult, notice_lines
 from workbench.study.studyfile import Study
 
@@ -222,7 +221,7 @@ def _job(result: StudyResult) -> str:
 def _summary(result: StudyResult) -> str:
     if result.candidates["is_baseline"].astype(bool).all():
         return "<p>The study has no candidate to compare.</p>"
-    parts = [f'<p class="best">{_esc(best_option(result))}</p>']
+    parts = [f'<p class="best">{_esc(best_option(result))} {_esc(best_mix_text(result))}</p>']
     for v in verdicts(result):
         classes = "".join(f"<li>{_esc(line)}</li>" for line in v.per_class)
         em_class = ' class="raised"' if v.raises_emissions else ""
@@ -295,9 +294,8 @@ def _decisions_html(result: StudyResult) -> str:
     """Each class's conversion on its own, and the best mix with its NPV."""
     if result.best_mix.empty:
         return "<p>The result has no per-class decisions.</p>"
-    names = dict(zip(result.candidates["candidate"], result.candidates["name"], strict=True))
-    return (f'<p id="best-mix"><strong>{_esc(mix_line(result.best_mix, names))}</strong> '
-            f"({_esc(result.currency)}). Each class's own conversion below leaves out the "
+    return (f'<p id="best-mix"><strong>{_esc(best_mix_text(result))}</strong> '
+            "Each class's own conversion below leaves out the "
             "programme costs (station, workshop); the mix counts those of each candidate it "
             "uses once.</p>"
             f'<div class="scroll">{_table_html(reader_table("class_decisions", result))}</div>')

@@ -175,3 +175,20 @@ def best_option(result: StudyResult) -> str:
     best = paying[0]
     return f"Highest NPV: {best.name} ({best.word})."
 
+
+
+def best_mix_text(result: StudyResult) -> str:
+    """The best choice per vehicle class in words, with its NPV band ("" without one)."""
+    mix = result.best_mix
+    if mix.empty:
+        return ""
+    names = result.names
+    parts = [f"{names.vehicle_class(r['vehicle_class'])}: {names.candidate(r['candidate'])}"
+             for _, r in mix.iterrows()]
+    r = mix.iloc[0]
+    band = ("" if not math.isfinite(r["npv_p10"]) else
+            f" (P10–P90 {money(r['npv_p10'], signed=True)} to "
+            f"{money(r['npv_p90'], signed=True)}; positive in {percent(r['p_npv_positive'])} "
+            "of draws)")
+    return (f"Best choice per class — {'; '.join(parts)}: NPV "
+            f"{money(r['npv_vs_baseline'], result.currency, signed=True)}{band}.")

@@ -22,7 +22,7 @@ from workbench.interfaces import charts
 from workbench.interfaces.panels.fields import esc
 from workbench.interfaces.panels.state import StudyState
 from workbench.interfaces.report import defaults_html
-from workbench.interfaces.summary import best_option, verdicts
+from workbench.interfaces.summary import best_mix_text, best_option, verdicts
 from workbench.study.results import StudyResult, missing_reason, notice_lines
 
 #: Charts the panel can show: chart key of :func:`charts.figure_dict` -> menu label.
@@ -120,10 +120,7 @@ def _defaults(result: StudyResult | None) -> str:
         return ""
     body = defaults_html(result)
     n = len(result.defaults)
-    from workbench.study.decisions import mix_line
-
-    names = dict(zip(result.candidates["candidate"], result.candidates["name"], strict=True))
-    mix = (f'<p class="wb-best-mix">{esc(mix_line(result.best_mix, names))}</p>'
+    mix = (f'<p class="wb-best-mix">{esc(best_mix_text(result))}</p>'
            if len(result.best_mix) else "")
     lines = mix + "".join(f'<p style="color:#D55E00">{esc(line)}</p>'
                           for line in notice_lines(result.notices))
