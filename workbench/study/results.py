@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Mapping
-from dataclasses import dataclass, field, fields
+from dataclasses import dataclass, field
 from typing import Any
 
 import pandas as pd
@@ -177,7 +177,7 @@ class StudyResult:
 
     def tables(self) -> dict[str, pd.DataFrame]:
         """The tables by name, in :data:`COLUMNS` order."""
-        return {f.name: getattr(self, f.name) for f in fields(self) if f.name in COLUMNS}
+        return {name: getattr(self, name) for name in COLUMNS}
 
     def colours(self) -> dict[str, str]:
         """Colour of each candidate, the same in every chart."""
