@@ -11,7 +11,7 @@ from workbench.io import demo_fleet, demo_profiles
 from workbench.io.maps import read_map
 from workbench.io.vehicles import read_vehicle
 from workbench.models.engine import DutyEnergy
-from workbench.models.fleet import VehicleSummary, aggregate
+from workbench.models.fleet import VehicleSummary, aggregate, tukey_outliers
 from workbench.study.fleet import run_fleet
 
 DATA = demo_profiles.DATA
@@ -130,3 +130,20 @@ def test_shipped_example_is_the_seeded_output(tmp_path):
     for path in fleet.logs.iterdir():
         assert path.read_bytes() == (LOGS / path.name).read_bytes(), path.name
     assert fleet.fuel_cards.read_bytes() == (LOGS.parent / "fuel-cards.csv").read_bytes()
+
+
+def test_tukey_outliers_against_hand_made_fences():
+    # Tukey's fences (Tukey 1977, "Exploratory Data Analysis"; k = 1.5 is common practice,
+    # no source). Values 1..8 and 20: quartiles by linear interpolation (numpy's default)
+    # are Q1 = 3, Q3 = 7, IQR = 4, fences -3 and 13 (by hand); only 20 lies outside.
+    values = [1, 2, 3, 4, 5, 6, 7, 8, 20]
+    assert list(tukey_outliers(values)) == [False] * 8 + [True]
+    # 1..9 and 13.5: Q1 3.25, Q3 7.75, upper fence 14.5, so 13.5 is inside (by hand)
+    assert not tukey_outliers([1, 2, 3, 4, 5, 6, 7, 8, 9, 13.5]).any()
+    # -10 and 4..9: Q1 4.5, Q3 7.5, lower fence 0, so -10 is below it (by hand)
+    assert list(tukey_outliers([-10, 4, 5, 6, 7, 8, 9])) == [True] + [False] * 6
+    # a wider fence lets 20 in (k = 4: upper fence 7 + 16 = 23)
+    assert not tukey_outliers(values, k=4.0).any()
+    # fewer than four vehicles: no quartiles worth the name, nothing flagged; NaN never flagged
+    assert not tukey_outliers([1.0, 2.0, 100.0]).any()
+    assert list(tukey_outliers([1, 2, 3, 4, 5, 6, 7, 8, 20, float("nan")]))[-2:] == [True, False]

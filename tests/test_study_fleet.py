@@ -2,16 +2,20 @@
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 import numpy as np
 import pytest
 from numpy.testing import assert_allclose
 
 from workbench.core.paths import DATA
+from workbench.interfaces import charts
 from workbench.io import demo_fleet
 from workbench.io.maps import read_map
 from workbench.io.vehicles import read_vehicle
 from workbench.study import read_study, run
 from workbench.study.fleet import run_fleet
+from workbench.study.results import COLUMNS
 from workbench.study.runner import DutySettings
 
 DEMO = DATA / "studies" / "kestrel-bay.toml"
@@ -67,3 +71,69 @@ def test_spread_between_vehicles_widens_the_monte_carlo(fleet_study, result, mon
     for cand in mc["candidate"].unique():
         assert np.std(mc[mc["candidate"] == cand][col]) > np.std(
             without[without["candidate"] == cand][col])
+
+
+def test_vehicles_table_is_each_vehicle_on_the_baseline_fuel(fleet_study, result):
+    # Rows equal the per-vehicle summaries of the same class run on its own (serial), each
+    # vehicle's fuel energy over its own distance; litres per 100 km from the fuel's LHV and
+    # liquid density (m3/m x 1e8 = L/100 km, closed form).
+    from workbench.models.combustion import fuel_sheet
+
+    taxi = next(c for c in fleet_study.inputs.classes if c.id == "taxi")
+    base = fleet_study.inputs.baseline
+    fuel = base.per_class["taxi"].fuel
+    expected = run_fleet(demo_fleet.DATA / "logs", read_vehicle(taxi.vehicle),
+                         read_map(base.per_class["taxi"].engine_map),
+                         settings=DutySettings(accessory_power=taxi.accessory_power,
+                                               engine_off_at_stops=taxi.engine_off_at_stops,
+                                               extra_idle_share=taxi.extra_idle_share),
+                         engine="serial").table()
+    got = result.vehicles
+    assert tuple(got.columns) == COLUMNS["vehicles"]
+    assert set(got["vehicle_class"]) == {"taxi"}  # the other classes run a profile
+    assert list(got["vehicle"]) == list(expected["vehicle"])
+    assert_allclose(got["distance_logged_km"], expected["distance_km"], rtol=1e-12)
+    assert_allclose(got["fuel_energy_mj_per_km"], expected["fuel_energy_mj_per_km"],
+                    rtol=1e-12)
+    assert_allclose(got["share_idle"], expected["share_idle"], rtol=1e-12)
+    sheet = fuel_sheet(fuel)
+    litres = expected["fuel_energy_mj_per_km"] * 1e3 / sheet.lhv_mass / fuel.liquid_density * 1e8
+    assert_allclose(got["fuel_l_per_100km"], litres, rtol=1e-9)
+    assert (got["fuel"] == fuel.id).all()
+    # outlier flags follow Tukey's fences on the same L/100 km
+    q1, q3 = np.quantile(litres, (0.25, 0.75))
+    fences = (litres < q1 - 1.5 * (q3 - q1)) | (litres > q3 + 1.5 * (q3 - q1))
+    assert list(got["outlier"]) == list(fences)
+
+
+def test_vehicles_chart_histogram_is_the_table(result):
+    # The demo logs hold no outlier (each within the fences, checked above), so one vehicle
+    # is flagged by hand here to see it named.
+    table = result.vehicles.copy()
+    table.loc[table.index[3], "outlier"] = True
+    marked = replace(result, vehicles=table)
+    fig = charts.figure_dict("vehicles", marked)
+    hist = [t for t in fig["data"] if t["type"] == "histogram"]
+    assert len(hist) == 1
+    assert_allclose(hist[0]["x"], table["fuel_l_per_100km"], rtol=0)
+    named = [a["text"] for a in fig["layout"].get("annotations", [])
+             if a["text"].startswith("outlier")]
+    assert named == [f"outlier: {table['vehicle'].iloc[3]}"]
+    assert "L/100 km" in fig["layout"]["xaxis"]["title"]["text"]
+    assert "vehicles" in charts.all_figures(result)
+
+
+def test_no_vehicles_chart_without_fleet_logs():
+    plain = run(read_study(DEMO), draws=0)
+    assert plain.vehicles.empty and tuple(plain.vehicles.columns) == COLUMNS["vehicles"]
+    assert "vehicles" not in charts.all_figures(plain)
+
+
+def test_report_shows_the_vehicles_table_and_chart(fleet_study, result):
+    from workbench.interfaces.report import html_report
+
+    html = html_report(result, study_text="# fleet study\n")
+    assert 'id="table-vehicles"' in html
+    assert "Each vehicle of a class run from its logs" in html
+    assert "Fuel per 100 km across the vehicles of each class" in html
+    assert "distance logged [km]" in html and "KB-T11" in html

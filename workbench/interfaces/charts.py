@@ -845,6 +845,58 @@ def _flame(result: StudyResult) -> _Fig:
 # ----------------------------------------------------------------------------- all of them
 
 
+# ----------------------------------------------------------------------------- fleet logs
+
+
+def _vehicles(result: StudyResult) -> _Fig:
+    title = "Fuel per 100 km across the vehicles of each class, outliers named"
+    table = result.vehicles
+    if table.empty:
+        return _no_data(title, "vehicles")
+    classes = list(dict.fromkeys(table["vehicle_class"]))
+    fig = _Fig(rows=len(classes), cols=1, subplot_titles=_facet_titles(classes, result),
+               vertical_spacing=0.12)
+    for r, vclass in enumerate(classes, start=1):
+        d = table[table["vehicle_class"] == vclass]
+        litres = bool(np.isfinite(d["fuel_l_per_100km"].to_numpy(dtype=float)).all())
+        column, unit = (("fuel_l_per_100km", "L/100 km") if litres
+                        else ("fuel_energy_mj_per_km", "MJ/km"))
+        fuel = escape(" / ".join(result.names.fuel(f) for f in dict.fromkeys(d["fuel"])))
+        fig.add_trace(dict(
+            type="histogram", x=_values(d[column]), nbinsx=max(5, min(30, len(d))),
+            name=escape(result.names.vehicle_class(vclass)), showlegend=False,
+            marker=dict(color=NEUTRAL, line=dict(color="white", width=1)),
+            hovertemplate=f"%{{x}} {unit}: %{{y}} vehicles<extra></extra>"), row=r, col=1)
+        n = fig._cell(r, 1)
+        for row in d[d["outlier"].astype(bool)].itertuples(index=False):
+            fig.add_annotation(text=f"outlier: {escape(row.vehicle)}", x=getattr(row, column),
+                               xref=_ref("x", n), y=0, yref=_ref("y", n), showarrow=True,
+                               arrowhead=2, ax=0, ay=-40, font=dict(color=BREAK_EVEN))
+        fig.update_xaxes(title=dict(text=f"{fuel} per vehicle [{unit}]"), row=r, col=1)
+        fig.update_yaxes(title=dict(text="vehicles [-]"), rangemode="tozero", row=r, col=1)
+    fig.update_layout(bargap=0.05)
+    return _finish(fig, title, height=160 + 260 * len(classes))
+
+
+def vehicles_chart(result: StudyResult) -> go.Figure:
+    """How a fleet-log class's fuel use spreads across its vehicles, outliers named.
+
+    Parameters
+    ----------
+    result : StudyResult
+        Reads the ``vehicles`` table (``fuel_l_per_100km`` [L/100 km], or
+        ``fuel_energy_mj_per_km`` [MJ/km] for a fuel without litres; ``outlier`` [bool]); one
+        row of facets per vehicle class.
+
+    Returns
+    -------
+    plotly.graph_objects.Figure
+        A histogram of vehicles per class on the baseline's fuel; an arrow names each vehicle
+        outside Tukey's fences (``workbench.models.fleet.tukey_outliers``).
+    """
+    return _vehicles(result).figure()
+
+
 def _as_grid(grid: MapGrid | EngineMap) -> MapGrid:
     return grid if isinstance(grid, MapGrid) else MapGrid.from_engine_map(grid)
 
@@ -868,6 +920,7 @@ def all_figures(
     Returns
     -------
     dict of str to plotly.graph_objects.Figure
+        ``vehicles`` is among them only when a class ran from its vehicles' logs.
     """
     figs = {
         "cost_per_km": cost_per_km_chart(result),
@@ -895,6 +948,8 @@ def all_figures(
     figs["tornado"] = tornado_chart(result)
     figs["monte_carlo"] = monte_carlo_chart(result)
     figs["flame"] = flame_chart(result)
+    if not result.vehicles.empty:
+        figs["vehicles"] = vehicles_chart(result)
     return figs
 
 
@@ -908,6 +963,7 @@ _BUILDERS: dict[str, Callable[[StudyResult], _Fig]] = {
     "tornado": _tornado,
     "monte_carlo": _monte_carlo,
     "flame": _flame,
+    "vehicles": _vehicles,
 }
 
 
@@ -918,7 +974,7 @@ def figure_dict(key: str, result: StudyResult) -> dict[str, Any]:
     ----------
     key : str
         Chart key: ``cost_per_km``, ``co2_per_km``, ``nox_monthly``, ``energy_density``,
-        ``cash_flow``, ``tornado``, ``monte_carlo`` or ``flame``.
+        ``cash_flow``, ``tornado``, ``monte_carlo``, ``flame`` or ``vehicles``.
     result : StudyResult
         The study's result.
 

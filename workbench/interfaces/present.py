@@ -79,6 +79,8 @@ LABELS = {
     "replacement_cost": "replacement cost [{cur}]", "reductant_cost": "reductant cost [{cur}]",
     "best_interval_months": "best replacement interval [months]",
     "best_total_cost": "upkeep + NOx damage at best interval [{cur}]",
+    "vehicle": "vehicle", "distance_logged_km": "distance logged [km]",
+    "share_idle": "time idling [%]", "outlier": "outlier (Tukey's fences)",
 }
 #: Titles of the result tables for a reader.
 TABLE_TITLES = {
@@ -92,6 +94,7 @@ TABLE_TITLES = {
     "duty": "Duty profiles per class",
     "defaults": "Defaults the run applied", "notices": "Warnings",
     "class_decisions": "Each class converted on its own", "best_mix": "Best mix by class",
+    "vehicles": "Each vehicle of a class run from its logs",
 }
 _PERCENT = re.compile(r"^(p_|share_)|_share$|efficiency$")
 _WHOLE = frozenset({"year", "month", "replacements", "catalyst_replacements", "draw"})

@@ -21,6 +21,10 @@ from workbench.models.engine import DutyEnergy
 #: Quantiles of the between-vehicle spread [-].
 SPREAD_QUANTILES = (0.10, 0.90)
 
+#: Width of Tukey's fences in interquartile ranges [-] (Tukey, 1977, "Exploratory Data
+#: Analysis"; 1.5 is common practice, no source).
+TUKEY_K = 1.5
+
 
 @dataclass(frozen=True, eq=False)
 class VehicleSummary:
@@ -130,3 +134,30 @@ def vehicle_table(summaries: Sequence[VehicleSummary]) -> pd.DataFrame:
                      "share_idle": e.share_idle, "share_out_of_map": e.share_out_of_map,
                      **s.tally})
     return pd.DataFrame(rows)
+
+
+def tukey_outliers(values: Sequence[float] | np.ndarray, k: float = TUKEY_K) -> np.ndarray:
+    """Which values lie outside Tukey's fences.
+
+    Parameters
+    ----------
+    values : sequence of float
+        One figure per vehicle of a class (e.g. fuel per 100 km) [any unit].
+    k : float
+        Fence width in interquartile ranges [-].
+
+    Returns
+    -------
+    numpy.ndarray of bool
+        True where a value is below ``Q1 - k * IQR`` or above ``Q3 + k * IQR`` (quartiles by
+        linear interpolation, numpy's default); all False for fewer than four values or where
+        a value is NaN.
+    """
+    x = np.asarray(values, dtype=float)
+    finite = np.isfinite(x)
+    if finite.sum() < 4:
+        return np.zeros(x.shape, dtype=bool)
+    q1, q3 = np.quantile(x[finite], (0.25, 0.75))
+    iqr = q3 - q1
+    with np.errstate(invalid="ignore"):
+        return finite & ((x < q1 - k * iqr) | (x > q3 + k * iqr))

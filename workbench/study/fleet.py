@@ -33,6 +33,7 @@ import pandas as pd
 
 from workbench.core.constants import RPM
 from workbench.core.errors import InputError
+from workbench.core.fuels import Fuel
 from workbench.io.logs import (
     CSV_CHUNK_ROWS,
     FleetSource,
@@ -41,9 +42,22 @@ from workbench.io.logs import (
     read_batches,
 )
 from workbench.models.calibration import Calibration, FuelRecords, calibrate, observed_use
+from workbench.models.combustion import FuelSheet
 from workbench.models.duty import DutySettings
-from workbench.models.engine import NOX_SPEED_BINS, DutyRun, EngineMap, energy_from_sums
-from workbench.models.fleet import ClassAggregate, VehicleSummary, aggregate, vehicle_table
+from workbench.models.engine import (
+    NOX_SPEED_BINS,
+    DutyRun,
+    EngineMap,
+    energy_from_sums,
+    fuel_per_distance_for,
+)
+from workbench.models.fleet import (
+    ClassAggregate,
+    VehicleSummary,
+    aggregate,
+    tukey_outliers,
+    vehicle_table,
+)
 from workbench.models.fused import histogram_edges, trace_sums
 from workbench.models.logs import LogRules, LogTally, clean_log
 from workbench.models.vehicle import Vehicle
@@ -389,3 +403,40 @@ def fleet_duty(logs: FleetSource, vehicle: Vehicle, engine_map: EngineMap, *,
     run = run_fleet(logs, vehicle, engine_map, settings=settings, engine=engine)
     speeds, weights, points = class_tables(run.aggregate, engine_map, NOX_SPEED_BINS)
     return FleetDutyRun(run.aggregate.energy, speeds, weights, points, run)
+
+
+def vehicle_rows(vehicle_class: str, duty: DutyRun, fuel: Fuel, sheet: FuelSheet
+                 ) -> list[dict[str, Any]]:
+    """Rows of the study's ``vehicles`` table for one class: each vehicle on the given fuel.
+
+    Parameters
+    ----------
+    vehicle_class : str
+        Class id.
+    duty : DutyRun
+        The class's duty; a :class:`FleetDutyRun` gives one row per vehicle used, any other
+        duty none.
+    fuel : Fuel
+        The fuel the figures are on (the study passes the baseline's).
+    sheet : FuelSheet
+        Its property sheet.
+
+    Returns
+    -------
+    list of dict
+        ``vehicle_class``, ``vehicle``, ``fuel``, ``distance_logged_km``, ``fuel_energy_mj_per_km``,
+        ``fuel_l_per_100km`` (NaN for a fuel not sold as a liquid), ``share_idle`` and
+        ``outlier`` (outside Tukey's fences of the class's L/100 km, or of its MJ/km when
+        the fuel has no litres; :func:`workbench.models.fleet.tukey_outliers`).
+    """
+    if not isinstance(duty, FleetDutyRun):
+        return []
+    per_m = [fuel_per_distance_for(s.energy, fuel, sheet) for s in duty.fleet.summaries]
+    litres = np.array([p.fuel_volume_per_m * 1e8 for p in per_m])
+    energy = np.array([p.fuel_energy_per_m * 1e-3 for p in per_m])
+    outlier = tukey_outliers(litres if np.isfinite(litres).all() else energy)
+    return [{"vehicle_class": vehicle_class, "vehicle": s.vehicle, "fuel": fuel.id,
+             "distance_logged_km": s.energy.distance / 1e3, "fuel_energy_mj_per_km": energy[i],
+             "fuel_l_per_100km": litres[i], "share_idle": s.energy.share_idle,
+             "outlier": bool(outlier[i])}
+            for i, s in enumerate(duty.fleet.summaries)]

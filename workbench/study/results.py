@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Mapping
-from dataclasses import dataclass, field, fields
+from dataclasses import dataclass, field
 from typing import Any
 
 import pandas as pd
@@ -101,6 +101,12 @@ COLUMNS: dict[str, tuple[str, ...]] = {
         "vehicle_class", "candidate", "npv_vs_baseline", "discounted_payback_years",
         "co2e_avoided_t", "nox_avoided_kg", "npv_p10", "npv_p50", "npv_p90", "p_npv_positive",
     ),
+    # one row per vehicle of a class run from its logs, on the baseline's fuel (empty when no
+    # class is): the distribution across vehicles, outliers by Tukey's fences
+    "vehicles": (
+        "vehicle_class", "vehicle", "fuel", "distance_logged_km", "fuel_energy_mj_per_km",
+        "fuel_l_per_100km", "share_idle", "outlier",
+    ),
 }
 
 
@@ -122,7 +128,8 @@ class StudyResult:
         methane slip, derate, efficiency, pollutant factors) with its source; ``notices`` the
         one-line warnings (a fuel on a map made for another combustion regime);
         ``class_decisions`` each class's conversion on its own and ``best_mix`` the best
-        choice per class (``workbench.study.decisions``).
+        choice per class (``workbench.study.decisions``); ``vehicles`` each vehicle of a class
+        run from its logs (``workbench.study.fleet.vehicle_rows``).
     assumptions : dict
         Flat record of the inputs that shaped the result (for the report), values as text.
     fictional : bool
@@ -163,12 +170,14 @@ class StudyResult:
         columns=list(COLUMNS["class_decisions"])))
     best_mix: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
         columns=list(COLUMNS["best_mix"])))
+    vehicles: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
+        columns=list(COLUMNS["vehicles"])))
     assumptions: dict[str, str] = field(default_factory=dict)
     sources: dict[str, str] = field(default_factory=dict)
 
     def tables(self) -> dict[str, pd.DataFrame]:
         """The tables by name, in :data:`COLUMNS` order."""
-        return {f.name: getattr(self, f.name) for f in fields(self) if f.name in COLUMNS}
+        return {name: getattr(self, name) for name in COLUMNS}
 
     def colours(self) -> dict[str, str]:
         """Colour of each candidate, the same in every chart."""

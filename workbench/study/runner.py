@@ -43,7 +43,7 @@ from workbench.models.pollutants import pollutant_factors
 from workbench.models.storage import tank_for_range
 from workbench.models.vehicle import Vehicle
 from workbench.study import tables
-from workbench.study.fleet import FleetDutyRun, fleet_duty
+from workbench.study.fleet import FleetDutyRun, fleet_duty, vehicle_rows
 from workbench.study.results import StudyResult
 from workbench.study.studyfile import (
     ClassOption,
@@ -524,7 +524,12 @@ def run(study: Study, *, draws: int | None = None,
     result = replace(result, defaults=tables.frame("defaults", defaults_rows(inputs, plan.physics)),
                      notices=tables.frame("notices", notice_rows(inputs)),
                      class_decisions=tables.frame("class_decisions", decisions),
-                     best_mix=tables.frame("best_mix", mix))
+                     best_mix=tables.frame("best_mix", mix),
+                     vehicles=tables.frame("vehicles", [
+                         row for c in inputs.classes for row in vehicle_rows(
+                             c.id, plan.physics[inputs.baseline.id, c.id].duty,
+                             inputs.baseline.per_class[c.id].fuel,
+                             plan.physics[inputs.baseline.id, c.id].sheet)]))
     result.assumptions.update(_fleet_notes(plan))
     say("done")
     return result

@@ -35,6 +35,7 @@ CHARTS = {
     "tornado": "What moves the NPV (tornado)",
     "monte_carlo": "NPV over the Monte Carlo draws",
     "flame": "Flame temperature and thermal NO",
+    "vehicles": "Fuel per 100 km across the vehicles",
 }
 #: Charts shown side by side when the panel opens.
 DEFAULT_CHARTS = ("cost_per_km", "cash_flow")
