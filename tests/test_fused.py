@@ -81,6 +81,27 @@ def test_unreachable_speed_worded_as_the_reference():
 
 def test_histogram_edges_follow_numpy():
     edges = np.array([0.0, 1.0, 2.0])
-    assert fused._bin(edges, 2.0) == 1  # last edge closed, as numpy.histogram
-    assert fused._bin(edges, 1.0) == 1
-    assert fused._bin(edges, 2.5) == -1
+    w = fused._inv_width(edges)
+    assert fused._bin(edges, w, 2.0) == 1  # last edge closed, as numpy.histogram
+    assert fused._bin(edges, w, 1.0) == 1
+    assert fused._bin(edges, w, 2.5) == -1
+    assert fused._bin(edges, w, float("nan")) == -1
+
+
+def test_cell_search_on_an_uneven_grid_follows_searchsorted():
+    # the first guess takes the grid as even; on an uneven one the correction must still
+    # land where numpy.searchsorted does (reference: numpy), edges and grid points included
+    grid = np.array([0.0, 0.1, 0.15, 2.0, 7.0, 7.5, 10.0])
+    w = fused._inv_width(grid)
+    inv = 1.0 / np.diff(grid)
+    xs = np.concatenate([grid, np.linspace(-1.0, 11.0, 241)])
+    for x in xs:
+        right = min(max(int(np.searchsorted(grid, x, "right")) - 1, 0), grid.size - 2)
+        assert fused._below(grid, w, x) == right, x
+        clipped = min(max(x, grid[0]), grid[-1])
+        left = min(max(int(np.searchsorted(grid, clipped, "left")) - 1, 0), grid.size - 2)
+        assert fused._cell(grid, w, inv, clipped)[0] == left, x
+        hist = np.histogram([x], bins=grid)[0]
+        assert fused._bin(grid, w, x) == (int(np.argmax(hist)) if hist.any() else -1), x
+        assert fused._interp(grid, w, grid ** 2, x) == pytest.approx(
+            np.interp(x, grid, grid ** 2), rel=1e-12, abs=1e-12), x

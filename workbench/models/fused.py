@@ -78,45 +78,61 @@ def histogram_edges(engine_map: EngineMap) -> tuple[np.ndarray, np.ndarray]:
     return speed, np.linspace(0.0, float(engine_map.full_load_torque.max()), 11)
 
 
-def _count(xp: np.ndarray, x: float, right: bool) -> int:
-    """numpy.searchsorted(xp, x, side) for one point: how many of ``xp`` are < x (<= x)."""
-    lo, hi = 0, xp.size
-    while lo < hi:
-        mid = (lo + hi) // 2
-        if xp[mid] < x or (right and xp[mid] == x):
-            lo = mid + 1
-        else:
-            hi = mid
-    return lo
+def _guess(grid: np.ndarray, inv_width: float, x: float) -> int:
+    """Cell of ``x`` on ``grid`` if the grid were uniform (``inv_width``: cells per unit),
+    clamped to the cells; the callers correct it by comparisons against the grid itself."""
+    last = grid.size - 2
+    g = (x - grid[0]) * inv_width
+    if not g > 0.0:  # also NaN
+        return 0
+    return int(g) if g < last else last
 
 
-def _bin(edges: np.ndarray, x: float) -> int:
-    """numpy.histogram's bin of ``x`` (-1 outside)."""
-    n = edges.size
-    if x < edges[0] or x > edges[n - 1]:
+def _below(grid: np.ndarray, inv_width: float, x: float) -> int:
+    """The last ``i`` with ``grid[i] <= x``, clamped to the cells ``0 .. size - 2``
+    (numpy.searchsorted(grid, x, "right") - 1)."""
+    i = _guess(grid, inv_width, x)
+    while i > 0 and x < grid[i]:
+        i -= 1
+    while i < grid.size - 2 and x >= grid[i + 1]:
+        i += 1
+    return i
+
+
+def _bin(edges: np.ndarray, inv_width: float, x: float) -> int:
+    """numpy.histogram's bin of ``x`` (-1 outside, the last bin closed on both sides)."""
+    if not (edges[0] <= x <= edges[edges.size - 1]):
         return -1
-    if x == edges[n - 1]:
-        return n - 2
-    return _count(edges, x, True) - 1
+    return _below(edges, inv_width, x)
 
 
-def _interp(xp: np.ndarray, fp: np.ndarray, x: float) -> float:
+def _interp(xp: np.ndarray, inv_width: float, fp: np.ndarray, x: float) -> float:
     """numpy.interp at one point: linear, ends held."""
     n = xp.size
     if x <= xp[0]:
         return fp[0]
     if x >= xp[n - 1]:
         return fp[n - 1]
-    j = _count(xp, x, True) - 1
+    j = _below(xp, inv_width, x)
     return fp[j] + (x - xp[j]) * (fp[j + 1] - fp[j]) / (xp[j + 1] - xp[j])
 
 
-def _cell(grid: np.ndarray, inv_step: np.ndarray, x: float) -> tuple[int, float]:
-    """Cell and position of ``x`` (already clipped to the axis) as scipy's linear interpolator
-    (``inv_step``: one over each cell's width)."""
-    i = _count(grid, x, False) - 1
-    i = min(max(i, 0), grid.size - 2)
+def _cell(grid: np.ndarray, inv_width: float, inv_step: np.ndarray,
+          x: float) -> tuple[int, float]:
+    """Cell and position of ``x`` (already clipped to the axis) as scipy's linear interpolator:
+    the last ``i`` with ``grid[i] < x``, clamped to the cells (``inv_step``: one over each
+    cell's width)."""
+    i = _guess(grid, inv_width, x)
+    while i > 0 and x <= grid[i]:
+        i -= 1
+    while i < grid.size - 2 and x > grid[i + 1]:
+        i += 1
     return i, (x - grid[i]) * inv_step[i]
+
+
+def _inv_width(grid: np.ndarray) -> float:
+    """Cells per unit of a grid taken as uniform (the first guess of :func:`_below`)."""
+    return (grid.size - 1) / (grid[grid.size - 1] - grid[0])
 
 
 def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full, s_edges,
@@ -127,8 +143,14 @@ def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full,
         par[10] > 0.5, par[11])
     k = ratios.size
     n_per_v = ratios / r  # engine speed per vehicle speed in each gear [rad/m]
+    per_ratio = 1.0 / ratios  # multiplications in the loop instead of divisions
+    inv_eta = 1.0 / eta
     inv_speed = 1.0 / np.diff(m_speed)
     inv_torque = 1.0 / np.diff(m_torque)
+    w_speed = _inv_width(m_speed)
+    w_torque = _inv_width(m_torque)
+    w_s_edges = _inv_width(s_edges)
+    w_t_edges = _inv_width(t_edges)
     has_grade = grade.size > 0
     has_payload = payload.size > 0
     t_min = m_torque[0]
@@ -160,7 +182,8 @@ def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full,
         elif work < 0.0:
             s_brake -= work
         wheel_torque = force * r
-        through = 1.0 / eta if wheel_torque >= 0.0 else eta
+        through = inv_eta if wheel_torque >= 0.0 else eta
+        engine_side = wheel_torque * through
         # gear speeds fall with the gear number: the gears under max_engine_speed are j >=
         # under_lo, those also at or above shift_speed are under_lo <= j <= band_hi
         under_lo = k
@@ -178,8 +201,8 @@ def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full,
         if band_lo >= 0:
             for j in range(band_hi, band_lo - 1, -1):  # highest covering gear first
                 n_j = vm * n_per_v[j]
-                t_j = (wheel_torque * through) / ratios[j] + p_acc / max(n_j, idle)
-                if t_j <= _interp(m_speed, m_full, n_j):
+                t_j = engine_side * per_ratio[j] + p_acc / max(n_j, idle)
+                if t_j <= _interp(m_speed, w_speed, m_full, n_j):
                     covered_hi = j
                     break
         if under_lo == k:
@@ -190,7 +213,7 @@ def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full,
             break
         gear = covered_hi if covered_hi >= 0 else (band_lo if band_lo >= 0 else max(under_lo, 0))
         geared = vm * n_per_v[gear]
-        torque = (wheel_torque * through) / ratios[gear] + p_acc / max(geared, idle)
+        torque = engine_side * per_ratio[gear] + p_acc / max(geared, idle)
         overrun = moving and torque <= 0.0 and geared >= shift
         idling = (not moving) or (torque <= 0.0 and not overrun)
         if idling:
@@ -206,12 +229,12 @@ def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full,
         s_engine += speed * torque * dt
         # map lookup (EngineMap.fuel_power)
         n = min(max(speed, s_lo), s_hi)
-        b, wb = _cell(m_speed, inv_speed, n)
+        b, wb = _cell(m_speed, w_speed, inv_speed, n)
         full = m_full[b] + wb * (m_full[b + 1] - m_full[b])  # numpy.interp, ends held
         cap = min(full, t_top)
         tq = min(torque, cap)
         t_grid = max(tq, t_min)
-        a, wa = _cell(m_torque, inv_torque, min(max(t_grid, t_min), t_top))
+        a, wa = _cell(m_torque, w_torque, inv_torque, min(max(t_grid, t_min), t_top))
         eff = (m_eff[a, b] * (1.0 - wa) * (1.0 - wb) + m_eff[a, b + 1] * (1.0 - wa) * wb
                + m_eff[a + 1, b] * wa * (1.0 - wb) + m_eff[a + 1, b + 1] * wa * wb)
         p = speed * t_grid / eff
@@ -224,8 +247,8 @@ def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full,
             s_oom += dt
         if torque >= full:
             s_full += dt
-        bs = _bin(s_edges, _rpm(speed))
-        bt = _bin(t_edges, max(torque, 0.0))
+        bs = _bin(s_edges, w_s_edges, _rpm(speed))
+        bt = _bin(t_edges, w_t_edges, max(torque, 0.0))
         if bs >= 0 and bt >= 0:
             seconds[bs, bt] += dt
             fuel[bs, bt] += e
@@ -238,12 +261,17 @@ def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full,
 _rpm = to_rpm
 
 if numba is not None:
-    _rpm = numba.njit(cache=True)(to_rpm)
-    _count = numba.njit(cache=True)(_count)
-    _bin = numba.njit(cache=True)(_bin)
-    _interp = numba.njit(cache=True)(_interp)
-    _cell = numba.njit(cache=True)(_cell)
-    _kernel = numba.njit(cache=True)(_kernel)
+    # error_model="numpy": a division by zero gives inf/nan as on the reference path instead
+    # of a check (and a Python exception) in front of every division of the loop
+    _jit = numba.njit(cache=True, error_model="numpy")
+    _rpm = _jit(to_rpm)
+    _guess = _jit(_guess)
+    _below = _jit(_below)
+    _bin = _jit(_bin)
+    _interp = _jit(_interp)
+    _cell = _jit(_cell)
+    _inv_width = _jit(_inv_width)
+    _kernel = _jit(_kernel)
 
 
 def _parameters(vehicle: Vehicle, engine_map: EngineMap, settings: DutySettings) -> np.ndarray:
