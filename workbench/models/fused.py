@@ -161,6 +161,8 @@ def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full,
     # sums in locals (registers), written back once
     s_dist = s_dur = s_wheel = s_brake = s_engine = s_fuel = s_idle = s_oom = s_full = 0.0
     bad = -1
+    idle_known = False
+    idle_point = (0.0, False, False, -1, -1)
     for i in range(t.size - 1):
         dt = t[i + 1] - t[i]
         vm = 0.5 * (v[i + 1] + v[i])
@@ -184,38 +186,40 @@ def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full,
         wheel_torque = force * r
         through = inv_eta if wheel_torque >= 0.0 else eta
         engine_side = wheel_torque * through
-        # gear speeds fall with the gear number: the gears under max_engine_speed are j >=
-        # under_lo, those also at or above shift_speed are under_lo <= j <= band_hi
-        under_lo = k
-        band_hi = -1
-        for j in range(k):
-            n_j = vm * n_per_v[j]
-            if n_j <= n_max:
-                if under_lo == k:
-                    under_lo = j
-                if n_j < shift:
-                    break  # and so are all higher gears
-                band_hi = j
-        band_lo = under_lo if band_hi >= under_lo else -1
-        covered_hi = -1
-        if band_lo >= 0:
-            for j in range(band_hi, band_lo - 1, -1):  # highest covering gear first
-                n_j = vm * n_per_v[j]
-                t_j = engine_side * per_ratio[j] + p_acc / max(n_j, idle)
-                if t_j <= _interp(m_speed, w_speed, m_full, n_j):
-                    covered_hi = j
-                    break
-        if under_lo == k:
-            under_lo = -1
+        # at a stop the engine idles (or is off) in any gear: no gear search
         moving = vm >= STOP_SPEED
-        if moving and under_lo < 0:
-            bad = i
-            break
-        gear = covered_hi if covered_hi >= 0 else (band_lo if band_lo >= 0 else max(under_lo, 0))
-        geared = vm * n_per_v[gear]
-        torque = engine_side * per_ratio[gear] + p_acc / max(geared, idle)
-        overrun = moving and torque <= 0.0 and geared >= shift
-        idling = (not moving) or (torque <= 0.0 and not overrun)
+        idling = not moving
+        overrun = False
+        if moving:
+            # gear speeds fall with the gear number: the gears under max_engine_speed are j >=
+            # under_lo, those also at or above shift_speed are under_lo <= j <= band_hi
+            under_lo = k
+            band_hi = -1
+            for j in range(k):
+                n_j = vm * n_per_v[j]
+                if n_j <= n_max:
+                    if under_lo == k:
+                        under_lo = j
+                    if n_j < shift:
+                        break  # and so are all higher gears
+                    band_hi = j
+            band_lo = under_lo if band_hi >= under_lo else -1
+            covered_hi = -1
+            if band_lo >= 0:
+                for j in range(band_hi, band_lo - 1, -1):  # highest covering gear first
+                    n_j = vm * n_per_v[j]
+                    t_j = engine_side * per_ratio[j] + p_acc / max(n_j, idle)
+                    if t_j <= _interp(m_speed, w_speed, m_full, n_j):
+                        covered_hi = j
+                        break
+            if under_lo == k:
+                bad = i
+                break
+            gear = covered_hi if covered_hi >= 0 else (band_lo if band_lo >= 0 else under_lo)
+            geared = vm * n_per_v[gear]
+            torque = engine_side * per_ratio[gear] + p_acc / max(geared, idle)
+            overrun = torque <= 0.0 and geared >= shift
+            idling = torque <= 0.0 and not overrun
         if idling:
             if off and not moving:
                 continue  # engine off: no fuel, no time idling
@@ -227,28 +231,36 @@ def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full,
         else:
             speed = max(geared, idle)
         s_engine += speed * torque * dt
-        # map lookup (EngineMap.fuel_power)
-        n = min(max(speed, s_lo), s_hi)
-        b, wb = _cell(m_speed, w_speed, inv_speed, n)
-        full = m_full[b] + wb * (m_full[b + 1] - m_full[b])  # numpy.interp, ends held
-        cap = min(full, t_top)
-        tq = min(torque, cap)
-        t_grid = max(tq, t_min)
-        a, wa = _cell(m_torque, w_torque, inv_torque, min(max(t_grid, t_min), t_top))
-        eff = (m_eff[a, b] * (1.0 - wa) * (1.0 - wb) + m_eff[a, b + 1] * (1.0 - wa) * wb
-               + m_eff[a + 1, b] * wa * (1.0 - wb) + m_eff[a + 1, b + 1] * wa * wb)
-        p = speed * t_grid / eff
-        if t_min > 0.0 and tq < t_min:
-            p_zero = p_idle * speed / idle
-            p = p_zero + (p - p_zero) * (tq / t_min)
+        if idling and idle_known:  # the idle point is the same at every idling interval
+            p, oom, at_full, bs, bt = idle_point
+        else:
+            # map lookup (EngineMap.fuel_power)
+            n = min(max(speed, s_lo), s_hi)
+            b, wb = _cell(m_speed, w_speed, inv_speed, n)
+            full = m_full[b] + wb * (m_full[b + 1] - m_full[b])  # numpy.interp, ends held
+            cap = min(full, t_top)
+            tq = min(torque, cap)
+            t_grid = max(tq, t_min)
+            a, wa = _cell(m_torque, w_torque, inv_torque, min(max(t_grid, t_min), t_top))
+            eff = (m_eff[a, b] * (1.0 - wa) * (1.0 - wb) + m_eff[a, b + 1] * (1.0 - wa) * wb
+                   + m_eff[a + 1, b] * wa * (1.0 - wb) + m_eff[a + 1, b + 1] * wa * wb)
+            p = speed * t_grid / eff
+            if t_min > 0.0 and tq < t_min:
+                p_zero = p_idle * speed / idle
+                p = p_zero + (p - p_zero) * (tq / t_min)
+            oom = n != speed or torque > cap
+            at_full = torque >= full
+            bs = _bin(s_edges, w_s_edges, _rpm(speed))
+            bt = _bin(t_edges, w_t_edges, max(torque, 0.0))
+            if idling:
+                idle_point = (p, oom, at_full, bs, bt)
+                idle_known = True
         e = p * dt
         s_fuel += e
-        if n != speed or torque > cap:
+        if oom:
             s_oom += dt
-        if torque >= full:
+        if at_full:
             s_full += dt
-        bs = _bin(s_edges, w_s_edges, _rpm(speed))
-        bt = _bin(t_edges, w_t_edges, max(torque, 0.0))
         if bs >= 0 and bt >= 0:
             seconds[bs, bt] += dt
             fuel[bs, bt] += e
