@@ -107,6 +107,12 @@ COLUMNS: dict[str, tuple[str, ...]] = {
         "vehicle_class", "vehicle", "fuel", "distance_logged_km", "fuel_energy_mj_per_km",
         "fuel_l_per_100km", "share_idle", "outlier",
     ),
+    # one row per class with fuel cards: the factor fitted to them (baseline fuel) and the fit
+    "calibration": (
+        "vehicle_class", "fuel", "applied", "calibration_factor", "calibration_factor_se",
+        "vehicles", "fills", "card_km", "observed_mj_per_km", "modelled_mj_per_km",
+        "rms_residual_mj_per_km",
+    ),
 }
 
 
@@ -129,7 +135,9 @@ class StudyResult:
         one-line warnings (a fuel on a map made for another combustion regime);
         ``class_decisions`` each class's conversion on its own and ``best_mix`` the best
         choice per class (``workbench.study.decisions``); ``vehicles`` each vehicle of a class
-        run from its logs (``workbench.study.fleet.vehicle_rows``).
+        run from its logs (``workbench.study.fleet.vehicle_rows``); ``calibration`` each class's
+        factor fitted to its fuel cards and whether the run applied it
+        (``workbench.study.runner.calibration_rows``).
     assumptions : dict
         Flat record of the inputs that shaped the result (for the report), values as text.
     fictional : bool
@@ -172,6 +180,8 @@ class StudyResult:
         columns=list(COLUMNS["best_mix"])))
     vehicles: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
         columns=list(COLUMNS["vehicles"])))
+    calibration: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
+        columns=list(COLUMNS["calibration"])))
     assumptions: dict[str, str] = field(default_factory=dict)
     sources: dict[str, str] = field(default_factory=dict)
 
