@@ -130,3 +130,13 @@ def test_fuel_cards_need_logs_and_calibrate_needs_cards(tmp_path):
         _study(tmp_path, f'fuel_cards = "{CARDS.as_posix()}"', profile="taxi-shift")
     with pytest.raises(InputError, match=r"classes\[0\]\.calibrate: needs fuel_cards"):
         _study(tmp_path, "calibrate = true")
+
+
+def test_report_lists_the_calibration(runs):
+    from workbench.interfaces.report import study_report_html
+
+    study, on, _ = runs
+    html = study_report_html(study, on)
+    assert "The model against the fuel cards" in html  # the table's title in the Data section
+    assert "fuel-card calibration, Taxis" in html  # the assumption line
+    assert f"{on.calibration['calibration_factor'].iloc[0]:.3f}" in html
