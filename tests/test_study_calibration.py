@@ -140,3 +140,11 @@ def test_report_lists_the_calibration(runs):
     assert "The model against the fuel cards" in html  # the table's title in the Data section
     assert "fuel-card calibration, Taxis" in html  # the assumption line
     assert f"{on.calibration['calibration_factor'].iloc[0]:.3f}" in html
+
+
+def test_a_warm_re_run_draws_the_same(runs):
+    # The physics plan is cached between runs; the Monte Carlo factors (calibration, spread
+    # between vehicles) must enter it once, so the same seed gives the same draws again.
+    study, on, _ = runs
+    again = run(study, draws=300)
+    pd.testing.assert_frame_equal(again.monte_carlo, on.monte_carlo)

@@ -697,15 +697,20 @@ def calibration_rows(inputs: StudyInputs) -> list[dict]:
         in the fit, ``card_km`` (their odometer distance), ``observed_mj_per_km`` and
         ``modelled_mj_per_km`` (total over total) and ``rms_residual_mj_per_km``.
     """
-    rows = []
+    return [row for row, _ in _calibrations(inputs).values()]
+
+
+def _calibrations(inputs: StudyInputs) -> dict[str, tuple[dict, tuple[str, ...]]]:
+    """By class name, each class with fuel cards: its ``calibration`` row and the vehicles
+    left out of the fit."""
+    out = {}
     for c in inputs.classes:
         base = inputs.baseline.per_class[c.id]
         found = class_calibration(c, base)
-        if found is None:
+        if found is None or c.card_records is None:
             continue
-        cal = found[0]
-        assert c.card_records is not None
-        rows.append({
+        cal, left = found
+        out[c.name] = ({
             "vehicle_class": c.id, "fuel": base.fuel.id, "applied": c.calibrate,
             "calibration_factor": cal.factor, "calibration_factor_se": cal.factor_se,
             "vehicles": cal.vehicles,
@@ -713,26 +718,24 @@ def calibration_rows(inputs: StudyInputs) -> list[dict]:
             "card_km": float(cal.residuals["card_km"].sum()),
             "observed_mj_per_km": cal.observed_per_m / 1e3,
             "modelled_mj_per_km": cal.modelled_per_m / 1e3,
-            "rms_residual_mj_per_km": cal.rms_residual_per_m / 1e3})
-    return rows
+            "rms_residual_mj_per_km": cal.rms_residual_per_m / 1e3}, left)
+    return out
 
 
 def _calibration_notes(inputs: StudyInputs) -> dict[str, str]:
     """One assumption line per class with fuel cards: the factor, its fit, applied or not."""
     out = {}
-    for row in calibration_rows(inputs):
-        c = next(c for c in inputs.classes if c.id == row["vehicle_class"])
-        found = class_calibration(c, inputs.baseline.per_class[c.id])
-        assert found is not None
-        left = f"; left out of the fit: {'; '.join(found[1])}" if found[1] else ""
+    cards = {c.name: c.fuel_cards.name for c in inputs.classes if c.fuel_cards is not None}
+    for name, (row, left) in _calibrations(inputs).items():
         how = ("applied to the modelled fuel energy per km of every option, its standard "
                "error drawn in the Monte Carlo" if row["applied"]
                else "not applied (calibrate = false)")
-        out[f"fuel-card calibration, {c.name}"] = (
+        dropped = f"; left out of the fit: {'; '.join(left)}" if left else ""
+        out[f"fuel-card calibration, {name}"] = (
             f"factor {row['calibration_factor']:.3f} ± {row['calibration_factor_se']:.3f} "
             f"(1 s.e.) from {row['vehicles']} vehicles and {row['fills']} fills of "
-            f"{c.fuel_cards.name if c.fuel_cards else ''} on {row['fuel']}, RMS residual "
-            f"{row['rms_residual_mj_per_km']:.3f} MJ/km; {how}{left}")
+            f"{cards[name]} on {row['fuel']}, RMS residual "
+            f"{row['rms_residual_mj_per_km']:.3f} MJ/km; {how}{dropped}")
     return out
 
 
