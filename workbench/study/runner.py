@@ -729,9 +729,7 @@ def defaults_rows(inputs: StudyInputs,
             add("derate", f"{applied_derate(co) * 100:.1f}", "%",
                 KINDS[co.conversion].sources["derate"])
         if co.derived_map:
-            for name, (value, unit, source) in converted_map(
-                    co.map_data, co.derate, co.efficiency_offset, co.conversion,
-                    co.fuel)[1].items():
+            for name, (value, unit, source) in converted_map(*_map_inputs(co))[1].items():
                 add(name, f"{value:.4g}", unit, source)
         base = inputs.baseline.per_class[cid]
         if co.engine_out_nox is None and (base.engine != co.engine or co is base
