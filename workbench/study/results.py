@@ -11,11 +11,14 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass, field
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import pandas as pd
 
 from workbench.study.naming import Names
+
+if TYPE_CHECKING:
+    from workbench.models.engine import EngineMap
 
 #: Columns of each table, in order. Every table is long ("tidy"): one row per candidate and
 #: whatever else the row is about.
@@ -114,6 +117,25 @@ COLUMNS: dict[str, tuple[str, ...]] = {
         "rms_residual_mj_per_km",
     ),
 }
+
+
+@dataclass(frozen=True)
+class RunMap:
+    """One map a vehicle class runs on in a study, and the options that run on it.
+
+    Attributes
+    ----------
+    vehicle_class : str
+        Class id.
+    options : tuple of str
+        Ids of the options that run the class on this map, in study order.
+    engine_map : EngineMap
+        The map (``workbench.study.runner.option_map``).
+    """
+
+    vehicle_class: str
+    options: tuple[str, ...]
+    engine_map: EngineMap
 
 
 @dataclass(frozen=True)

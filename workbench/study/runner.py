@@ -57,7 +57,7 @@ from workbench.study.fleet import (
     fleet_duty,
     vehicle_rows,
 )
-from workbench.study.results import StudyResult
+from workbench.study.results import RunMap, StudyResult
 from workbench.study.studyfile import (
     ClassOption,
     FleetClass,
@@ -177,10 +177,58 @@ def applied_derate(co: ClassOption) -> float:
     return kind_derate(KINDS[co.conversion], fuel_sheet(co.fuel), fuel_sheet(co.derate_against))
 
 
-def _duty_for(c: FleetClass, co: ClassOption) -> DutyRun:
+def _map_inputs(co: ClassOption) -> tuple[EngineMap, float, float, str, Fuel | None]:
+    """(map, derate, offset, conversion kind, fuel) that :func:`converted_map` takes for an
+    option: the kind's derived map only where the option derives one."""
     kind, fuel = (co.conversion, co.fuel) if co.derived_map else ("none", None)
-    return duty_physics(c.profile_data, c.vehicle_data, co.map_data, applied_derate(co),
-                        co.efficiency_offset, _settings(c), kind, fuel)
+    return co.map_data, applied_derate(co), co.efficiency_offset, kind, fuel
+
+
+def _duty_for(c: FleetClass, co: ClassOption) -> DutyRun:
+    emap, derate, offset, kind, fuel = _map_inputs(co)
+    return duty_physics(c.profile_data, c.vehicle_data, emap, derate, offset, _settings(c),
+                        kind, fuel)
+
+
+def option_map(co: ClassOption) -> EngineMap:
+    """The map an option runs a class on (its derived or adjusted map; cached by content).
+
+    Parameters
+    ----------
+    co : ClassOption
+        What the option does to the class.
+
+    Returns
+    -------
+    EngineMap
+        The map :func:`duty_physics` ran the class's duty on.
+    """
+    return converted_map(*_map_inputs(co))[0]
+
+
+def run_maps(inputs: StudyInputs) -> list[RunMap]:
+    """Every distinct map each class runs on, with the options that run on it.
+
+    Parameters
+    ----------
+    inputs : StudyInputs
+        The checked study.
+
+    Returns
+    -------
+    list of RunMap
+        By class in study order; within a class the baseline's map first, then each other map
+        (a derived map or an explicit ``engine_map`` of a candidate) where an option first
+        runs on it.
+    """
+    out = []
+    for c in inputs.classes:
+        groups: dict[EngineMap, list[str]] = {}
+        for o in sorted(inputs.options, key=lambda o: not o.is_baseline):
+            if c.id in o.per_class:
+                groups.setdefault(option_map(o.per_class[c.id]), []).append(o.id)
+        out += [RunMap(c.id, tuple(ids), emap) for emap, ids in groups.items()]
+    return out
 
 
 @memoize(maxsize=256)
@@ -834,9 +882,7 @@ def defaults_rows(inputs: StudyInputs,
             add("derate", f"{applied_derate(co) * 100:.1f}", "%",
                 KINDS[co.conversion].sources["derate"])
         if co.derived_map:
-            for name, (value, unit, source) in converted_map(
-                    co.map_data, co.derate, co.efficiency_offset, co.conversion,
-                    co.fuel)[1].items():
+            for name, (value, unit, source) in converted_map(*_map_inputs(co))[1].items():
                 add(name, f"{value:.4g}", unit, source)
         base = inputs.baseline.per_class[cid]
         if co.engine_out_nox is None and (base.engine != co.engine or co is base
