@@ -148,3 +148,17 @@ def test_a_warm_re_run_draws_the_same(runs):
     study, on, _ = runs
     again = run(study, draws=300)
     pd.testing.assert_frame_equal(again.monte_carlo, on.monte_carlo)
+
+
+def test_a_study_checked_again_keys_its_cards_by_content(tmp_path):
+    # Every edit checks the study again and reads the cards anew; the class must compare
+    # equal (the physics cache is keyed by it), and differ once a fill changes.
+    cards = tmp_path / "cards.csv"
+    cards.write_bytes(CARDS.read_bytes())
+    first = _study(tmp_path, 'fuel_cards = "cards.csv"').inputs.classes[0]
+    again = _study(tmp_path, 'fuel_cards = "cards.csv"').inputs.classes[0]
+    assert first.card_records is not again.card_records
+    assert first == again and hash(first) == hash(again)
+    cards.write_text(CARDS.read_text(encoding="utf-8").replace(",1.76,", ",1.77,", 1),
+                     encoding="utf-8")
+    assert _study(tmp_path, 'fuel_cards = "cards.csv"').inputs.classes[0] != first

@@ -150,7 +150,10 @@ class FleetClass:
     map_data: EngineMap  # read from ``engine_map``
     varied: tuple[tuple[str, Uncertain], ...] = ()  # physics inputs with a distribution
     fuel_cards: Path | None = None  # the fuel-card file as named, for display
-    card_records: FuelRecords | None = None  # read from ``fuel_cards`` when checked
+    #: Read from ``fuel_cards`` when checked; compared and hashed by ``card_digest``, so that
+    #: a study checked again over the same cards finds its physics cached.
+    card_records: FuelRecords | None = field(default=None, compare=False)
+    card_digest: str = ""  # SHA-256 of the fills read (:func:`_records_digest`)
     calibrate: bool = False  # apply the factor fitted to the cards to every option
 
 
@@ -1074,8 +1077,16 @@ def _fleet_class(r: _Reader, base_dir: Path, currency: str) -> FleetClass:
         varied=tuple(varied),
         fuel_cards=cards,
         card_records=records,
+        card_digest=_records_digest(records) if records is not None else "",
         calibrate=calibrated,
     )
+
+
+def _records_digest(records: FuelRecords) -> str:
+    """SHA-256 of fuel-card fills as read: equal fills, equal digest."""
+    parts = [records.basis.encode(), records.vehicle.astype(str).tobytes()]
+    parts += [a.astype(float).tobytes() for a in (records.time, records.amount, records.odometer)]
+    return sha256_hex(b"\0".join(parts))
 
 
 def _per_class(r: _Reader, key: str, cid: str, class_ids: set[str], default: Any) -> Any:
