@@ -19,7 +19,7 @@ from numpy.testing import assert_allclose
 from study_fixture import CLASSES, XSS_NAME, make_map_grid, make_result
 
 from workbench.interfaces import charts
-from workbench.study.results import COLUMNS, StudyResult
+from workbench.study.results import COLUMNS, RunMap, StudyResult
 
 
 @pytest.fixture(scope="module")
@@ -259,6 +259,22 @@ def test_map_grid_from_engine_map_turns_rad_per_s_into_rpm():
     assert_allclose(grid.full_load_torque_nm, [90.0, 100.0, 95.0])
     figs = charts.all_figures(make_result(), map_grid={"taxi": emap})
     assert "efficiency_map:taxi" in figs
+
+
+def test_one_map_chart_per_class_and_map_an_option_runs_on():
+    grid = make_map_grid()
+    other = replace(grid, efficiency=grid.efficiency * 0.8)
+    maps = [RunMap("taxi", ("diesel-now", "cng-convert"), grid),
+            RunMap("taxi", ("lpg-convert",), other)]
+    figs = charts.all_figures(make_result(), map_grid=maps)
+    base, lpg = figs["efficiency_map:taxi"], figs["efficiency_map:taxi:lpg-convert"]
+    # each chart draws its own map and only the points of the options that run on it
+    assert_allclose(np.max(lpg.data[0].z), np.max(grid.efficiency) * 80.0)
+    assert [t.name for t in base.data[2:]] == ["Diesel as today", 'CNG &amp; "new tanks"']
+    assert [t.name for t in lpg.data[2:]] == ["&lt;img src=x onerror=alert(1)&gt;"]
+    # titled with the class and the option names, markup escaped
+    assert lpg.layout.title.text.endswith("Taxi — &lt;img src=x onerror=alert(1)&gt;")
+    assert XSS_NAME not in lpg.layout.title.text
 
 
 # ----------------------------------------------------------------------------- conventions

@@ -298,6 +298,12 @@ def test_shipped_profile_and_map_choice(app):
     assert points, "the duty's operating points are drawn on the map"
     panel.files.vehicle_class.value = 2  # the shuttle buses
     assert "bus-ci-4.5l" in panel.plot.figure.layout.title.text
+    # the natural-gas buses run on a map derived from the diesel's: their points are not
+    # drawn on the diesel map, and the title says where they are
+    drawn = {t.name for t in panel.plot.figure.data if t.type == "scatter" and t.mode == "markers"}
+    assert "Keep today's fuels" in drawn and "Natural gas across the fleet" not in drawn
+    assert "own maps, see the report: Natural gas across the fleet" in (
+        panel.plot.figure.layout.title.text)
     panel.files.choice.value = "van-ci-2.3l"
     assert app.study.get("classes[2].engine_map") == "van-ci-2.3l"
 

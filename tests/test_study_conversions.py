@@ -101,3 +101,45 @@ def test_demo_pollutants_within_euro_limits():
         ("today", "bus"), "thc_g_per_km"]
     assert set(res.defaults.columns) == {"candidate", "vehicle_class", "quantity", "value",
                                          "unit", "source"}
+
+
+def test_the_report_draws_the_derived_map_the_natural_gas_vans_ran_on():
+    from workbench.core.constants import to_rpm
+    from workbench.interfaces.charts import all_figures
+    from workbench.interfaces.report import study_report_html
+    from workbench.study.runner import option_map, run_maps
+
+    study = read_study("demo").with_values({"programme.monte_carlo_draws": 0})
+    res = run(study, draws=0)
+    by_option = {(m.vehicle_class, o): m.engine_map for m in run_maps(study.inputs)
+                 for o in m.options}
+    gas = next(o for o in study.inputs.options if o.id == "cng-fleet").per_class["van"]
+    diesel = study.inputs.baseline.per_class["van"]
+    gas_map = by_option[("van", "cng-fleet")]
+    assert gas_map is option_map(gas)  # the runner's cached map, not one made again here
+    # A spark-ignition gas engine on a diesel block peaks near 33-36 % brake efficiency, a
+    # light-duty diesel near 40 %: the derived map must peak lower (from memory).
+    assert gas_map.efficiency.max() < diesel.map_data.efficiency.max() - 0.03
+    assert by_option[("van", "today")] == diesel.map_data
+    # the points the runner reports for the gas vans are looked up on the derived map
+    pts = res.operating_points.query("candidate == 'cng-fleet' and vehicle_class == 'van'")
+    speed = pts["engine_speed_rpm"].to_numpy() / to_rpm(1.0)
+    torque = pts["torque_nm"].to_numpy()
+    np.testing.assert_allclose(gas_map.efficiency_at(speed, torque), pts["brake_efficiency"],
+                               rtol=1e-9)
+    assert not np.allclose(diesel.map_data.efficiency_at(speed, torque),
+                           pts["brake_efficiency"])
+
+    figs = all_figures(res, map_grid=run_maps(study.inputs))
+    fig = figs["efficiency_map:van:cng-fleet"]
+    assert fig.layout.title.text.endswith("Delivery vans — Natural gas across the fleet")
+    np.testing.assert_allclose(np.max(fig.data[0].z), gas_map.efficiency.max() * 100.0)
+    assert [t.name for t in fig.data[2:]] == ["Natural gas across the fleet"]
+    base = figs["efficiency_map:van"]
+    # the baseline's map carries every option that runs the vans on it
+    assert base.layout.title.text.endswith(
+        "Delivery vans — Keep today's fuels, LPG conversion of the taxis")
+    np.testing.assert_allclose(np.max(base.data[0].z), diesel.map_data.efficiency.max() * 100.0)
+    assert "Natural gas across the fleet" not in {t.name for t in base.data}
+    html = study_report_html(study, res)
+    assert 'data-chart="efficiency_map:van:cng-fleet"' in html

@@ -25,9 +25,9 @@ Common rules:
 from __future__ import annotations
 
 import copy
-from collections.abc import Callable, Iterable, Mapping
+from collections.abc import Callable, Iterable, Mapping, Sequence
 from dataclasses import dataclass
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING, Any, TypeAlias
 
 import numpy as np
 import pandas as pd
@@ -38,7 +38,7 @@ from plotly.subplots import make_subplots
 from workbench.core.cache import memoize
 from workbench.core.constants import to_rpm
 from workbench.core.text import escape_html
-from workbench.study.results import StudyResult
+from workbench.study.results import RunMap, StudyResult
 
 if TYPE_CHECKING:
     from workbench.models.engine import EngineMap
@@ -901,10 +901,53 @@ def _as_grid(grid: MapGrid | EngineMap) -> MapGrid:
     return grid if isinstance(grid, MapGrid) else MapGrid.from_engine_map(grid)
 
 
+def _map_figures(result: StudyResult, source: MapSource) -> dict[str, go.Figure]:
+    """The efficiency-map charts of :func:`all_figures`, by key."""
+    names = dict(zip(result.candidates["candidate"], result.candidates["name"], strict=True))
+    label = "Brake efficiency map with operating points"
+    points = result.operating_points
+    # (key, map, points, title) of each chart
+    charts: list[tuple[str, MapGrid | EngineMap, pd.DataFrame, str]] = []
+    if isinstance(source, Mapping) or not isinstance(source, Sequence):
+        grids = source.items() if isinstance(source, Mapping) else [(None, source)]
+        for vclass, grid in grids:
+            if vclass is None:
+                name = _as_grid(grid).name
+                charts.append(("efficiency_map", grid, points,
+                               f"{label}: {name}" if name else label))
+            else:
+                charts.append((f"efficiency_map:{vclass}", grid,
+                               points[points["vehicle_class"] == vclass], f"{label}: {vclass}"))
+    else:
+        drawn: set[str] = set()
+        for rm in source:
+            vclass = rm.vehicle_class
+            key = (f"efficiency_map:{vclass}" if vclass not in drawn
+                   else f"efficiency_map:{vclass}:{rm.options[0]}")
+            drawn.add(vclass)
+            on_map = points[(points["vehicle_class"] == vclass)
+                            & points["candidate"].isin(rm.options)]
+            options = ", ".join(result.names.candidate(o) for o in rm.options)
+            charts.append((key, rm.engine_map, on_map,
+                           f"{label}: {result.names.vehicle_class(vclass)} — {options}"))
+    out = {}
+    for key, grid, on_map, title in charts:
+        g = _as_grid(grid)
+        out[key] = efficiency_map_chart(
+            g.speed_rpm, g.torque_nm, g.efficiency, on_map, colours=result.colours(),
+            names=names, full_load_torque_nm=g.full_load_torque_nm, title=title)
+    return out
+
+
+#: What the efficiency-map charts can be drawn from (see :func:`all_figures`).
+MapSource: TypeAlias = ("MapGrid | EngineMap | Mapping[str, MapGrid | EngineMap] "
+                        "| Sequence[RunMap]")
+
+
 def all_figures(
     result: StudyResult,
     *,
-    map_grid: MapGrid | EngineMap | Mapping[str, MapGrid | EngineMap] | None = None,
+    map_grid: MapSource | None = None,
 ) -> dict[str, go.Figure]:
     """Every chart of a result, by key, in report order.
 
@@ -912,10 +955,14 @@ def all_figures(
     ----------
     result : StudyResult
         The study's result.
-    map_grid : MapGrid, EngineMap or mapping of them by vehicle class, optional
+    map_grid : MapGrid, EngineMap, mapping of them by vehicle class, or RunMap list, optional
         Efficiency map(s) to draw the operating points on. One map draws every point; a
         mapping draws one chart per vehicle class (key ``"efficiency_map:<class>"``) with that
-        class's points. Without it there is no efficiency-map chart.
+        class's points; the maps a study's options run on
+        (``workbench.study.runner.run_maps``) draw one chart per class and map with the points
+        of the options on it, titled with their names (key ``"efficiency_map:<class>"`` for
+        the baseline's map, ``"efficiency_map:<class>:<option>"`` for another). Without it
+        there is no efficiency-map chart.
 
     Returns
     -------
@@ -930,21 +977,7 @@ def all_figures(
         "cash_flow": cash_flow_chart(result),
     }
     if map_grid is not None:
-        names = dict(zip(result.candidates["candidate"], result.candidates["name"], strict=True))
-        grids = (map_grid.items() if isinstance(map_grid, Mapping)
-                 else [(None, map_grid)])
-        for vclass, grid in grids:
-            g = _as_grid(grid)
-            label = "Brake efficiency map with operating points"
-            if vclass is not None:
-                label += f": {vclass}"
-            elif g.name:
-                label += f": {g.name}"
-            key = "efficiency_map" if vclass is None else f"efficiency_map:{vclass}"
-            figs[key] = efficiency_map_chart(
-                g.speed_rpm, g.torque_nm, g.efficiency, result.operating_points,
-                colours=result.colours(), names=names, vehicle_class=vclass,
-                full_load_torque_nm=g.full_load_torque_nm, title=label)
+        figs.update(_map_figures(result, map_grid))
     figs["tornado"] = tornado_chart(result)
     figs["monte_carlo"] = monte_carlo_chart(result)
     figs["flame"] = flame_chart(result)

@@ -81,6 +81,12 @@ LABELS = {
     "best_total_cost": "upkeep + NOx damage at best interval [{cur}]",
     "vehicle": "vehicle", "distance_logged_km": "distance logged [km]",
     "share_idle": "time idling [%]", "outlier": "outlier (Tukey's fences)",
+    "applied": "applied to the run", "calibration_factor": "calibration factor [-]",
+    "calibration_factor_se": "its standard error [-]", "vehicles": "vehicles in the fit",
+    "fills": "fuel-card fills", "card_km": "distance on the cards [km]",
+    "observed_mj_per_km": "observed fuel energy [MJ/km]",
+    "modelled_mj_per_km": "modelled fuel energy [MJ/km]",
+    "rms_residual_mj_per_km": "RMS residual per vehicle [MJ/km]",
 }
 #: Titles of the result tables for a reader.
 TABLE_TITLES = {
@@ -95,9 +101,11 @@ TABLE_TITLES = {
     "defaults": "Defaults the run applied", "notices": "Warnings",
     "class_decisions": "Each class converted on its own", "best_mix": "Best mix by class",
     "vehicles": "Each vehicle of a class run from its logs",
+    "calibration": "The model against the fuel cards",
 }
 _PERCENT = re.compile(r"^(p_|share_)|_share$|efficiency$")
-_WHOLE = frozenset({"year", "month", "replacements", "catalyst_replacements", "draw"})
+_WHOLE = frozenset({"year", "month", "replacements", "catalyst_replacements", "draw",
+                    "vehicles", "fills"})
 
 
 def column_label(column: str, currency: str) -> str:

@@ -30,12 +30,12 @@ import plotly.offline
 import workbench
 from workbench.core.text import escape_html as _esc
 from workbench.core.text import sha256_hex
-from workbench.interfaces.charts import MapGrid, all_figures
+from workbench.interfaces.charts import MapSource, all_figures
 from workbench.interfaces.present import TABLE_TITLES, reader_table, side_by_side
 from workbench.interfaces.summary import best_mix_text, best_option, verdicts
 from workbench.io.files import check_target, write_text_atomic
-from workbench.models.engine import EngineMap
-from workbench.study.results import StudyResult, notice_lines
+from workbench.study.results import RunMap, StudyResult, notice_lines
+from workbench.study.runner import run_maps
 from workbench.study.studyfile import Study
 
 #: The caution every report carries, word for word, once.
@@ -310,7 +310,7 @@ def html_report(
     result: StudyResult,
     *,
     study_text: str,
-    map_grid: MapGrid | EngineMap | Mapping[str, MapGrid | EngineMap] | None = None,
+    map_grid: MapSource | None = None,
 ) -> str:
     """The report as one self-contained HTML document.
 
@@ -321,8 +321,8 @@ def html_report(
     study_text : str
         Text of the study file the result came from; its SHA-256 is printed and the file is
         attached.
-    map_grid : MapGrid, EngineMap or mapping of them by vehicle class, optional
-        Efficiency map(s) for the operating-point chart (see
+    map_grid : MapGrid, EngineMap, mapping of them by vehicle class, or RunMap list, optional
+        Efficiency map(s) for the operating-point charts (see
         :func:`workbench.interfaces.charts.all_figures`).
 
     Returns
@@ -423,7 +423,7 @@ def write_report(
     path: str | os.PathLike[str],
     *,
     study_text: str,
-    map_grid: MapGrid | EngineMap | Mapping[str, MapGrid | EngineMap] | None = None,
+    map_grid: MapSource | None = None,
 ) -> Path:
     """Write the HTML report, whole or not at all.
 
@@ -435,8 +435,8 @@ def write_report(
         Output file; must end in ``.html`` and its folder must exist.
     study_text : str
         Text of the study file (hashed into the report).
-    map_grid : MapGrid, EngineMap or mapping of them by vehicle class, optional
-        Efficiency map(s) for the operating-point chart.
+    map_grid : MapGrid, EngineMap, mapping of them by vehicle class, or RunMap list, optional
+        Efficiency map(s) for the operating-point charts (as :func:`html_report`).
 
     Returns
     -------
@@ -457,7 +457,7 @@ def write_report(
 
 def write_study_report(study: Study, result: StudyResult, path: str | os.PathLike[str]
                        ) -> Path:
-    """Write the report of a study's result, with each vehicle class's efficiency map.
+    """Write the report of a study's result, with the efficiency maps its options run on.
 
     Parameters
     ----------
@@ -494,6 +494,6 @@ def study_report_html(study: Study, result: StudyResult) -> str:
     return html_report(result, study_text=study.to_toml(), map_grid=_maps(study))
 
 
-def _maps(study: Study) -> dict[str, EngineMap]:
-    """Each vehicle class's efficiency map, by class id."""
-    return {c.id: c.map_data for c in study.inputs.classes}
+def _maps(study: Study) -> list[RunMap]:
+    """Each map the study's options run its vehicle classes on (derived maps included)."""
+    return run_maps(study.inputs)

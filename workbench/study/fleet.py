@@ -320,6 +320,38 @@ def calibrate_fleet(run: FleetRun, records: FuelRecords, *, energy_per_amount: f
     return calibrate(observed, modelled, energy_per_amount=energy_per_amount), tuple(notes)
 
 
+def card_energy_per_amount(fuel: Fuel, lhv_mass: float, basis: str, where: str) -> float:
+    """Fuel energy per unit a fuel card counts: per litre bought or per kg.
+
+    Parameters
+    ----------
+    fuel : Fuel
+        The fuel the cards bought (its ``liquid_density`` turns litres into mass).
+    lhv_mass : float
+        Its lower heating value [J/kg].
+    basis : {"volume", "mass"}
+        What the cards count (``FuelRecords.basis``).
+    where : str
+        Named in the error.
+
+    Returns
+    -------
+    float
+        [J/m3] for volume cards, [J/kg] for mass cards.
+
+    Raises
+    ------
+    InputError
+        Volume cards and a fuel with no liquid density.
+    """
+    if basis == "mass":
+        return lhv_mass
+    if not fuel.liquid_density:
+        raise InputError(where, f"{fuel.id} has no liquid density; fuel cards in litres need "
+                                "one (use kg cards for gases)")
+    return lhv_mass * fuel.liquid_density
+
+
 def class_tables(agg: ClassAggregate, engine_map: EngineMap, bins: int
                  ) -> tuple[np.ndarray, np.ndarray, pd.DataFrame]:
     """NOx weighting bins and the operating-point table of a class from its histograms.

@@ -50,6 +50,9 @@ KEY_WORDS = {
     "classes": "converted classes",
     "n2o": "tailpipe N2O",
     "vehicle_spread": "spread of fuel use between its vehicles",
+    "calibration": "fuel-card calibration of its fuel use",
+    "fuel_cards": "fuel cards",
+    "calibrate": "apply the fuel-card calibration",
 }
 #: Words for the top-level tables keyed by fuel id.
 _BY_FUEL = {"prices": "price of {}", "escalation": "price escalation of {}",

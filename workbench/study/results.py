@@ -11,11 +11,14 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass, field
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import pandas as pd
 
 from workbench.study.naming import Names
+
+if TYPE_CHECKING:
+    from workbench.models.engine import EngineMap
 
 #: Columns of each table, in order. Every table is long ("tidy"): one row per candidate and
 #: whatever else the row is about.
@@ -107,7 +110,32 @@ COLUMNS: dict[str, tuple[str, ...]] = {
         "vehicle_class", "vehicle", "fuel", "distance_logged_km", "fuel_energy_mj_per_km",
         "fuel_l_per_100km", "share_idle", "outlier",
     ),
+    # one row per class with fuel cards: the factor fitted to them (baseline fuel) and the fit
+    "calibration": (
+        "vehicle_class", "fuel", "applied", "calibration_factor", "calibration_factor_se",
+        "vehicles", "fills", "card_km", "observed_mj_per_km", "modelled_mj_per_km",
+        "rms_residual_mj_per_km",
+    ),
 }
+
+
+@dataclass(frozen=True)
+class RunMap:
+    """One map a vehicle class runs on in a study, and the options that run on it.
+
+    Attributes
+    ----------
+    vehicle_class : str
+        Class id.
+    options : tuple of str
+        Ids of the options that run the class on this map, in study order.
+    engine_map : EngineMap
+        The map (``workbench.study.runner.option_map``).
+    """
+
+    vehicle_class: str
+    options: tuple[str, ...]
+    engine_map: EngineMap
 
 
 @dataclass(frozen=True)
@@ -129,7 +157,9 @@ class StudyResult:
         one-line warnings (a fuel on a map made for another combustion regime);
         ``class_decisions`` each class's conversion on its own and ``best_mix`` the best
         choice per class (``workbench.study.decisions``); ``vehicles`` each vehicle of a class
-        run from its logs (``workbench.study.fleet.vehicle_rows``).
+        run from its logs (``workbench.study.fleet.vehicle_rows``); ``calibration`` each class's
+        factor fitted to its fuel cards and whether the run applied it
+        (``workbench.study.runner.calibration_rows``).
     assumptions : dict
         Flat record of the inputs that shaped the result (for the report), values as text.
     fictional : bool
@@ -172,6 +202,8 @@ class StudyResult:
         columns=list(COLUMNS["best_mix"])))
     vehicles: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
         columns=list(COLUMNS["vehicles"])))
+    calibration: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
+        columns=list(COLUMNS["calibration"])))
     assumptions: dict[str, str] = field(default_factory=dict)
     sources: dict[str, str] = field(default_factory=dict)
 

@@ -32,19 +32,32 @@ from workbench.core.units import Price, price_per_energy
 from workbench.io.logs import FleetSource
 from workbench.models import economics as econ
 from workbench.models.aftertreatment import Aftertreatment, optimal_interval, programme_nox
+from workbench.models.calibration import Calibration
 from workbench.models.combustion import FuelSheet, fuel_sheet
 from workbench.models.conversion import KINDS, convert, kind_derate
 from workbench.models.duty import DutySettings, DutyTrace, ModeTable
 from workbench.models.emissions import co2e
-from workbench.models.engine import DutyRun, EngineMap, fuel_per_distance_for, run_duty
+from workbench.models.engine import (
+    DutyEnergy,
+    DutyRun,
+    EngineMap,
+    fuel_per_distance_for,
+    run_duty,
+)
 from workbench.models.engine_out import engine_out_per_m
 from workbench.models.nox import DEFAULT_ENGINE_OUT
 from workbench.models.pollutants import pollutant_factors
 from workbench.models.storage import tank_for_range
 from workbench.models.vehicle import Vehicle
 from workbench.study import tables
-from workbench.study.fleet import FleetDutyRun, fleet_duty, vehicle_rows
-from workbench.study.results import StudyResult
+from workbench.study.fleet import (
+    FleetDutyRun,
+    calibrate_fleet,
+    card_energy_per_amount,
+    fleet_duty,
+    vehicle_rows,
+)
+from workbench.study.results import RunMap, StudyResult
 from workbench.study.studyfile import (
     ClassOption,
     FleetClass,
@@ -164,10 +177,58 @@ def applied_derate(co: ClassOption) -> float:
     return kind_derate(KINDS[co.conversion], fuel_sheet(co.fuel), fuel_sheet(co.derate_against))
 
 
-def _duty_for(c: FleetClass, co: ClassOption) -> DutyRun:
+def _map_inputs(co: ClassOption) -> tuple[EngineMap, float, float, str, Fuel | None]:
+    """(map, derate, offset, conversion kind, fuel) that :func:`converted_map` takes for an
+    option: the kind's derived map only where the option derives one."""
     kind, fuel = (co.conversion, co.fuel) if co.derived_map else ("none", None)
-    return duty_physics(c.profile_data, c.vehicle_data, co.map_data, applied_derate(co),
-                        co.efficiency_offset, _settings(c), kind, fuel)
+    return co.map_data, applied_derate(co), co.efficiency_offset, kind, fuel
+
+
+def _duty_for(c: FleetClass, co: ClassOption) -> DutyRun:
+    emap, derate, offset, kind, fuel = _map_inputs(co)
+    return duty_physics(c.profile_data, c.vehicle_data, emap, derate, offset, _settings(c),
+                        kind, fuel)
+
+
+def option_map(co: ClassOption) -> EngineMap:
+    """The map an option runs a class on (its derived or adjusted map; cached by content).
+
+    Parameters
+    ----------
+    co : ClassOption
+        What the option does to the class.
+
+    Returns
+    -------
+    EngineMap
+        The map :func:`duty_physics` ran the class's duty on.
+    """
+    return converted_map(*_map_inputs(co))[0]
+
+
+def run_maps(inputs: StudyInputs) -> list[RunMap]:
+    """Every distinct map each class runs on, with the options that run on it.
+
+    Parameters
+    ----------
+    inputs : StudyInputs
+        The checked study.
+
+    Returns
+    -------
+    list of RunMap
+        By class in study order; within a class the baseline's map first, then each other map
+        (a derived map or an explicit ``engine_map`` of a candidate) where an option first
+        runs on it.
+    """
+    out = []
+    for c in inputs.classes:
+        groups: dict[EngineMap, list[str]] = {}
+        for o in sorted(inputs.options, key=lambda o: not o.is_baseline):
+            if c.id in o.per_class:
+                groups.setdefault(option_map(o.per_class[c.id]), []).append(o.id)
+        out += [RunMap(c.id, tuple(ids), emap) for emap, ids in groups.items()]
+    return out
 
 
 @memoize(maxsize=256)
@@ -193,16 +254,18 @@ def class_physics(c: FleetClass, co: ClassOption, base: ClassOption, months: int
     ClassPhysics
     """
     duty = _duty_for(c, co)
+    factor = applied_calibration(c, base)
+    energy = _calibrated(duty.energy, factor)
     sheet = fuel_sheet(co.fuel)
-    per_m = fuel_per_distance_for(duty.energy, co.fuel, sheet)
+    per_m = fuel_per_distance_for(energy, co.fuel, sheet)
     energy_m = per_m.fuel_energy_per_m
     mass_m = per_m.fuel_mass_per_m
     base_duty = _duty_for(c, base)
     eo, source = engine_out_per_m(
         co.fuel, co.engine, given=co.engine_out_nox, lambda_overall=co.lambda_overall,
-        energy=duty.energy, fuel_energy_per_m=energy_m, baseline_fuel=base.fuel,
+        energy=energy, fuel_energy_per_m=energy_m, baseline_fuel=base.fuel,
         baseline_engine=base.engine, baseline_given=base.engine_out_nox,
-        baseline_energy=base_duty.energy, nox_speeds_rpm=duty.nox_speeds,
+        baseline_energy=_calibrated(base_duty.energy, factor), nox_speeds_rpm=duty.nox_speeds,
         nox_weights=duty.nox_weights, reference_fuel=co.reference_fuel)
     km_month = c.km_per_year.nominal / 12.0
     damage = nox_damage_cost
@@ -235,6 +298,58 @@ def class_physics(c: FleetClass, co: ClassOption, base: ClassOption, months: int
         duty=duty,
         storage=_storage(co.fuel, energy_m, c.range),
     )
+
+
+@memoize(maxsize=64)
+def class_calibration(c: FleetClass, base: ClassOption
+                      ) -> tuple[Calibration, tuple[str, ...]] | None:
+    """A fleet-log class's calibration against its fuel cards, on the baseline (cached).
+
+    The cards are the fuel the fleet buys today, so the factor is fitted to the baseline's
+    modelled fuel energy per km of each vehicle (``workbench.study.fleet.calibrate_fleet``).
+
+    Parameters
+    ----------
+    c : FleetClass
+        The class; None comes back without fuel cards.
+    base : ClassOption
+        What the baseline does to the class (its fuel turns the cards' litres or kg into
+        energy).
+
+    Returns
+    -------
+    (Calibration, tuple of str) or None
+        The fit and the vehicles left out of it.
+
+    Raises
+    ------
+    InputError
+        The cards in litres and a baseline fuel with no liquid density, or no vehicle both
+        in the cards and the logs (names the fuel-card file).
+    """
+    if c.card_records is None:
+        return None
+    duty = _duty_for(c, base)
+    assert isinstance(duty, FleetDutyRun)  # the study refuses fuel cards on another profile
+    where = str(c.fuel_cards)
+    per_amount = card_energy_per_amount(base.fuel, fuel_sheet(base.fuel).lhv_mass,
+                                        c.card_records.basis, where)
+    try:
+        return calibrate_fleet(duty.fleet, c.card_records, energy_per_amount=per_amount)
+    except InputError as exc:
+        raise InputError(where, exc.message) from None
+
+
+def applied_calibration(c: FleetClass, base: ClassOption) -> float:
+    """Factor a class's modelled fuel energy per km is multiplied by on every option [-]:
+    the fitted one when the class calibrates, else 1."""
+    cal = class_calibration(c, base) if c.calibrate else None
+    return 1.0 if cal is None else cal[0].factor
+
+
+def _calibrated(energy: DutyEnergy, factor: float) -> DutyEnergy:
+    """A duty's energy with its fuel energy times a calibration factor."""
+    return energy if factor == 1.0 else replace(energy, fuel_energy=energy.fuel_energy * factor)
 
 
 def _best_interval(device: Aftertreatment, eo: float, km_month: float, months: int,
@@ -508,7 +623,8 @@ def run(study: Study, *, draws: int | None = None,
     sensitivity: dict[str, pd.DataFrame] = {}
     if n > 0:
         say(f"Monte Carlo, {n} draws")
-        samples = econ.sample_inputs({**inputs.uncertain, **_vehicle_spread(plan)}, n,
+        samples = econ.sample_inputs({**inputs.uncertain, **_vehicle_spread(plan),
+                                      **_calibration_spread(plan)}, n,
                                      inputs.seed, correlation=inputs.correlation)
         money = _money(plan, samples, n)
         for o in inputs.candidates:
@@ -529,8 +645,10 @@ def run(study: Study, *, draws: int | None = None,
                          row for c in inputs.classes for row in vehicle_rows(
                              c.id, plan.physics[inputs.baseline.id, c.id].duty,
                              inputs.baseline.per_class[c.id].fuel,
-                             plan.physics[inputs.baseline.id, c.id].sheet)]))
+                             plan.physics[inputs.baseline.id, c.id].sheet)]),
+                     calibration=tables.frame("calibration", calibration_rows(inputs)))
     result.assumptions.update(_fleet_notes(plan))
+    result.assumptions.update(_calibration_notes(inputs))
     say("done")
     return result
 
@@ -557,15 +675,41 @@ def _vehicle_spread(plan: Plan) -> dict[str, econ.Distribution]:
         if sd <= 0.0:
             continue
         path = f"classes.{c.id}.vehicle_spread"
-        dist = econ.Distribution("normal", mean=1.0, sd=sd, where=path)
-        nodes = np.asarray(dist.ppf(np.array(RESPONSE_QUANTILES)), dtype=float)
-        for o in plan.inputs.options:
-            ph = plan.physics[o.id, c.id]
-            plan.responses[o.id, c.id].append(econ.Response(
-                path, nodes, ph.fuel_energy_per_m * nodes, ph.tailpipe_co2e_per_m * nodes,
-                np.tile(plan.catalyst_cost[o.id, c.id], (nodes.size, 1))))
-        out[path] = dist
+        out[path] = _fuel_factor(plan, c, path, sd)
     return out
+
+
+def _calibration_spread(plan: Plan) -> dict[str, econ.Distribution]:
+    """The standard error of each calibrated class's factor as an uncertain physics input.
+
+    A normal factor (mean 1, sd the factor's standard error over the factor) on the class's
+    calibrated fuel energy per km, the same draw on every option. Adds the responses to
+    ``plan`` and returns the distributions to draw, by key path.
+    """
+    out = {}
+    for c in plan.inputs.classes:
+        cal = class_calibration(c, plan.inputs.baseline.per_class[c.id]) if c.calibrate else None
+        if cal is None or not cal[0].factor_se > 0.0:  # NaN with one vehicle: nothing drawn
+            continue
+        path = f"classes.{c.id}.calibration"
+        out[path] = _fuel_factor(plan, c, path, cal[0].factor_se / cal[0].factor)
+    return out
+
+
+def _fuel_factor(plan: Plan, c: FleetClass, path: str, sd: float) -> econ.Distribution:
+    """A normal factor (mean 1, ``sd``) on a class's fuel energy and tailpipe CO2e per km on
+    every option, added to ``plan``'s responses once (a warm re-run shares the cached plan);
+    returns its distribution."""
+    dist = econ.Distribution("normal", mean=1.0, sd=sd, where=path)
+    nodes = np.asarray(dist.ppf(np.array(RESPONSE_QUANTILES)), dtype=float)
+    for o in plan.inputs.options:
+        if any(r.path == path for r in plan.responses[o.id, c.id]):
+            continue
+        ph = plan.physics[o.id, c.id]
+        plan.responses[o.id, c.id].append(econ.Response(
+            path, nodes, ph.fuel_energy_per_m * nodes, ph.tailpipe_co2e_per_m * nodes,
+            np.tile(plan.catalyst_cost[o.id, c.id], (nodes.size, 1))))
+    return dist
 
 
 def _fleet_notes(plan: Plan) -> dict[str, str]:
@@ -583,6 +727,63 @@ def _fleet_notes(plan: Plan) -> dict[str, str]:
             f"{run.aggregate.energy.distance / 1e3:,.0f} km, km-weighted; between vehicles "
             f"P10-P90 {lo:.2f}-{hi:.2f} MJ/km on the baseline, drawn in the Monte Carlo as "
             f"the spread between the class's vehicles{left}")
+    return out
+
+
+def calibration_rows(inputs: StudyInputs) -> list[dict]:
+    """Rows of the ``calibration`` table: each class with fuel cards, its fit on the baseline.
+
+    Parameters
+    ----------
+    inputs : StudyInputs
+
+    Returns
+    -------
+    list of dict
+        ``vehicle_class``, ``fuel`` (the baseline's, which the cards bought), ``applied``,
+        ``calibration_factor`` and ``calibration_factor_se`` [-], ``vehicles`` and ``fills``
+        in the fit, ``card_km`` (their odometer distance), ``observed_mj_per_km`` and
+        ``modelled_mj_per_km`` (total over total) and ``rms_residual_mj_per_km``.
+    """
+    return [row for row, _ in _calibrations(inputs).values()]
+
+
+def _calibrations(inputs: StudyInputs) -> dict[str, tuple[dict, tuple[str, ...]]]:
+    """By class name, each class with fuel cards: its ``calibration`` row and the vehicles
+    left out of the fit."""
+    out = {}
+    for c in inputs.classes:
+        base = inputs.baseline.per_class[c.id]
+        found = class_calibration(c, base)
+        if found is None or c.card_records is None:
+            continue
+        cal, left = found
+        out[c.name] = ({
+            "vehicle_class": c.id, "fuel": base.fuel.id, "applied": c.calibrate,
+            "calibration_factor": cal.factor, "calibration_factor_se": cal.factor_se,
+            "vehicles": cal.vehicles,
+            "fills": int(np.isin(c.card_records.vehicle, cal.residuals["vehicle"]).sum()),
+            "card_km": float(cal.residuals["card_km"].sum()),
+            "observed_mj_per_km": cal.observed_per_m / 1e3,
+            "modelled_mj_per_km": cal.modelled_per_m / 1e3,
+            "rms_residual_mj_per_km": cal.rms_residual_per_m / 1e3}, left)
+    return out
+
+
+def _calibration_notes(inputs: StudyInputs) -> dict[str, str]:
+    """One assumption line per class with fuel cards: the factor, its fit, applied or not."""
+    out = {}
+    cards = {c.name: c.fuel_cards.name for c in inputs.classes if c.fuel_cards is not None}
+    for name, (row, left) in _calibrations(inputs).items():
+        how = ("applied to the modelled fuel energy per km of every option, its standard "
+               "error drawn in the Monte Carlo" if row["applied"]
+               else "not applied (calibrate = false)")
+        dropped = f"; left out of the fit: {'; '.join(left)}" if left else ""
+        out[f"fuel-card calibration, {name}"] = (
+            f"factor {row['calibration_factor']:.3f} ± {row['calibration_factor_se']:.3f} "
+            f"(1 s.e.) from {row['vehicles']} vehicles and {row['fills']} fills of "
+            f"{cards[name]} on {row['fuel']}, RMS residual "
+            f"{row['rms_residual_mj_per_km']:.3f} MJ/km; {how}{dropped}")
     return out
 
 
@@ -681,9 +882,7 @@ def defaults_rows(inputs: StudyInputs,
             add("derate", f"{applied_derate(co) * 100:.1f}", "%",
                 KINDS[co.conversion].sources["derate"])
         if co.derived_map:
-            for name, (value, unit, source) in converted_map(
-                    co.map_data, co.derate, co.efficiency_offset, co.conversion,
-                    co.fuel)[1].items():
+            for name, (value, unit, source) in converted_map(*_map_inputs(co))[1].items():
                 add(name, f"{value:.4g}", unit, source)
         base = inputs.baseline.per_class[cid]
         if co.engine_out_nox is None and (base.engine != co.engine or co is base

@@ -47,11 +47,13 @@ from workbench.core.units import (
     read_number,
 )
 from workbench.io.files import write_text_atomic
+from workbench.io.fuelcards import read_fuel_cards
 from workbench.io.logs import FleetSource, fleet_source, list_vehicles
 from workbench.io.maps import read_map
 from workbench.io.profiles import read_profile
 from workbench.io.vehicles import read_vehicle
 from workbench.models.aftertreatment import DEVICE_PRESETS, Aftertreatment
+from workbench.models.calibration import FuelRecords
 from workbench.models.conversion import (
     KINDS,
     REGIME_DEVICE,
@@ -147,6 +149,12 @@ class FleetClass:
     vehicle_data: Vehicle  # read from ``vehicle``
     map_data: EngineMap  # read from ``engine_map``
     varied: tuple[tuple[str, Uncertain], ...] = ()  # physics inputs with a distribution
+    fuel_cards: Path | None = None  # the fuel-card file as named, for display
+    #: Read from ``fuel_cards`` when checked; compared and hashed by ``card_digest``, so that
+    #: a study checked again over the same cards finds its physics cached.
+    card_records: FuelRecords | None = field(default=None, compare=False)
+    card_digest: str = ""  # SHA-256 of the fills read (:func:`_records_digest`)
+    calibrate: bool = False  # apply the factor fitted to the cards to every option
 
 
 @dataclass(frozen=True)
@@ -917,6 +925,7 @@ DATA_FILE_KINDS: dict[str, tuple[str | None, tuple[str, ...]]] = {
     "vehicle": ("vehicles", (".toml",)),
     "map": ("maps", (".csv",)),
     "fuel": (None, (".toml",)),
+    "fuel cards": (None, (".csv",)),
 }
 
 
@@ -930,7 +939,8 @@ def resolve_data_file(raw: Any, where: str, kind: str, base_dir: Path) -> Path:
     where : str
         Its key path, for errors.
     kind : str
-        A key of :data:`DATA_FILE_KINDS`: ``profile``, ``vehicle``, ``map`` or ``fuel``.
+        A key of :data:`DATA_FILE_KINDS`: ``profile``, ``vehicle``, ``map``, ``fuel`` or
+        ``fuel cards``.
     base_dir : pathlib.Path
         The study file's folder; relative paths are read from there, never from the working
         directory.
@@ -1018,7 +1028,8 @@ def _physics_input(varied: list[tuple[str, Uncertain]]) -> Callable[..., float]:
 def _fleet_class(r: _Reader, base_dir: Path, currency: str) -> FleetClass:
     r.only(("id", "name", "count", "km_per_year", "hours_per_day", "remaining_life_years",
             "profile", "vehicle", "engine_map", "range", "upkeep_per_year", "daily_revenue",
-            "accessory_power", "engine_off_at_stops", "extra_idle_share"), "a class")
+            "accessory_power", "engine_off_at_stops", "extra_idle_share", "fuel_cards",
+            "calibrate"), "a class")
     cid = r.text("id")
     if not re.fullmatch(r"[A-Za-z0-9_-]+", cid):
         raise InputError(r.at("id"), "use letters, digits, - and _ only")
@@ -1029,6 +1040,18 @@ def _fleet_class(r: _Reader, base_dir: Path, currency: str) -> FleetClass:
                                             base_dir, read_vehicle)
     engine_map, map_data = _read_data_file(r.raw("engine_map"), r.at("engine_map"), "map",
                                            base_dir, read_map)
+    cards, records = None, None
+    if r.has("fuel_cards"):
+        if not isinstance(duty, FleetSource):
+            raise InputError(r.at("fuel_cards"), "fuel cards calibrate a class run from its "
+                             "vehicles' logs: make profile name the folder of logs, or drop "
+                             "fuel_cards")
+        cards, records = _read_data_file(r.raw("fuel_cards"), r.at("fuel_cards"), "fuel cards",
+                                         base_dir, read_fuel_cards)
+    calibrated = r.flag("calibrate", records is not None)
+    if calibrated and records is None:
+        raise InputError(r.at("calibrate"), "needs fuel_cards (the fills to fit the factor "
+                         "to); name the fuel-card file or set calibrate = false")
     return FleetClass(
         id=cid,
         name=r.text("name", cid),
@@ -1052,7 +1075,18 @@ def _fleet_class(r: _Reader, base_dir: Path, currency: str) -> FleetClass:
         engine_off_at_stops=r.flag("engine_off_at_stops", False),
         extra_idle_share=physics(r, "extra_idle_share", _fraction, 0.0, 0.0, 0.9, PERCENT),
         varied=tuple(varied),
+        fuel_cards=cards,
+        card_records=records,
+        card_digest=_records_digest(records) if records is not None else "",
+        calibrate=calibrated,
     )
+
+
+def _records_digest(records: FuelRecords) -> str:
+    """SHA-256 of fuel-card fills as read: equal fills, equal digest."""
+    parts = [records.basis.encode(), records.vehicle.astype(str).tobytes()]
+    parts += [a.astype(float).tobytes() for a in (records.time, records.amount, records.odometer)]
+    return sha256_hex(b"\0".join(parts))
 
 
 def _per_class(r: _Reader, key: str, cid: str, class_ids: set[str], default: Any) -> Any:

@@ -65,7 +65,7 @@ def _run(args: argparse.Namespace) -> None:
     from workbench.io.maps import read_map
     from workbench.io.vehicles import read_vehicle
     from workbench.models.combustion import fuel_sheet
-    from workbench.study.fleet import calibrate_fleet, run_fleet
+    from workbench.study.fleet import calibrate_fleet, card_energy_per_amount, run_fleet
 
     if args.workers is not None and args.workers < 1:
         raise InputError("--workers", "must be 1 or more")
@@ -93,10 +93,7 @@ def _run(args: argparse.Namespace) -> None:
     cal = None
     if args.fuel_cards:
         records = read_fuel_cards(args.fuel_cards)
-        per_amount = sheet.lhv_mass * (density if records.basis == "volume" else 1.0)
-        if records.basis == "volume" and not math.isfinite(per_amount):
-            raise InputError("--fuel", f"{fuel.id} has no liquid density; fuel cards in litres "
-                                       "need one (use kg cards for gases)")
+        per_amount = card_energy_per_amount(fuel, sheet.lhv_mass, records.basis, "--fuel")
         cal, notes = calibrate_fleet(run, records, energy_per_amount=per_amount)
         record["calibration"] = {"calibration_factor": cal.factor,
                                  "calibration_factor_se": cal.factor_se,

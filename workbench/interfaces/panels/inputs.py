@@ -26,6 +26,7 @@ from workbench.io.logs import FleetSource
 from workbench.io.maps import read_map
 from workbench.io.profiles import read_profile
 from workbench.models.duty import DutyTrace, ModeTable, duty_stats
+from workbench.study.runner import run_maps
 from workbench.study.studyfile import FleetClass
 
 
@@ -207,18 +208,28 @@ class DutyPanel(_PlotPanel):
 
 
 def map_figure(state: StudyState, index: int) -> go.Figure:
-    """The map of one class as contours, with that class's operating points of the last run."""
+    """The map of one class as contours, with the operating points of the last run's options
+    that run on it; the title names the options that run on a map of their own (a derived
+    map or their own file, drawn in the report)."""
     c = state.study.inputs.classes[index]
     grid = MapGrid.from_engine_map(c.map_data)
     result = state.result
-    points = result.operating_points if result is not None else None
-    names = (dict(zip(result.candidates["candidate"], result.candidates["name"], strict=True))
-             if result is not None else {})
+    title = f"{c.name}: {Path(c.engine_map).name}"
+    if result is None:
+        return efficiency_map_chart(grid.speed_rpm, grid.torque_nm, grid.efficiency,
+                                    full_load_torque_nm=grid.full_load_torque_nm, title=title)
+    maps = [m for m in run_maps(state.study.inputs) if m.vehicle_class == c.id]
+    on_file = {o for m in maps if m.engine_map == c.map_data for o in m.options}
+    elsewhere = [result.names.candidate(o) for m in maps for o in m.options if o not in on_file]
+    if elsewhere:
+        title += f" (on their own maps, see the report: {', '.join(elsewhere)})"
+    points = result.operating_points
+    points = points[points["candidate"].isin(on_file)]
+    names = dict(zip(result.candidates["candidate"], result.candidates["name"], strict=True))
     return efficiency_map_chart(
-        grid.speed_rpm, grid.torque_nm, grid.efficiency, points,
-        colours=result.colours() if result is not None else None, names=names,
-        vehicle_class=c.id, full_load_torque_nm=grid.full_load_torque_nm,
-        title=f"{c.name}: {Path(c.engine_map).name}")
+        grid.speed_rpm, grid.torque_nm, grid.efficiency, points, colours=result.colours(),
+        names=names, vehicle_class=c.id, full_load_torque_nm=grid.full_load_torque_nm,
+        title=title)
 
 
 class EngineMapPanel(_PlotPanel):
