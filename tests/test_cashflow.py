@@ -8,6 +8,8 @@ the conversion year, year 1 is at today's prices, residual value straight line a
 from __future__ import annotations
 
 import numpy as np
+import numpy_financial as npf
+import pytest
 from numpy.testing import assert_allclose
 
 from workbench.models import economics as econ
@@ -19,9 +21,8 @@ ACTIVE = np.array([0.0, 1.0, 1.0, 1.0])  # runs in years 1..3
 def _baseline(price_per_j: float | np.ndarray = 2e-8) -> econ.ClassLine:
     return econ.ClassLine(
         count=2, active=ACTIVE, km_per_year=1e7, km_per_year_nominal=1e7,
-        fuel_energy_per_m=3000.0, tailpipe_co2e_per_m=2e-4, catalyst_cost=np.zeros(H + 1),
-            price_per_j=price_per_j, escalation=0.10, upstream_co2e_per_j=0.0,
-        upkeep_per_year=500.0,
+        parts=(econ.EnergyPart(3000.0, price_per_j, 0.10, 0.0),), tailpipe_co2e_per_m=2e-4,
+        catalyst_cost=np.zeros(H + 1), upkeep_per_year=500.0,
         tank_inspection_cost=0.0, tank_inspection_interval=0, converts=False,
         conversion_cost=0.0, downtime_days=0.0, daily_revenue=0.0, remaining_life_years=6,
         nox_mass=np.array([0.0, 10.0, 10.0, 10.0]))
@@ -30,9 +31,9 @@ def _baseline(price_per_j: float | np.ndarray = 2e-8) -> econ.ClassLine:
 def _converted() -> econ.ClassLine:
     return econ.ClassLine(
         count=2, active=ACTIVE, km_per_year=1e7, km_per_year_nominal=1e7,
-        fuel_energy_per_m=3300.0, tailpipe_co2e_per_m=1.6e-4,
-        catalyst_cost=np.array([0.0, 10.0, 10.0, 10.0]), price_per_j=1.5e-8, escalation=0.0,
-        upstream_co2e_per_j=0.0, upkeep_per_year=600.0, tank_inspection_cost=50.0,
+        parts=(econ.EnergyPart(3300.0, 1.5e-8, 0.0, 0.0),), tailpipe_co2e_per_m=1.6e-4,
+        catalyst_cost=np.array([0.0, 10.0, 10.0, 10.0]), upkeep_per_year=600.0,
+        tank_inspection_cost=50.0,
         tank_inspection_interval=2, converts=True, conversion_cost=3000.0, downtime_days=2.0,
         daily_revenue=100.0, remaining_life_years=6, nox_mass=np.array([0.0, 4.0, 4.0, 4.0]))
 
@@ -141,3 +142,101 @@ def test_first_year_cost_per_km_by_item():
     assert_allclose(out["fuel"], 3300 * 1.5e-8 + 1.6e-4 * 0.1, rtol=1e-12)
     assert_allclose(out["upkeep"], (600 + 30 / 2 / 3 + 50 / 3) / 1e7, rtol=1e-12)
     assert_allclose(out["capital"], 3200 * 0.05 * 1.05**6 / (1.05**6 - 1) / 1e7, rtol=1e-12)
+
+
+# --- several energy carriers on one class line (a dual-fuel engine), upstream by year -------
+# Invented: the two vehicles above burn 1200 J/m of diesel (pilot) and 2400 J/m of gas.
+# Diesel 2.5e-8 /J escalating 4 %, upstream 2e-8 kg/J; gas 1.2e-8 /J escalating 2 %, upstream
+# 1e-8 kg/J; tailpipe (both fuels' CO2 and the slipped methane) 1.7e-4 kg/m.
+DIESEL = econ.EnergyPart(1200.0, 2.5e-8, 0.04, 2e-8)
+GAS = econ.EnergyPart(2400.0, 1.2e-8, 0.02, 1e-8)
+
+
+def _two_fuel(*parts: econ.EnergyPart) -> econ.ClassLine:
+    return econ.ClassLine(
+        count=2, active=ACTIVE, km_per_year=1e7, km_per_year_nominal=1e7,
+        parts=parts or (DIESEL, GAS), tailpipe_co2e_per_m=1.7e-4, catalyst_cost=np.zeros(H + 1),
+        upkeep_per_year=0.0, tank_inspection_cost=0.0, tank_inspection_interval=0,
+        converts=True, conversion_cost=3000.0, downtime_days=0.0, daily_revenue=0.0,
+        remaining_life_years=6, nox_mass=np.zeros(H + 1))
+
+
+def _two_fuel_money(line: econ.ClassLine, n: int = 1) -> econ.Money:
+    options = {"base": econ.OptionLines([_baseline()], 0.0, 0.0),
+               "dual": econ.OptionLines([line], 0.0, 0.0)}
+    return econ.programme_money(options, baseline="base", rate=0.05, carbon_price=0.1,
+                                horizon=H, n=n)
+
+
+def test_two_fuel_class_line_against_a_hand_built_cash_flow():
+    # Reference: the cash flow written out with numpy below, its NPV with numpy-financial's
+    # npv (values[0] undiscounted, as year 0 here), so neither comes from the code under test.
+    years = np.arange(H + 1)
+    km = 2e7 * ACTIVE  # 2 vehicles x 1e7 m in years 1-3
+    grow = np.maximum(years - 1, 0)  # today's price in year 1 (glossary: escalation)
+    fuel = km * (1200 * 2.5e-8 * 1.04**grow + 2400 * 1.2e-8 * 1.02**grow)
+    co2e = km * (1.7e-4 + 2e-8 * 1200 + 1e-8 * 2400)  # tailpipe + each fuel's upstream
+    cost = fuel + 0.1 * co2e
+    cost[0] += 2 * 3000  # conversion capital in year 0
+    residual = np.array([0.0, 0.0, 0.0, 6000 * (1 - 3 / 6)])  # straight line, 6-year life
+    base_cash = -np.array([0.0, 2600.0, 2720.0, 2852.0])  # test_baseline_costs_by_hand
+    m = _two_fuel_money(_two_fuel())
+    assert_allclose(m.costs["dual"][0], cost, rtol=1e-12)
+    assert_allclose(m.co2e["dual"][0], co2e, rtol=1e-12)
+    assert_allclose(m.carbon["dual"][0], 0.1 * co2e, rtol=1e-12)
+    c = econ.compare(m, "dual", "base")
+    assert_allclose(c.npv, [npf.npv(0.05, residual - cost - base_cash)], rtol=1e-12)
+    # year 1, per metre: both fuels at today's prices plus carbon on the well-to-wheel CO2e
+    assert_allclose(econ.co2e_per_m(_two_fuel()), 1.7e-4 + 2.4e-5 + 2.4e-5, rtol=1e-12)
+    assert_allclose(econ.cost_per_m(_two_fuel(), rate=0.05, carbon_price=0.1)["fuel"],
+                    1200 * 2.5e-8 + 2400 * 1.2e-8 + 0.1 * (1.7e-4 + 4.8e-5), rtol=1e-12)
+
+
+def test_one_part_split_in_two_gives_the_same_money():
+    # The same carrier bought as two halves must cost and emit what it does whole (linearity).
+    half = econ.EnergyPart(600.0, 2.5e-8, 0.04, 2e-8)
+    whole = _two_fuel_money(_two_fuel(econ.EnergyPart(1200.0, 2.5e-8, 0.04, 2e-8)))
+    split = _two_fuel_money(_two_fuel(half, half))
+    assert_allclose(split.costs["dual"], whole.costs["dual"], rtol=1e-12)
+    assert_allclose(split.co2e["dual"], whole.co2e["dual"], rtol=1e-12)
+
+
+# A grid-like upstream path, falling by year (invented): year 0 unused, 3e-8, 2e-8, 1e-8 kg/J.
+PATH = np.array([4e-8, 3e-8, 2e-8, 1e-8])
+
+
+@pytest.mark.parametrize("n", [1, 2, H + 1])  # n = H + 1: a 1-D path must still read by year
+def test_upstream_path_by_year(n):
+    # CO2e by hand: km (tailpipe + path_t x 1200 + 1e-8 x 2400), the gas per draw as before.
+    gas_path = econ.EnergyPart(1200.0, 2.5e-8, 0.04, PATH, upstream_by_year=True)
+    m = _two_fuel_money(_two_fuel(gas_path, GAS), n=n)
+    co2e = 2e7 * ACTIVE * (1.7e-4 + PATH * 1200 + 1e-8 * 2400)
+    assert m.co2e["dual"].shape == (n, H + 1)
+    assert_allclose(m.co2e["dual"], np.broadcast_to(co2e, (n, H + 1)), rtol=1e-12)
+    # the year-1 CO2e per metre takes the path's year-1 value
+    assert_allclose(econ.co2e_per_m(_two_fuel(gas_path, GAS)),
+                    1.7e-4 + 3e-8 * 1200 + 1e-8 * 2400, rtol=1e-12)
+
+
+def test_upstream_path_per_draw_and_year():
+    # (n, H+1): draw 2 has twice draw 1's path, so its upstream CO2e of that part doubles.
+    paths = np.stack([PATH, 2 * PATH])
+    m = _two_fuel_money(_two_fuel(econ.EnergyPart(1200.0, 2.5e-8, 0.04, paths), GAS), n=2)
+    km = 2e7 * ACTIVE
+    assert_allclose(m.co2e["dual"][1] - m.co2e["dual"][0], km * PATH * 1200, rtol=1e-12)
+
+
+def test_upstream_path_of_the_wrong_length_is_refused():
+    bad = econ.EnergyPart(1200.0, 2.5e-8, 0.04, PATH[:3], upstream_by_year=True)
+    with pytest.raises(ValueError, match="shape"):
+        _two_fuel_money(_two_fuel(bad, GAS), n=2)
+
+
+def test_physics_draws_interpolate_each_carrier():
+    # Two carriers: the response gives (1000, 2000) J/m at x = 0 and (1400, 2400) at x = 1
+    # around nominal (1200, 2200); a draw at x = 0.5 is (1200, 2200) (linear).
+    r = econ.Response("a", np.array([0.0, 1.0]), np.array([[1000.0, 2000.0], [1400.0, 2400.0]]),
+                      np.array([1e-4, 1e-4]), np.zeros((2, H + 1)))
+    e, _, _ = econ.physics_draws(np.array([1200.0, 2200.0]), 1e-4, np.zeros(H + 1), [r],
+                                 {"a": np.array([0.5, 1.0])}, 2)
+    assert_allclose(e, [[1200.0, 2200.0], [1400.0, 2400.0]], rtol=1e-12)

@@ -550,13 +550,13 @@ def _lines(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> dict[str, ec
             energy, tailpipe, catalyst = econ.physics_draws(
                 ph.fuel_energy_per_m, ph.tailpipe_co2e_per_m, plan.catalyst_cost[o.id, c.id],
                 plan.responses[o.id, c.id], params, n)
+            part = econ.EnergyPart(
+                energy[:, 0], val(inputs.prices[fid][1]) * plan.price_factor[fid],
+                val(inputs.escalation[fid]), val(inputs.upstream[fid]))
             lines.append(econ.ClassLine(
                 count=c.count, active=plan.active[c.id], km_per_year=val(c.km_per_year),
-                km_per_year_nominal=c.km_per_year.nominal, fuel_energy_per_m=energy,
+                km_per_year_nominal=c.km_per_year.nominal, parts=(part,),
                 tailpipe_co2e_per_m=tailpipe, catalyst_cost=catalyst,
-                price_per_j=val(inputs.prices[fid][1]) * plan.price_factor[fid],
-                escalation=val(inputs.escalation[fid]),
-                upstream_co2e_per_j=val(inputs.upstream[fid]),
                 upkeep_per_year=val(c.upkeep_per_year) + val(co.upkeep_change_per_year),
                 tank_inspection_cost=val(co.tank_inspection_cost),
                 tank_inspection_interval=co.tank_inspection_interval, converts=co.converts,

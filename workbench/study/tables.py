@@ -128,8 +128,7 @@ def _per_km_rows(plan: Plan, lines: Mapping[str, econ.OptionLines],
             co = o.per_class[c.id]
             ph = plan.physics[o.id, c.id]
             cost = econ.cost_per_m(line, rate=rate, carbon_price=carbon)
-            co2e_m = (inputs.upstream[co.fuel.id].nominal * ph.fuel_energy_per_m
-                      + ph.tailpipe_co2e_per_m)
+            co2e_m = econ.co2e_per_m(line)
             rows.append({
                 "candidate": o.id, "vehicle_class": c.id, "fuel": co.fuel.id,
                 "fuel_energy_mj_per_km": ph.fuel_energy_per_m * 1e-3,

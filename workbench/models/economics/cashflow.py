@@ -1,14 +1,16 @@
 """The programme's yearly cash flows: fuel, carbon, upkeep, catalysts, inspections, capital.
 
 Every option of a study is a set of vehicle classes (:class:`ClassLine`), each carrying the
-numbers its money needs, one value per Monte Carlo draw. :func:`programme_money` turns them into
-yearly costs, residual values, carbon payments and emissions (:class:`Money`), with the draws
-along the first axis and the programme years ``0 … H`` along the last (year 0 is the conversion
-year, year ``t`` ends ``t`` years later; see :mod:`workbench.models.economics.finance`).
+numbers its money needs, one value per Monte Carlo draw, and buying one or more energy carriers
+(:class:`EnergyPart`: a fuel; a dual-fuel engine's diesel pilot and gas; grid electricity).
+:func:`programme_money` turns them into yearly costs, residual values, carbon payments and
+emissions (:class:`Money`), with the draws along the first axis and the programme years
+``0 … H`` along the last (year 0 is the conversion year, year ``t`` ends ``t`` years later; see
+:mod:`workbench.models.economics.finance`).
 
-Physics inputs with a distribution enter as :class:`Response` tables: the option-class's fuel
-energy, tailpipe CO2e and catalyst cost evaluated at quantiles of the input, interpolated per
-draw by :func:`physics_draws`.
+Physics inputs with a distribution enter as :class:`Response` tables: the option-class's energy
+of each carrier, tailpipe CO2e and catalyst cost evaluated at quantiles of the input,
+interpolated per draw by :func:`physics_draws`.
 """
 
 from __future__ import annotations
@@ -34,10 +36,12 @@ from workbench.models.economics.finance import (
 __all__ = [
     "ClassLine",
     "Comparison",
+    "EnergyPart",
     "Money",
     "NPVDraws",
     "OptionLines",
     "Response",
+    "co2e_per_m",
     "compare",
     "cost_per_m",
     "inspection_years",
@@ -60,7 +64,8 @@ class Response:
     nodes : numpy.ndarray
         Input values it was evaluated at (quantiles of its distribution), increasing.
     energy : numpy.ndarray
-        Fuel energy per distance at each node [J/m].
+        Energy per distance at each node [J/m]: shape (nodes,) for one carrier, (nodes, parts)
+        for one column per carrier (the order of :attr:`ClassLine.parts`).
     tailpipe_co2e : numpy.ndarray
         Tailpipe CO2e per distance at each node [kg/m].
     catalyst : numpy.ndarray
@@ -99,21 +104,22 @@ def _interp_rows(x: np.ndarray, nodes: np.ndarray, table: np.ndarray) -> np.ndar
     return table[i] * (1.0 - t) + table[i + 1] * t
 
 
-def physics_draws(energy: float, tailpipe_co2e: float, catalyst: np.ndarray,
+def physics_draws(energy: ArrayLike, tailpipe_co2e: float, catalyst: np.ndarray,
                   responses: Sequence[Response], draws: Mapping[str, ArrayLike], n: int
                   ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Money-relevant physics of one option-class for each draw.
 
     Parameters
     ----------
-    energy : float
-        Nominal fuel energy per distance [J/m].
+    energy : float or array
+        Nominal energy per distance [J/m]: one value, or one per carrier, shape (parts,).
     tailpipe_co2e : float
         Nominal tailpipe CO2e per distance [kg/m].
     catalyst : numpy.ndarray
         Nominal catalyst and reductant cost by year, shape (H+1,) [currency].
     responses : sequence of Response
-        The option-class's answer to each uncertain physics input.
+        The option-class's answer to each uncertain physics input (energy columns as
+        ``energy``).
     draws : mapping of str to array
         Drawn values by key path, each shape (n,); inputs not named keep their nominal effect.
     n : int
@@ -122,22 +128,23 @@ def physics_draws(energy: float, tailpipe_co2e: float, catalyst: np.ndarray,
     Returns
     -------
     tuple of numpy.ndarray
-        Fuel energy [J/m] and tailpipe CO2e [kg/m], both shape (n, 1), and catalyst cost by
-        year, shape (n, H+1) [currency].
+        Energy per distance, shape (n, parts) (parts 1 for one value) [J/m], tailpipe CO2e,
+        shape (n, 1) [kg/m], and catalyst cost by year, shape (n, H+1) [currency].
 
     Notes
     -----
     Nominal physics plus each drawn input's effect taken one at a time from its response
     (first order: the effects of several inputs add).
     """
-    e = np.full((n, 1), energy)
+    nominal = np.asarray(energy, dtype=float).reshape(-1)
+    e = np.repeat(nominal[None, :], n, axis=0)
     t = np.full((n, 1), tailpipe_co2e)
     c = np.repeat(catalyst[None, :], n, axis=0)  # a copy per draw (quicker than broadcast)
     for r in responses:
         if r.path not in draws:
             continue
         x = np.broadcast_to(np.asarray(draws[r.path], dtype=float), (n,))
-        e += _interp_rows(x, r.nodes, r.energy) - energy
+        e += _interp_rows(x, r.nodes, r.energy) - nominal
         t += _interp_rows(x, r.nodes, r.tailpipe_co2e) - tailpipe_co2e
         c += _interp_rows(x, r.nodes, r.catalyst) - catalyst
     return e, t, c
@@ -165,6 +172,53 @@ def inspection_years(interval: int, horizon: int) -> np.ndarray:
 
 
 @dataclass(frozen=True)
+class EnergyPart:
+    """One energy carrier an option on a class buys: a fuel, or grid electricity.
+
+    Values that vary between Monte Carlo draws are arrays of shape (n,) (floats broadcast).
+
+    Attributes
+    ----------
+    energy_per_m : array
+        Energy bought per distance [J/m] (LHV for a fuel), shape (n,) or (n, 1).
+    price_per_j : array
+        Today's price per energy [currency/J] (LHV for a fuel).
+    escalation : array
+        Yearly escalation of the price [-] (:func:`escalate`).
+    upstream_co2e_per_j : array
+        Well-to-tank CO2e per energy [kg/J]: per draw, shape (n,) (or a float); or, with
+        ``upstream_by_year``, a path over the programme years, shape (H+1,) or (n, H+1) (a
+        grid's intensity falling year by year). A 2-D array is always a path.
+    upstream_by_year : bool
+        ``upstream_co2e_per_j`` is a path by programme year (a 1-D array of length H+1 would
+        otherwise read as one value per draw whenever n = H+1).
+    """
+
+    energy_per_m: ArrayLike
+    price_per_j: ArrayLike
+    escalation: ArrayLike
+    upstream_co2e_per_j: ArrayLike
+    upstream_by_year: bool = False
+
+
+def _upstream(part: EnergyPart, n: int, horizon: int) -> FloatArray:
+    """A carrier's upstream CO2e per J as (n, 1) (per draw) or (1 or n, H+1) (by year)."""
+    u = np.asarray(part.upstream_co2e_per_j, dtype=float)
+    if u.ndim < 2 and not part.upstream_by_year:
+        return _column(u, n)
+    u = np.atleast_2d(u)
+    if u.shape[-1] != horizon + 1 or u.shape[0] not in (1, n):
+        raise ValueError(f"an upstream CO2e path by year has shape (H+1,) or (n, H+1) = "
+                         f"({horizon + 1},) or ({n}, {horizon + 1}), not {u.shape}")
+    return u
+
+
+def _energy(part: EnergyPart, n: int) -> FloatArray:
+    """A carrier's energy per distance as a column per draw, shape (n, 1)."""
+    return _column(np.asarray(part.energy_per_m).reshape(-1), n)
+
+
+@dataclass(frozen=True)
 class ClassLine:
     """One option on one vehicle class, as its cash flows need it.
 
@@ -181,19 +235,13 @@ class ClassLine:
         Distance per vehicle and year [m].
     km_per_year_nominal : float
         Distance per vehicle and year the catalyst costs were worked out for [m].
-    fuel_energy_per_m : array
-        Fuel energy per distance, LHV [J/m].
+    parts : tuple of EnergyPart
+        The energy carriers it buys, one or more (a dual-fuel engine's diesel pilot and gas).
     tailpipe_co2e_per_m : array
-        Tailpipe CO2e per distance [kg/m].
+        Tailpipe CO2e per distance of all its carriers together [kg/m].
     catalyst_cost : numpy.ndarray
         Fleet catalyst and reductant cost by year at the nominal distance, shape (n, H+1) or
         (H+1,) [currency].
-    price_per_j : array
-        Today's fuel price per LHV energy [currency/J].
-    escalation : array
-        Yearly escalation of the fuel price [-] (:func:`escalate`).
-    upstream_co2e_per_j : array
-        Well-to-tank CO2e per LHV energy [kg/J].
     upkeep_per_year : array
         Upkeep per vehicle and year, the option's change included [currency].
     tank_inspection_cost : array
@@ -219,12 +267,9 @@ class ClassLine:
     active: np.ndarray
     km_per_year: ArrayLike
     km_per_year_nominal: float
-    fuel_energy_per_m: ArrayLike
+    parts: tuple[EnergyPart, ...]
     tailpipe_co2e_per_m: ArrayLike
     catalyst_cost: np.ndarray
-    price_per_j: ArrayLike
-    escalation: ArrayLike
-    upstream_co2e_per_j: ArrayLike
     upkeep_per_year: ArrayLike
     tank_inspection_cost: ArrayLike
     tank_inspection_interval: int
@@ -312,12 +357,15 @@ def _class_terms(c: ClassLine, n: int, years: np.ndarray, carbon: FloatArray) ->
     act = c.active
     km_year = _column(c.km_per_year, n)
     km = km_year * act * c.count
-    energy = _column(np.asarray(c.fuel_energy_per_m).reshape(-1), n)
-    co2e_m = (_column(c.upstream_co2e_per_j, n) * energy
-              + _column(np.asarray(c.tailpipe_co2e_per_m).reshape(-1), n))
+    co2e_m = _column(np.asarray(c.tailpipe_co2e_per_m).reshape(-1), n)
+    fuel = np.zeros((n, horizon + 1))
+    for p in c.parts:
+        energy = _energy(p, n)
+        fuel = fuel + km * energy * escalate(_per_draw(p.price_per_j, n),
+                                             _per_draw(p.escalation, n), years)
+        co2e_m = co2e_m + _upstream(p, n, horizon) * energy
     emitted = km * co2e_m
-    price = escalate(_per_draw(c.price_per_j, n), _per_draw(c.escalation, n), years)
-    parts = (km * energy * price,
+    parts = (fuel,
              emitted * carbon,
              _column(c.upkeep_per_year, n) * c.count * act,
              (_column(c.tank_inspection_cost, n) * c.count * act
@@ -357,11 +405,12 @@ def programme_money(options: Mapping[str, OptionLines], *, baseline: str, rate: 
     Notes
     -----
     For each class, with distance ``D_t = km a_t N`` (``a_t`` 1 while the class runs, ``N``
-    vehicles) and fuel energy per distance ``E``:
+    vehicles) and, for each energy carrier ``k`` it buys, energy per distance ``E_k``:
 
-    - fuel ``D_t E p (1 + e) ** max(t - 1, 0)`` (:func:`escalate`: today's price in year 1);
-    - carbon ``D_t (u E + T) c``, well-to-wheel CO2e (upstream ``u`` per J, tailpipe ``T``
-      per m) at the carbon price ``c``;
+    - fuel ``D_t sum_k E_k p_k (1 + e_k) ** max(t - 1, 0)`` (:func:`escalate`: today's price
+      in year 1);
+    - carbon ``D_t (sum_k u_k,t E_k + T) c``, well-to-wheel CO2e (upstream ``u_k,t`` per J,
+      constant or by year; tailpipe ``T`` per m) at the carbon price ``c``;
     - upkeep ``U N a_t``; tank inspections ``I N a_t`` in the years they fall due; catalysts and
       reductant in proportion to the distance driven;
     - in year 0, a converted class's capital ``K N`` and downtime ``days R N``;
@@ -557,6 +606,34 @@ def compare(money: Money, option: str, baseline: str) -> Comparison:
         cost_per_kg_nox_avoided=flat(abatement_cost(rate, extra, nox)))
 
 
+def _one(x: ArrayLike, year: int | None = None) -> float:
+    """The first draw of a value (of a path by year: its value in ``year``)."""
+    a = np.asarray(x, dtype=float)
+    return float(a.reshape(-1)[0] if year is None else np.atleast_2d(a)[0, year])
+
+
+def co2e_per_m(line: ClassLine, *, year: int = 1) -> float:
+    """Well-to-wheel CO2e per distance of one option on one class in a year, nominal values.
+
+    Parameters
+    ----------
+    line : ClassLine
+        The option-class, one draw (nominal).
+    year : int, optional
+        Programme year whose upstream intensity applies (a path by year); 1 by default.
+
+    Returns
+    -------
+    float
+        ``T + sum_k u_k E_k`` [kg/m]: tailpipe plus each carrier's upstream CO2e.
+    """
+    out = _one(line.tailpipe_co2e_per_m)
+    for p in line.parts:
+        by_year = p.upstream_by_year or np.ndim(p.upstream_co2e_per_j) == 2
+        out += _one(p.upstream_co2e_per_j, year if by_year else None) * _one(p.energy_per_m)
+    return out
+
+
 def cost_per_m(line: ClassLine, *, rate: float, carbon_price: float) -> dict[str, float]:
     """Cost per distance of one option on one class in year 1, by item, at nominal values.
 
@@ -572,7 +649,8 @@ def cost_per_m(line: ClassLine, *, rate: float, carbon_price: float) -> dict[str
     Returns
     -------
     dict of str to float
-        ``fuel``: fuel at today's prices plus the carbon payment on its well-to-wheel CO2e;
+        ``fuel``: every carrier at today's prices plus the carbon payment on the well-to-wheel
+        CO2e (:func:`co2e_per_m`, year 1);
         ``upkeep``: upkeep per vehicle-year, with catalysts, reductant and tank inspections
         averaged over the years the class runs; ``capital``: the conversion (capital and
         downtime) as a level yearly payment over the class's remaining life (capital recovery
@@ -580,22 +658,19 @@ def cost_per_m(line: ClassLine, *, rate: float, carbon_price: float) -> dict[str
         upkeep (option-wide) and the residual value are not in it; the NPV and the levelised
         cost carry them.
     """
-    def one(x: ArrayLike) -> float:
-        return float(np.asarray(x, dtype=float).reshape(-1)[0])
-
-    km = one(line.km_per_year)
-    energy = one(line.fuel_energy_per_m)
-    co2e_m = one(line.upstream_co2e_per_j) * energy + one(line.tailpipe_co2e_per_m)
+    km = _one(line.km_per_year)
+    fuel = sum(_one(p.energy_per_m) * _one(p.price_per_j) for p in line.parts)
     run_years = max(float(line.active.sum()), 1.0)
     horizon = len(line.active) - 1
     catalyst = float(np.asarray(line.catalyst_cost).reshape(-1, horizon + 1)[0].sum())
     inspections = float((inspection_years(line.tank_inspection_interval, horizon)
                          * line.active).sum())
-    upkeep_year = (one(line.upkeep_per_year) + catalyst / line.count / run_years
-                   + one(line.tank_inspection_cost) * inspections / run_years)
+    upkeep_year = (_one(line.upkeep_per_year) + catalyst / line.count / run_years
+                   + _one(line.tank_inspection_cost) * inspections / run_years)
     capital = 0.0
     if line.converts:
-        outlay = one(line.conversion_cost) + one(line.downtime_days) * one(line.daily_revenue)
+        outlay = (_one(line.conversion_cost)
+                  + _one(line.downtime_days) * _one(line.daily_revenue))
         capital = outlay * float(capital_recovery_factor(rate, line.remaining_life_years)) / km
-    return {"fuel": energy * one(line.price_per_j) + co2e_m * carbon_price,
+    return {"fuel": fuel + co2e_per_m(line) * carbon_price,
             "upkeep": upkeep_year / km, "capital": capital}
