@@ -40,6 +40,8 @@ BROKEN_STUDIES = [
     ("price per per", 'lpg = "1.5 %"', 'lpg = "1.5 % per %"'),
     ("nan upstream", "lpg = { wtt_co2e_g_per_mj = 8.0,", "lpg = { wtt_co2e_g_per_mj = nan,"),
     ("unknown programme key", "seed = 2027", "seed = 2027\nsede = 1"),
+    ("dual-fuel pilot without a price", 'conversion = "bi-fuel-si"',
+     'conversion = "dual-fuel-ci"\npilot_fuel = "n-dodecane"'),
 ]
 
 

@@ -44,6 +44,9 @@ LABELS = {
     "nox_engine_out_g_per_km": "NOx engine-out [g/km]",
     "pm_mg_per_km": "particulate mass [mg/km]", "co_g_per_km": "CO [g/km]",
     "thc_g_per_km": "hydrocarbons incl. methane [g/km]",
+    "role": "burnt as", "energy_share": "share of the fuel energy [%]",
+    "ch4_g_per_km": "methane slipped [g/km]",
+    "co2e_ttw_g_per_km": "CO2e tailpipe, CO2 and methane [g/km]",
     "in_best_mix": "in the best mix", "quantity": "quantity", "source": "source",
     "fuel_energy_mj_per_km": "fuel energy [MJ/km]",
     "fuel_l_per_100km": "fuel [L/100 km]",
@@ -91,6 +94,7 @@ LABELS = {
 #: Titles of the result tables for a reader.
 TABLE_TITLES = {
     "candidates": "Options over the whole programme", "per_km": "Options per vehicle class",
+    "fuel_use": "Each fuel an option burns",
     "cash_flows": "Cash flows by year", "fleet_years": "Fleet totals by year",
     "nox_monthly": "Tailpipe NOx by month as catalysts age", "storage": "Storage and range",
     "monte_carlo": "Monte Carlo draws of the NPV", "tornado": "One input at a time",

@@ -41,11 +41,11 @@ from typing import Literal
 
 import numpy as np
 
-from workbench.core.constants import ATMOSPHERE, GAS_CONSTANT
+from workbench.core.constants import ATMOSPHERE, GAS_CONSTANT, RPM
 from workbench.core.errors import InputError
 from workbench.core.fuels import Fuel
 from workbench.models.combustion import FuelSheet
-from workbench.models.engine import EngineMap
+from workbench.models.engine import DutyRun, EngineMap
 
 Regime = Literal["spark-ignition", "compression-ignition", "lean-burn-gas"]
 KindName = Literal["none", "bi-fuel-si", "dedicated-si", "dual-fuel-ci"]
@@ -465,8 +465,15 @@ def dedicated_si_map(
     return DerivedMap(emap, params)
 
 
-def substitution_share(load: np.ndarray, *, share_max: float = 0.6, load_low: float = 0.2,
-                       load_high: float = 0.6) -> np.ndarray:
+#: The dual-fuel substitution curve (:func:`substitution_share`): gas share of the fuel energy
+#: at and above ``GAS_LOAD_HIGH`` [-], and the loads (torque over full-load torque) where
+#: substitution starts and where it reaches that share [-]; ``KINDS["dual-fuel-ci"].source``.
+GAS_SHARE_MAX, GAS_LOAD_LOW, GAS_LOAD_HIGH = 0.6, 0.2, 0.6
+
+
+def substitution_share(load: np.ndarray, *, share_max: float = GAS_SHARE_MAX,
+                       load_low: float = GAS_LOAD_LOW, load_high: float = GAS_LOAD_HIGH
+                       ) -> np.ndarray:
     """Share of fuel energy from gas in a dual-fuel diesel at a load [-].
 
     Parameters
@@ -489,8 +496,8 @@ def substitution_share(load: np.ndarray, *, share_max: float = 0.6, load_low: fl
     return share_max * np.clip(x, 0.0, 1.0)
 
 
-def dual_fuel_map(diesel: EngineMap, *, methane_slip: float = 0.03, share_max: float = 0.6
-                  ) -> DerivedMap:
+def dual_fuel_map(diesel: EngineMap, *, methane_slip: float = 0.03,
+                  share_max: float = GAS_SHARE_MAX) -> DerivedMap:
     """The map of a dual-fuel diesel: the diesel's, less the energy of the gas that slips.
 
     Parameters
@@ -522,7 +529,7 @@ def dual_fuel_map(diesel: EngineMap, *, methane_slip: float = 0.03, share_max: f
 
 
 def duty_gas_share(points_speed: np.ndarray, points_torque: np.ndarray, fuel_energy: np.ndarray,
-                   engine_map: EngineMap, *, share_max: float = 0.6) -> float:
+                   engine_map: EngineMap, *, share_max: float = GAS_SHARE_MAX) -> float:
     """Fuel-energy-weighted gas share of a dual-fuel engine over a duty [-].
 
     Parameters
@@ -547,6 +554,33 @@ def duty_gas_share(points_speed: np.ndarray, points_torque: np.ndarray, fuel_ene
                                                                                float))
     w = np.asarray(fuel_energy, dtype=float)
     return float(np.sum(substitution_share(load, share_max=share_max) * w) / np.sum(w))
+
+
+def histogram_gas_share(duty: DutyRun, engine_map: EngineMap, *,
+                        share_max: float = GAS_SHARE_MAX) -> float:
+    """Gas share of a dual-fuel engine's fuel energy over a duty, from its operating points.
+
+    Parameters
+    ----------
+    duty : DutyRun
+        The duty run on the dual-fuel map (its speed x torque histogram, ``DutyRun.points``).
+    engine_map : EngineMap
+        That map: its full-load curve sets each cell's load, its fuel power the weight.
+    share_max : float
+        Gas share at high load [-] (:func:`substitution_share`).
+
+    Returns
+    -------
+    float
+        ``sum_i sigma(load_i) F_i / sum_i F_i`` over the histogram's cells, with ``F_i`` the
+        fuel energy of cell ``i`` (the map's fuel power at its centre times the time in it,
+        idling included) [-] (:func:`duty_gas_share`).
+    """
+    pts = duty.points
+    speed = pts["engine_speed_rpm"].to_numpy(dtype=float) * RPM
+    torque = pts["torque_nm"].to_numpy(dtype=float)
+    fuel = engine_map.fuel_power(speed, torque).fuel_power * pts["seconds"].to_numpy(dtype=float)
+    return duty_gas_share(speed, torque, fuel, engine_map, share_max=share_max)
 
 
 @dataclass(frozen=True)
@@ -612,6 +646,9 @@ def convert(engine_map: EngineMap, kind: ConversionKind, sheet: FuelSheet,
 
 
 __all__ = [
+    "GAS_LOAD_HIGH",
+    "GAS_LOAD_LOW",
+    "GAS_SHARE_MAX",
     "KINDS",
     "REGIME_DEVICE",
     "REGIME_LAMBDA",
@@ -628,6 +665,7 @@ __all__ = [
     "dual_fuel_map",
     "duty_gas_share",
     "fuel_regime",
+    "histogram_gas_share",
     "infer_kind",
     "kind_derate",
     "otto_efficiency",

@@ -13,7 +13,7 @@ from collections.abc import Mapping
 from dataclasses import dataclass, field
 from typing import Any
 
-from workbench.study.studyfile import StudyInputs
+from workbench.study.studyfile import StudyInputs, study_fuels
 
 #: Words for study-file keys whose plain spelling reads badly; other keys are spelled out
 #: with their underscores as spaces.
@@ -29,6 +29,7 @@ KEY_WORDS = {
     "efficiency_offset": "brake-efficiency offset",
     "derate": "full-load derate",
     "methane_slip": "methane slip",
+    "pilot_fuel": "pilot fuel of a dual-fuel engine",
     "accessory_power": "accessory power",
     "extra_idle_share": "extra idling share",
     "tank_inspection_cost": "tank inspection cost",
@@ -103,8 +104,7 @@ def study_names(inputs: StudyInputs) -> Names:
     -------
     Names
     """
-    fuels = {co.fuel.id: co.fuel.name or co.fuel.id
-             for o in inputs.options for co in o.per_class.values()}
+    fuels = {fid: fuel.name or fid for fid, fuel in study_fuels(inputs.options).items()}
     return Names(candidates={o.id: o.name for o in inputs.options},
                  classes={c.id: c.name for c in inputs.classes}, fuels=fuels)
 

@@ -40,6 +40,12 @@ COLUMNS: dict[str, tuple[str, ...]] = {
         "cost_upkeep_per_km", "cost_capital_per_km", "cost_per_km", "share_out_of_map",
         "share_full_load",
     ),
+    # one row per candidate x vehicle class x fuel it burns (a dual-fuel engine: gas, pilot)
+    "fuel_use": (
+        "candidate", "vehicle_class", "fuel", "role", "energy_share", "fuel_energy_mj_per_km",
+        "fuel_l_per_100km", "fuel_kg_per_100km", "co2_ttw_g_per_km", "ch4_g_per_km",
+        "co2e_ttw_g_per_km", "co2e_wtw_g_per_km",
+    ),
     # one row per candidate x year of the programme (year 0 = conversion year)
     "cash_flows": (
         "candidate", "year", "cash_flow", "cash_flow_vs_baseline", "discounted_vs_baseline",
@@ -159,7 +165,9 @@ class StudyResult:
         choice per class (``workbench.study.decisions``); ``vehicles`` each vehicle of a class
         run from its logs (``workbench.study.fleet.vehicle_rows``); ``calibration`` each class's
         factor fitted to its fuel cards and whether the run applied it
-        (``workbench.study.runner.calibration_rows``).
+        (``workbench.study.runner.calibration_rows``); ``fuel_use`` each fuel an option burns
+        on a class (a dual-fuel engine's gas and pilot apart: energy share, fuel per 100 km,
+        CO2e).
     assumptions : dict
         Flat record of the inputs that shaped the result (for the report), values as text.
     fictional : bool
@@ -204,6 +212,8 @@ class StudyResult:
         columns=list(COLUMNS["vehicles"])))
     calibration: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
         columns=list(COLUMNS["calibration"])))
+    fuel_use: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
+        columns=list(COLUMNS["fuel_use"])))
     assumptions: dict[str, str] = field(default_factory=dict)
     sources: dict[str, str] = field(default_factory=dict)
 

@@ -34,13 +34,22 @@ from workbench.models import economics as econ
 from workbench.models.aftertreatment import Aftertreatment, optimal_interval, programme_nox
 from workbench.models.calibration import Calibration
 from workbench.models.combustion import FuelSheet, fuel_sheet
-from workbench.models.conversion import KINDS, convert, kind_derate
+from workbench.models.conversion import (
+    GAS_LOAD_HIGH,
+    GAS_LOAD_LOW,
+    GAS_SHARE_MAX,
+    KINDS,
+    convert,
+    histogram_gas_share,
+    kind_derate,
+)
 from workbench.models.duty import DutySettings, DutyTrace, ModeTable
 from workbench.models.emissions import co2e
 from workbench.models.engine import (
     DutyEnergy,
     DutyRun,
     EngineMap,
+    FuelPerDistance,
     fuel_per_distance_for,
     run_duty,
 )
@@ -66,6 +75,7 @@ from workbench.study.studyfile import (
     Uncertain,
     check_draws,
     sold_as_liquid,
+    study_fuels,
 )
 
 # ----------------------------------------------------------------------------- physics
@@ -73,7 +83,8 @@ from workbench.study.studyfile import (
 
 @memoize(maxsize=128)
 def converted_map(engine_map: EngineMap, derate: float, efficiency_offset: float,
-                  conversion: str = "none", fuel: Fuel | None = None
+                  conversion: str = "none", fuel: Fuel | None = None,
+                  methane_slip: float | None = None
                   ) -> tuple[EngineMap, dict[str, tuple[float, str, str]]]:
     """The map a fuel runs on, and the numbers a derived map used (cached by their content).
 
@@ -89,6 +100,8 @@ def converted_map(engine_map: EngineMap, derate: float, efficiency_offset: float
         Conversion kind whose derived map applies (``none``: the map adjusted only).
     fuel : Fuel, optional
         The fuel a derived map burns.
+    methane_slip : float, optional
+        Share of a dual-fuel engine's gas that slips unburnt [-]; None: the kind's.
 
     Returns
     -------
@@ -96,15 +109,15 @@ def converted_map(engine_map: EngineMap, derate: float, efficiency_offset: float
     """
     sheet = fuel_sheet(fuel) if fuel is not None else None
     out = convert(engine_map, KINDS[conversion], sheet, None, derate=derate,
-                  efficiency_offset=efficiency_offset)
+                  efficiency_offset=efficiency_offset, methane_slip=methane_slip)
     return out.engine_map, out.parameters
 
 
 @memoize(maxsize=128)
 def duty_physics(profile: DutyTrace | ModeTable | FleetSource, vehicle: Vehicle | None,
                  engine_map: EngineMap, derate: float, efficiency_offset: float,
-                 settings: DutySettings, conversion: str = "none", fuel: Fuel | None = None
-                 ) -> DutyRun:
+                 settings: DutySettings, conversion: str = "none", fuel: Fuel | None = None,
+                 methane_slip: float | None = None) -> DutyRun:
     """Run a profile with a vehicle and an adjusted map (cached by their content).
 
     Parameters
@@ -123,27 +136,56 @@ def duty_physics(profile: DutyTrace | ModeTable | FleetSource, vehicle: Vehicle 
         Added to every map cell [-].
     settings : DutySettings
         Accessories, engine-off at stops, extra idling.
-    conversion, fuel
-        Conversion kind whose derived map applies, and its fuel (:func:`converted_map`).
+    conversion, fuel, methane_slip
+        Conversion kind whose derived map applies, its fuel and a dual-fuel engine's slip
+        (:func:`converted_map`).
 
     Returns
     -------
     DutyRun
     """
-    emap = converted_map(engine_map, derate, efficiency_offset, conversion, fuel)[0]
+    emap = converted_map(engine_map, derate, efficiency_offset, conversion, fuel,
+                         methane_slip)[0]
     if isinstance(profile, FleetSource):
         return fleet_duty(profile, vehicle, emap, settings=settings)
     return run_duty(profile, vehicle, emap, settings=settings)
 
 
 @dataclass(frozen=True)
-class ClassPhysics:
-    """Everything about one option on one vehicle class that does not involve money."""
+class FuelBurnt:
+    """One fuel an option burns on a class: the only one, or a dual-fuel engine's gas or
+    pilot.
 
-    sheet: FuelSheet
+    Attributes
+    ----------
+    fuel : Fuel
+    role : str
+        ``fuel`` (an engine on one fuel), ``gas`` or ``pilot`` (a dual-fuel engine).
+    energy_share : float
+        Its share of the class's fuel energy over the duty [-].
+    per_m : FuelPerDistance
+        Its energy, mass, volume and tank-to-wheel CO2 (all its carbon burnt) per metre.
+    ch4_per_m : float
+        Its methane slipping unburnt [kg/m].
+    """
+
+    fuel: Fuel
+    role: str
+    energy_share: float
+    per_m: FuelPerDistance
+    ch4_per_m: float
+
+
+@dataclass(frozen=True)
+class ClassPhysics:
+    """Everything about one option on one vehicle class that does not involve money; the
+    per-metre figures are totals over the fuels it burns (:attr:`fuels`)."""
+
+    sheet: FuelSheet  # of its (first) fuel
+    fuels: tuple[FuelBurnt, ...]  # the option's fuel first, then a dual-fuel pilot
     fuel_energy_per_m: float  # [J/m]
     fuel_mass_per_m: float  # [kg/m]
-    fuel_volume_per_m: float  # [m3/m], NaN when not stored as a liquid
+    fuel_volume_per_m: float  # [m3/m], NaN when not stored as a liquid or two fuels
     co2_ttw_per_m: float  # [kg/m]
     ch4_per_m: float  # [kg/m]
     tailpipe_co2e_per_m: float  # [kg/m]: CO2, slipped methane and N2O on AR6 GWP-100
@@ -177,17 +219,20 @@ def applied_derate(co: ClassOption) -> float:
     return kind_derate(KINDS[co.conversion], fuel_sheet(co.fuel), fuel_sheet(co.derate_against))
 
 
-def _map_inputs(co: ClassOption) -> tuple[EngineMap, float, float, str, Fuel | None]:
-    """(map, derate, offset, conversion kind, fuel) that :func:`converted_map` takes for an
-    option: the kind's derived map only where the option derives one."""
+def _map_inputs(co: ClassOption
+                ) -> tuple[EngineMap, float, float, str, Fuel | None, float | None]:
+    """(map, derate, offset, conversion kind, fuel, slip) that :func:`converted_map` takes for
+    an option: the kind's derived map only where the option derives one, the option's methane
+    slip where that map is a dual-fuel one."""
     kind, fuel = (co.conversion, co.fuel) if co.derived_map else ("none", None)
-    return co.map_data, applied_derate(co), co.efficiency_offset, kind, fuel
+    slip = co.methane_slip if kind == "dual-fuel-ci" else None
+    return co.map_data, applied_derate(co), co.efficiency_offset, kind, fuel, slip
 
 
 def _duty_for(c: FleetClass, co: ClassOption) -> DutyRun:
-    emap, derate, offset, kind, fuel = _map_inputs(co)
+    emap, derate, offset, kind, fuel, slip = _map_inputs(co)
     return duty_physics(c.profile_data, c.vehicle_data, emap, derate, offset, _settings(c),
-                        kind, fuel)
+                        kind, fuel, slip)
 
 
 def option_map(co: ClassOption) -> EngineMap:
@@ -257,32 +302,46 @@ def class_physics(c: FleetClass, co: ClassOption, base: ClassOption, months: int
     factor = applied_calibration(c, base)
     energy = _calibrated(duty.energy, factor)
     sheet = fuel_sheet(co.fuel)
-    per_m = fuel_per_distance_for(energy, co.fuel, sheet)
-    energy_m = per_m.fuel_energy_per_m
-    mass_m = per_m.fuel_mass_per_m
+    fuels = _fuels_burnt(co, energy, duty)
+    per_m = fuels[0].per_m
+    energy_m = sum(f.per_m.fuel_energy_per_m for f in fuels)
     base_duty = _duty_for(c, base)
-    eo, source = engine_out_per_m(
-        co.fuel, co.engine, given=co.engine_out_nox, lambda_overall=co.lambda_overall,
-        energy=energy, fuel_energy_per_m=energy_m, baseline_fuel=base.fuel,
-        baseline_engine=base.engine, baseline_given=base.engine_out_nox,
-        baseline_energy=_calibrated(base_duty.energy, factor), nox_speeds_rpm=duty.nox_speeds,
-        nox_weights=duty.nox_weights, reference_fuel=co.reference_fuel)
+
+    def engine_out(fuel: Fuel) -> tuple[float, str]:
+        return engine_out_per_m(
+            fuel, co.engine, given=co.engine_out_nox, lambda_overall=co.lambda_overall,
+            energy=energy, fuel_energy_per_m=energy_m, baseline_fuel=base.fuel,
+            baseline_engine=base.engine, baseline_given=base.engine_out_nox,
+            baseline_energy=_calibrated(base_duty.energy, factor),
+            nox_speeds_rpm=duty.nox_speeds, nox_weights=duty.nox_weights,
+            reference_fuel=co.reference_fuel)
+
+    eo, source = engine_out(co.fuel)
+    if co.pilot_fuel is not None and co.engine_out_nox is None:
+        # screening: the engine-out NOx of each fuel burnt alone, weighted by energy share
+        share = fuels[0].energy_share
+        eo_pilot, source_pilot = engine_out(co.pilot_fuel)
+        eo = share * eo + (1.0 - share) * eo_pilot
+        source = (f"weighted by energy share: {share:.0%} as on {co.fuel.id} alone ({source}), "
+                  f"{1.0 - share:.0%} as on {co.pilot_fuel.id} alone ({source_pilot})")
     km_month = c.km_per_year.nominal / 12.0
     damage = nox_damage_cost
     prog = programme_nox(co.aftertreatment, eo, distance_per_month=km_month, months=months,
                          fleet_size=c.count, nox_damage_cost=damage)
     best = _best_interval(co.aftertreatment, eo, km_month, months, damage, c.count)
-    ch4_per_m = co.methane_slip * _methane_mass_share(co.fuel) * mass_m
+    co2_ttw = sum(f.per_m.co2_ttw_per_m for f in fuels)
+    ch4_per_m = sum(f.ch4_per_m for f in fuels)
     factors = pollutant_factors(co.engine, co.aftertreatment.name)
     work_m = duty.energy.engine_energy / duty.energy.distance
     return ClassPhysics(
         sheet=sheet,
+        fuels=fuels,
         fuel_energy_per_m=energy_m,
-        fuel_mass_per_m=mass_m,
-        fuel_volume_per_m=per_m.fuel_volume_per_m,
-        co2_ttw_per_m=per_m.co2_ttw_per_m,
+        fuel_mass_per_m=sum(f.per_m.fuel_mass_per_m for f in fuels),
+        fuel_volume_per_m=per_m.fuel_volume_per_m if len(fuels) == 1 else float("nan"),
+        co2_ttw_per_m=co2_ttw,
         ch4_per_m=ch4_per_m,
-        tailpipe_co2e_per_m=float(co2e(per_m.co2_ttw_per_m, ch4_per_m, co.n2o_per_m)),
+        tailpipe_co2e_per_m=float(co2e(co2_ttw, ch4_per_m, co.n2o_per_m)),
         engine_out_nox_per_m=eo,
         nox_source=source,
         pm_per_m=factors.pm * work_m,
@@ -296,8 +355,26 @@ def class_physics(c: FleetClass, co: ClassOption, base: ClassOption, months: int
         share_out_of_map=per_m.share_out_of_map,
         share_full_load=per_m.share_at_full_load,
         duty=duty,
-        storage=_storage(co.fuel, energy_m, c.range),
+        storage=_storage(co.fuel, per_m.fuel_energy_per_m, c.range),
     )
+
+
+def _fuels_burnt(co: ClassOption, energy: DutyEnergy, duty: DutyRun) -> tuple[FuelBurnt, ...]:
+    """The fuels an option burns on a class's duty: its fuel; or, on a dual-fuel engine, its
+    gas at the duty's gas share (:func:`histogram_gas_share` on the map it ran on) and the
+    pilot for the rest. The methane slip applies to the (gas) fuel's methane."""
+    def burnt(fuel: Fuel, role: str, share: float) -> FuelBurnt:
+        part = energy if share == 1.0 else replace(energy,
+                                                  fuel_energy=energy.fuel_energy * share)
+        per_m = fuel_per_distance_for(part, fuel, fuel_sheet(fuel))
+        slip = co.methane_slip if fuel is co.fuel else 0.0
+        return FuelBurnt(fuel, role, share, per_m,
+                         slip * _methane_mass_share(fuel) * per_m.fuel_mass_per_m)
+
+    if co.pilot_fuel is None:
+        return (burnt(co.fuel, "fuel", 1.0),)
+    share = histogram_gas_share(duty, option_map(co))
+    return burnt(co.fuel, "gas", share), burnt(co.pilot_fuel, "pilot", 1.0 - share)
 
 
 @memoize(maxsize=64)
@@ -446,10 +523,8 @@ def _plan(inputs: StudyInputs) -> tuple[Plan, dict[str, pd.DataFrame]]:
     physics-only tables."""
     cached = _physics_plan(inputs)
     factors: dict[str, float] = {}
-    for o in inputs.options:
-        for co in o.per_class.values():
-            if co.fuel.id not in factors:
-                factors[co.fuel.id] = price_factor(inputs.prices[co.fuel.id][0], co.fuel)
+    for fid, fuel in study_fuels(inputs.options).items():
+        factors[fid] = price_factor(inputs.prices[fid][0], fuel)
     return replace(cached.plan, inputs=inputs, price_factor=factors), cached.tables
 
 
@@ -500,10 +575,15 @@ def _response(inputs: StudyInputs, c: FleetClass, co: ClassOption, field: str, u
         except InputError as exc:
             raise InputError(u.path, f"at {value:g} of its range: {exc.message}") from None
         ph = class_physics(c2, co2, base, months, inputs.nox_damage_cost.nominal)
-        energy.append(ph.fuel_energy_per_m)
+        energy.append(_energies(ph))
         tailpipe.append(ph.tailpipe_co2e_per_m)
         catalyst.append(_yearly(ph, inputs.horizon_years, run_years)[0])
     return econ.Response(u.path, nodes, np.array(energy), np.array(tailpipe), np.array(catalyst))
+
+
+def _energies(ph: ClassPhysics) -> np.ndarray:
+    """Energy per distance of each fuel an option-class burns, shape (fuels,) [J/m]."""
+    return np.array([f.per_m.fuel_energy_per_m for f in ph.fuels])
 
 
 def _vary(c: FleetClass, co: ClassOption, field: str, value: float
@@ -546,16 +626,16 @@ def _lines(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> dict[str, ec
             if key in made:
                 lines.append(made[key])
                 continue
-            fid = co.fuel.id
             energy, tailpipe, catalyst = econ.physics_draws(
-                ph.fuel_energy_per_m, ph.tailpipe_co2e_per_m, plan.catalyst_cost[o.id, c.id],
+                _energies(ph), ph.tailpipe_co2e_per_m, plan.catalyst_cost[o.id, c.id],
                 plan.responses[o.id, c.id], params, n)
-            part = econ.EnergyPart(
-                energy[:, 0], val(inputs.prices[fid][1]) * plan.price_factor[fid],
-                val(inputs.escalation[fid]), val(inputs.upstream[fid]))
+            parts = tuple(econ.EnergyPart(
+                energy[:, k], val(inputs.prices[f.fuel.id][1]) * plan.price_factor[f.fuel.id],
+                val(inputs.escalation[f.fuel.id]), val(inputs.upstream[f.fuel.id]))
+                for k, f in enumerate(ph.fuels))
             lines.append(econ.ClassLine(
                 count=c.count, active=plan.active[c.id], km_per_year=val(c.km_per_year),
-                km_per_year_nominal=c.km_per_year.nominal, parts=(part,),
+                km_per_year_nominal=c.km_per_year.nominal, parts=parts,
                 tailpipe_co2e_per_m=tailpipe, catalyst_cost=catalyst,
                 upkeep_per_year=val(c.upkeep_per_year) + val(co.upkeep_change_per_year),
                 tank_inspection_cost=val(co.tank_inspection_cost),
@@ -707,7 +787,7 @@ def _fuel_factor(plan: Plan, c: FleetClass, path: str, sd: float) -> econ.Distri
             continue
         ph = plan.physics[o.id, c.id]
         plan.responses[o.id, c.id].append(econ.Response(
-            path, nodes, ph.fuel_energy_per_m * nodes, ph.tailpipe_co2e_per_m * nodes,
+            path, nodes, np.outer(nodes, _energies(ph)), ph.tailpipe_co2e_per_m * nodes,
             np.tile(plan.catalyst_cost[o.id, c.id], (nodes.size, 1))))
     return dist
 
@@ -795,12 +875,12 @@ def _break_even(plan: Plan) -> dict[str, list[tuple[Uncertain, float]]]:
     """
     inputs = plan.inputs
     base = inputs.baseline.id
-    base_fuels = {co.fuel.id for co in inputs.baseline.per_class.values()}
+    base_fuels = set(study_fuels([inputs.baseline]))
     subjects: list[tuple[str, Uncertain]] = []  # (candidate, input), one draw each
     for o in inputs.candidates:
         converted = [co for co in o.per_class.values() if co.converts]
-        found = [inputs.prices[f][1] for f in dict.fromkeys(co.fuel.id for co in converted)
-                 if f not in base_fuels]
+        found = [inputs.prices[f][1] for f in dict.fromkeys(
+            fuel.id for co in converted for fuel in co.fuels) if f not in base_fuels]
         found += [c.km_per_year for c in inputs.classes if o.per_class[c.id].converts]
         subjects += [(o.id, u) for u in found]
     out: dict[str, list[tuple[Uncertain, float]]] = {o.id: [] for o in inputs.candidates}
@@ -884,6 +964,19 @@ def defaults_rows(inputs: StudyInputs,
         if co.derived_map:
             for name, (value, unit, source) in converted_map(*_map_inputs(co))[1].items():
                 add(name, f"{value:.4g}", unit, source)
+        if co.pilot_fuel is not None:
+            kind = KINDS[co.conversion]
+            add("gas substitution curve", f"0 below {GAS_LOAD_LOW * 100:g} % load, rising linearly "
+                f"to {GAS_SHARE_MAX * 100:g} % at {GAS_LOAD_HIGH * 100:g} % load and above",
+                "share of fuel energy", kind.source)
+            if physics is not None:
+                ph = physics[oid, cid]
+                add("gas energy share on the duty", f"{ph.fuels[0].energy_share * 100:.1f}",
+                    "%", "the substitution curve weighted by fuel energy over the duty's "
+                    "speed x torque histogram")
+                if co.engine_out_nox is None:
+                    add("engine-out NOx, dual fuel", f"{ph.engine_out_nox_per_m * 1e6:.3g}",
+                        "g/km", ph.nox_source)
         base = inputs.baseline.per_class[cid]
         if co.engine_out_nox is None and (base.engine != co.engine or co is base
                                           or base.engine_out_nox is None):

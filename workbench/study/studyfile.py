@@ -191,6 +191,28 @@ class ClassOption:
     #: The fuel the engine setting's typical engine-out NOx was measured on (read when the
     #: study is checked, so that a run reads no file).
     reference_fuel: Fuel | None = None
+    #: The diesel-like pilot of a dual-fuel engine (``conversion = "dual-fuel-ci"``; ``fuel``
+    #: is then its gas); None for an engine that burns one fuel.
+    pilot_fuel: Fuel | None = None
+
+    @property
+    def fuels(self) -> tuple[Fuel, ...]:
+        """The fuels it buys: its fuel, and a dual-fuel engine's pilot after it."""
+        return (self.fuel,) if self.pilot_fuel is None else (self.fuel, self.pilot_fuel)
+
+
+def study_fuels(options: Iterable[Option]) -> dict[str, Fuel]:
+    """Every fuel the options buy (dual-fuel pilots included), by id, in study order.
+
+    Parameters
+    ----------
+    options : iterable of Option
+
+    Returns
+    -------
+    dict of str to Fuel
+    """
+    return {f.id: f for o in options for co in o.per_class.values() for f in co.fuels}
 
 
 @dataclass(frozen=True)
@@ -338,9 +360,9 @@ class Study:
             edited = object.__new__(Study)
             edited._data, edited._text, edited.where = data, None, self.where
             edited.base_dir = self.base_dir
-            fuels = {co.fuel.id: co.fuel for o in self.inputs.options
-                     for co in o.per_class.values()}
-            sections = _local_sections(_Reader(data, ""), fuels, self.inputs.currency, touched)
+            sections = _local_sections(_Reader(data, ""), study_fuels(self.inputs.options),
+                                       self.inputs.currency, touched,
+                                       _pilot_only(self.inputs.options))
             edited.inputs = _with_uncertain(replace(self.inputs, **sections),
                                             data.get("correlations", []))
         else:
@@ -709,8 +731,9 @@ def _parse(data: Mapping[str, Any], base_dir: Path) -> StudyInputs:
     names = [baseline.name, *(c.name for c in candidates)]
     if len(set(names)) != len(names):
         raise InputError("candidates", "option names (baseline and candidates) must be unique")
-    fuels = {co.fuel.id: co.fuel for o in (baseline, *candidates) for co in o.per_class.values()}
-    sections = _local_sections(top, fuels, currency, LOCAL_SECTIONS - {"programme"})
+    options = (baseline, *candidates)
+    sections = _local_sections(top, study_fuels(options), currency,
+                               LOCAL_SECTIONS - {"programme"}, _pilot_only(options))
     inputs = StudyInputs(
         title=top.text("title"),
         currency=currency,
@@ -731,9 +754,24 @@ def _parse(data: Mapping[str, Any], base_dir: Path) -> StudyInputs:
 LOCAL_SECTIONS = frozenset({"programme", "prices", "escalation", "upstream"})
 
 
+def _pilot_only(options: Iterable[Option]) -> dict[str, str]:
+    """Fuels bought only as a dual-fuel pilot, by id: where the first option names it."""
+    options = tuple(options)
+    main = {co.fuel.id for o in options for co in o.per_class.values()}
+    out: dict[str, str] = {}
+    for i, o in enumerate(options):
+        where = "baseline" if o.is_baseline else f"candidates[{i - 1}]"
+        for co in o.per_class.values():
+            if co.pilot_fuel is not None and co.pilot_fuel.id not in main:
+                out.setdefault(co.pilot_fuel.id, f"the pilot fuel of {where}")
+    return out
+
+
 def _local_sections(top: _Reader, fuels: Mapping[str, Fuel], currency: str,
-                    sections: Iterable[str]) -> dict[str, Any]:
-    """Check the named tables of :data:`LOCAL_SECTIONS`; StudyInputs fields by name."""
+                    sections: Iterable[str], pilots: Mapping[str, str] | None = None
+                    ) -> dict[str, Any]:
+    """Check the named tables of :data:`LOCAL_SECTIONS`; StudyInputs fields by name
+    (``pilots``: :func:`_pilot_only`, named in a missing price's line)."""
     out: dict[str, Any] = {}
     if "programme" in sections:
         prog = _Reader(top.raw("programme"), "programme")
@@ -752,7 +790,8 @@ def _local_sections(top: _Reader, fuels: Mapping[str, Fuel], currency: str,
         out["draws"] = prog.integer("monte_carlo_draws", 10_000, low=0, high=2**63)
         out["seed"] = prog.integer("seed", 12345, low=0, high=2**63 - 1)
     if "prices" in sections:
-        out["prices"] = _prices(_Reader(top.raw("prices"), "prices"), fuels, currency)
+        out["prices"] = _prices(_Reader(top.raw("prices"), "prices"), fuels, currency,
+                                pilots or {})
     if "escalation" in sections:
         escalation = {}
         esc = _Reader(top.raw("escalation", {}), "escalation")
@@ -1106,7 +1145,8 @@ def _option(r: _Reader, classes: tuple[FleetClass, ...], baseline: Option | None
             "efficiency_offset", "conversion_cost", "upkeep_change_per_year", "downtime_days",
             "tank_inspection_interval_years", "tank_inspection_cost", "n2o",
             "engine_out_nox", "lambda_overall", "methane_slip", "aftertreatment",
-            "programme_capital", "programme_upkeep_per_year", "conversion"), "an option")
+            "programme_capital", "programme_upkeep_per_year", "conversion", "pilot_fuel"),
+           "an option")
     class_ids = {c.id for c in classes}
     converts = class_ids
     if baseline is not None and r.has("classes"):
@@ -1181,10 +1221,7 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOpt
         if kind.name != "none":
             defaults.append(("conversion", kind.name, "", f"inferred: {fuel.id} on a "
                              f"{map_regime} map ({kind.summary})"))
-    if kind.name == "dual-fuel-ci":
-        raise InputError(at("conversion"), "dual-fuel-ci burns two fuels and a study option "
-                         "burns one; compare it with `workbench duty fuel --conversion "
-                         "dual-fuel-ci`, or give the measured dual-fuel engine_map")
+    pilot = _pilot_fuel(r, c, class_ids, kind.name, fuel, base, base_dir, at, defaults)
     default_engine = kind.nox_engine or fuel_regime(fuel)
     engine = _choice(_per_class(r, "engine", c.id, class_ids, default_engine), at("engine"),
                      ENGINE_PRESETS, "engine setting")
@@ -1215,7 +1252,7 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOpt
         defaults.append(("methane slip", f"{slip_default:.2%}", "of the fuel's methane",
                          kind.sources.get("methane_slip", f"{engine} default (models/"
                                           "conversion.py REGIME_SLIP)")))
-    derived = kind.name == "dedicated-si" and map_raw is None
+    derived = kind.name in ("dedicated-si", "dual-fuel-ci") and map_raw is None
     air_derate = kind.derate is None and not given("derate")
     if derate_default and not given("derate"):
         defaults.append(("derate", f"{derate_default * 100:.1f}", "%", kind.sources["derate"]))
@@ -1272,7 +1309,37 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOpt
         notices=() if mismatch is None else (mismatch,),
         derate_against=(base.fuel if base is not None else fuel) if air_derate else None,
         reference_fuel=load_fuel(DEFAULT_REFERENCE_FUEL[engine]),
+        pilot_fuel=pilot,
     )
+
+
+def _pilot_fuel(r: _Reader, c: FleetClass, class_ids: set[str], kind: str, fuel: Fuel,
+                base: ClassOption | None, base_dir: Path, at: Callable[[str], str],
+                defaults: list[tuple[str, str, str, str]]) -> Fuel | None:
+    """The pilot fuel of a dual-fuel option on a class (None for any other kind), checked:
+    the option's fuel a gas, the pilot a compression-ignition fuel (the baseline's when not
+    named, added to ``defaults``)."""
+    raw = _per_class(r, "pilot_fuel", c.id, class_ids, None)
+    if kind != "dual-fuel-ci":
+        if raw is not None:
+            raise InputError(at("pilot_fuel"), 'a pilot fuel belongs to conversion = '
+                             '"dual-fuel-ci"; name that conversion or leave pilot_fuel out')
+        return None
+    if not fuel.is_gas:
+        raise InputError(at("fuel"), f"{fuel.id} is a liquid; a dual-fuel diesel burns a gas "
+                         "(natural gas, LPG) with its diesel pilot: name the gas as fuel")
+    if raw is None:
+        assert base is not None  # the baseline names no conversion
+        pilot = base.fuel
+        defaults.append(("pilot fuel", pilot.id, "", "the fuel the class burns today "
+                         "(baseline); name pilot_fuel to change it"))
+    else:
+        pilot = _fuel(raw, at("pilot_fuel"), base_dir)
+    if fuel_regime(pilot) != "compression-ignition":
+        where = at("pilot_fuel") if raw is not None else at("conversion")
+        raise InputError(where, f"the pilot {pilot.id} does not ignite by compression; a "
+                         'dual-fuel engine needs a diesel-like pilot: pilot_fuel = "diesel"')
+    return pilot
 
 
 def _choice(value: Any, where: str, choices: Iterable[str], what: str) -> str:
@@ -1426,8 +1493,8 @@ def _age(raw: Any, where: str) -> tuple[float, str | None]:
         return parse_quantity(raw, "[length]", where=where), "distance"
 
 
-def _prices(r: _Reader, fuels: Mapping[str, Fuel], currency: str
-            ) -> dict[str, tuple[Price, Uncertain]]:
+def _prices(r: _Reader, fuels: Mapping[str, Fuel], currency: str,
+            pilots: Mapping[str, str]) -> dict[str, tuple[Price, Uncertain]]:
     out = {}
     for fid in r.table:
         if fid not in fuels:
@@ -1436,7 +1503,9 @@ def _prices(r: _Reader, fuels: Mapping[str, Fuel], currency: str
         where = r.at(fid)
         raw = r.raw(fid, None)
         if raw is None:
-            raise InputError(where, f'is required: the price of {fid}, e.g. "1.45 per L"')
+            role = f" ({pilots[fid]})" if fid in pilots else ""
+            raise InputError(where, f'is required: the price of {fid}{role}, e.g. '
+                             f'{fid} = "1.45 per L" in [prices]')
         bases: list[Price] = []
 
         def parse(value: Any, w: str, _bases: list[Price] = bases) -> float:

@@ -5,6 +5,7 @@ candidate × class × metric or per year; column names in ``workbench.study.resu
 from __future__ import annotations
 
 from collections.abc import Mapping
+from dataclasses import replace
 from pathlib import Path
 from typing import TYPE_CHECKING
 
@@ -15,6 +16,7 @@ from workbench.core.cache import memoize
 from workbench.core.fuels import Fuel
 from workbench.models import economics as econ
 from workbench.models.duty import DutyTrace, duty_stats
+from workbench.models.emissions import co2e
 from workbench.models.nox import DEFAULT_ENGINE_OUT, engine_preset, nox_sweep
 from workbench.study.naming import display_unit, input_label, input_rows, study_names
 from workbench.study.results import COLUMNS, PALETTE, StudyResult
@@ -69,6 +71,7 @@ def study_result(study: Study, plan: Plan, lines: Mapping[str, econ.OptionLines]
         fictional=inputs.fictional,
         candidates=_candidates_table(plan, det, per_km, draws, colours),
         per_km=frame("per_km", per_km),
+        fuel_use=_fuel_use_table(plan, lines),
         cash_flows=_cash_flow_table(plan, det),
         fleet_years=_fleet_years_table(plan, det),
         monte_carlo=_monte_carlo_table({k: v.npv for k, v in draws.items()}),
@@ -125,15 +128,16 @@ def _per_km_rows(plan: Plan, lines: Mapping[str, econ.OptionLines],
     rows = []
     for o in inputs.options:
         for c, line in zip(inputs.classes, lines[o.id].classes, strict=True):
-            co = o.per_class[c.id]
             ph = plan.physics[o.id, c.id]
             cost = econ.cost_per_m(line, rate=rate, carbon_price=carbon)
             co2e_m = econ.co2e_per_m(line)
+            one = len(ph.fuels) == 1  # litres or kg of two fuels do not add: see fuel_use
             rows.append({
-                "candidate": o.id, "vehicle_class": c.id, "fuel": co.fuel.id,
+                "candidate": o.id, "vehicle_class": c.id,
+                "fuel": "/".join(f.fuel.id for f in ph.fuels),
                 "fuel_energy_mj_per_km": ph.fuel_energy_per_m * 1e-3,
                 "fuel_l_per_100km": ph.fuel_volume_per_m * 1e8,
-                "fuel_kg_per_100km": ph.fuel_mass_per_m * 1e5,
+                "fuel_kg_per_100km": ph.fuel_mass_per_m * 1e5 if one else np.nan,
                 "co2_ttw_g_per_km": ph.co2_ttw_per_m * 1e6,
                 "co2e_wtw_g_per_km": co2e_m * 1e6,
                 "nox_engine_out_g_per_km": ph.engine_out_nox_per_m * 1e6,
@@ -149,6 +153,33 @@ def _per_km_rows(plan: Plan, lines: Mapping[str, econ.OptionLines],
                 "share_full_load": ph.share_full_load,
             })
     return rows
+
+
+def _fuel_use_table(plan: Plan, lines: Mapping[str, econ.OptionLines]) -> pd.DataFrame:
+    """One row per option x class x fuel it burns: a dual-fuel engine's gas and pilot apart.
+
+    The tailpipe CO2e of a fuel is its CO2 (all its carbon burnt) and its slipped methane on
+    GWP-100 (the class's N2O stays in ``per_km``); the well-to-wheel figure adds the fuel's
+    upstream CO2e (its part of the class line, year 1).
+    """
+    rows = []
+    for o in plan.inputs.options:
+        for c, line in zip(plan.inputs.classes, lines[o.id].classes, strict=True):
+            for f, part in zip(plan.physics[o.id, c.id].fuels, line.parts, strict=True):
+                tailpipe = float(co2e(f.per_m.co2_ttw_per_m, f.ch4_per_m, 0.0))
+                upstream = econ.co2e_per_m(replace(line, parts=(part,), tailpipe_co2e_per_m=0.0))
+                rows.append({
+                    "candidate": o.id, "vehicle_class": c.id, "fuel": f.fuel.id,
+                    "role": f.role, "energy_share": f.energy_share,
+                    "fuel_energy_mj_per_km": f.per_m.fuel_energy_per_m * 1e-3,
+                    "fuel_l_per_100km": f.per_m.fuel_volume_per_m * 1e8,
+                    "fuel_kg_per_100km": f.per_m.fuel_mass_per_m * 1e5,
+                    "co2_ttw_g_per_km": f.per_m.co2_ttw_per_m * 1e6,
+                    "ch4_g_per_km": f.ch4_per_m * 1e6,
+                    "co2e_ttw_g_per_km": tailpipe * 1e6,
+                    "co2e_wtw_g_per_km": (tailpipe + upstream) * 1e6,
+                })
+    return frame("fuel_use", rows)
 
 
 def _candidates_table(plan: Plan, det: econ.Money, per_km: list[dict],
@@ -172,7 +203,8 @@ def _candidates_table(plan: Plan, det: econ.Money, per_km: list[dict],
         pct = np.percentile(mc.npv, [10, 50, 90]) if mc is not None else [nan] * 3
         rows.append({
             "candidate": o.id, "name": o.name,
-            "fuel": "/".join(dict.fromkeys(co.fuel.id for co in o.per_class.values())),
+            "fuel": "/".join(dict.fromkeys(f.id for co in o.per_class.values()
+                                           for f in co.fuels)),
             "is_baseline": o.is_baseline, "colour": colours[o.id],
             "fuel_energy_mj_per_km": avg("fuel_energy_mj_per_km"),
             "co2_ttw_g_per_km": avg("co2_ttw_g_per_km"),
@@ -407,8 +439,9 @@ def _sources(inputs: StudyInputs) -> dict[str, str]:
     out = {f"upstream CO2e of {fid}": src for fid, src in inputs.upstream_sources.items()}
     for o in inputs.options:
         for cid, co in o.per_class.items():
-            for section, src in co.fuel.sources:
-                out.setdefault(f"fuel {co.fuel.id} [{section}]", src)
+            for fuel in co.fuels:
+                for section, src in fuel.sources:
+                    out.setdefault(f"fuel {fuel.id} [{section}]", src)
             if co.engine_out_nox is None and o.is_baseline:
                 out[f"engine-out NOx, {o.id}/{cid}"] = DEFAULT_ENGINE_OUT[co.engine].source
     out["thermochemistry"] = "Cantera with GRI-Mech 3.0 and NASA Glenn species data"

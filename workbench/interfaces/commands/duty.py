@@ -11,7 +11,6 @@ from dataclasses import replace
 from pathlib import Path
 from typing import TYPE_CHECKING
 
-from workbench.core.constants import RPM
 from workbench.core.errors import InputError
 from workbench.core.paths import DATA
 from workbench.interfaces.cli import STDIO, LazyChoices, add_fuels_option, command, finite_float
@@ -180,8 +179,8 @@ def _fuel(args: argparse.Namespace) -> None:
     from workbench.models.conversion import (
         KINDS,
         convert,
-        duty_gas_share,
         fuel_regime,
+        histogram_gas_share,
         infer_kind,
         kind_derate,
         regime_mismatch,
@@ -235,10 +234,7 @@ def _fuel(args: argparse.Namespace) -> None:
         record = {"fuel": fuel.id, "conversion": kind.name, "derate": derate,
                   "efficiency_offset": offset}
         if kind.name == "dual-fuel-ci":
-            pts = phys.points
-            work = pts["torque_nm"] * pts["engine_speed_rpm"] * RPM * pts["seconds"]
-            share = duty_gas_share(pts["engine_speed_rpm"] * RPM, pts["torque_nm"],
-                                   work / pts["brake_efficiency"], engine.engine_map)
+            share = histogram_gas_share(phys, engine.engine_map)
             record["gas_energy_share"] = share
             total = phys.energy.fuel_energy
             gas = fuel_per_distance_for(replace(phys.energy, fuel_energy=total * share), fuel,

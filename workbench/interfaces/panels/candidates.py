@@ -182,8 +182,9 @@ class FuelRow(widgets.VBox):
 
 #: Dropdown value meaning "no conversion key: the study infers the kind per class".
 INFERRED = "(inferred from the fuels)"
-#: Kinds a study option can name (a dual-fuel engine burns two fuels; a study option one).
-STUDY_KINDS = tuple(k for k in KINDS if k != "dual-fuel-ci")
+#: Kinds a study option can name (``dual-fuel-ci`` burns the option's gas with the class's
+#: diesel as pilot, or the option's ``pilot_fuel``).
+STUDY_KINDS = tuple(KINDS)
 
 
 def kinds_text(study: Study, option_id: str) -> str:
