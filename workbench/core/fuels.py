@@ -19,6 +19,7 @@ from __future__ import annotations
 
 import hashlib
 import os
+import re
 from collections.abc import Iterable, Iterator, Mapping
 from contextlib import contextmanager
 from contextvars import ContextVar
@@ -64,6 +65,13 @@ MAX_LHV_MJ_PER_KG = 150.0
 MAX_MOLAR_MASS = 1000.0
 #: Specific heat of a pseudo-component [kJ/(kg K)] (hydrogen gas, the highest, is 14.3).
 MAX_CP_KJ_PER_KG_K = 50.0
+#: Size of a pathway's well-to-tank CO2e [g/MJ], either sign (a manure credit is negative;
+#: the fossil comparator of EU RED II is 94 g/MJ well-to-wheel).
+MAX_PATHWAY_G_PER_MJ = 1000.0
+#: Keys of a fuel file's ``[origin]`` table.
+ORIGIN_KEYS = ("biogenic_carbon_share", "source")
+#: Keys of one entry of a fuel file's ``[pathways]`` table.
+PATHWAY_KEYS = ("wtt_co2e_g_per_mj", "source")
 
 
 @dataclass(frozen=True)
@@ -90,6 +98,26 @@ class StorageSpec:
 
 
 @dataclass(frozen=True)
+class Pathway:
+    """One way a fuel is made and brought to the tank, with its well-to-tank CO2e.
+
+    Attributes
+    ----------
+    name : str
+        Pathway name, unique within its fuel (``"sugar-beet"``).
+    wtt_co2e_per_energy : float
+        CO2e emitted from the well (or field) to the tank, per unit of the fuel's LHV
+        [kg/J]; for a biofuel the life-cycle value without the (biogenic) combustion CO2.
+    source : str
+        Where the number comes from.
+    """
+
+    name: str
+    wtt_co2e_per_energy: float
+    source: str
+
+
+@dataclass(frozen=True)
 class Fuel:
     """A fuel as a mixture of species.
 
@@ -109,6 +137,11 @@ class Fuel:
         Density of the liquid at 15 °C [kg/m3] (saturated liquid for liquefied gases).
     storage : StorageSpec or None
         On-board storage.
+    biogenic_carbon_share : float
+        Share of the fuel's carbon that is biogenic (from biomass grown recently) [-]; 0 for a
+        fossil fuel. A blend's is its parts' carbon-weighted share.
+    pathways : tuple of Pathway
+        Production pathways with their well-to-tank CO2e, by name.
     sources : tuple of (str, str)
         Source of each section's numbers, by section name.
     path : str or None
@@ -122,6 +155,8 @@ class Fuel:
     pseudo: tuple[thermo.PseudoSpecies, ...] = ()
     liquid_density: float | None = None
     storage: StorageSpec | None = None
+    biogenic_carbon_share: float = 0.0
+    pathways: tuple[Pathway, ...] = field(default=(), compare=False)
     sources: tuple[tuple[str, str], ...] = field(default=(), compare=False)
     path: str | None = field(default=None, compare=False)
 
@@ -161,6 +196,33 @@ class Fuel:
     def molar_mass(self) -> float:
         """Mean molar mass of the fuel [kg/kmol]."""
         return thermo.molar_mass(self.elements_per_mole())
+
+    def pathway(self, name: str, where: str = "pathway") -> Pathway:
+        """The production pathway of this name.
+
+        Parameters
+        ----------
+        name : str
+            Pathway name.
+        where : str
+            Label that the error message names.
+
+        Returns
+        -------
+        Pathway
+
+        Raises
+        ------
+        InputError
+            The fuel has no pathway of that name.
+        """
+        for p in self.pathways:
+            if p.name == name:
+                return p
+        known = ", ".join(p.name for p in self.pathways)
+        hint = f"pick one of {known}" if known else ("it lists none; give its upstream "
+                                                   "in [upstream] instead")
+        raise InputError(where, f"{self.id} has no pathway {name!r}; {hint}")
 
 
 # ----------------------------------------------------------------------------- loading
@@ -489,7 +551,11 @@ def fuel_from_dict(data: Mapping[str, Any], *, fuel_id: str, where: str,
         sources.append(("liquid", _source(ltable, f"{where}: [liquid]")))
     if storage is not None:
         sources.append(("storage", storage.source))
-    common = dict(name=name, liquid_density=liquid, storage=storage)
+    share, origin_source = _origin(data, kind, where)
+    if origin_source:
+        sources.append(("origin", origin_source))
+    common = dict(name=name, liquid_density=liquid, storage=storage,
+                  pathways=_pathways(data, where))
     if kind == "blend":
         basis = _basis(table, f"{where}: [blend]")
         parts = _fractions(table, f"{where}: [blend]")
@@ -504,6 +570,7 @@ def fuel_from_dict(data: Mapping[str, Any], *, fuel_id: str, where: str,
             composition=fuel.composition,
             is_gas=fuel.is_gas,
             pseudo=fuel.pseudo,
+            biogenic_carbon_share=fuel.biogenic_carbon_share,
             sources=tuple(sources),
             path=where,
             **common,
@@ -536,10 +603,50 @@ def fuel_from_dict(data: Mapping[str, Any], *, fuel_id: str, where: str,
         composition=composition,
         is_gas=state == "gas",
         pseudo=pseudo,
+        biogenic_carbon_share=share,
         sources=tuple(sources),
         path=where,
         **common,
     )
+
+
+def _origin(data: Mapping[str, Any], kind: str, where: str) -> tuple[float, str]:
+    """A fuel file's biogenic carbon share [-] and its source ("" when no ``[origin]``)."""
+    if "origin" not in data:
+        return 0.0, ""
+    w = f"{where}: [origin]"
+    if kind == "blend":
+        raise InputError(w, "a blend's origin comes from its parts; leave [origin] out and "
+                         "give each part its own")
+    table = _table(data, "origin", where)
+    _known(table, ORIGIN_KEYS, w)
+    share = _number(table, "biogenic_carbon_share", w, low=0.0, high=1.0)
+    return share, _source(table, w)
+
+
+def _pathways(data: Mapping[str, Any], where: str) -> tuple[Pathway, ...]:
+    """A fuel file's ``[pathways.<name>]`` entries, checked."""
+    if "pathways" not in data:
+        return ()
+    table = _table(data, "pathways", where)
+    out = []
+    for name, entry in table.items():
+        w = f"{where}: [pathways.{name}]"
+        if not re.fullmatch(r"[a-z0-9][a-z0-9-]*", name):
+            raise InputError(w, "name a pathway with lower-case letters, digits and -")
+        if not isinstance(entry, Mapping):
+            raise InputError(w, "must be a table: { wtt_co2e_g_per_mj = …, source = \"…\" }")
+        _known(entry, PATHWAY_KEYS, w)
+        value = _number(entry, "wtt_co2e_g_per_mj", w, low=-MAX_PATHWAY_G_PER_MJ,
+                        high=MAX_PATHWAY_G_PER_MJ)
+        out.append(Pathway(name, value * 1e-9, _source(entry, w)))
+    return tuple(out)
+
+
+def _known(table: Mapping[str, Any], keys: tuple[str, ...], where: str) -> None:
+    for key in table:
+        if key not in keys:
+            raise InputError(f"{where}.{key}", f"unknown key; use {', '.join(keys)}")
 
 
 def _state(is_gas: bool) -> str:
@@ -832,6 +939,10 @@ def blend(
     if all(d is not None for d in densities.values()):
         mass = {k: x * fuels[k].molar_mass() for k, x in fractions.items()}
         liquid_density = sum(mass.values()) / sum(m / densities[k] for k, m in mass.items())
+    carbon = {k: x * fuels[k].elements_per_mole().get("C", 0.0) for k, x in fractions.items()}
+    total_carbon = sum(carbon.values())
+    share = sum(c * fuels[k].biogenic_carbon_share for k, c in carbon.items()) / total_carbon \
+        if total_carbon > 0 else 0.0
     return Fuel(
         id=id or auto,
         name=name or "Blend of " + ", ".join(fuels[k].name for k in fractions),
@@ -839,5 +950,6 @@ def blend(
         is_gas=states.pop(),
         pseudo=tuple(sorted(pseudo.values(), key=lambda p: p.name)),
         liquid_density=liquid_density,
+        biogenic_carbon_share=share,
         sources=(("blend", f"computed from {', '.join(fractions)}"),),
     )
