@@ -68,7 +68,8 @@ def make_result(*, demo: bool = True, currency: str = "XCU") -> StudyResult:
                                   cash_flow_vs_baseline=v, discounted_vs_baseline=d,
                                   cumulative_discounted_vs_baseline=c))
             fleet_rows.append(dict(candidate=cand, year=int(y), fuel_energy_gj=9.0e4 + 1e3 * k,
-                                   co2_ttw_t=6.5e3 - 400 * k, co2e_wtw_t=8.0e3 - 500 * k,
+                                   co2_ttw_t=6.5e3 - 400 * k, co2_ttw_fossil_t=6.2e3 - 400 * k,
+                                   co2_ttw_biogenic_t=300.0, co2e_wtw_t=8.0e3 - 500 * k,
                                    nox_t=20.0 - 3 * k, catalyst_replacements=y % 3 == 0,
                                    cost_total=4.0e6 - saving))
 
@@ -84,6 +85,8 @@ def make_result(*, demo: bool = True, currency: str = "XCU") -> StudyResult:
         cand_rows.append(dict(
             candidate=cand, name=name, fuel=fuel, is_baseline=k == 0, colour=PALETTE[k],
             fuel_energy_mj_per_km=[3.1, 3.4, 3.6][k], co2_ttw_g_per_km=[228.0, 215.0, 196.0][k],
+            co2_ttw_fossil_g_per_km=[221.0, 215.0, 196.0][k],
+            co2_ttw_biogenic_g_per_km=[7.0, 0.0, 0.0][k],
             co2e_wtw_g_per_km=[281.0, 251.0, 240.0][k], nox_g_per_km=[0.31, 0.06, 0.04][k],
             cost_per_km=[0.210, 0.182, 0.171][k], levelised_cost_per_km=[0.22, 0.19, 0.18][k],
             npv_vs_baseline=npv[cand], payback_years=payback[cand] - 0.3 if k else np.nan,
@@ -106,6 +109,8 @@ def make_result(*, demo: bool = True, currency: str = "XCU") -> StudyResult:
                 candidate=cand, vehicle_class=vclass, fuel=fuels[cand],
                 fuel_energy_mj_per_km=3.0 + 0.3 * k + 2 * j, fuel_l_per_100km=8.0 + k + 3 * j,
                 fuel_kg_per_100km=6.8 + k + 2 * j, co2_ttw_g_per_km=220.0 - 14 * k + 90 * j,
+                co2_ttw_fossil_g_per_km=213.0 - 14 * k + 90 * j,
+                co2_ttw_biogenic_g_per_km=7.0 if k == 0 else 0.0,
                 co2e_wtw_g_per_km=270.0 - 18 * k + 110 * j,
                 nox_engine_out_g_per_km=1.2 - 0.3 * k, nox_g_per_km=0.30 - 0.09 * k + 0.1 * j,
                 cost_fuel_per_km=fuel_cost, cost_upkeep_per_km=upkeep,

@@ -86,7 +86,8 @@ def test_cost_per_km_stacks_the_three_parts(result):
 
 def test_co2_chart_has_ttw_and_wtw(result):
     fig = charts.co2_per_km_chart(result)
-    columns = {"tank-to-wheel CO2": "co2_ttw_g_per_km", "well-to-wheel CO2e": "co2e_wtw_g_per_km"}
+    columns = {"tank-to-wheel fossil CO2": "co2_ttw_fossil_g_per_km",
+               "well-to-wheel CO2e": "co2e_wtw_g_per_km"}
     for j, vclass in enumerate(CLASSES):
         for cand in result.candidates["candidate"]:
             row = result.per_km[(result.per_km["candidate"] == cand)

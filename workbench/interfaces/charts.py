@@ -389,7 +389,7 @@ def _co2_per_km(result: StudyResult) -> _Fig:
         return _no_data(title, "per_km")
     st = _style(result)
     by_class, fig = _class_facets(table, result)
-    kinds = {"tank-to-wheel CO2": ("co2_ttw_g_per_km", ""),
+    kinds = {"tank-to-wheel fossil CO2": ("co2_ttw_fossil_g_per_km", ""),
              "well-to-wheel CO2e": ("co2e_wtw_g_per_km", "/")}
     shown: set[str] = set()
     for col, rows in enumerate(by_class.values(), start=1):
@@ -410,12 +410,14 @@ def _co2_per_km(result: StudyResult) -> _Fig:
 
 
 def co2_per_km_chart(result: StudyResult) -> go.Figure:
-    """Tank-to-wheel CO2 and well-to-wheel CO2e per km, side by side, one facet per class.
+    """Tank-to-wheel fossil CO2 and well-to-wheel CO2e per km, side by side, one facet per
+    class (biogenic CO2 is reported apart, in the tables).
 
     Parameters
     ----------
     result : StudyResult
-        Reads the ``per_km`` table (``co2_ttw_g_per_km``, ``co2e_wtw_g_per_km`` [g/km]).
+        Reads the ``per_km`` table (``co2_ttw_fossil_g_per_km``, ``co2e_wtw_g_per_km``
+        [g/km]).
 
     Returns
     -------

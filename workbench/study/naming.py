@@ -30,6 +30,7 @@ KEY_WORDS = {
     "derate": "full-load derate",
     "methane_slip": "methane slip",
     "pilot_fuel": "pilot fuel of a dual-fuel engine",
+    "pathway": "production pathway of its fuel (upstream CO2e)",
     "accessory_power": "accessory power",
     "extra_idle_share": "extra idling share",
     "tank_inspection_cost": "tank inspection cost",

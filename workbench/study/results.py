@@ -26,8 +26,9 @@ COLUMNS: dict[str, tuple[str, ...]] = {
     # one row per candidate (the baseline included, with is_baseline true)
     "candidates": (
         "candidate", "name", "fuel", "is_baseline", "colour",
-        "fuel_energy_mj_per_km", "co2_ttw_g_per_km", "co2e_wtw_g_per_km", "nox_g_per_km",
-        "cost_per_km", "levelised_cost_per_km", "npv_vs_baseline", "payback_years",
+        "fuel_energy_mj_per_km", "co2_ttw_g_per_km", "co2_ttw_fossil_g_per_km",
+        "co2_ttw_biogenic_g_per_km", "co2e_wtw_g_per_km", "nox_g_per_km", "cost_per_km",
+        "levelised_cost_per_km", "npv_vs_baseline", "payback_years",
         "discounted_payback_years", "co2e_avoided_t", "raises_co2e", "cost_per_t_co2e_avoided",
         "nox_avoided_kg", "raises_nox", "cost_per_kg_nox_avoided", "p_npv_positive",
         "p_discounted_payback_within_horizon", "npv_p10", "npv_p50", "npv_p90",
@@ -35,7 +36,8 @@ COLUMNS: dict[str, tuple[str, ...]] = {
     # one row per candidate x vehicle class: the duty-level figures
     "per_km": (
         "candidate", "vehicle_class", "fuel", "fuel_energy_mj_per_km", "fuel_l_per_100km",
-        "fuel_kg_per_100km", "co2_ttw_g_per_km", "co2e_wtw_g_per_km", "nox_engine_out_g_per_km",
+        "fuel_kg_per_100km", "co2_ttw_g_per_km", "co2_ttw_fossil_g_per_km",
+        "co2_ttw_biogenic_g_per_km", "co2e_wtw_g_per_km", "nox_engine_out_g_per_km",
         "nox_g_per_km", "pm_mg_per_km", "co_g_per_km", "thc_g_per_km", "cost_fuel_per_km",
         "cost_upkeep_per_km", "cost_capital_per_km", "cost_per_km", "share_out_of_map",
         "share_full_load",
@@ -43,7 +45,8 @@ COLUMNS: dict[str, tuple[str, ...]] = {
     # one row per candidate x vehicle class x fuel it burns (a dual-fuel engine: gas, pilot)
     "fuel_use": (
         "candidate", "vehicle_class", "fuel", "role", "energy_share", "fuel_energy_mj_per_km",
-        "fuel_l_per_100km", "fuel_kg_per_100km", "co2_ttw_g_per_km", "ch4_g_per_km",
+        "fuel_l_per_100km", "fuel_kg_per_100km", "co2_ttw_g_per_km", "co2_ttw_fossil_g_per_km",
+        "co2_ttw_biogenic_g_per_km", "ch4_g_per_km",
         "co2e_ttw_g_per_km", "co2e_wtw_g_per_km",
     ),
     # one row per candidate x year of the programme (year 0 = conversion year)
@@ -53,7 +56,8 @@ COLUMNS: dict[str, tuple[str, ...]] = {
     ),
     # one row per candidate x year: fleet totals
     "fleet_years": (
-        "candidate", "year", "fuel_energy_gj", "co2_ttw_t", "co2e_wtw_t", "nox_t",
+        "candidate", "year", "fuel_energy_gj", "co2_ttw_t", "co2_ttw_fossil_t",
+        "co2_ttw_biogenic_t", "co2e_wtw_t", "nox_t",
         "catalyst_replacements", "cost_total",
     ),
     # one row per candidate x vehicle class x month: tailpipe NOx as catalysts age

@@ -44,7 +44,7 @@ from workbench.models.conversion import (
     kind_derate,
 )
 from workbench.models.duty import DutySettings, DutyTrace, ModeTable
-from workbench.models.emissions import co2e
+from workbench.models.emissions import co2e, split_co2, tailpipe_co2e
 from workbench.models.engine import (
     DutyEnergy,
     DutyRun,
@@ -175,6 +175,17 @@ class FuelBurnt:
     per_m: FuelPerDistance
     ch4_per_m: float
 
+    @property
+    def co2_split_per_m(self) -> tuple[float, float]:
+        """Its tailpipe CO2 from fossil and from biogenic carbon [kg/m] each."""
+        return split_co2(self.per_m.co2_ttw_per_m, self.fuel.biogenic_carbon_share)
+
+    @property
+    def tailpipe_co2e_per_m(self) -> float:
+        """Its tailpipe CO2e, fossil CO2 and slipped methane on GWP-100, without N2O [kg/m]."""
+        return float(tailpipe_co2e(self.per_m.co2_ttw_per_m, self.ch4_per_m, 0.0,
+                                   biogenic_share=self.fuel.biogenic_carbon_share))
+
 
 @dataclass(frozen=True)
 class ClassPhysics:
@@ -186,9 +197,11 @@ class ClassPhysics:
     fuel_energy_per_m: float  # [J/m]
     fuel_mass_per_m: float  # [kg/m]
     fuel_volume_per_m: float  # [m3/m], NaN when not stored as a liquid or two fuels
-    co2_ttw_per_m: float  # [kg/m]
+    co2_ttw_per_m: float  # [kg/m]: from all the carbon burnt
+    co2_ttw_fossil_per_m: float  # [kg/m]: from its fossil carbon
+    co2_ttw_biogenic_per_m: float  # [kg/m]: from its biogenic carbon (reported apart)
     ch4_per_m: float  # [kg/m]
-    tailpipe_co2e_per_m: float  # [kg/m]: CO2, slipped methane and N2O on AR6 GWP-100
+    tailpipe_co2e_per_m: float  # [kg/m]: fossil CO2, slipped methane, N2O on AR6 GWP-100
     engine_out_nox_per_m: float  # [kg/m]
     nox_source: str
     pm_per_m: float  # tailpipe particulate mass [kg/m]
@@ -330,6 +343,8 @@ def class_physics(c: FleetClass, co: ClassOption, base: ClassOption, months: int
                          fleet_size=c.count, nox_damage_cost=damage)
     best = _best_interval(co.aftertreatment, eo, km_month, months, damage, c.count)
     co2_ttw = sum(f.per_m.co2_ttw_per_m for f in fuels)
+    co2_fossil, co2_biogenic = (sum(parts) for parts in zip(*(f.co2_split_per_m for f in fuels),
+                                                             strict=True))
     ch4_per_m = sum(f.ch4_per_m for f in fuels)
     factors = pollutant_factors(co.engine, co.aftertreatment.name)
     work_m = duty.energy.engine_energy / duty.energy.distance
@@ -340,8 +355,11 @@ def class_physics(c: FleetClass, co: ClassOption, base: ClassOption, months: int
         fuel_mass_per_m=sum(f.per_m.fuel_mass_per_m for f in fuels),
         fuel_volume_per_m=per_m.fuel_volume_per_m if len(fuels) == 1 else float("nan"),
         co2_ttw_per_m=co2_ttw,
+        co2_ttw_fossil_per_m=co2_fossil,
+        co2_ttw_biogenic_per_m=co2_biogenic,
         ch4_per_m=ch4_per_m,
-        tailpipe_co2e_per_m=float(co2e(co2_ttw, ch4_per_m, co.n2o_per_m)),
+        tailpipe_co2e_per_m=sum(f.tailpipe_co2e_per_m for f in fuels)
+        + float(co2e(0.0, 0.0, co.n2o_per_m)),
         engine_out_nox_per_m=eo,
         nox_source=source,
         pm_per_m=factors.pm * work_m,
@@ -631,7 +649,7 @@ def _lines(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> dict[str, ec
                 plan.responses[o.id, c.id], params, n)
             parts = tuple(econ.EnergyPart(
                 energy[:, k], val(inputs.prices[f.fuel.id][1]) * plan.price_factor[f.fuel.id],
-                val(inputs.escalation[f.fuel.id]), val(inputs.upstream[f.fuel.id]))
+                val(inputs.escalation[f.fuel.id]), val(upstream_of(inputs, co, k)))
                 for k, f in enumerate(ph.fuels))
             lines.append(econ.ClassLine(
                 count=c.count, active=plan.active[c.id], km_per_year=val(c.km_per_year),
@@ -647,6 +665,28 @@ def _lines(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> dict[str, ec
         options[o.id] = econ.OptionLines(lines, val(o.programme_capital),
                                          val(o.programme_upkeep_per_year))
     return options
+
+
+def upstream_of(inputs: StudyInputs, co: ClassOption, k: int) -> Uncertain:
+    """The well-to-tank CO2e [kg/J] of a fuel an option buys for a class: its pathway's when
+    the option names one for its fuel, else the study's ``[upstream]`` entry.
+
+    Parameters
+    ----------
+    inputs : StudyInputs
+        The checked study.
+    co : ClassOption
+        What the option does to the class.
+    k : int
+        Which of ``co.fuels``: 0 its fuel, 1 a dual-fuel engine's pilot.
+
+    Returns
+    -------
+    Uncertain
+    """
+    if k == 0 and co.upstream is not None:
+        return co.upstream
+    return inputs.upstream[co.fuels[k].id]
 
 
 def _money(plan: Plan, params: Mapping[str, np.ndarray], n: int,

@@ -194,6 +194,10 @@ class ClassOption:
     #: The diesel-like pilot of a dual-fuel engine (``conversion = "dual-fuel-ci"``; ``fuel``
     #: is then its gas); None for an engine that burns one fuel.
     pilot_fuel: Fuel | None = None
+    #: The production pathway of ``fuel`` named by the option ("" for none: its upstream is
+    #: the study's ``[upstream]`` entry), and its well-to-tank CO2e [kg/J], fixed.
+    pathway: str = ""
+    upstream: Uncertain | None = None
 
     @property
     def fuels(self) -> tuple[Fuel, ...]:
@@ -213,6 +217,23 @@ def study_fuels(options: Iterable[Option]) -> dict[str, Fuel]:
     dict of str to Fuel
     """
     return {f.id: f for o in options for co in o.per_class.values() for f in co.fuels}
+
+
+def pathway_only(options: Iterable[Option]) -> frozenset[str]:
+    """Ids of the fuels whose every use names a production pathway (``pathway``): their
+    ``[upstream]`` entry may be left out.
+
+    Parameters
+    ----------
+    options : iterable of Option
+
+    Returns
+    -------
+    frozenset of str
+    """
+    uses = [(f.id, f is co.fuel and co.upstream is not None)
+            for o in options for co in o.per_class.values() for f in co.fuels]
+    return frozenset({fid for fid, _ in uses} - {fid for fid, covered in uses if not covered})
 
 
 @dataclass(frozen=True)
@@ -362,7 +383,8 @@ class Study:
             edited.base_dir = self.base_dir
             sections = _local_sections(_Reader(data, ""), study_fuels(self.inputs.options),
                                        self.inputs.currency, touched,
-                                       _pilot_only(self.inputs.options))
+                                       _pilot_only(self.inputs.options),
+                                       pathway_only(self.inputs.options))
             edited.inputs = _with_uncertain(replace(self.inputs, **sections),
                                             data.get("correlations", []))
         else:
@@ -733,7 +755,8 @@ def _parse(data: Mapping[str, Any], base_dir: Path) -> StudyInputs:
         raise InputError("candidates", "option names (baseline and candidates) must be unique")
     options = (baseline, *candidates)
     sections = _local_sections(top, study_fuels(options), currency,
-                               LOCAL_SECTIONS - {"programme"}, _pilot_only(options))
+                               LOCAL_SECTIONS - {"programme"}, _pilot_only(options),
+                               pathway_only(options))
     inputs = StudyInputs(
         title=top.text("title"),
         currency=currency,
@@ -768,10 +791,11 @@ def _pilot_only(options: Iterable[Option]) -> dict[str, str]:
 
 
 def _local_sections(top: _Reader, fuels: Mapping[str, Fuel], currency: str,
-                    sections: Iterable[str], pilots: Mapping[str, str] | None = None
-                    ) -> dict[str, Any]:
+                    sections: Iterable[str], pilots: Mapping[str, str] | None = None,
+                    by_pathway: frozenset[str] = frozenset()) -> dict[str, Any]:
     """Check the named tables of :data:`LOCAL_SECTIONS`; StudyInputs fields by name
-    (``pilots``: :func:`_pilot_only`, named in a missing price's line)."""
+    (``pilots``: :func:`_pilot_only`, named in a missing price's line; ``by_pathway``:
+    :func:`pathway_only`, fuels that need no ``[upstream]`` entry)."""
     out: dict[str, Any] = {}
     if "programme" in sections:
         prog = _Reader(top.raw("programme"), "programme")
@@ -804,7 +828,7 @@ def _local_sections(top: _Reader, fuels: Mapping[str, Fuel], currency: str,
         out["escalation"] = escalation
     if "upstream" in sections:
         out["upstream"], out["upstream_sources"] = _upstream(
-            _Reader(top.raw("upstream"), "upstream"), fuels)
+            _Reader(top.raw("upstream", {}), "upstream"), fuels, by_pathway)
     return out
 
 
@@ -1145,8 +1169,8 @@ def _option(r: _Reader, classes: tuple[FleetClass, ...], baseline: Option | None
             "efficiency_offset", "conversion_cost", "upkeep_change_per_year", "downtime_days",
             "tank_inspection_interval_years", "tank_inspection_cost", "n2o",
             "engine_out_nox", "lambda_overall", "methane_slip", "aftertreatment",
-            "programme_capital", "programme_upkeep_per_year", "conversion", "pilot_fuel"),
-           "an option")
+            "programme_capital", "programme_upkeep_per_year", "conversion", "pilot_fuel",
+            "pathway"), "an option")
     class_ids = {c.id for c in classes}
     converts = class_ids
     if baseline is not None and r.has("classes"):
@@ -1278,6 +1302,8 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOpt
                                      "distance, from memory)"))
         at_raw = {"preset": device_default, **(at_raw or {})}
     mismatch = None if map_raw is not None else regime_mismatch(fuel, kind, map_regime)
+    pathway, upstream = _pathway(_per_class(r, "pathway", c.id, class_ids, None), fuel,
+                                 at("pathway"))
     return ClassOption(
         converts=not is_baseline,
         fuel=fuel,
@@ -1310,7 +1336,19 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOpt
         derate_against=(base.fuel if base is not None else fuel) if air_derate else None,
         reference_fuel=load_fuel(DEFAULT_REFERENCE_FUEL[engine]),
         pilot_fuel=pilot,
+        pathway=pathway,
+        upstream=upstream,
     )
+
+
+def _pathway(raw: Any, fuel: Fuel, where: str) -> tuple[str, Uncertain | None]:
+    """An option's ``pathway`` for its fuel on a class: its name and well-to-tank CO2e."""
+    if raw is None:
+        return "", None
+    if not isinstance(raw, str) or not raw:
+        raise InputError(where, f"must name a pathway of {fuel.id} in quotes, got {_short(raw)}")
+    p = fuel.pathway(raw, where)
+    return raw, Uncertain(p.wtt_co2e_per_energy, None, where, "g/MJ", 1e9)
 
 
 def _pilot_fuel(r: _Reader, c: FleetClass, class_ids: set[str], kind: str, fuel: Fuel,
@@ -1539,16 +1577,21 @@ def sold_as_liquid(fuel: Fuel) -> bool:
         fuel.storage is None or fuel.storage.kind in ("liquid", "liquefied"))
 
 
-def _upstream(r: _Reader, fuels: Mapping[str, Fuel]) -> tuple[dict[str, Uncertain],
-                                                               dict[str, str]]:
+def _upstream(r: _Reader, fuels: Mapping[str, Fuel], by_pathway: frozenset[str]
+              ) -> tuple[dict[str, Uncertain], dict[str, str]]:
     out, sources = {}, {}
     for fid in r.table:
         if fid not in fuels:
             raise InputError(r.at(fid), "names no fuel of the study")
     for fid in fuels:
+        if fid not in r.table and fid in by_pathway:
+            continue
         if fid not in r.table:
+            named = [p.name for p in fuels[fid].pathways]
+            hint = f', or name one of its pathways on the option: pathway = "{named[0]}"' \
+                if named else ""
             raise InputError(r.at(fid), "is required: well-to-tank CO2e of this fuel, "
-                             '{ wtt_co2e_g_per_mj = 15.0, source = "…" }')
+                             '{ wtt_co2e_g_per_mj = 15.0, source = "…" }' + hint)
         sub = _Reader(r.table[fid], r.at(fid))
         sub.only(("wtt_co2e_g_per_mj", "source"), "an upstream entry")
         sources[fid] = sub.text("source")

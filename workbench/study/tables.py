@@ -16,7 +16,6 @@ from workbench.core.cache import memoize
 from workbench.core.fuels import Fuel
 from workbench.models import economics as econ
 from workbench.models.duty import DutyTrace, duty_stats
-from workbench.models.emissions import co2e
 from workbench.models.nox import DEFAULT_ENGINE_OUT, engine_preset, nox_sweep
 from workbench.study.naming import display_unit, input_label, input_rows, study_names
 from workbench.study.results import COLUMNS, PALETTE, StudyResult
@@ -139,6 +138,8 @@ def _per_km_rows(plan: Plan, lines: Mapping[str, econ.OptionLines],
                 "fuel_l_per_100km": ph.fuel_volume_per_m * 1e8,
                 "fuel_kg_per_100km": ph.fuel_mass_per_m * 1e5 if one else np.nan,
                 "co2_ttw_g_per_km": ph.co2_ttw_per_m * 1e6,
+                "co2_ttw_fossil_g_per_km": ph.co2_ttw_fossil_per_m * 1e6,
+                "co2_ttw_biogenic_g_per_km": ph.co2_ttw_biogenic_per_m * 1e6,
                 "co2e_wtw_g_per_km": co2e_m * 1e6,
                 "nox_engine_out_g_per_km": ph.engine_out_nox_per_m * 1e6,
                 "nox_g_per_km": float(np.mean(ph.monthly["tailpipe_g_per_km"].to_numpy())),
@@ -158,15 +159,17 @@ def _per_km_rows(plan: Plan, lines: Mapping[str, econ.OptionLines],
 def _fuel_use_table(plan: Plan, lines: Mapping[str, econ.OptionLines]) -> pd.DataFrame:
     """One row per option x class x fuel it burns: a dual-fuel engine's gas and pilot apart.
 
-    The tailpipe CO2e of a fuel is its CO2 (all its carbon burnt) and its slipped methane on
-    GWP-100 (the class's N2O stays in ``per_km``); the well-to-wheel figure adds the fuel's
-    upstream CO2e (its part of the class line, year 1).
+    The tailpipe CO2e of a fuel is the CO2 of its fossil carbon and its slipped methane on
+    GWP-100 (the CO2 of its biogenic carbon is reported apart; the class's N2O stays in
+    ``per_km``); the well-to-wheel figure adds the fuel's upstream CO2e (its part of the class
+    line, year 1).
     """
     rows = []
     for o in plan.inputs.options:
         for c, line in zip(plan.inputs.classes, lines[o.id].classes, strict=True):
             for f, part in zip(plan.physics[o.id, c.id].fuels, line.parts, strict=True):
-                tailpipe = float(co2e(f.per_m.co2_ttw_per_m, f.ch4_per_m, 0.0))
+                tailpipe = f.tailpipe_co2e_per_m
+                fossil, biogenic = f.co2_split_per_m
                 upstream = econ.co2e_per_m(replace(line, parts=(part,), tailpipe_co2e_per_m=0.0))
                 rows.append({
                     "candidate": o.id, "vehicle_class": c.id, "fuel": f.fuel.id,
@@ -175,6 +178,8 @@ def _fuel_use_table(plan: Plan, lines: Mapping[str, econ.OptionLines]) -> pd.Dat
                     "fuel_l_per_100km": f.per_m.fuel_volume_per_m * 1e8,
                     "fuel_kg_per_100km": f.per_m.fuel_mass_per_m * 1e5,
                     "co2_ttw_g_per_km": f.per_m.co2_ttw_per_m * 1e6,
+                    "co2_ttw_fossil_g_per_km": fossil * 1e6,
+                    "co2_ttw_biogenic_g_per_km": biogenic * 1e6,
                     "ch4_g_per_km": f.ch4_per_m * 1e6,
                     "co2e_ttw_g_per_km": tailpipe * 1e6,
                     "co2e_wtw_g_per_km": (tailpipe + upstream) * 1e6,
@@ -208,6 +213,8 @@ def _candidates_table(plan: Plan, det: econ.Money, per_km: list[dict],
             "is_baseline": o.is_baseline, "colour": colours[o.id],
             "fuel_energy_mj_per_km": avg("fuel_energy_mj_per_km"),
             "co2_ttw_g_per_km": avg("co2_ttw_g_per_km"),
+            "co2_ttw_fossil_g_per_km": avg("co2_ttw_fossil_g_per_km"),
+            "co2_ttw_biogenic_g_per_km": avg("co2_ttw_biogenic_g_per_km"),
             "co2e_wtw_g_per_km": avg("co2e_wtw_g_per_km"),
             "nox_g_per_km": avg("nox_g_per_km"),
             "cost_per_km": avg("cost_per_km"),
@@ -251,15 +258,18 @@ def _fleet_years_table(plan: Plan, det: econ.Money) -> pd.DataFrame:
     inputs = plan.inputs
     parts: list[dict[str, np.ndarray]] = []
     for o in inputs.options:
-        energy = ttw = nox = repl = np.zeros(inputs.horizon_years + 1)
+        energy = ttw = fossil = biogenic = nox = repl = np.zeros(inputs.horizon_years + 1)
         for c in inputs.classes:
             ph = plan.physics[o.id, c.id]
             km = c.km_per_year.nominal * c.count * plan.active[c.id]
             energy = energy + km * ph.fuel_energy_per_m
             ttw = ttw + km * ph.co2_ttw_per_m
+            fossil = fossil + km * ph.co2_ttw_fossil_per_m
+            biogenic = biogenic + km * ph.co2_ttw_biogenic_per_m
             nox = nox + plan.nox_t[o.id, c.id]
             repl = repl + plan.replacements[o.id, c.id]
         parts.append({"fuel_energy_gj": energy / 1e9, "co2_ttw_t": ttw / 1e3,
+                      "co2_ttw_fossil_t": fossil / 1e3, "co2_ttw_biogenic_t": biogenic / 1e3,
                       "co2e_wtw_t": det.co2e[o.id][0] / 1e3, "nox_t": nox,
                       "catalyst_replacements": repl, "cost_total": det.costs[o.id][0]})
     return _by_year("fleet_years", inputs, parts)
@@ -439,6 +449,9 @@ def _sources(inputs: StudyInputs) -> dict[str, str]:
     out = {f"upstream CO2e of {fid}": src for fid, src in inputs.upstream_sources.items()}
     for o in inputs.options:
         for cid, co in o.per_class.items():
+            if co.upstream is not None:
+                src = co.fuel.pathway(co.pathway).source
+                out.setdefault(f"upstream CO2e of {co.fuel.id}, pathway {co.pathway}", src)
             for fuel in co.fuels:
                 for section, src in fuel.sources:
                     out.setdefault(f"fuel {fuel.id} [{section}]", src)

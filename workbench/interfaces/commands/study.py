@@ -27,6 +27,8 @@ if TYPE_CHECKING:
 JSON_KEYS = {
     "id": "candidate", "name": "name", "fuel": "fuel", "is_baseline": "is_baseline",
     "fuel_energy_mj_per_km": "fuel_energy_mj_per_km", "co2_ttw_g_per_km": "co2_ttw_g_per_km",
+    "co2_ttw_fossil_g_per_km": "co2_ttw_fossil_g_per_km",
+    "co2_ttw_biogenic_g_per_km": "co2_ttw_biogenic_g_per_km",
     "co2e_wtw_g_per_km": "co2e_wtw_g_per_km", "nox_g_per_km": "nox_g_per_km",
     "cost_per_km": "cost_per_km", "levelised_cost_per_km": "levelised_cost_per_km",
     "npv_vs_baseline": "npv_vs_baseline", "payback_years": "payback_years",
@@ -204,6 +206,7 @@ def _print_result(result: StudyResult, args: argparse.Namespace) -> None:
     cur = result.currency
     units = {
         "name": "", "fuel": "", "fuel_energy_mj_per_km": "MJ/km", "co2_ttw_g_per_km": "g/km",
+        "co2_ttw_fossil_g_per_km": "g/km", "co2_ttw_biogenic_g_per_km": "g/km",
         "co2e_wtw_g_per_km": "g/km", "nox_g_per_km": "g/km", "cost_per_km": f"{cur}/km",
         "levelised_cost_per_km": f"{cur}/km", "npv_vs_baseline": cur,
         "payback_years": "year", "discounted_payback_years": "year",
