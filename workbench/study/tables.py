@@ -458,5 +458,7 @@ def _sources(inputs: StudyInputs) -> dict[str, str]:
             if co.engine_out_nox is None and o.is_baseline:
                 out[f"engine-out NOx, {o.id}/{cid}"] = DEFAULT_ENGINE_OUT[co.engine].source
     out["thermochemistry"] = "Cantera with GRI-Mech 3.0 and NASA Glenn species data"
-    out["GWP-100"] = "IPCC AR6 WG1 Table 7.15 (CH4 fossil 29.8, N2O 273)"
+    out["GWP-100"] = "IPCC AR6 WG1 Table 7.15 (CH4 fossil 29.8, non-fossil 27.0, N2O 273)"
+    out["biogenic CO2"] = ("reported apart, outside the CO2e, as the IPCC 2006 Guidelines "
+                           "(Vol. 2, Ch. 3) report biofuel CO2, from memory")
     return out
