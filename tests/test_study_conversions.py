@@ -22,8 +22,9 @@ def _lpg_vans(**extra):
     study = read_study("demo")
     cand = {"id": "lpg-vans", "name": "LPG vans", "fuel": "lpg", "classes": ["van"],
             "conversion_cost": 6000, **extra}
-    # the LPG vans first, the demo's natural-gas candidate kept (its fuel has a price)
-    return study.with_values({"candidates": [cand, study.data["candidates"][1]],
+    # the LPG vans first, the demo's natural-gas and biomethane candidates kept (their fuels
+    # have a price)
+    return study.with_values({"candidates": [cand, *study.data["candidates"][1:]],
                               "programme.monte_carlo_draws": 0})
 
 

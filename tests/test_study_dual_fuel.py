@@ -33,8 +33,12 @@ LHV = {"CH4": 50.0, "C2H6": 47.5, "C3H8": 46.4, "C4H10,n-butane": 45.7}
 SHARE_MAX, LOAD_LOW, LOAD_HIGH, SLIP = 0.6, 0.2, 0.6, 0.03
 
 
-def _dual_buses(remove: tuple[str, ...] = ("prices.lpg", "escalation.lpg", "upstream.lpg"),
-                **extra):
+#: Entries of the fuels the dual-fuel study no longer uses (LPG; the demo's biomethane).
+UNUSED = ("prices.lpg", "escalation.lpg", "upstream.lpg", "prices.biomethane",
+          "escalation.biomethane")
+
+
+def _dual_buses(remove: tuple[str, ...] = UNUSED, **extra):
     study = read_study("demo")
     cand = {"id": "dual-bus", "name": "Dual-fuel buses", "fuel": "natural-gas",
             "classes": ["bus"], "conversion": "dual-fuel-ci", "conversion_cost": 15000,
@@ -182,7 +186,7 @@ def test_a_missing_pilot_price_names_the_key_to_add():
 
 def test_a_missing_diesel_price_names_the_key_to_add():
     with pytest.raises(InputError) as err:
-        _dual_buses(remove=("prices.lpg", "escalation.lpg", "upstream.lpg", "prices.diesel"))
+        _dual_buses(remove=(*UNUSED, "prices.diesel"))
     assert err.value.where == "prices.diesel" and "diesel = " in err.value.message
 
 
