@@ -28,7 +28,8 @@ def test_check_lists_the_defaults_and_warns_about_a_kept_map(run_cli, tmp_path):
     assert not any(line.startswith("warning:") for line in lines)
     text = DEMO_STUDY.read_text(encoding="utf-8").replace(
         'conversion = { taxi = "bi-fuel-si", van = "dedicated-si", bus = "dedicated-si" }',
-        'conversion = { taxi = "bi-fuel-si", van = "none", bus = "dedicated-si" }')
+        'conversion = { taxi = "bi-fuel-si", van = "none", bus = "dedicated-si" }',
+        1)  # the natural-gas option only (the biomethane option repeats the line)
     study = tmp_path / "s.toml"
     study.write_text(text, encoding="utf-8")
     code, out, _ = run_cli("study", "check", str(study), "--quiet-defaults")

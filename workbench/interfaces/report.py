@@ -72,6 +72,10 @@ LIMITATIONS = (
     "maps; time spent outside a map is clipped to its edge and counted in the tables.",
     "Engine-out NOx defaults, catalyst lives and costs, tank factors and upstream CO2e factors "
     "are typical values, not measurements of this fleet; the sources table says which.",
+    "CO2 from biogenic carbon (the ethanol in petrol, HVO, biomethane) is shown apart and left "
+    "out of the CO2e, as greenhouse-gas inventories report it (IPCC 2006 Guidelines); what it "
+    "took to make such a fuel is in its upstream CO2e, a pathway's default value that a "
+    "certified actual value may replace.",
     "Uncertain physics inputs are evaluated at seven quantiles and interpolated per draw; "
     "the effects of several such inputs add (first order), interactions are left out.",
     "Vehicle classes that reach the end of their remaining life drop out of every option "

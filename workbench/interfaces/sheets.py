@@ -34,6 +34,8 @@ SHEET_FIELDS: dict[str, str] = {
     "liquid_density_kg_per_m3": "kg/m3 (15 °C)",
     "co2_kg_per_kg": "kg/kg",
     "co2_g_per_mj": "g/MJ (LHV)",
+    "biogenic_carbon_share": "- (of its carbon)",
+    "pathways": "g CO2e/MJ well-to-tank",
     "water_kg_per_kg": "kg/kg",
     "phi": "-",
     "t_unburnt_k": "K",
@@ -100,6 +102,9 @@ def fuel_record(
         "liquid_density_kg_per_m3": s.liquid_density,
         "co2_kg_per_kg": s.co2_mass,
         "co2_g_per_mj": s.co2_per_energy * 1e9,
+        "biogenic_carbon_share": fuel.biogenic_carbon_share,
+        "pathways": ", ".join(f"{p.name} {p.wtt_co2e_per_energy * 1e9:g}"
+                              for p in fuel.pathways) or None,
         "water_kg_per_kg": s.water_mass,
         "phi": phi,
         "t_unburnt_k": t_unburnt,
