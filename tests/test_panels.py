@@ -238,7 +238,8 @@ def test_library_fuel_change_moves_the_price(app):
     prices = app.study.get("prices")
     assert "lpg" not in prices and prices["propane"] == lpg_price
     assert "copied from lpg" in row.note.value
-    assert set(app.economics.prices) == {"gasoline", "diesel", "propane", "natural-gas"}
+    assert set(app.economics.prices) == {"gasoline", "diesel", "propane", "natural-gas",
+                                         "biomethane"}
     assert "Propane" in row.sheet.value
 
     row.choice.value = "diesel"  # per L fits diesel; a liquid: its own price is kept
