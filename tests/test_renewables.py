@@ -60,6 +60,21 @@ def test_ethanol_matches_the_jec_fuel_properties():
     assert_allclose(sheet.lhv_mass / 1e6, 26.8, rtol=1e-9)  # the sheet's measured LHV
 
 
+def test_ethanol_density_is_the_handbook_value_at_15_c():
+    # CRC Handbook of Chemistry and Physics: 789.3 kg/m3 at 20 °C, cubic expansion 1.09e-3/K
+    # near 20 °C (from memory); 5 K cooler is 0.55 % denser. 1e-3: the expansion figure.
+    assert_allclose(load_fuel("ethanol").liquid_density, 789.3 * (1 + 5 * 1.09e-3), rtol=1e-3)
+
+
+def test_e10_density_and_lhv_from_its_volumes():
+    # volumes add (ideal mixing): density and mass-weighted LHV in closed form
+    m_e0, m_eth = 0.9 * 743.0, 0.1 * 794.0  # kg per m3 of blend
+    sheet = fuel_sheet("e10")
+    assert_allclose(load_fuel("e10").liquid_density, m_e0 + m_eth, rtol=1e-12)
+    assert_allclose(sheet.lhv_mass / 1e6, (m_e0 * 43.2 + m_eth * 26.8) / (m_e0 + m_eth),
+                    rtol=1e-6)
+
+
 # ----------------------------------------------------------------------------- biogenic share
 
 
