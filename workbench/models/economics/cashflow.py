@@ -40,9 +40,9 @@ from workbench.models.economics.finance import (
 
 __all__ = [
     "ClassLine",
-    "Loan",
     "Comparison",
     "EnergyPart",
+    "Loan",
     "Money",
     "NPVDraws",
     "OptionLines",
@@ -901,17 +901,18 @@ def cost_per_m(line: ClassLine, *, rate: float, carbon_price: float) -> dict[str
     Returns
     -------
     dict of str to float
-        ``fuel``: every carrier at today's prices plus the carbon payment on the well-to-wheel
-        CO2e (:func:`co2e_per_m`, year 1);
+        ``fuel``: every carrier at today's prices (fuel tax included) plus the carbon payment
+        on the well-to-wheel CO2e (:func:`co2e_per_m`, year 1);
         ``upkeep``: upkeep per vehicle-year, with catalysts, reductant and tank inspections
-        averaged over the years the class runs; ``capital``: the conversion (capital and
-        downtime) as a level yearly payment over the class's remaining life (capital recovery
-        factor at the discount rate); all per distance [currency/m]. Programme capital and
-        upkeep (option-wide) and the residual value are not in it; the NPV and the levelised
-        cost carry them.
+        averaged over the years the class runs, and the time lost refuelling; ``capital``: the
+        conversion (capital less grants, and downtime) as a level yearly payment over the
+        class's remaining life (capital recovery factor at the discount rate); all per
+        distance [currency/m]. Programme capital and upkeep (option-wide) and the residual
+        value are not in it; the NPV and the levelised cost carry them.
     """
     km = _one(line.km_per_year)
-    fuel = sum(_one(p.energy_per_m) * _one(p.price_per_j) for p in line.parts)
+    fuel = sum(_one(p.energy_per_m) * (_one(p.price_per_j) + _one(p.tax_per_j))
+               for p in line.parts)
     run_years = max(float(line.active.sum()), 1.0)
     horizon = len(line.active) - 1
     catalyst = float(np.asarray(line.catalyst_cost).reshape(-1, horizon + 1)[0].sum())
@@ -921,8 +922,9 @@ def cost_per_m(line: ClassLine, *, rate: float, carbon_price: float) -> dict[str
                    + _one(line.tank_inspection_cost) * inspections / run_years)
     capital = 0.0
     if line.converts:
-        outlay = (_one(line.conversion_cost)
+        cost = _one(line.conversion_cost)
+        outlay = (cost * (1.0 - _one(line.grant_share)) - _one(line.grant_per_vehicle)
                   + _one(line.downtime_days) * _one(line.daily_revenue))
         capital = outlay * float(capital_recovery_factor(rate, line.remaining_life_years)) / km
     return {"fuel": fuel + co2e_per_m(line) * carbon_price,
-            "upkeep": upkeep_year / km, "capital": capital}
+            "upkeep": upkeep_year / km + _one(line.time_cost_per_m), "capital": capital}
