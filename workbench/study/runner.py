@@ -18,7 +18,7 @@ A price, discount-rate or other money change re-uses every cached physics result
 from __future__ import annotations
 
 from collections.abc import Callable, Mapping
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 import pandas as pd
@@ -58,7 +58,7 @@ from workbench.models.nox import DEFAULT_ENGINE_OUT
 from workbench.models.pollutants import pollutant_factors
 from workbench.models.storage import tank_for_range
 from workbench.models.vehicle import Vehicle
-from workbench.study import tables
+from workbench.study import refuelling, tables
 from workbench.study.fleet import (
     FleetDutyRun,
     calibrate_fleet,
@@ -473,6 +473,7 @@ class Plan:
     replacements: dict[tuple[str, str], np.ndarray]  # fleet catalyst replacements by year
     price_factor: dict[str, float]  # by fuel id: currency/J per unit of price value
     responses: dict[tuple[str, str], list[econ.Response]]  # physics inputs with a distribution
+    tax_factor: dict[str, float] = field(default_factory=dict)  # as price_factor, fuel tax
 
 
 #: Quantiles at which an uncertain physics input is evaluated; draws between them are
@@ -523,9 +524,13 @@ def _plan(inputs: StudyInputs) -> tuple[Plan, dict[str, pd.DataFrame]]:
     physics-only tables."""
     cached = _physics_plan(inputs)
     factors: dict[str, float] = {}
+    taxes: dict[str, float] = {}
     for fid, fuel in study_fuels(inputs.options).items():
         factors[fid] = price_factor(inputs.prices[fid][0], fuel)
-    return replace(cached.plan, inputs=inputs, price_factor=factors), cached.tables
+        if fid in inputs.fuel_tax:
+            taxes[fid] = price_factor(inputs.fuel_tax[fid][0], fuel)
+    return replace(cached.plan, inputs=inputs, price_factor=factors,
+                   tax_factor=taxes), cached.tables
 
 
 def price_factor(price: Price, fuel: Fuel) -> float:
@@ -613,8 +618,15 @@ def _lines(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> dict[str, ec
             seen[key] = _values(u, params, n)
         return seen[key]
 
+    def tax(fid: str) -> np.ndarray | float:
+        if fid not in inputs.fuel_tax:
+            return 0.0
+        return val(inputs.fuel_tax[fid][1]) * plan.tax_factor[fid]
+
+    h = inputs.horizon_years
     options = {}
     made: dict[tuple[int, ...], econ.ClassLine] = {}
+    before: dict[str, econ.ClassLine] = {}  # the baseline's line of each class
     for o in inputs.options:
         lines = []
         for c in inputs.classes:
@@ -622,7 +634,8 @@ def _lines(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> dict[str, ec
             ph = plan.physics[o.id, c.id]
             # a synthetic option reuses a (candidate, class)'s objects: one line for them all
             key = tuple(map(id, (c, co, ph, plan.catalyst_cost[o.id, c.id],
-                                 plan.responses[o.id, c.id], plan.nox_t[o.id, c.id])))
+                                 plan.responses[o.id, c.id], plan.nox_t[o.id, c.id],
+                                 o.station)))
             if key in made:
                 lines.append(made[key])
                 continue
@@ -631,8 +644,13 @@ def _lines(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> dict[str, ec
                 plan.responses[o.id, c.id], params, n)
             parts = tuple(econ.EnergyPart(
                 energy[:, k], val(inputs.prices[f.fuel.id][1]) * plan.price_factor[f.fuel.id],
-                val(inputs.escalation[f.fuel.id]), val(inputs.upstream[f.fuel.id]))
+                val(inputs.escalation[f.fuel.id]), val(inputs.upstream[f.fuel.id]),
+                tax_per_j=tax(f.fuel.id))
                 for k, f in enumerate(ph.fuels))
+            phasing = None
+            if co.converts and co.phasing is not None:
+                phasing = np.zeros(h + 1)
+                phasing[:len(co.phasing)] = co.phasing
             lines.append(econ.ClassLine(
                 count=c.count, active=plan.active[c.id], km_per_year=val(c.km_per_year),
                 km_per_year_nominal=c.km_per_year.nominal, parts=parts,
@@ -642,10 +660,21 @@ def _lines(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> dict[str, ec
                 tank_inspection_interval=co.tank_inspection_interval, converts=co.converts,
                 conversion_cost=val(co.conversion_cost), downtime_days=val(co.downtime_days),
                 daily_revenue=val(c.daily_revenue), remaining_life_years=c.remaining_life_years,
-                nox_mass=plan.nox_t[o.id, c.id] * 1e3))
+                nox_mass=plan.nox_t[o.id, c.id] * 1e3, phasing=phasing,
+                before=before.get(c.id), grant_per_vehicle=co.grant_per_vehicle,
+                grant_share=co.grant_share,
+                time_cost_per_m=refuelling.time_cost_per_m(o, c, val) if co.converts else 0.0))
             made[key] = lines[-1]
-        options[o.id] = econ.OptionLines(lines, val(o.programme_capital),
-                                         val(o.programme_upkeep_per_year))
+            if o.is_baseline:
+                before[c.id] = lines[-1]
+        capital, upkeep = refuelling.station_money(refuelling.station_size(plan, o), val)
+        programme = val(o.programme_capital)
+        loan = None if o.loan is None else econ.Loan(val(o.loan.share), val(o.loan.rate),
+                                                      o.loan.term_years)
+        options[o.id] = econ.OptionLines(
+            lines, programme + capital, val(o.programme_upkeep_per_year) + upkeep,
+            programme_grant=o.programme_grant + o.programme_grant_share * programme,
+            loan=loan)
     return options
 
 
