@@ -50,13 +50,20 @@ def _synthetic(plan: Plan, choice: Mapping[str, str], oid: str, *, programme: bo
     by_id = {o.id: o for o in inputs.options}
     per_class = {c: by_id[o].per_class[c] for c, o in choice.items()}
     payers = [inputs.baseline]
+    used = [by_id[o] for o in dict.fromkeys(choice.values()) if o != inputs.baseline.id]
     if programme:
-        payers += [by_id[o] for o in dict.fromkeys(choice.values()) if o != inputs.baseline.id]
+        payers += used
+    # each payer's stations, serving the classes the mix takes from it
+    stations = tuple(replace(st, classes=served) for o in payers[1:] for st in o.stations
+                     if (served := tuple(c for c in st.classes if choice.get(c) == o.id)))
     return Option(id=oid, name=oid, is_baseline=False, per_class=per_class,
                   programme_capital=_programme(payers, "programme_capital",
                                                f"{oid}.programme_capital"),
                   programme_upkeep_per_year=_programme(payers, "programme_upkeep_per_year",
-                                                       f"{oid}.programme_upkeep"))
+                                                       f"{oid}.programme_upkeep"),
+                  programme_grant=sum(o.programme_grant + o.programme_grant_share
+                                      * o.programme_capital.nominal for o in payers[1:]),
+                  loan=used[0].loan if len(used) == 1 else None, stations=stations)
 
 
 def _extend(plan: Plan, options: dict[str, tuple[Option, Mapping[str, str]]], *,

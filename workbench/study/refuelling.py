@@ -52,29 +52,30 @@ class StationSize:
     sized: depot.CNGStation | depot.LPGStation
 
 
-def station_size(plan: Plan, option: Option) -> StationSize | None:
-    """Size an option's station from its classes' fuel (None without a station).
+def station_sizes(plan: Plan, option: Option) -> list[StationSize]:
+    """Size each of an option's stations from its classes' fuel.
 
     Parameters
     ----------
     plan : Plan
         The run's physics.
     option : Option
-        A candidate.
+        A candidate (or a best mix, with its candidates' stations).
 
     Returns
     -------
-    StationSize or None
+    list of StationSize
     """
-    st = option.station
-    if st is None:
-        return None
+    return [_size(plan, option.id, st) for st in option.stations]
+
+
+def _size(plan: Plan, oid: str, st: Station) -> StationSize:
     classes = {c.id: c for c in plan.inputs.classes}
     mass = fills = 0.0
     for cid in st.classes:
         c = classes[cid]
         km_day = c.km_per_year.nominal / st.operating_days
-        burnt = [f for f in plan.physics[option.id, cid].fuels if f.fuel.id == st.fuel.id]
+        burnt = [f for f in plan.physics[oid, cid].fuels if f.fuel.id == st.fuel.id]
         mass += c.count * km_day * sum(f.per_m.fuel_mass_per_m for f in burnt)
         fills += c.count * km_day / c.range
     if st.kind == "cng":
@@ -91,14 +92,14 @@ def station_size(plan: Plan, option: Option) -> StationSize | None:
     return StationSize(st, mass, volume, fills, sized)
 
 
-def station_money(size: StationSize | None, val: Callable[[Uncertain], np.ndarray]
+def station_money(sizes: list[StationSize], val: Callable[[Uncertain], np.ndarray]
                   ) -> tuple[np.ndarray | float, np.ndarray | float]:
-    """A depot station's capital and yearly upkeep, per draw [currency] (0 off the depot).
+    """Depot stations' capital and yearly upkeep, per draw [currency] (0 off the depot).
 
     Parameters
     ----------
-    size : StationSize or None
-        The sized station.
+    sizes : list of StationSize
+        The sized stations.
     val : callable
         An input's values per draw.
 
@@ -107,26 +108,32 @@ def station_money(size: StationSize | None, val: Callable[[Uncertain], np.ndarra
     tuple
         Capital (year 0) and upkeep per year.
     """
-    if size is None or size.station.location != "depot":
-        return 0.0, 0.0
-    st, s = size.station, size.sized
-    if isinstance(s, depot.CNGStation):
-        capital = (val(st.compressor_cost) * s.compressor_mass_flow * _HOUR
+    capital: np.ndarray | float = 0.0
+    upkeep: np.ndarray | float = 0.0
+    for size in sizes:
+        st, s = size.station, size.sized
+        if st.location != "depot":
+            continue
+        if isinstance(s, depot.CNGStation):
+            own = (val(st.compressor_cost) * s.compressor_mass_flow * _HOUR
                    + val(st.storage_cost) * s.buffer_volume)
-    else:
-        capital = val(st.storage_cost) * s.tank_volume
-    capital = capital + val(st.dispenser_cost) * s.dispensers
-    return capital, capital * val(st.upkeep_share)
+        else:
+            own = val(st.storage_cost) * s.tank_volume
+        own = own + val(st.dispenser_cost) * s.dispensers
+        capital = capital + own
+        upkeep = upkeep + own * val(st.upkeep_share)
+    return capital, upkeep
 
 
 def time_cost_per_m(option: Option, c: FleetClass, val: Callable[[Uncertain], np.ndarray]
                     ) -> np.ndarray | float:
     """Cost of the time a converted vehicle of ``c`` loses going to an off-depot station, per
     metre driven [currency/m]: ``t_detour / range x hour_cost`` (0 at the depot)."""
-    st = option.station
-    if st is None or st.location != "off-depot" or c.id not in st.classes:
-        return 0.0
-    return depot.detour_hours_per_m(st.detour, c.range) * val(st.hour_cost)
+    out: np.ndarray | float = 0.0
+    for st in option.stations:
+        if st.location == "off-depot" and c.id in st.classes:
+            out = out + depot.detour_hours_per_m(st.detour, c.range) * val(st.hour_cost)
+    return out
 
 
 def station_rows(plan: Plan) -> list[dict]:
@@ -142,12 +149,10 @@ def station_rows(plan: Plan) -> list[dict]:
     list of dict
     """
     rows = []
-    for o in plan.inputs.candidates:
-        size = station_size(plan, o)
-        if size is None:
-            continue
+    sizes = [(o, size) for o in plan.inputs.candidates for size in station_sizes(plan, o)]
+    for o, size in sizes:
         st, s = size.station, size.sized
-        capital, upkeep = station_money(size, lambda u: u.nominal)
+        capital, upkeep = station_money([size], lambda u: u.nominal)
         lost = sum(c.count * c.km_per_year.nominal / c.range * st.detour / _HOUR
                    for c in plan.inputs.classes
                    if c.id in st.classes and st.location == "off-depot")

@@ -635,7 +635,7 @@ def _lines(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> dict[str, ec
             # a synthetic option reuses a (candidate, class)'s objects: one line for them all
             key = tuple(map(id, (c, co, ph, plan.catalyst_cost[o.id, c.id],
                                  plan.responses[o.id, c.id], plan.nox_t[o.id, c.id],
-                                 o.station)))
+                                 *o.stations)))
             if key in made:
                 lines.append(made[key])
                 continue
@@ -667,7 +667,7 @@ def _lines(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> dict[str, ec
             made[key] = lines[-1]
             if o.is_baseline:
                 before[c.id] = lines[-1]
-        capital, upkeep = refuelling.station_money(refuelling.station_size(plan, o), val)
+        capital, upkeep = refuelling.station_money(refuelling.station_sizes(plan, o), val)
         programme = val(o.programme_capital)
         loan = None if o.loan is None else econ.Loan(val(o.loan.share), val(o.loan.rate),
                                                       o.loan.term_years)

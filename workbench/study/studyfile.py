@@ -275,7 +275,7 @@ class Option:
     programme_grant: float = 0.0  # received in year 0 [currency]
     programme_grant_share: float = 0.0  # of the programme capital, in year 0 [-]
     loan: LoanTerms | None = None
-    station: Station | None = None
+    stations: tuple[Station, ...] = ()  # a candidate's own: one; a best mix's: its candidates'
 
 
 @dataclass(frozen=True)
@@ -1005,8 +1005,7 @@ def all_uncertain(inputs: StudyInputs) -> list[Uncertain]:
         out += [o.programme_capital, o.programme_upkeep_per_year]
         if o.loan is not None:
             out += [o.loan.share, o.loan.rate]
-        if o.station is not None:
-            st = o.station
+        for st in o.stations:
             out += [st.compressor_cost, st.storage_cost, st.dispenser_cost, st.upkeep_share,
                     st.hour_cost]
         for co in o.per_class.values():
@@ -1246,8 +1245,8 @@ def _option(r: _Reader, classes: tuple[FleetClass, ...], baseline: Option | None
         programme_grant=grant,
         programme_grant_share=grant_share,
         loan=None if not r.has("loan") else _loan(r.raw("loan"), r.at("loan")),
-        station=None if not r.has("station") else _station(
-            r.raw("station"), r.at("station"), classes, per_class, converts, currency),
+        stations=() if not r.has("station") else (_station(
+            r.raw("station"), r.at("station"), classes, per_class, converts, currency),),
     )
 
 
