@@ -87,11 +87,10 @@ def _npv(money: econ.Money, oid: str, base: str) -> float:
     return float(np.asarray(econ.npv(money.rate[0], money.cash[oid][0] - money.cash[base][0])))
 
 
-def _row(money: econ.Money, plan: Plan, oid: str, base: str, choice: Mapping[str, str]) -> dict:
+def _row(money: econ.Money, oid: str, base: str) -> dict:
     rate = money.rate
     diff = money.cash[oid] - money.cash[base]
-    nox_kg = sum(float((plan.nox_t[base, c] - plan.nox_t[o, c]).sum()) for c, o in
-                 choice.items()) * 1e3
+    nox_kg = float((money.nox[base] - money.nox[oid]).sum())  # a phased class's cohorts in
     return {
         "npv_vs_baseline": _npv(money, oid, base),
         "discounted_payback_years": float(np.asarray(econ.discounted_payback(rate[0],
@@ -200,12 +199,12 @@ def decision_tables(plan: Plan, samples: Mapping[str, np.ndarray], n: int,
             draws[best_id] = np.asarray(econ.npv(
                 money.rate, money.cash[best_id] - money.cash[base])).reshape(-1)
     rows = []
-    for oid, (_, choice) in single.items():
+    for oid in single:
         src, cid = oid.split("@", 1)
         rows.append({"candidate": src, "vehicle_class": cid,
-                     **_row(det, ext, oid, base, choice), **_spread(draws, oid),
+                     **_row(det, oid, base), **_spread(draws, oid),
                      "in_best_mix": best_choice[cid] == src})
-    mix = {**_row(det, ext, best_id, base, best_choice), **_spread(draws, best_id)}
+    mix = {**_row(det, best_id, base), **_spread(draws, best_id)}
     mix_rows = [{"vehicle_class": cid, "candidate": best_choice[cid], **mix} for cid in classes]
     return rows, mix_rows
 
