@@ -263,7 +263,7 @@ time_s,speed_km_per_h
 def test_duty_upload_updates_study_stats_and_plot(app, tmp_path):
     duty = app.duty
     assert duty.plot is None  # made when its tab is first opened
-    app.tabs.selected_index = 2
+    app.tabs.selected_index = list(app.tabs.children).index(app.duty)
     assert duty.plot is not None and duty.plot in duty.children
     assert "distance [km]" in duty.stats.value
     _upload(duty.files.upload, "my shift.csv", TRACE)

@@ -17,6 +17,7 @@ from workbench.interfaces.panels.economics import EconomicsPanel
 from workbench.interfaces.panels.export import ExportPanel
 from workbench.interfaces.panels.fields import esc
 from workbench.interfaces.panels.inputs import DutyPanel, EngineMapPanel
+from workbench.interfaces.panels.programme import ProgrammePanel
 from workbench.interfaces.panels.results import ResultsPanel
 from workbench.interfaces.panels.state import StudyState
 from workbench.interfaces.report import SAFETY_CAUTION
@@ -49,22 +50,24 @@ class App(widgets.VBox):
     ----------
     state : StudyState
         The shared state.
-    economics, candidates, duty, engine_map, results, export : widgets
+    economics, programme, candidates, duty, engine_map, results, export : widgets
         The panels.
     """
 
     def __init__(self, state: StudyState, *, export_dir: Path | None = None) -> None:
         self.state = state
         self.economics = EconomicsPanel(state)
+        self.programme = ProgrammePanel(state)
         self.candidates = CandidatesPanel(state)
         self.duty = DutyPanel(state, plot=False)
         self.engine_map = EngineMapPanel(state, plot=False)
         self.results = ResultsPanel(state)
         self.export = ExportPanel(state, folder=export_dir)
         self.status = StatusLine(state)
-        self.tabs = widgets.Tab(children=[self.economics, self.candidates, self.duty,
-                                          self.engine_map],
-                                titles=("Economics", "Fuels", "Duty", "Efficiency map"))
+        self.tabs = widgets.Tab(children=[self.economics, self.programme, self.candidates,
+                                          self.duty, self.engine_map],
+                                titles=("Economics", "Programme", "Fuels", "Duty",
+                                        "Efficiency map"))
         self.tabs.observe(self._tab_opened, names="selected_index")
         title = state.result.title if state.result is not None else state.study.where
         super().__init__([
