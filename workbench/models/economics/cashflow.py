@@ -539,10 +539,20 @@ class _Terms:
     residual: FloatArray | None  # residual value at the horizon, (n, 1)
 
 
-def _class_terms(c: ClassLine, n: int, years: np.ndarray, carbon: FloatArray) -> _Terms:
-    """One class line's share of an option's money: a phased class's converted share runs
-    as the line, the rest as :attr:`ClassLine.before`; capital, grants and downtime fall in
-    the years of the conversions, each cohort keeps its own residual value."""
+def _class_terms(c: ClassLine, n: int, years: np.ndarray, carbon: FloatArray,
+                 terms: dict[int, _Terms]) -> _Terms:
+    """One class line's share of an option's money, kept in ``terms`` by the line's id
+    (options sharing a line share its terms): a phased class's converted share runs as the
+    line, the rest as :attr:`ClassLine.before`; capital, grants and downtime fall in the years
+    of the conversions, each cohort keeps its own residual value."""
+    if id(c) not in terms:
+        terms[id(c)] = _line_terms(c, n, years, carbon, terms)
+    return terms[id(c)]
+
+
+def _line_terms(c: ClassLine, n: int, years: np.ndarray, carbon: FloatArray,
+                terms: dict[int, _Terms]) -> _Terms:
+    """:func:`_class_terms` of one line, worked out."""
     horizon = len(years) - 1
     act = c.active
     phased = c.phasing is not None and c.converts
@@ -578,7 +588,7 @@ def _class_terms(c: ClassLine, n: int, years: np.ndarray, carbon: FloatArray) ->
         if c.before is None:
             raise ValueError("a class line converted by phases needs the line it runs on "
                              "before (before=)")
-        rest = _class_terms(c.before, n, years, carbon)
+        rest = _class_terms(c.before, n, years, carbon, terms)
         keep = 1.0 - share  # the vehicles not yet converted
         emitted = emitted + rest.emitted * keep
         paid = paid + rest.carbon * keep
@@ -668,9 +678,7 @@ def programme_money(options: Mapping[str, OptionLines], *, baseline: str, rate: 
         nox_mass = np.zeros(horizon + 1)
         any_active = np.zeros(horizon + 1)
         for c in option.classes:
-            if id(c) not in terms:  # options sharing a class line share its terms
-                terms[id(c)] = _class_terms(c, n, years, carbon)
-            t = terms[id(c)]
+            t = _class_terms(c, n, years, carbon, terms)
             any_active = np.maximum(any_active, c.active)
             if oid == baseline:
                 km_total += t.km
