@@ -123,6 +123,22 @@ def test_off_depot_station_costs_lost_hours(demo):
     assert _npv(r, "lpg-taxis") - base == pytest.approx(-pv, rel=1e-9)
 
 
+def test_lpg_depot_station_tank_and_dispensers(demo):
+    station = {"window": "10 h", "storage_cost": 1500, "dispenser_cost": 30000,
+               "autonomy_days": 5, "fill_limit": "80 %"}
+    r = run(demo.with_value("candidates[0].station", station), draws=0)
+    row = r.stations.set_index("candidate").loc["lpg-taxis"]
+    # tank: 5 days of the day's litres at an 80 % fill limit
+    assert row.tank_m3 == pytest.approx(5 * row.daily_fuel_l / 1e3 / 0.8, rel=1e-12)
+    # 640 taxis x 85,000 km / 365 days / 450 km per fill
+    assert row.fills_per_day == pytest.approx(640 * 85000 / 365 / 450, rel=1e-12)
+    # dispensers: pumping at 40 L/min plus 5 min a fill, over the 10 h window
+    busy = row.daily_fuel_l / 40.0 + row.fills_per_day * 5.0  # [min]
+    assert row.dispensers == int(np.ceil(busy / 600.0))
+    assert row.capital == pytest.approx(1500 * row.tank_m3 + 30000 * row.dispensers,
+                                        rel=1e-12)
+
+
 @pytest.mark.parametrize(("changes", "message"), [
     ({"candidates[1].phasing": {"van": [0.5, 0.4]}}, r"phasing.van: shares add up to 0.9"),
     ({"candidates[1].phasing": {"van": [100, 100]}}, r"counts add up to 200, not the class"),

@@ -1583,6 +1583,9 @@ def _station(raw: Any, where: str, classes: tuple[FleetClass, ...],
         raise InputError(where, f"sizes compressed-gas (CNG) and liquefied-gas (LPG) stations; "
                          f"{fuel.id} is stored {storage}: leave station out")
     kind = STATION_KINDS[storage]
+    if kind == "lpg" and fuel.liquid_density is None:
+        raise InputError(where, f"{fuel.id} has no liquid density, which an LPG station's "
+                         "tank needs; give liquid_density in its fuel file")
     location = _choice(r.raw("location", "depot"), r.at("location"), STATION_LOCATIONS,
                        "station location")
     for key in _STATION_DEPOT if location == "off-depot" else _STATION_OFF:
