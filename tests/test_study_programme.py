@@ -178,3 +178,11 @@ def test_a_station_serves_one_fuel():
                                      "bus": "dedicated-si"}})
     with pytest.raises(InputError, match="a station dispenses one fuel"):
         study.with_value("candidates[1].station", {})
+
+
+def test_a_station_for_a_liquid_fuel_is_refused():
+    study = read_study("demo").with_values(
+        {"candidates[0].fuel": "gasoline", "candidates[0].conversion": "none"},
+        remove=("prices.lpg", "escalation.lpg", "upstream.lpg"))
+    with pytest.raises(InputError, match="gasoline is stored liquid: leave station out"):
+        study.with_value("candidates[0].station", {})
