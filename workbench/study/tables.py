@@ -505,6 +505,25 @@ def _assumptions(study: Study, draws: int) -> dict[str, str]:
         "classes past their remaining life": "drop out of every option alike (replacement "
                                              "vehicles are outside the study)",
     }
+    per_class = [co for o in i.candidates for co in o.per_class.values() if co.converts]
+    if any(co.phasing is not None for co in per_class):
+        out["phased conversions"] = ("a vehicle converted in year j runs converted from year "
+                                     "j + 1 and as the baseline until then; each cohort's "
+                                     "catalysts, inspections and residual value count from "
+                                     "its own conversion year")
+    if any(o.loan is not None for o in i.candidates):
+        out["loans"] = ("a share of each year's capital net of grants is borrowed at a real "
+                        "rate and repaid as a level annuity from the next year; a balance left "
+                        "at the horizon is settled in the last year")
+    if i.fuel_tax:
+        out["fuel tax"] = ("paid on top of the prices and escalated with its fuel's price; in "
+                           "the operator's NPV, and as the public client's revenue change in "
+                           "the funding table")
+    if any(o.stations for o in i.candidates):
+        out["refuelling stations"] = ("sized for the whole class converted at the nominal "
+                                      "distance; screening sizes for the cost, to be designed "
+                                      "and installed by licensed practitioners under local "
+                                      "codes")
     return out
 
 
