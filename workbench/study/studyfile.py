@@ -1593,23 +1593,32 @@ def _station(raw: Any, where: str, classes: tuple[FleetClass, ...],
             other = "depot" if location == "off-depot" else "off-depot"
             raise InputError(r.at(key), f'applies to location = "{other}" only; leave it out')
     vehicle_p = spec.pressure or 20e6
+
+    def q(key: str, dimension: str, default: Any, unit: str, scale: float, low: float,
+          high: float) -> float:
+        """A station quantity checked in ``unit`` (errors say it), returned times ``scale``
+        (in SI)."""
+        value = r.quantity(key, dimension, default, unit=unit)
+        _check_range(value, r.at(key), low, high, (unit, 1.0))
+        return value * scale
+
     if kind == "cng":
-        flow = r.quantity("hose_flow", "[mass] / [time]", "20 kg/min", low=1e-4, high=10.0)
+        flow = q("hose_flow", "[mass] / [time]", "20 kg/min", "kg/min", 1 / 60, 0.01, 600.0)
     else:
-        flow = r.quantity("hose_flow", "[length] ** 3 / [time]", "40 L/min", low=1e-7,
-                          high=0.1)
+        flow = q("hose_flow", "[length] ** 3 / [time]", "40 L/min", "L/min", 1e-3 / 60, 0.01,
+                 6000.0)
     money = {"unit": (currency, 1.0)}
     station = Station(
         kind=kind, fuel=fuel, location=location,
-        window=r.quantity("window", "[time]", "8 h", low=60.0, high=86400.0),
+        window=q("window", "[time]", "8 h", "hour", 3600.0, 1 / 60, 24.0),
         operating_days=r.quantity("operating_days", "[]", 365, low=1.0, high=366.0),
         peak_factor=r.quantity("peak_factor", "[]", 2.0, low=1.0, high=24.0),
-        storage_pressure=r.quantity("storage_pressure", "[pressure]", "250 bar", low=1e5,
-                                    high=1e8),
-        fill_pressure=r.quantity("fill_pressure", "[pressure]", f"{vehicle_p / 1e5:g} bar",
-                                 low=1e5, high=1e8),
+        storage_pressure=q("storage_pressure", "[pressure]", "250 bar", "bar", 1e5, 1.0,
+                           1000.0),
+        fill_pressure=q("fill_pressure", "[pressure]", f"{vehicle_p / 1e5:g} bar", "bar", 1e5,
+                        1.0, 1000.0),
         hose_flow=flow,
-        handling=r.quantity("handling", "[time]", "5 min", low=0.0, high=86400.0),
+        handling=q("handling", "[time]", "5 min", "minute", 60.0, 0.0, 1440.0),
         autonomy_days=r.quantity("autonomy_days", "[]", 7, low=0.1, high=366.0),
         fill_limit=r.quantity("fill_limit", "[]", "85 %", low=0.1, high=1.0),
         compressor_cost=r.uncertain("compressor_cost", _money, 0.0, low=0.0, **money),
@@ -1617,7 +1626,7 @@ def _station(raw: Any, where: str, classes: tuple[FleetClass, ...],
         dispenser_cost=r.uncertain("dispenser_cost", _money, 0.0, low=0.0, **money),
         upkeep_share=r.uncertain("upkeep_share", _fraction, 0.0, low=0.0, high=1.0,
                                  unit=PERCENT),
-        detour=r.quantity("detour", "[time]", "0 min", low=0.0, high=86400.0),
+        detour=q("detour", "[time]", "0 min", "minute", 60.0, 0.0, 1440.0),
         hour_cost=r.uncertain("hour_cost", _money, 0.0, low=0.0,
                               unit=(f"{currency}/h", 1.0)),
         classes=tuple(served))
