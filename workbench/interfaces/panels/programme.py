@@ -156,10 +156,8 @@ class ProgrammePanel(widgets.VBox):
             drop.observe(lambda change, p=p: self._location(p, change["new"]), names="value")
             self.locations[p] = drop
             self._station_row(p, where)
-        fuels = list(study.get("prices"))
-        self.taxes = {fid: BoundField(state, f"fuel_tax.{fid}", f"fuel tax on {fid}",
-                                      text_box(str(get_or(study, f"fuel_tax.{fid}", ""))),
-                                      convert=to_raw, empty_removes=True) for fid in fuels}
+        self.taxes: dict[str, BoundField] = {}
+        self.tax_box = widgets.VBox()
         self.summary = widgets.HTML()
         self._show()
         state.on_change(lambda _s: self._show())
@@ -174,7 +172,7 @@ class ProgrammePanel(widgets.VBox):
                          "Station sizes are screening estimates: licensed practitioners design "
                          "and install gas stations, local codes decide.</p>"),
             *self.phasing.values(), *self.grants.values(), *self.loans.values(), *stations,
-            widgets.HTML("<h4>Fuel taxes</h4>"), *self.taxes.values(), self.summary])
+            widgets.HTML("<h4>Fuel taxes</h4>"), self.tax_box, self.summary])
 
     def _station_row(self, prefix: str, where: str) -> None:
         path = f"{prefix}.station"
@@ -196,5 +194,14 @@ class ProgrammePanel(widgets.VBox):
             self.stations[path].commit()
 
     def _show(self) -> None:
+        """Fuel-tax fields for the study's fuels (rebuilt when they change) and the summary."""
+        study = self.state.study
+        fuels = list(study.get("prices"))
+        if fuels != list(self.taxes):
+            self.taxes = {fid: self.taxes.get(fid) or BoundField(
+                self.state, f"fuel_tax.{fid}", f"fuel tax on {fid}",
+                text_box(str(get_or(study, f"fuel_tax.{fid}", ""))), convert=to_raw,
+                empty_removes=True) for fid in fuels}
+            self.tax_box.children = tuple(self.taxes.values())
         result = self.state.result
         self.summary.value = "" if result is None else programme_html(result)
