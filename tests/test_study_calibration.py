@@ -162,3 +162,35 @@ def test_a_study_checked_again_keys_its_cards_by_content(tmp_path):
     cards.write_text(CARDS.read_text(encoding="utf-8").replace(",1.76,", ",1.77,", 1),
                      encoding="utf-8")
     assert _study(tmp_path, 'fuel_cards = "cards.csv"').inputs.classes[0] != first
+
+
+def test_tornado_shows_the_vehicle_spread_and_the_calibration(runs):
+    # Both drawn physics factors are normal with mean 1, so their P10 and P90 are
+    # 1 -/+ z sd with z = 1.281552 (standard normal table). The tornado shows the spread's
+    # factor as the taxis' baseline fuel energy per km (calibrated) and the calibration's as
+    # the factor itself, each with its unit.
+    study, on, _ = runs
+    from workbench.study import runner
+
+    z = 1.2815515655446004
+    plan, _ = runner._plan(study.inputs)
+    agg = plan.physics[study.inputs.baseline.id, "taxi"].duty.fleet.aggregate
+    base_mj = plan.physics[study.inputs.baseline.id, "taxi"].fuel_energy_per_m / 1e3
+    k, se = on.calibration[["calibration_factor", "calibration_factor_se"]].iloc[0]
+    converting = [o.id for o in study.inputs.candidates if "taxi" in o.per_class
+                  and o.per_class["taxi"].converts]
+    assert converting
+    for cand in converting:
+        rows = on.tornado[on.tornado["candidate"] == cand].set_index("input")
+        spread = rows.loc["classes.taxi.vehicle_spread"]
+        assert spread["label"] == ("Taxis: mean fuel energy per km of its vehicles "
+                                   "(from their spread)")
+        assert spread["unit"] == "MJ/km"
+        sd = agg.mean_se_per_m / agg.energy_per_m
+        assert_allclose([spread["low_value"], spread["high_value"]],
+                        [base_mj * (1 - z * sd), base_mj * (1 + z * sd)], rtol=1e-9)
+        cal = rows.loc["classes.taxi.calibration"]
+        assert cal["label"] == "Taxis: fuel-card calibration factor" and cal["unit"] == "-"
+        assert_allclose([cal["low_value"], cal["high_value"]], [k - z * se, k + z * se],
+                        rtol=1e-9)
+        assert spread["swing"] > 0 and cal["swing"] > 0

@@ -50,8 +50,8 @@ KEY_WORDS = {
     "tank_inspection_interval_years": "tank inspection interval [years]",
     "classes": "converted classes",
     "n2o": "tailpipe N2O",
-    "vehicle_spread": "spread of fuel use between its vehicles",
-    "calibration": "fuel-card calibration of its fuel use",
+    "vehicle_spread": "mean fuel energy per km of its vehicles (from their spread)",
+    "calibration": "fuel-card calibration factor",
     "fuel_cards": "fuel cards",
     "calibrate": "apply the fuel-card calibration",
 }
