@@ -26,6 +26,22 @@ def test_json_with_fuel_cards(capsys):
     assert 30.0 < per_l < 34.0  # gasoline ~32 MJ/L (common practice, no source)
     assert data["calibration"]["vehicles"] == 12
     assert "vehicles 13/13" in err
+    # each vehicle: observed beside modelled, residual = observed - factor x modelled (the
+    # calibration's definition, docs/fleet-logs.md), the same as the fit's own table
+    k = data["calibration"]["calibration_factor"]
+    fit = {r["vehicle"]: r for r in data["calibration"]["residuals"]}
+    for row in data["vehicles"]:
+        assert abs(row["residual_mj_per_km"] - (row["observed_mj_per_km"]
+                                               - k * row["fuel_energy_mj_per_km"])) < 1e-12
+        assert row["observed_mj_per_km"] == fit[row["vehicle"]]["observed_mj_per_km"]
+
+
+def test_text_with_fuel_cards_shows_each_vehicles_fit(capsys):
+    assert main([*BASE, "--fuel-cards", CARDS, "--quiet"]) == 0
+    out = capsys.readouterr().out
+    header = out.splitlines()[0].split()
+    assert header[:6] == ["vehicle", "distance_km", "fuel_l_per_100km", "fuel_energy_mj_per_km",
+                          "observed_mj_per_km", "residual_mj_per_km"]
 
 
 def test_text_and_quiet(capsys):

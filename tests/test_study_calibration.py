@@ -164,6 +164,38 @@ def test_a_study_checked_again_keys_its_cards_by_content(tmp_path):
     assert _study(tmp_path, 'fuel_cards = "cards.csv"').inputs.classes[0] != first
 
 
+def test_vehicles_table_sets_each_vehicles_cards_beside_its_model(runs):
+    # observed MJ/km by hand from the card file (full-to-full: litres after the first fill
+    # over the odometer distance, times gasoline's LHV per litre); residual = observed minus
+    # the calibrated model (k x modelled), whether the factor is applied or not
+    study, on, off = runs
+    fuel = study.inputs.baseline.per_class["taxi"].fuel
+    per_litre = fuel_sheet(fuel).lhv_mass * fuel.liquid_density * 1e-3  # J/L
+    cards = pd.read_csv(CARDS, comment="#").sort_values(["vehicle", "date"])
+    k = on.calibration["calibration_factor"].iloc[0]
+    for result in (on, off):
+        table = result.vehicles.set_index("vehicle")
+        assert {"observed_mj_per_km", "residual_mj_per_km"} <= set(table.columns)
+        for vid, g in cards.groupby("vehicle"):
+            if vid not in table.index:
+                continue  # KB-T13: cards but a broken log
+            km = g["odometer_km"].iloc[-1] - g["odometer_km"].iloc[0]
+            hand = g["litres"].iloc[1:].sum() * per_litre / 1e6 / km
+            row = table.loc[vid]
+            assert_allclose(row["observed_mj_per_km"], hand, rtol=1e-9)
+            assert_allclose(row["residual_mj_per_km"],
+                            hand - k * row["fuel_energy_mj_per_km"], rtol=1e-9, atol=1e-12)
+
+
+def test_report_shows_each_vehicles_observed_fuel(runs):
+    from workbench.interfaces.report import html_report
+
+    _, on, _ = runs
+    html = html_report(on, study_text="# fleet study\n")
+    assert "observed fuel energy [MJ/km]" in html
+    assert "residual, observed − calibrated model [MJ/km]" in html
+
+
 def test_tornado_shows_the_vehicle_spread_and_the_calibration(runs):
     # Both drawn physics factors are normal with mean 1, so their P10 and P90 are
     # 1 -/+ z sd with z = 1.281552 (standard normal table). The tornado shows the spread's

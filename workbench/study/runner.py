@@ -417,6 +417,12 @@ def class_calibration(c: FleetClass, base: ClassOption
         raise InputError(where, exc.message) from None
 
 
+def _fit(c: FleetClass, base: ClassOption) -> Calibration | None:
+    """A class's fit against its fuel cards (applied or not), None without cards."""
+    found = class_calibration(c, base)
+    return None if found is None else found[0]
+
+
 def applied_calibration(c: FleetClass, base: ClassOption) -> float:
     """Factor a class's modelled fuel energy per km is multiplied by on every option [-]:
     the fitted one when the class calibrates, else 1."""
@@ -727,7 +733,8 @@ def run(study: Study, *, draws: int | None = None,
                          row for c in inputs.classes for row in vehicle_rows(
                              c.id, plan.physics[inputs.baseline.id, c.id].duty,
                              inputs.baseline.per_class[c.id].fuel,
-                             plan.physics[inputs.baseline.id, c.id].sheet)]),
+                             plan.physics[inputs.baseline.id, c.id].sheet,
+                             _fit(c, inputs.baseline.per_class[c.id]))]),
                      calibration=tables.frame("calibration", calibration_rows(inputs)))
     result.assumptions.update(_fleet_notes(plan))
     result.assumptions.update(_calibration_notes(inputs))

@@ -88,13 +88,18 @@ def _run(args: argparse.Namespace) -> None:
         "fuel_l_per_100km_p10": agg.spread_per_m[0] * to_l100,
         "fuel_l_per_100km_p90": agg.spread_per_m[1] * to_l100,
         "distance_km": agg.energy.distance / 1e3, "share_idle": agg.energy.share_idle,
-        "problems": list(run.problems), "vehicles": table.to_dict("records"),
+        "problems": list(run.problems),
     }
     cal = None
+    cols = ["vehicle", "distance_km", "fuel_l_per_100km", "share_idle", "trips", "gaps",
+            "spikes", "duplicates", "missing"]
     if args.fuel_cards:
         records = read_fuel_cards(args.fuel_cards)
         per_amount = card_energy_per_amount(fuel, sheet.lhv_mass, records.basis, "--fuel")
         cal, notes = calibrate_fleet(run, records, energy_per_amount=per_amount)
+        cards = cal.per_vehicle(table["vehicle"])
+        table = table.assign(**{k: cards[k].to_numpy() for k in cards})
+        cols[3:3] = ["fuel_energy_mj_per_km", *cards]
         record["calibration"] = {"calibration_factor": cal.factor,
                                  "calibration_factor_se": cal.factor_se,
                                  "vehicles": cal.vehicles,
@@ -103,11 +108,10 @@ def _run(args: argparse.Namespace) -> None:
                                  "rms_residual_mj_per_km": cal.rms_residual_per_m / 1e3,
                                  "notes": list(notes),
                                  "residuals": cal.residuals.to_dict("records")}
+    record["vehicles"] = table.to_dict("records")
     if args.json:
         print_json(record)
         return
-    cols = ["vehicle", "distance_km", "fuel_l_per_100km", "share_idle", "trips", "gaps",
-            "spikes", "duplicates", "missing"]
     print(table[cols].to_string(index=False, float_format=lambda x: f"{x:.3g}"))
     print(f"\nclass: {record['fuel_l_per_100km']:.2f} L/100 km over "
           f"{record['distance_km']:,.0f} km, {len(run.summaries)} of {run.found} vehicles; "
@@ -119,5 +123,5 @@ def _run(args: argparse.Namespace) -> None:
         print(f"\nfuel cards: observed {cal.observed_per_m / 1e3:.3f} MJ/km, modelled "
               f"{cal.modelled_per_m / 1e3:.3f} MJ/km over {cal.vehicles} vehicles; "
               f"calibration factor {cal.factor:.3f} ± {cal.factor_se:.3f} (1 se), "
-              f"RMS residual {cal.rms_residual_per_m / 1e3:.3f} MJ/km")
-        print(cal.residuals.to_string(index=False, float_format=lambda x: f"{x:.3f}"))
+              f"RMS residual {cal.rms_residual_per_m / 1e3:.3f} MJ/km (each vehicle's "
+              "observed and residual in the table above)")
