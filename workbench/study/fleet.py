@@ -24,6 +24,7 @@ import os
 from collections.abc import Callable, Iterator
 from concurrent.futures import ProcessPoolExecutor, as_completed
 from contextlib import contextmanager
+from contextvars import ContextVar
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -66,7 +67,30 @@ from workbench.models.vehicle import Vehicle
 SINGLE_THREAD_ENV = {v: "1" for v in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS",
                                       "MKL_NUM_THREADS", "NUMBA_NUM_THREADS")}
 
+#: Progress of a fleet run: called with (vehicles done, vehicles in all) as each vehicle
+#: finishes; the terminal prints it (``workbench fleet run``, ``study run``), the panels draw
+#: it as a bar (``workbench.interfaces.panels.app.FleetProgress``).
 Progress = Callable[[int, int], None]
+
+#: The progress the fleet runs of a study report to (:func:`reporting`).
+_REPORT: ContextVar[Progress | None] = ContextVar("fleet_progress", default=None)
+
+
+@contextmanager
+def reporting(progress: Progress | None) -> Iterator[None]:
+    """Inside the block, every fleet run of a study (:func:`fleet_duty`) reports its vehicles
+    to ``progress``; the study's physics cache stays keyed by the physics alone.
+
+    Parameters
+    ----------
+    progress : callable or None
+        ``progress(done, total)`` [vehicles]; None reports nothing.
+    """
+    token = _REPORT.set(progress)
+    try:
+        yield
+    finally:
+        _REPORT.reset(token)
 
 
 @dataclass(frozen=True)
@@ -429,10 +453,12 @@ def fleet_duty(logs: FleetSource, vehicle: Vehicle, engine_map: EngineMap, *,
     Returns
     -------
     FleetDutyRun
-        Energy of the class, NOx weighting over :data:`NOX_SPEED_BINS` groups of its
+        Energy of the class (its vehicles reported to the progress of :func:`reporting`
+        as they finish), NOx weighting over :data:`NOX_SPEED_BINS` groups of its
         histogram's speed bins, its operating points, and the run.
     """
-    run = run_fleet(logs, vehicle, engine_map, settings=settings, engine=engine)
+    run = run_fleet(logs, vehicle, engine_map, settings=settings, engine=engine,
+                    progress=_REPORT.get())
     speeds, weights, points = class_tables(run.aggregate, engine_map, NOX_SPEED_BINS)
     return FleetDutyRun(run.aggregate.energy, speeds, weights, points, run)
 

@@ -61,9 +61,11 @@ from workbench.models.vehicle import Vehicle
 from workbench.study import tables
 from workbench.study.fleet import (
     FleetDutyRun,
+    Progress,
     calibrate_fleet,
     card_energy_per_amount,
     fleet_duty,
+    reporting,
     vehicle_rows,
 )
 from workbench.study.results import RunMap, StudyResult
@@ -682,7 +684,8 @@ def _values(u: Uncertain, params: Mapping[str, np.ndarray], n: int) -> np.ndarra
 
 
 def run(study: Study, *, draws: int | None = None,
-        progress: Callable[[str], None] | None = None) -> StudyResult:
+        progress: Callable[[str], None] | None = None,
+        vehicles: Progress | None = None) -> StudyResult:
     """Run a study.
 
     Parameters
@@ -694,6 +697,10 @@ def run(study: Study, *, draws: int | None = None,
         the Monte Carlo and the tornado.
     progress : callable, optional
         Called with a short text as each slow step starts (the panels show it).
+    vehicles : callable, optional
+        Called with (vehicles done, vehicles in all) as each vehicle of a class run from its
+        logs finishes, once per fleet run (``workbench.study.fleet.Progress``; the terminal
+        prints it, the panels draw a bar); not called when the physics is cached.
 
     Returns
     -------
@@ -703,7 +710,8 @@ def run(study: Study, *, draws: int | None = None,
     say = progress or (lambda _text: None)
     n = inputs.draws if draws is None else check_draws(draws, inputs, "draws")
     say("physics and chemistry (cached after the first run)")
-    plan, physics_tables = _plan(inputs)
+    with reporting(vehicles):
+        plan, physics_tables = _plan(inputs)
     say("money")
     lines = _lines(plan, {}, 1)
     det = _money(plan, {}, 1, lines)

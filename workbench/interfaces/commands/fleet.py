@@ -10,10 +10,9 @@ from __future__ import annotations
 
 import argparse
 import math
-import sys
 
 from workbench.core.errors import InputError
-from workbench.interfaces.cli import add_quiet, command
+from workbench.interfaces.cli import add_quiet, command, print_vehicles
 from workbench.interfaces.commands.duty import demo_names, resolve
 
 
@@ -53,11 +52,6 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.set_defaults(func=_run)
 
 
-def _progress(done: int, total: int) -> None:
-    print(f"\rvehicles {done}/{total}", end="\n" if done == total else "", file=sys.stderr,
-          flush=True)
-
-
 def _run(args: argparse.Namespace) -> None:
     from workbench.core.fuels import load_fuel
     from workbench.interfaces.cli import print_json
@@ -76,7 +70,7 @@ def _run(args: argparse.Namespace) -> None:
     density = fuel.liquid_density or math.nan
     engine = args.scheduler or ("serial" if args.workers == 1 else "process")
     run = run_fleet(args.source, vehicle, engine_map, engine=engine, workers=args.workers,
-                    progress=None if args.quiet else _progress)
+                    progress=None if args.quiet else print_vehicles)
     table = run.table()
     to_l100 = 1e8 / (sheet.lhv_mass * density)  # J/m -> L/100 km
     table["fuel_l_per_100km"] = table["fuel_energy_mj_per_km"] * 1e3 * to_l100
