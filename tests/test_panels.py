@@ -383,6 +383,25 @@ def test_conversion_kind_picked_in_the_panel_reaches_the_study_and_the_warning(a
     assert "taxi: bi-fuel-si" in lpg.kinds.value
 
 
+def test_a_dual_fuel_candidate_s_pilot_is_picked_in_the_panel(app):
+    pilot = app.candidates.pilots["candidates[1].pilot_fuel"]
+    assert pilot.choice.disabled  # no dual-fuel class yet
+    app.candidates.conversions["candidates[1].conversion.van"].choice.value = "dual-fuel-ci"
+    assert not pilot.choice.disabled and "van: diesel" in pilot.note.value
+    fuel_use = app.state.result.fuel_use
+    assert set(fuel_use.query("candidate == 'cng-fleet'")["role"]) >= {"gas", "pilot"}
+    # another compression-ignition fuel of the library: written for the dual-fuel class only
+    # (the option's other classes are not dual fuel), its prices copied from diesel's
+    pilot.choice.value = "n-dodecane"
+    assert pilot.error.value == ""
+    assert app.study.get("candidates[1].pilot_fuel.van") == "n-dodecane"
+    assert app.study.get("prices.n-dodecane") == app.study.get("prices.diesel")
+    assert "van: n-dodecane" in pilot.note.value and "copied from diesel" in pilot.note.value
+    pilot.choice.value = "(the class's fuel today)"
+    assert pilot.error.value == "", pilot.error.value
+    assert "pilot_fuel" not in app.study.data["candidates"][1]
+
+
 def test_the_answer_is_on_top_in_the_report_s_words(app):
     from workbench.interfaces.report import SAFETY_CAUTION
     from workbench.interfaces.summary import verdicts

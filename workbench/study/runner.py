@@ -27,7 +27,6 @@ from workbench.core.cache import memoize
 from workbench.core.constants import J_PER_KWH
 from workbench.core.errors import InputError
 from workbench.core.fuels import Fuel
-from workbench.core.thermo import molar_mass
 from workbench.core.units import Price, price_per_energy
 from workbench.io.logs import FleetSource
 from workbench.models import economics as econ
@@ -35,13 +34,13 @@ from workbench.models.aftertreatment import Aftertreatment, optimal_interval, pr
 from workbench.models.calibration import Calibration
 from workbench.models.combustion import FuelSheet, fuel_sheet
 from workbench.models.conversion import (
-    GAS_LOAD_HIGH,
-    GAS_LOAD_LOW,
-    GAS_SHARE_MAX,
+    DEFAULT_SUBSTITUTION,
     KINDS,
+    Substitution,
     convert,
     histogram_gas_share,
     kind_derate,
+    slipped,
 )
 from workbench.models.duty import DutySettings, DutyTrace, ModeTable
 from workbench.models.emissions import co2e
@@ -86,7 +85,8 @@ from workbench.study.studyfile import (
 @memoize(maxsize=128)
 def converted_map(engine_map: EngineMap, derate: float, efficiency_offset: float,
                   conversion: str = "none", fuel: Fuel | None = None,
-                  methane_slip: float | None = None
+                  methane_slip: float | None = None,
+                  substitution: Substitution = DEFAULT_SUBSTITUTION
                   ) -> tuple[EngineMap, dict[str, tuple[float, str, str]]]:
     """The map a fuel runs on, and the numbers a derived map used (cached by their content).
 
@@ -104,6 +104,8 @@ def converted_map(engine_map: EngineMap, derate: float, efficiency_offset: float
         The fuel a derived map burns.
     methane_slip : float, optional
         Share of a dual-fuel engine's gas that slips unburnt [-]; None: the kind's.
+    substitution : Substitution, optional
+        A dual-fuel engine's gas share against load.
 
     Returns
     -------
@@ -111,7 +113,8 @@ def converted_map(engine_map: EngineMap, derate: float, efficiency_offset: float
     """
     sheet = fuel_sheet(fuel) if fuel is not None else None
     out = convert(engine_map, KINDS[conversion], sheet, None, derate=derate,
-                  efficiency_offset=efficiency_offset, methane_slip=methane_slip)
+                  efficiency_offset=efficiency_offset, methane_slip=methane_slip,
+                  substitution=substitution)
     return out.engine_map, out.parameters
 
 
@@ -119,7 +122,8 @@ def converted_map(engine_map: EngineMap, derate: float, efficiency_offset: float
 def duty_physics(profile: DutyTrace | ModeTable | FleetSource, vehicle: Vehicle | None,
                  engine_map: EngineMap, derate: float, efficiency_offset: float,
                  settings: DutySettings, conversion: str = "none", fuel: Fuel | None = None,
-                 methane_slip: float | None = None) -> DutyRun:
+                 methane_slip: float | None = None,
+                 substitution: Substitution = DEFAULT_SUBSTITUTION) -> DutyRun:
     """Run a profile with a vehicle and an adjusted map (cached by their content).
 
     Parameters
@@ -138,16 +142,16 @@ def duty_physics(profile: DutyTrace | ModeTable | FleetSource, vehicle: Vehicle 
         Added to every map cell [-].
     settings : DutySettings
         Accessories, engine-off at stops, extra idling.
-    conversion, fuel, methane_slip
-        Conversion kind whose derived map applies, its fuel and a dual-fuel engine's slip
-        (:func:`converted_map`).
+    conversion, fuel, methane_slip, substitution
+        Conversion kind whose derived map applies, its fuel, a dual-fuel engine's slip and
+        gas share against load (:func:`converted_map`).
 
     Returns
     -------
     DutyRun
     """
     emap = converted_map(engine_map, derate, efficiency_offset, conversion, fuel,
-                         methane_slip)[0]
+                         methane_slip, substitution)[0]
     if isinstance(profile, FleetSource):
         return fleet_duty(profile, vehicle, emap, settings=settings)
     return run_duty(profile, vehicle, emap, settings=settings)
@@ -166,7 +170,8 @@ class FuelBurnt:
     energy_share : float
         Its share of the class's fuel energy over the duty [-].
     per_m : FuelPerDistance
-        Its energy, mass, volume and tank-to-wheel CO2 (all its carbon burnt) per metre.
+        Its energy, mass, volume and tank-to-wheel CO2 per metre: the CO2 of its carbon less
+        that of the methane slipping unburnt (which leaves as CH4, not CO2).
     ch4_per_m : float
         Its methane slipping unburnt [kg/m].
     """
@@ -221,20 +226,21 @@ def applied_derate(co: ClassOption) -> float:
     return kind_derate(KINDS[co.conversion], fuel_sheet(co.fuel), fuel_sheet(co.derate_against))
 
 
-def _map_inputs(co: ClassOption
-                ) -> tuple[EngineMap, float, float, str, Fuel | None, float | None]:
-    """(map, derate, offset, conversion kind, fuel, slip) that :func:`converted_map` takes for
-    an option: the kind's derived map only where the option derives one, the option's methane
-    slip where that map is a dual-fuel one."""
+def _map_inputs(co: ClassOption) -> tuple[EngineMap, float, float, str, Fuel | None,
+                                          float | None, Substitution]:
+    """(map, derate, offset, conversion kind, fuel, slip, substitution curve) that
+    :func:`converted_map` takes for an option: the kind's derived map only where the option
+    derives one, the option's methane slip and curve where that map is a dual-fuel one."""
     kind, fuel = (co.conversion, co.fuel) if co.derived_map else ("none", None)
-    slip = co.methane_slip if kind == "dual-fuel-ci" else None
-    return co.map_data, applied_derate(co), co.efficiency_offset, kind, fuel, slip
+    dual = kind == "dual-fuel-ci"
+    return (co.map_data, applied_derate(co), co.efficiency_offset, kind, fuel,
+            co.methane_slip if dual else None, co.substitution if dual else DEFAULT_SUBSTITUTION)
 
 
 def _duty_for(c: FleetClass, co: ClassOption) -> DutyRun:
-    emap, derate, offset, kind, fuel, slip = _map_inputs(co)
+    emap, derate, offset, kind, fuel, slip, curve = _map_inputs(co)
     return duty_physics(c.profile_data, c.vehicle_data, emap, derate, offset, _settings(c),
-                        kind, fuel, slip)
+                        kind, fuel, slip, curve)
 
 
 def option_map(co: ClassOption) -> EngineMap:
@@ -364,18 +370,18 @@ def class_physics(c: FleetClass, co: ClassOption, base: ClassOption, months: int
 def _fuels_burnt(co: ClassOption, energy: DutyEnergy, duty: DutyRun) -> tuple[FuelBurnt, ...]:
     """The fuels an option burns on a class's duty: its fuel; or, on a dual-fuel engine, its
     gas at the duty's gas share (:func:`histogram_gas_share` on the map it ran on) and the
-    pilot for the rest. The methane slip applies to the (gas) fuel's methane."""
+    pilot for the rest. The methane slip applies to the (gas) fuel's methane, whose carbon
+    leaves as CH4 rather than CO2 (:func:`~workbench.models.conversion.slipped`)."""
     def burnt(fuel: Fuel, role: str, share: float) -> FuelBurnt:
         part = energy if share == 1.0 else replace(energy,
                                                   fuel_energy=energy.fuel_energy * share)
         per_m = fuel_per_distance_for(part, fuel, fuel_sheet(fuel))
-        slip = co.methane_slip if fuel is co.fuel else 0.0
-        return FuelBurnt(fuel, role, share, per_m,
-                         slip * _methane_mass_share(fuel) * per_m.fuel_mass_per_m)
+        per_m, ch4 = slipped(per_m, fuel, co.methane_slip if fuel is co.fuel else 0.0)
+        return FuelBurnt(fuel, role, share, per_m, ch4)
 
     if co.pilot_fuel is None:
         return (burnt(co.fuel, "fuel", 1.0),)
-    share = histogram_gas_share(duty, option_map(co))
+    share = histogram_gas_share(duty, option_map(co), curve=co.substitution)
     return burnt(co.fuel, "gas", share), burnt(co.pilot_fuel, "pilot", 1.0 - share)
 
 
@@ -445,11 +451,6 @@ def _best_interval(device: Aftertreatment, eo: float, km_month: float, months: i
                               nox_damage_cost=damage, fleet_size=count)
     row = choice.table.loc[choice.table["interval_months"] == choice.interval_months].iloc[0]
     return choice.interval_months, float(row["total_cost"])
-
-
-def _methane_mass_share(fuel: Fuel) -> float:
-    x = fuel.mole_fractions.get("CH4", 0.0)
-    return x * molar_mass({"C": 1, "H": 4}) / fuel.molar_mass() if x else 0.0
 
 
 @memoize(maxsize=256)
@@ -990,14 +991,13 @@ def defaults_rows(inputs: StudyInputs,
         if co.derate_against is not None:
             add("derate", f"{applied_derate(co) * 100:.1f}", "%",
                 KINDS[co.conversion].sources["derate"])
-        if co.derived_map:
+        if co.derived_map and co.pilot_fuel is None:
+            # a dual-fuel map's numbers are its slip and curve, each listed on its own below
             for name, (value, unit, source) in converted_map(*_map_inputs(co))[1].items():
                 add(name, f"{value:.4g}", unit, source)
-        if co.pilot_fuel is not None:
-            kind = KINDS[co.conversion]
-            add("gas substitution curve", f"0 below {GAS_LOAD_LOW * 100:g} % load, rising linearly "
-                f"to {GAS_SHARE_MAX * 100:g} % at {GAS_LOAD_HIGH * 100:g} % load and above",
-                "share of fuel energy", kind.source)
+        if co.pilot_fuel is not None and co.substitution == DEFAULT_SUBSTITUTION:
+            add("gas substitution curve", co.substitution.describe(), "share of fuel energy",
+                KINDS[co.conversion].source)
             if physics is not None:
                 ph = physics[oid, cid]
                 add("gas energy share on the duty", f"{ph.fuels[0].energy_share * 100:.1f}",

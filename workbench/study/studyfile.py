@@ -55,11 +55,13 @@ from workbench.io.vehicles import read_vehicle
 from workbench.models.aftertreatment import DEVICE_PRESETS, Aftertreatment
 from workbench.models.calibration import FuelRecords
 from workbench.models.conversion import (
+    DEFAULT_SUBSTITUTION,
     KINDS,
     REGIME_DEVICE,
     REGIME_LAMBDA,
     REGIME_SLIP,
     ConversionKind,
+    Substitution,
     conversion_kind,
     fuel_regime,
     infer_kind,
@@ -194,6 +196,9 @@ class ClassOption:
     #: The diesel-like pilot of a dual-fuel engine (``conversion = "dual-fuel-ci"``; ``fuel``
     #: is then its gas); None for an engine that burns one fuel.
     pilot_fuel: Fuel | None = None
+    #: A dual-fuel engine's gas share against load (``gas_substitution``; the kind's curve
+    #: when not given).
+    substitution: Substitution = DEFAULT_SUBSTITUTION
 
     @property
     def fuels(self) -> tuple[Fuel, ...]:
@@ -1145,7 +1150,8 @@ def _option(r: _Reader, classes: tuple[FleetClass, ...], baseline: Option | None
             "efficiency_offset", "conversion_cost", "upkeep_change_per_year", "downtime_days",
             "tank_inspection_interval_years", "tank_inspection_cost", "n2o",
             "engine_out_nox", "lambda_overall", "methane_slip", "aftertreatment",
-            "programme_capital", "programme_upkeep_per_year", "conversion", "pilot_fuel"),
+            "programme_capital", "programme_upkeep_per_year", "conversion", "pilot_fuel",
+            "gas_substitution"),
            "an option")
     class_ids = {c.id for c in classes}
     converts = class_ids
@@ -1310,6 +1316,8 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOpt
         derate_against=(base.fuel if base is not None else fuel) if air_derate else None,
         reference_fuel=load_fuel(DEFAULT_REFERENCE_FUEL[engine]),
         pilot_fuel=pilot,
+        substitution=_substitution(_per_class(r, "gas_substitution", c.id, class_ids, None),
+                                   at("gas_substitution"), kind.name),
     )
 
 
@@ -1340,6 +1348,34 @@ def _pilot_fuel(r: _Reader, c: FleetClass, class_ids: set[str], kind: str, fuel:
         raise InputError(where, f"the pilot {pilot.id} does not ignite by compression; a "
                          'dual-fuel engine needs a diesel-like pilot: pilot_fuel = "diesel"')
     return pilot
+
+
+#: The keys of a ``gas_substitution`` table and the curve's own values.
+_SUBSTITUTION_KEYS = {"share_max": DEFAULT_SUBSTITUTION.share_max,
+                      "load_low": DEFAULT_SUBSTITUTION.load_low,
+                      "load_high": DEFAULT_SUBSTITUTION.load_high}
+
+
+def _substitution(raw: Any, where: str, kind: str) -> Substitution:
+    """A dual-fuel option's ``gas_substitution`` table, checked (the kind's curve if absent)."""
+    if raw is None:
+        return DEFAULT_SUBSTITUTION
+    if kind != "dual-fuel-ci":
+        raise InputError(where, 'a gas substitution curve belongs to conversion = '
+                         '"dual-fuel-ci"; name that conversion or leave gas_substitution out')
+    example = 'gas_substitution = {share_max = "60 %", load_low = "20 %", load_high = "60 %"}'
+    if not isinstance(raw, Mapping) or not raw:
+        raise InputError(where, f"give a table, e.g. {example}")
+    unknown = sorted(set(raw) - set(_SUBSTITUTION_KEYS))
+    if unknown:
+        raise InputError(f"{where}.{unknown[0]}",
+                         f"unknown key; use {', '.join(_SUBSTITUTION_KEYS)} ({example})")
+    values = {key: _fixed(raw.get(key, default), "[]", f"{where}.{key}", None, 0.0, 1.0)
+              for key, default in _SUBSTITUTION_KEYS.items()}
+    try:
+        return Substitution(**values)
+    except InputError as exc:
+        raise InputError(f"{where}.{exc.where}", exc.message) from None
 
 
 def _choice(value: Any, where: str, choices: Iterable[str], what: str) -> str:

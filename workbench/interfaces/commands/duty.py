@@ -178,12 +178,14 @@ def _fuel(args: argparse.Namespace) -> None:
     from workbench.models.combustion import fuel_sheet
     from workbench.models.conversion import (
         KINDS,
+        REGIME_SLIP,
         convert,
         fuel_regime,
         histogram_gas_share,
         infer_kind,
         kind_derate,
         regime_mismatch,
+        slipped,
     )
     from workbench.models.duty import DutyTrace
     from workbench.models.engine import fuel_per_distance_for, run_duty
@@ -233,20 +235,24 @@ def _fuel(args: argparse.Namespace) -> None:
         first = first or phys
         record = {"fuel": fuel.id, "conversion": kind.name, "derate": derate,
                   "efficiency_offset": offset}
+        # the kind's methane slip, or the regime's for a fuel burnt as made for (as a study)
+        slip = kind.methane_slip if kind.name != "none" else REGIME_SLIP[fuel_regime(fuel)]
         if kind.name == "dual-fuel-ci":
             share = histogram_gas_share(phys, engine.engine_map)
             record["gas_energy_share"] = share
             total = phys.energy.fuel_energy
-            gas = fuel_per_distance_for(replace(phys.energy, fuel_energy=total * share), fuel,
-                                        sheet)
+            gas, ch4 = slipped(fuel_per_distance_for(
+                replace(phys.energy, fuel_energy=total * share), fuel, sheet), fuel, slip)
             pilot = fuel_per_distance_for(replace(phys.energy, fuel_energy=total * (1 - share)),
                                           fuels[0], reference)
-            rows.append(record | gas.trade_units())
+            rows.append(record | gas.trade_units() | {"ch4_g_per_km": ch4 * 1e6})
             rows.append({"fuel": f"{fuels[0].id} pilot", "conversion": kind.name,
                          "derate": derate, "efficiency_offset": offset,
-                         "gas_energy_share": share} | pilot.trade_units())
+                         "gas_energy_share": share} | pilot.trade_units()
+                        | {"ch4_g_per_km": 0.0})
         else:
-            rows.append(record | fuel_per_distance_for(phys.energy, fuel, sheet).trade_units())
+            use, ch4 = slipped(fuel_per_distance_for(phys.energy, fuel, sheet), fuel, slip)
+            rows.append(record | use.trade_units() | {"ch4_g_per_km": ch4 * 1e6})
     energy = first.energy
     record = {
         "profile": args.profile,
