@@ -13,7 +13,12 @@ import math
 
 from workbench.core.errors import InputError
 from workbench.interfaces.cli import add_quiet, command, print_vehicles
-from workbench.interfaces.commands.duty import demo_names, resolve
+from workbench.interfaces.commands.duty import (
+    add_settings_options,
+    demo_names,
+    resolve,
+    settings_from,
+)
 
 
 def register(sub: argparse._SubParsersAction) -> None:
@@ -33,7 +38,8 @@ def register(sub: argparse._SubParsersAction) -> None:
                 example=["workbench fleet run 'logs/*.csv' --vehicle taxi --map taxi-si-1.8l "
                          "--fuel gasoline",
                          "workbench fleet run logs/ --vehicle taxi --map taxi-si-1.8l "
-                         "--fuel lpg --fuel-cards cards.csv --workers 2 --json"])
+                         "--fuel gasoline --fuel-cards cards.csv --accessory-kw 1.5 "
+                         "--extra-idle-share 0.15 --workers 2 --json"])
     p.add_argument("source", metavar="SOURCE",
                    help="logger file, folder, glob ('logs/*.csv') or Parquet dataset folder")
     p.add_argument("--vehicle", required=True, metavar="V",
@@ -42,6 +48,7 @@ def register(sub: argparse._SubParsersAction) -> None:
                    help=f"demo map ({', '.join(demo_names('map'))}) or a map CSV path")
     p.add_argument("--fuel", required=True, metavar="F", help="the fuel the logs were driven on")
     p.add_argument("--fuel-cards", metavar="CSV", help="fuel-card fills to compare and calibrate")
+    add_settings_options(p)
     p.add_argument("--workers", type=int, default=None, metavar="N",
                    help="local worker processes (default: one per core; 1 runs in process)")
     p.add_argument("--scheduler", metavar="ADDR",
@@ -69,7 +76,8 @@ def _run(args: argparse.Namespace) -> None:
     sheet = fuel_sheet(fuel)
     density = fuel.liquid_density or math.nan
     engine = args.scheduler or ("serial" if args.workers == 1 else "process")
-    run = run_fleet(args.source, vehicle, engine_map, engine=engine, workers=args.workers,
+    run = run_fleet(args.source, vehicle, engine_map, settings=settings_from(args),
+                    engine=engine, workers=args.workers,
                     progress=None if args.quiet else print_vehicles)
     table = run.table()
     to_l100 = 1e8 / (sheet.lhv_mass * density)  # J/m -> L/100 km
