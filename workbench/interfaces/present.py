@@ -89,6 +89,7 @@ LABELS = {
     "fills": "fuel-card fills", "card_km": "distance on the cards [km]",
     "observed_mj_per_km": "observed fuel energy [MJ/km]",
     "modelled_mj_per_km": "modelled fuel energy [MJ/km]",
+    "residual_mj_per_km": "residual, observed − calibrated model [MJ/km]",
     "rms_residual_mj_per_km": "RMS residual per vehicle [MJ/km]",
     "capital": "capital [{cur}]", "grants": "grants [{cur}]",
     "financing": "financing, repayments less borrowing [{cur}]",

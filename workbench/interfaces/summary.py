@@ -122,7 +122,8 @@ def verdicts(result: StudyResult) -> list[Verdict]:
 
 
 def _amount(value: float, unit: str) -> str:
-    return f"{significant(value)} {unit}".strip()
+    """A value with its unit; a dimensionless ``-`` (a factor) is not written after it."""
+    return f"{significant(value)} {'' if unit == '-' else unit}".strip()
 
 
 def _drivers(result: StudyResult, cid: str) -> str:

@@ -135,10 +135,11 @@ COLUMNS: dict[str, tuple[str, ...]] = {
         "co2e_avoided_t", "nox_avoided_kg", "npv_p10", "npv_p50", "npv_p90", "p_npv_positive",
     ),
     # one row per vehicle of a class run from its logs, on the baseline's fuel (empty when no
-    # class is): the distribution across vehicles, outliers by Tukey's fences
+    # class is): the distribution across vehicles, outliers by Tukey's fences, and each
+    # vehicle's fuel cards against the model (NaN without cards)
     "vehicles": (
         "vehicle_class", "vehicle", "fuel", "distance_logged_km", "fuel_energy_mj_per_km",
-        "fuel_l_per_100km", "share_idle", "outlier",
+        "fuel_l_per_100km", "share_idle", "outlier", "observed_mj_per_km", "residual_mj_per_km",
     ),
     # one row per class with fuel cards: the factor fitted to them (baseline fuel) and the fit
     "calibration": (

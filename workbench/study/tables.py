@@ -392,7 +392,7 @@ def _monte_carlo_table(mc: Mapping[str, np.ndarray]) -> pd.DataFrame:
 
 
 def _tornado_table(plan: Plan, sensitivity: Mapping[str, pd.DataFrame]) -> pd.DataFrame:
-    units = {u.path: (u.unit, u.scale) for u in all_uncertain(plan.inputs)}
+    units = {u.path: (u.unit, u.scale) for u in all_uncertain(plan.inputs)} | plan.factor_units
     frames = []
     for oid, t in sensitivity.items():
         t = t[t["swing"] > 1e-9 * max(float(t["swing"].max()), 1.0)]

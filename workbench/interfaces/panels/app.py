@@ -36,6 +36,40 @@ class StatusLine(widgets.HTML):
         return f'<div class="wb-status" style="color:#555"><i>{esc(text)}</i></div>'
 
 
+class FleetProgress(widgets.HBox):
+    """A bar of the vehicles a fleet run has done (a class run from its logs), fed by the
+    state's vehicle progress: the ``(done, total)`` callback the terminal prints
+    (``workbench.study.fleet.Progress``). Hidden until a fleet run reports; made after the
+    state's first run (:func:`open_study` runs the study before laying out the panels), it
+    starts from the last report of that run.
+
+    Attributes
+    ----------
+    bar : ipywidgets.IntProgress
+        ``value`` vehicles done of ``max``.
+    label : ipywidgets.Label
+        ``"7 of 13 vehicles run"``.
+    """
+
+    def __init__(self, state: StudyState) -> None:
+        self.bar = widgets.IntProgress(value=0, min=0, max=1, description="vehicles",
+                                       bar_style="info")
+        self.label = widgets.Label("")
+        super().__init__([self.bar, self.label], layout=widgets.Layout(display="none"))
+        state.on_vehicles(self.update)
+        if state.vehicle_progress is not None:
+            self.update(*state.vehicle_progress)
+
+    def update(self, done: int, total: int) -> None:
+        """Show ``done`` of ``total`` vehicles [-]; green when the run is through."""
+        self.bar.value = 0  # before max, so a shorter run's max never clips the old value
+        self.bar.max = max(total, 1)
+        self.bar.value = done
+        self.bar.bar_style = "success" if done >= total else "info"
+        self.label.value = f"{done} of {total} vehicles run"
+        self.layout.display = None
+
+
 class App(widgets.VBox):
     """Every panel of the workbench over one :class:`StudyState`.
 
@@ -52,6 +86,8 @@ class App(widgets.VBox):
         The shared state.
     economics, programme, candidates, duty, engine_map, results, export : widgets
         The panels.
+    status, fleet_progress : widgets
+        What the current run is doing; the vehicles a fleet run has done.
     """
 
     def __init__(self, state: StudyState, *, export_dir: Path | None = None) -> None:
@@ -64,6 +100,7 @@ class App(widgets.VBox):
         self.results = ResultsPanel(state)
         self.export = ExportPanel(state, folder=export_dir)
         self.status = StatusLine(state)
+        self.fleet_progress = FleetProgress(state)
         self.tabs = widgets.Tab(children=[self.economics, self.programme, self.candidates,
                                           self.duty, self.engine_map],
                                 titles=("Economics", "Programme", "Fuels", "Duty",
@@ -74,7 +111,8 @@ class App(widgets.VBox):
             widgets.HTML(f"<h2>{esc(title)}</h2><p style='border-left:6px solid #D55E00;"
                          f"padding:4px 10px;background:#fff4ec'><b>Safety:</b> "
                          f"{esc(SAFETY_CAUTION)}</p>"),
-            self.results.verdict, self.status, self.tabs, self.results, self.export,
+            self.results.verdict, self.status, self.fleet_progress, self.tabs, self.results,
+            self.export,
         ])
 
     def _tab_opened(self, change: dict) -> None:
