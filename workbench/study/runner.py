@@ -18,7 +18,7 @@ A price, discount-rate or other money change re-uses every cached physics result
 from __future__ import annotations
 
 from collections.abc import Callable, Mapping
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 import pandas as pd
@@ -57,12 +57,14 @@ from workbench.models.nox import DEFAULT_ENGINE_OUT
 from workbench.models.pollutants import pollutant_factors
 from workbench.models.storage import tank_for_range
 from workbench.models.vehicle import Vehicle
-from workbench.study import tables
+from workbench.study import refuelling, tables
 from workbench.study.fleet import (
     FleetDutyRun,
+    Progress,
     calibrate_fleet,
     card_energy_per_amount,
     fleet_duty,
+    reporting,
     vehicle_rows,
 )
 from workbench.study.results import RunMap, StudyResult
@@ -441,6 +443,12 @@ def class_calibration(c: FleetClass, base: ClassOption
         raise InputError(where, exc.message) from None
 
 
+def _fit(c: FleetClass, base: ClassOption) -> Calibration | None:
+    """A class's fit against its fuel cards (applied or not), None without cards."""
+    found = class_calibration(c, base)
+    return None if found is None else found[0]
+
+
 def applied_calibration(c: FleetClass, base: ClassOption) -> float:
     """Factor a class's modelled fuel energy per km is multiplied by on every option [-]:
     the fitted one when the class calibrates, else 1."""
@@ -492,6 +500,10 @@ class Plan:
     replacements: dict[tuple[str, str], np.ndarray]  # fleet catalyst replacements by year
     price_factor: dict[str, float]  # by fuel id: currency/J per unit of price value
     responses: dict[tuple[str, str], list[econ.Response]]  # physics inputs with a distribution
+    #: by key path of a drawn physics factor (spread, calibration): its display unit and the
+    #: scale from the factor to it (the tornado shows the factor's values in that unit)
+    factor_units: dict[str, tuple[str, float]] = field(default_factory=dict)
+    tax_factor: dict[str, float] = field(default_factory=dict)  # as price_factor, fuel tax
 
 
 #: Quantiles at which an uncertain physics input is evaluated; draws between them are
@@ -542,9 +554,13 @@ def _plan(inputs: StudyInputs) -> tuple[Plan, dict[str, pd.DataFrame]]:
     physics-only tables."""
     cached = _physics_plan(inputs)
     factors: dict[str, float] = {}
+    taxes: dict[str, float] = {}
     for fid, fuel in study_fuels(inputs.options).items():
         factors[fid] = price_factor(inputs.prices[fid][0], fuel)
-    return replace(cached.plan, inputs=inputs, price_factor=factors), cached.tables
+        if fid in inputs.fuel_tax:
+            taxes[fid] = price_factor(inputs.fuel_tax[fid][0], fuel)
+    return replace(cached.plan, inputs=inputs, price_factor=factors,
+                   tax_factor=taxes), cached.tables
 
 
 def price_factor(price: Price, fuel: Fuel) -> float:
@@ -632,8 +648,15 @@ def _lines(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> dict[str, ec
             seen[key] = _values(u, params, n)
         return seen[key]
 
+    def tax(fid: str) -> np.ndarray | float:
+        if fid not in inputs.fuel_tax:
+            return 0.0
+        return val(inputs.fuel_tax[fid][1]) * plan.tax_factor[fid]
+
+    h = inputs.horizon_years
     options = {}
     made: dict[tuple[int, ...], econ.ClassLine] = {}
+    before: dict[str, econ.ClassLine] = {}  # the baseline's line of each class
     for o in inputs.options:
         lines = []
         for c in inputs.classes:
@@ -641,7 +664,8 @@ def _lines(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> dict[str, ec
             ph = plan.physics[o.id, c.id]
             # a synthetic option reuses a (candidate, class)'s objects: one line for them all
             key = tuple(map(id, (c, co, ph, plan.catalyst_cost[o.id, c.id],
-                                 plan.responses[o.id, c.id], plan.nox_t[o.id, c.id])))
+                                 plan.responses[o.id, c.id], plan.nox_t[o.id, c.id],
+                                 *o.stations)))
             if key in made:
                 lines.append(made[key])
                 continue
@@ -650,8 +674,13 @@ def _lines(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> dict[str, ec
                 plan.responses[o.id, c.id], params, n)
             parts = tuple(econ.EnergyPart(
                 energy[:, k], val(inputs.prices[f.fuel.id][1]) * plan.price_factor[f.fuel.id],
-                val(inputs.escalation[f.fuel.id]), val(upstream_of(inputs, co, k)))
+                val(inputs.escalation[f.fuel.id]), val(upstream_of(inputs, co, k)),
+                tax_per_j=tax(f.fuel.id))
                 for k, f in enumerate(ph.fuels))
+            phasing = None
+            if co.converts and co.phasing is not None:
+                phasing = np.zeros(h + 1)
+                phasing[:len(co.phasing)] = co.phasing
             lines.append(econ.ClassLine(
                 count=c.count, active=plan.active[c.id], km_per_year=val(c.km_per_year),
                 km_per_year_nominal=c.km_per_year.nominal, parts=parts,
@@ -661,10 +690,21 @@ def _lines(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> dict[str, ec
                 tank_inspection_interval=co.tank_inspection_interval, converts=co.converts,
                 conversion_cost=val(co.conversion_cost), downtime_days=val(co.downtime_days),
                 daily_revenue=val(c.daily_revenue), remaining_life_years=c.remaining_life_years,
-                nox_mass=plan.nox_t[o.id, c.id] * 1e3))
+                nox_mass=plan.nox_t[o.id, c.id] * 1e3, phasing=phasing,
+                before=before.get(c.id), grant_per_vehicle=co.grant_per_vehicle,
+                grant_share=co.grant_share,
+                time_cost_per_m=refuelling.time_cost_per_m(o, c, val) if co.converts else 0.0))
             made[key] = lines[-1]
-        options[o.id] = econ.OptionLines(lines, val(o.programme_capital),
-                                         val(o.programme_upkeep_per_year))
+            if o.is_baseline:
+                before[c.id] = lines[-1]
+        capital, upkeep = refuelling.station_money(refuelling.station_sizes(plan, o), val)
+        programme = val(o.programme_capital)
+        loan = None if o.loan is None else econ.Loan(val(o.loan.share), val(o.loan.rate),
+                                                      o.loan.term_years)
+        options[o.id] = econ.OptionLines(
+            lines, programme + capital, val(o.programme_upkeep_per_year) + upkeep,
+            programme_grant=o.programme_grant + o.programme_grant_share * programme,
+            loan=loan)
     return options
 
 
@@ -714,7 +754,8 @@ def _values(u: Uncertain, params: Mapping[str, np.ndarray], n: int) -> np.ndarra
 
 
 def run(study: Study, *, draws: int | None = None,
-        progress: Callable[[str], None] | None = None) -> StudyResult:
+        progress: Callable[[str], None] | None = None,
+        vehicles: Progress | None = None) -> StudyResult:
     """Run a study.
 
     Parameters
@@ -726,6 +767,10 @@ def run(study: Study, *, draws: int | None = None,
         the Monte Carlo and the tornado.
     progress : callable, optional
         Called with a short text as each slow step starts (the panels show it).
+    vehicles : callable, optional
+        Called with (vehicles done, vehicles in all) as each vehicle of a class run from its
+        logs finishes, once per fleet run (``workbench.study.fleet.Progress``; the terminal
+        prints it, the panels draw a bar); not called when the physics is cached.
 
     Returns
     -------
@@ -735,7 +780,8 @@ def run(study: Study, *, draws: int | None = None,
     say = progress or (lambda _text: None)
     n = inputs.draws if draws is None else check_draws(draws, inputs, "draws")
     say("physics and chemistry (cached after the first run)")
-    plan, physics_tables = _plan(inputs)
+    with reporting(vehicles):
+        plan, physics_tables = _plan(inputs)
     say("money")
     lines = _lines(plan, {}, 1)
     det = _money(plan, {}, 1, lines)
@@ -744,14 +790,13 @@ def run(study: Study, *, draws: int | None = None,
     sensitivity: dict[str, pd.DataFrame] = {}
     if n > 0:
         say(f"Monte Carlo, {n} draws")
-        samples = econ.sample_inputs({**inputs.uncertain, **_vehicle_spread(plan),
-                                      **_calibration_spread(plan)}, n,
-                                     inputs.seed, correlation=inputs.correlation)
+        drawn = {**inputs.uncertain, **_vehicle_spread(plan), **_calibration_spread(plan)}
+        samples = econ.sample_inputs(drawn, n, inputs.seed, correlation=inputs.correlation)
         money = _money(plan, samples, n)
         for o in inputs.candidates:
             draws_of[o.id] = econ.npv_draws(money, o.id, inputs.baseline.id)
-            if inputs.uncertain:
-                sensitivity[o.id] = _sensitivity(plan, o.id)
+            if drawn:
+                sensitivity[o.id] = _sensitivity(plan, o.id, drawn)
     result = tables.study_result(study, plan, lines, det, draws_of,
                                  sensitivity, n, _break_even(plan), physics_tables)
     from workbench.study.decisions import decision_tables  # it builds on this module
@@ -766,7 +811,8 @@ def run(study: Study, *, draws: int | None = None,
                          row for c in inputs.classes for row in vehicle_rows(
                              c.id, plan.physics[inputs.baseline.id, c.id].duty,
                              inputs.baseline.per_class[c.id].fuel,
-                             plan.physics[inputs.baseline.id, c.id].sheet)]),
+                             plan.physics[inputs.baseline.id, c.id].sheet,
+                             _fit(c, inputs.baseline.per_class[c.id]))]),
                      calibration=tables.frame("calibration", calibration_rows(inputs)))
     result.assumptions.update(_fleet_notes(plan))
     result.assumptions.update(_calibration_notes(inputs))
@@ -774,29 +820,31 @@ def run(study: Study, *, draws: int | None = None,
     return result
 
 
-#: P90 of the standard normal distribution (scipy.stats.norm.ppf(0.9)).
-_Z90 = 1.2815515655446004
-
-
 def _vehicle_spread(plan: Plan) -> dict[str, econ.Distribution]:
-    """The spread between a fleet-log class's vehicles as an uncertain physics input.
+    """What the spread between a fleet-log class's vehicles leaves uncertain in its mean, as
+    an uncertain physics input.
 
-    A normal factor on the class's fuel energy per km (mean 1) whose P10 and P90 are the
-    vehicles' P10 and P90 over the class's value (baseline option); every option of the class
-    takes the same draw, scaling its fuel energy and tailpipe CO2e per km. Adds the responses
-    to ``plan`` and returns the distributions to draw, by key path.
+    A normal factor on the class's fuel energy per km, mean 1, sd the standard error of the
+    km-weighted mean over the mean (baseline option; ``ClassAggregate.mean_se_per_m``): the
+    programme converts the whole class, so its fuel is the class mean's, not one vehicle's
+    (``docs/fleet-logs.md``). Every option of the class takes the same draw, scaling its fuel
+    energy and tailpipe CO2e per km; the tornado shows it as the class's fuel energy per km
+    on the baseline [MJ/km]. Adds the responses to ``plan`` and returns the distributions to
+    draw, by key path.
     """
     out = {}
+    base = plan.inputs.baseline.id
     for c in plan.inputs.classes:
-        duty = plan.physics[plan.inputs.baseline.id, c.id].duty
+        duty = plan.physics[base, c.id].duty
         if not isinstance(duty, FleetDutyRun):
             continue
         agg = duty.fleet.aggregate
-        sd = (agg.spread_per_m[1] - agg.spread_per_m[0]) / (2 * _Z90) / agg.energy_per_m
-        if sd <= 0.0:
+        sd = agg.mean_se_per_m / agg.energy_per_m
+        if not sd > 0.0:  # NaN with one vehicle: nothing drawn
             continue
         path = f"classes.{c.id}.vehicle_spread"
-        out[path] = _fuel_factor(plan, c, path, sd)
+        out[path] = _fuel_factor(plan, c, path, sd, "MJ/km",
+                                 plan.physics[base, c.id].fuel_energy_per_m / 1e3)
     return out
 
 
@@ -813,15 +861,18 @@ def _calibration_spread(plan: Plan) -> dict[str, econ.Distribution]:
         if cal is None or not cal[0].factor_se > 0.0:  # NaN with one vehicle: nothing drawn
             continue
         path = f"classes.{c.id}.calibration"
-        out[path] = _fuel_factor(plan, c, path, cal[0].factor_se / cal[0].factor)
+        out[path] = _fuel_factor(plan, c, path, cal[0].factor_se / cal[0].factor, "-",
+                                 cal[0].factor)
     return out
 
 
-def _fuel_factor(plan: Plan, c: FleetClass, path: str, sd: float) -> econ.Distribution:
+def _fuel_factor(plan: Plan, c: FleetClass, path: str, sd: float, unit: str, scale: float
+                 ) -> econ.Distribution:
     """A normal factor (mean 1, ``sd``) on a class's fuel energy and tailpipe CO2e per km on
-    every option, added to ``plan``'s responses once (a warm re-run shares the cached plan);
-    returns its distribution."""
+    every option, added to ``plan``'s responses once (a warm re-run shares the cached plan),
+    with the unit and scale the tornado shows it in; returns its distribution."""
     dist = econ.Distribution("normal", mean=1.0, sd=sd, where=path)
+    plan.factor_units[path] = (unit, scale)
     nodes = np.asarray(dist.ppf(np.array(RESPONSE_QUANTILES)), dtype=float)
     for o in plan.inputs.options:
         if any(r.path == path for r in plan.responses[o.id, c.id]):
@@ -841,13 +892,18 @@ def _fleet_notes(plan: Plan) -> dict[str, str]:
         if not isinstance(duty, FleetDutyRun):
             continue
         run = duty.fleet
-        lo, hi = (x / 1e3 for x in run.aggregate.spread_per_m)
+        agg = run.aggregate
+        lo, hi = (x / 1e3 for x in agg.spread_per_m)
         left = f"; left out: {'; '.join(run.problems)}" if run.problems else ""
+        drawn = (f"its standard error ± {agg.mean_se_per_m / 1e3:.3f} MJ/km "
+                 f"({agg.effective_vehicles:.1f} vehicles' worth of km) drawn in the Monte "
+                 "Carlo as the uncertainty of the class mean"
+                 if agg.mean_se_per_m > 0.0 else "one vehicle: no spread to draw")
         out[f"vehicle logs, {c.name}"] = (
             f"{len(run.summaries)} of {run.found} vehicles used, "
-            f"{run.aggregate.energy.distance / 1e3:,.0f} km, km-weighted; between vehicles "
-            f"P10-P90 {lo:.2f}-{hi:.2f} MJ/km on the baseline, drawn in the Monte Carlo as "
-            f"the spread between the class's vehicles{left}")
+            f"{agg.energy.distance / 1e3:,.0f} km, km-weighted mean "
+            f"{agg.energy_per_m / 1e3:.2f} MJ/km on the baseline (before calibration); "
+            f"between vehicles P10-P90 {lo:.2f}-{hi:.2f} MJ/km; {drawn}{left}")
     return out
 
 
@@ -945,15 +1001,17 @@ def _break_even(plan: Plan) -> dict[str, list[tuple[Uncertain, float]]]:
     return out
 
 
-def _sensitivity(plan: Plan, option: str) -> pd.DataFrame:
-    """One-at-a-time sensitivity of an option's NPV to each uncertain input (P10 and P90)."""
+def _sensitivity(plan: Plan, option: str, dists: Mapping[str, econ.Distribution]
+                 ) -> pd.DataFrame:
+    """One-at-a-time sensitivity of an option's NPV to each uncertain input (P10 and P90):
+    the study's and the drawn physics factors (vehicle spread, calibration)."""
     base = plan.inputs.baseline.id
 
     def npv_of(params: dict[str, np.ndarray]) -> np.ndarray:
         n = len(next(iter(params.values())))
         return econ.npv_draws(_money(plan, params, n), option, base).npv
 
-    return econ.tornado(npv_of, plan.inputs.uncertain)
+    return econ.tornado(npv_of, dists)
 
 
 # ----------------------------------------------------------------------------- defaults

@@ -73,15 +73,21 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--efficiency-offset", type=finite_float, metavar="X",
                    help="added to the map's brake efficiency on the candidate fuels, e.g. -0.01 "
                         "(default: the conversion's)")
+    add_settings_options(p)
+    p.add_argument("--json", action="store_true", help="print JSON")
+    add_fuels_option(p)
+    p.set_defaults(func=_fuel)
+
+
+def add_settings_options(p: argparse.ArgumentParser) -> None:
+    """Add the duty settings (accessories, engine-off at stops, extra idling) to a command;
+    :func:`settings_from` reads them back."""
     p.add_argument("--accessory-kw", type=finite_float, default=0.0, metavar="KW",
                    help="accessory power while the engine runs, kW (default 0)")
     p.add_argument("--engine-off-at-stops", action="store_true",
                    help="stop the engine at every stop")
     p.add_argument("--extra-idle-share", type=finite_float, default=0.0, metavar="X",
                    help="share of time idling beyond the trace, e.g. waiting at a rank")
-    p.add_argument("--json", action="store_true", help="print JSON")
-    add_fuels_option(p)
-    p.set_defaults(func=_fuel)
 
 
 def _kinds() -> list[str]:
@@ -158,7 +164,8 @@ def _stats(args: argparse.Namespace) -> None:
         print("\n".join(f"{k:34s} {_fmt(v)}" for k, v in record.items()))
 
 
-def _settings(args: argparse.Namespace) -> DutySettings:
+def settings_from(args: argparse.Namespace) -> DutySettings:
+    """The duty settings of :func:`add_settings_options`, checked (errors name the option)."""
     from workbench.models.duty import DutySettings
 
     options = {"accessory_power": "--accessory-kw", "extra_idle_share": "--extra-idle-share"}
@@ -190,7 +197,7 @@ def _fuel(args: argparse.Namespace) -> None:
     from workbench.models.duty import DutyTrace
     from workbench.models.engine import fuel_per_distance_for, run_duty
 
-    settings = _settings(args)
+    settings = settings_from(args)
     profile = _profile(args.profile)
     base_map = read_map(resolve(args.map, "map", "--map"))
     vehicle = None
