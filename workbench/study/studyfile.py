@@ -163,6 +163,8 @@ class FleetClass:
 #: keep the combustion engine; any other drive replaces the class's vehicles by new ones
 #: (``NewVehicleInputs``) and has its own energy model (``workbench.study.runner.DRIVES``).
 DRIVES = ("combustion", "battery-electric")
+#: The id grid electricity goes by where a fuel's id stands in the result tables.
+ELECTRICITY = "electricity"
 
 
 @dataclass(frozen=True)
