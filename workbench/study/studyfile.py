@@ -197,6 +197,7 @@ class ElectricInputs:
     #: Grid CO2e intensity by calendar year [kg/J], linear between the years, held beyond.
     grid_co2e: tuple[tuple[int, float], ...]
     grid_co2e_source: str
+    where: str = ""  # key path of the range, named when no pack can carry itself over it
 
     def grid_path(self, start_year: int, horizon: int) -> list[float]:
         """Grid CO2e intensity in each programme year 0 … H [kg/J]."""
@@ -1376,7 +1377,9 @@ def _electric_option(r: _Reader, c: FleetClass, class_ids: set[str], base: Class
             end_of_life_health=share("end_of_life_health", 0.8),
             specific_energy=_fixed(raw("specific_energy", "140 Wh/kg"), "J/kg",
                                    at("specific_energy"), None, 3600.0, 3600.0 * 2000))
-    except InputError as exc:  # a share of 0 where the model needs more
+    except InputError as exc:  # the model's own check (a share of 0): name the study's key
+        if exc.where.startswith(r.path):
+            raise
         raise InputError(at(exc.where), exc.message) from None
     window = _fixed(raw("charging_window", "8 h"), "[time]", at("charging_window"), None,
                     60.0, 86400.0)
@@ -1400,7 +1403,8 @@ def _electric_option(r: _Reader, c: FleetClass, class_ids: set[str], base: Class
                               at("electricity_escalation"), -0.5, 1.0, PERCENT),
         grid_co2e=_grid_co2e(raw("grid_co2e", ...), at("grid_co2e")),
         grid_co2e_source=_fixed_text(raw("grid_co2e_source", "study file"),
-                                     at("grid_co2e_source")))
+                                     at("grid_co2e_source")),
+        where=at("range"))
     if raw("charger_power", None) is None:
         defaults.append(("charger power", "22", "kW", "common practice, no source (a "
                          "three-phase AC depot charger)"))
