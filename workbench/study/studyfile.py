@@ -1467,7 +1467,7 @@ def _tariff(raw: Any, shares_raw: Any, where: str, where_shares: str, currency: 
                          f"({', '.join(raw)}) its share of the charging energy, e.g. "
                          f"charging_shares = {{ {next(iter(raw))} = 1.0 }}")
     out = []
-    for name, value in raw.items():
+    for name, value in sorted(raw.items()):  # by name: the same tariff in any key order
         share = _fixed(shares_raw[name], "[]", f"{where_shares}.{name}", None, 0.0, 1.0)
         out.append((str(name), price(value, f"{where}.{name}"), share))
     try:
