@@ -1366,8 +1366,8 @@ def _drive_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOpt
     if drive == "combustion":
         other = given(ELECTRIC_KEYS)
         if other is not None:
-            raise InputError(r.at(other), 'belongs to drive = "battery-electric"; name that '
-                             "drive or leave it out")
+            raise InputError(_class_at(r, other, class_ids, c.id), 'belongs to drive = '
+                             '"battery-electric"; name that drive or leave it out')
         co = _class_option(r, c, class_ids, base, base_dir, currency)
         new = given(NEW_VEHICLE_KEYS)
         if new is None:
@@ -1379,8 +1379,9 @@ def _drive_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOpt
     assert base is not None
     other = given(COMBUSTION_KEYS)
     if other is not None:
-        raise InputError(r.at(other), f"a {drive} vehicle has no combustion engine; leave "
-                         f"{other} out (its energy is set by the drive's keys)")
+        raise InputError(_class_at(r, other, class_ids, c.id), f"a {drive} vehicle has no "
+                         f"combustion engine; leave {other} out (its energy is set by the "
+                         "drive's keys)")
     return _electric_option(r, c, class_ids, base, currency, where)
 
 
