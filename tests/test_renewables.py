@@ -256,7 +256,7 @@ def test_a_blend_may_not_state_its_own_origin(tmp_path):
 
 
 def _demo_with_pathway(value):
-    return read_study("demo").with_values({"candidates[2].pathway": value})
+    return read_study("demo").with_values({"candidates[3].pathway": value})
 
 
 @pytest.mark.parametrize(("value", "words"), [
@@ -267,7 +267,7 @@ def _demo_with_pathway(value):
 def test_a_bad_pathway_in_the_study_names_the_key(value, words):
     with pytest.raises(InputError) as err:
         _demo_with_pathway(value)
-    assert err.value.where == "candidates[2].pathway"
+    assert err.value.where == "candidates[3].pathway"
     assert words in err.value.message and "\n" not in str(err.value)
 
 
@@ -280,7 +280,7 @@ def test_a_fuel_with_no_pathways_says_to_use_upstream():
 
 def test_without_a_pathway_the_upstream_entry_is_required_and_says_so():
     with pytest.raises(InputError) as err:
-        read_study("demo").with_values({}, remove=["candidates[2].pathway"])
+        read_study("demo").with_values({}, remove=["candidates[3].pathway"])
     assert err.value.where == "upstream.biomethane"
     assert 'pathway = "biowaste-open-digestate"' in err.value.message
 
@@ -289,6 +289,6 @@ def test_an_upstream_edit_alone_still_leaves_a_pathway_fuel_out():
     demo = read_study("demo")
     edited = demo.with_value("upstream.gasoline.wtt_co2e_g_per_mj", 18.0)
     assert "biomethane" not in edited.inputs.upstream
-    bio = edited.inputs.candidates[2].per_class["bus"]
+    bio = edited.inputs.candidates[3].per_class["bus"]
     assert bio.pathway == "biowaste-closed-digestate"
     assert_allclose(bio.upstream.nominal, 30.0e-9, rtol=1e-12)  # [kg/J]

@@ -11,6 +11,7 @@ from workbench.models.economics.cashflow import (
     EnergyPart,
     Loan,
     Money,
+    NewVehicle,
     NPVDraws,
     OptionLines,
     Response,
@@ -26,6 +27,7 @@ from workbench.models.economics.cashflow import (
     npv_draws,
     physics_draws,
     programme_money,
+    sold_year,
 )
 from workbench.models.economics.finance import (
     abatement_cost,
@@ -62,6 +64,7 @@ __all__ = [
     "Loan",
     "Money",
     "NPVDraws",
+    "NewVehicle",
     "OptionLines",
     "Response",
     "abatement_cost",
@@ -91,6 +94,7 @@ __all__ = [
     "sample",
     "sample_inputs",
     "simple_payback",
+    "sold_year",
     "summarise",
     "tornado",
 ]

@@ -45,6 +45,7 @@ __all__ = [
     "Loan",
     "Money",
     "NPVDraws",
+    "NewVehicle",
     "OptionLines",
     "Response",
     "co2e_per_m",
@@ -59,6 +60,7 @@ __all__ = [
     "npv_draws",
     "physics_draws",
     "programme_money",
+    "sold_year",
 ]
 
 
@@ -232,6 +234,29 @@ def _energy(part: EnergyPart, n: int) -> FloatArray:
 
 
 @dataclass(frozen=True)
+class NewVehicle:
+    """A class's vehicles replaced by new ones (any drive: battery-electric, fuel cell or a new
+    combustion vehicle), per vehicle; arrays of shape (n,) where they vary between draws.
+
+    Attributes
+    ----------
+    purchase_price : array
+        Price of one new vehicle, paid in the year it is bought (year 0, or the year of its
+        phase) [currency].
+    resale_value : array
+        What one new vehicle sells for when the class leaves the programme: at the horizon, or
+        in the last year of the class's remaining life when that comes first
+        (:func:`sold_year`) [currency].
+    old_vehicle_sale : array
+        What one replaced vehicle sells for, in the year it is replaced [currency].
+    """
+
+    purchase_price: ArrayLike
+    resale_value: ArrayLike
+    old_vehicle_sale: ArrayLike
+
+
+@dataclass(frozen=True)
 class ClassLine:
     """One option on one vehicle class, as its cash flows need it.
 
@@ -287,6 +312,9 @@ class ClassLine:
     time_cost_per_m : array
         Cost of the time a converted vehicle loses going to refuel, per distance
         [currency/m] (detour per fill / distance per fill x cost per hour).
+    new_vehicle : NewVehicle, optional
+        The class's vehicles replaced by new ones (a converted class only); None for a
+        conversion of the vehicles the fleet has.
     """
 
     count: int
@@ -310,6 +338,7 @@ class ClassLine:
     grant_per_vehicle: ArrayLike = 0.0
     grant_share: ArrayLike = 0.0
     time_cost_per_m: ArrayLike = 0.0
+    new_vehicle: NewVehicle | None = None
 
 
 @dataclass(frozen=True)
@@ -537,6 +566,7 @@ class _Terms:
     grants: FloatArray | None  # grants received by year, (n, H+1)
     downtime: FloatArray | None  # revenue lost by year, (n, H+1)
     residual: FloatArray | None  # residual value at the horizon, (n, 1)
+    resale: tuple[int, FloatArray] | None = None  # new vehicles' (year sold, value (n, 1))
 
 
 def _class_terms(c: ClassLine, n: int, years: np.ndarray, carbon: FloatArray,
@@ -609,7 +639,32 @@ def _line_terms(c: ClassLine, n: int, years: np.ndarray, carbon: FloatArray,
     for j in np.flatnonzero(s):
         residual = residual + residual_value(cost * s[j], horizon - j,
                                              life=c.remaining_life_years - j)
-    return _Terms(km, emitted, paid, running, tax, nox, capital, grants, downtime, residual)
+    resale = None
+    if c.new_vehicle is not None:  # bought as the class converts, old ones sold then
+        v = c.new_vehicle
+        price = _column(v.purchase_price, n) * c.count
+        capital = capital + (price - _column(v.old_vehicle_sale, n) * c.count) * s
+        grants = grants + _column(c.grant_share, n) * price * s  # a share of the price too
+        resale = (sold_year(act), _column(v.resale_value, n) * c.count)
+    return _Terms(km, emitted, paid, running, tax, nox, capital, grants, downtime, residual,
+                  resale)
+
+
+def sold_year(active: np.ndarray) -> int:
+    """Programme year a class's new vehicles are sold: the last year the class runs (the
+    horizon when it runs in none).
+
+    Parameters
+    ----------
+    active : numpy.ndarray
+        1 in the years the class runs, shape (H+1,).
+
+    Returns
+    -------
+    int
+    """
+    running = np.flatnonzero(active)
+    return int(running[-1]) if running.size else len(active) - 1
 
 
 def programme_money(options: Mapping[str, OptionLines], *, baseline: str, rate: ArrayLike,
@@ -653,7 +708,12 @@ def programme_money(options: Mapping[str, OptionLines], *, baseline: str, rate: 
     - in year ``j``, the capital ``K N s_j`` less grants ``(G + g K) N s_j`` and downtime
       ``days R N s_j``;
     - in year H, each cohort's residual value ``K N s_j (1 - (H - j) / (L - j))`` for a
-      remaining life ``L > H`` (:func:`residual_value`, straight line).
+      remaining life ``L > H`` (:func:`residual_value`, straight line);
+    - for a class whose vehicles are replaced by new ones (:class:`NewVehicle`): in year ``j``
+      the purchase less the old vehicles' sale ``(P - S_old) N s_j``, as capital (a grant
+      share ``g`` applies to the price too: ``g P N s_j``), and the new
+      vehicles' resale ``V_new N`` in the year they leave the programme (:func:`sold_year`:
+      the horizon, or the last year of the class's remaining life when that comes first).
 
     Programme upkeep falls in every year any class runs, programme capital and grant in year
     0. With a :class:`Loan`, a share of each year's capital net of grants is borrowed and
@@ -692,6 +752,9 @@ def programme_money(options: Mapping[str, OptionLines], *, baseline: str, rate: 
                 grants += t.grants
                 cost += t.downtime
                 residual[:, -1:] += t.residual
+            if t.resale is not None:
+                year, value = t.resale
+                residual[:, year:year + 1] += value
         cost += _column(option.programme_upkeep_per_year, n) * any_active
         capital[:, :1] += _column(option.programme_capital, n)
         grants[:, :1] += _column(option.programme_grant, n)
@@ -914,9 +977,11 @@ def cost_per_m(line: ClassLine, *, rate: float, carbon_price: float) -> dict[str
         ``upkeep``: upkeep per vehicle-year, with catalysts, reductant and tank inspections
         averaged over the years the class runs, and the time lost refuelling; ``capital``: the
         conversion (capital less grants, and downtime) as a level yearly payment over the
-        class's remaining life (capital recovery factor at the discount rate); all per
-        distance [currency/m]. Programme capital and upkeep (option-wide) and the residual
-        value are not in it; the NPV and the levelised cost carry them.
+        class's remaining life (capital recovery factor at the discount rate), and new
+        vehicles' purchase less the old vehicles' sale and the discounted resale, as a level
+        payment over the years they run; all per distance [currency/m]. Programme capital
+        and upkeep (option-wide) and the residual value are not in it; the NPV and the
+        levelised cost carry them.
     """
     km = _one(line.km_per_year)
     fuel = sum(_one(p.energy_per_m) * (_one(p.price_per_j) + _one(p.tax_per_j))
@@ -934,5 +999,11 @@ def cost_per_m(line: ClassLine, *, rate: float, carbon_price: float) -> dict[str
         outlay = (cost * (1.0 - _one(line.grant_share)) - _one(line.grant_per_vehicle)
                   + _one(line.downtime_days) * _one(line.daily_revenue))
         capital = outlay * float(capital_recovery_factor(rate, line.remaining_life_years)) / km
+    if line.new_vehicle is not None:
+        v = line.new_vehicle
+        years = sold_year(line.active)
+        net = (_one(v.purchase_price) * (1.0 - _one(line.grant_share))
+               - _one(v.old_vehicle_sale) - _one(v.resale_value) * (1.0 + rate) ** -years)
+        capital += net * float(capital_recovery_factor(rate, max(years, 1))) / km
     return {"fuel": fuel + co2e_per_m(line) * carbon_price,
             "upkeep": upkeep_year / km + _one(line.time_cost_per_m), "capital": capital}
