@@ -57,7 +57,7 @@ def buffer(**changes) -> BufferBattery:
     return BufferBattery(**{"capacity": 1.5 * KWH, "power": 40e3, **changes})
 
 
-def trace(speed, seconds=None) -> DutyTrace:
+def trace(speed) -> DutyTrace:
     speed = np.asarray(speed, dtype=float)
     return DutyTrace(time=np.arange(speed.size, dtype=float), speed=speed)
 
