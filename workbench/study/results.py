@@ -34,11 +34,11 @@ COLUMNS: dict[str, tuple[str, ...]] = {
     ),
     # one row per candidate x vehicle class: the duty-level figures
     "per_km": (
-        "candidate", "vehicle_class", "fuel", "fuel_energy_mj_per_km", "fuel_l_per_100km",
-        "fuel_kg_per_100km", "co2_ttw_g_per_km", "co2e_wtw_g_per_km", "nox_engine_out_g_per_km",
-        "nox_g_per_km", "pm_mg_per_km", "co_g_per_km", "thc_g_per_km", "cost_fuel_per_km",
-        "cost_upkeep_per_km", "cost_capital_per_km", "cost_per_km", "share_out_of_map",
-        "share_full_load",
+        "candidate", "vehicle_class", "fuel", "fuel_energy_mj_per_km", "energy_kwh_per_km",
+        "fuel_l_per_100km", "fuel_kg_per_100km", "co2_ttw_g_per_km", "co2e_wtw_g_per_km",
+        "nox_engine_out_g_per_km", "nox_g_per_km", "pm_mg_per_km", "co_g_per_km",
+        "thc_g_per_km", "cost_fuel_per_km", "cost_upkeep_per_km", "cost_capital_per_km",
+        "cost_per_km", "share_out_of_map", "share_full_load",
     ),
     # one row per candidate x vehicle class x fuel it burns (a dual-fuel engine: gas, pilot)
     "fuel_use": (
@@ -66,6 +66,14 @@ COLUMNS: dict[str, tuple[str, ...]] = {
         "candidate", "vehicle_class", "fuel", "energy_density_mj_per_kg", "energy_density_mj_per_l",
         "system_energy_density_mj_per_kg", "system_energy_density_mj_per_l",
         "tank_volume_l", "tank_system_mass_kg", "range_km",
+    ),
+    # one row per battery-electric candidate x vehicle class: the pack sized for the range,
+    # its mass against the vehicle's payload, and whether a recharge fits the window
+    "battery": (
+        "candidate", "vehicle_class", "range_km", "capacity_kwh", "pack_mass_kg",
+        "added_mass_kg", "payload_loss_kg", "payload_kg", "battery_kwh_per_km",
+        "energy_kwh_per_km", "regen_share_of_braking", "peak_power_kw", "charging_power_kw",
+        "charging_hours", "charging_window_h", "charging_fits", "charging_message",
     ),
     # one row per candidate x Monte Carlo draw
     "monte_carlo": ("candidate", "draw", "npv_vs_baseline"),
@@ -167,7 +175,8 @@ class StudyResult:
         factor fitted to its fuel cards and whether the run applied it
         (``workbench.study.runner.calibration_rows``); ``fuel_use`` each fuel an option burns
         on a class (a dual-fuel engine's gas and pilot apart: energy share, fuel per 100 km,
-        CO2e).
+        CO2e; grid electricity of a battery-electric drive); ``battery`` each battery-electric
+        option's pack on a class (capacity, mass, payload loss, charging check).
     assumptions : dict
         Flat record of the inputs that shaped the result (for the report), values as text.
     fictional : bool
@@ -214,6 +223,8 @@ class StudyResult:
         columns=list(COLUMNS["calibration"])))
     fuel_use: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
         columns=list(COLUMNS["fuel_use"])))
+    battery: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
+        columns=list(COLUMNS["battery"])))
     assumptions: dict[str, str] = field(default_factory=dict)
     sources: dict[str, str] = field(default_factory=dict)
 

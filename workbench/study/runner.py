@@ -44,6 +44,7 @@ from workbench.models.conversion import (
     kind_derate,
 )
 from workbench.models.duty import DutySettings, DutyTrace, ModeTable
+from workbench.models.electric import BatterySizing, ChargingCheck, charging_check, size_battery
 from workbench.models.emissions import co2e
 from workbench.models.engine import (
     DutyEnergy,
@@ -177,13 +178,23 @@ class FuelBurnt:
 
 
 @dataclass(frozen=True)
+class ElectricPhysics:
+    """A battery-electric drive on a class: the pack sized for the range on the class's duty
+    (its energy flows in ``sizing.energy``) and the charging check of a full recharge."""
+
+    sizing: BatterySizing
+    charging: ChargingCheck
+
+
+@dataclass(frozen=True)
 class ClassPhysics:
     """Everything about one option on one vehicle class that does not involve money; the
-    per-metre figures are totals over the fuels it burns (:attr:`fuels`)."""
+    per-metre figures are totals over the energy carriers it buys (:attr:`fuels`, and grid
+    electricity for a battery-electric drive)."""
 
-    sheet: FuelSheet  # of its (first) fuel
+    sheet: FuelSheet | None  # of its (first) fuel; None without a fuel
     fuels: tuple[FuelBurnt, ...]  # the option's fuel first, then a dual-fuel pilot
-    fuel_energy_per_m: float  # [J/m]
+    fuel_energy_per_m: float  # energy bought [J/m]: fuel LHV, or grid electricity
     fuel_mass_per_m: float  # [kg/m]
     fuel_volume_per_m: float  # [m3/m], NaN when not stored as a liquid or two fuels
     co2_ttw_per_m: float  # [kg/m]
@@ -200,9 +211,10 @@ class ClassPhysics:
     best_interval_months: int
     best_total_cost: float
     share_out_of_map: float
-    share_full_load: float
-    duty: DutyRun
-    storage: dict[str, float]
+    share_full_load: float  # of the time at full load (an electric motor: above rated power)
+    duty: DutyRun | None  # the engine's duty run; None without an engine
+    storage: dict[str, float]  # the fuel tank; empty without a fuel
+    electric: ElectricPhysics | None = None
 
 
 def _settings(c: FleetClass) -> DutySettings:
@@ -270,7 +282,7 @@ def run_maps(inputs: StudyInputs) -> list[RunMap]:
     for c in inputs.classes:
         groups: dict[EngineMap, list[str]] = {}
         for o in sorted(inputs.options, key=lambda o: not o.is_baseline):
-            if c.id in o.per_class:
+            if c.id in o.per_class and o.per_class[c.id].drive == "combustion":
                 groups.setdefault(option_map(o.per_class[c.id]), []).append(o.id)
         out += [RunMap(c.id, tuple(ids), emap) for emap, ids in groups.items()]
     return out
@@ -279,7 +291,31 @@ def run_maps(inputs: StudyInputs) -> list[RunMap]:
 @memoize(maxsize=256)
 def class_physics(c: FleetClass, co: ClassOption, base: ClassOption, months: int,
                   nox_damage_cost: float) -> ClassPhysics:
-    """All physics of one option on one class (duty, chemistry, catalyst, tank), cached.
+    """All physics of one option on one class, by its drive (:data:`DRIVES`), cached.
+
+    Parameters
+    ----------
+    c : FleetClass
+        The vehicle class (its nominal km per year sets the catalysts' ageing).
+    co : ClassOption
+        What the option does to the class.
+    base : ClassOption
+        What the baseline does to the class (its engine-out NOx is the reference).
+    months : int
+        Months the class runs within the programme.
+    nox_damage_cost : float
+        Damage cost of NOx for the best catalyst interval [currency/kg].
+
+    Returns
+    -------
+    ClassPhysics
+    """
+    return DRIVES[co.drive](c, co, base, months, nox_damage_cost)
+
+
+def combustion_physics(c: FleetClass, co: ClassOption, base: ClassOption, months: int,
+                       nox_damage_cost: float) -> ClassPhysics:
+    """All physics of a combustion engine on one class (duty, chemistry, catalyst, tank).
 
     Parameters
     ----------
@@ -357,6 +393,46 @@ def class_physics(c: FleetClass, co: ClassOption, base: ClassOption, months: int
         duty=duty,
         storage=_storage(co.fuel, per_m.fuel_energy_per_m, c.range),
     )
+
+
+def electric_physics(c: FleetClass, co: ClassOption, base: ClassOption, months: int,
+                     nox_damage_cost: float) -> ClassPhysics:
+    """All physics of a battery-electric drive on one class (arguments as
+    :func:`class_physics`).
+
+    The pack is sized for the option's range on the class's trace, carrying its own mass
+    (:func:`workbench.models.electric.size_battery`); the energy bought is the grid energy per
+    metre with the pack on board. Nothing burns on board: tailpipe CO2, CH4, N2O, NOx, PM, CO
+    and hydrocarbons are zero (brake and tyre wear particles are not counted, for any drive).
+    The charging check asks whether a recharge of the whole range fits the charging window.
+    """
+    e = co.electric
+    assert e is not None and isinstance(c.profile_data, DutyTrace)  # the study checked both
+    sizing = size_battery(c.vehicle_data, c.profile_data, e.drive, e.pack, e.range,
+                          mass_saved=e.mass_saved, settings=_settings(c))
+    grid_m = sizing.energy.grid_per_m
+    charging = charging_check(e.range * grid_m, e.charger_power, e.chargers_per_vehicle,
+                              e.charging_window)
+    prog = programme_nox(co.aftertreatment, 0.0, distance_per_month=c.km_per_year.nominal / 12,
+                         months=months, fleet_size=c.count, nox_damage_cost=nox_damage_cost)
+    return ClassPhysics(
+        sheet=None, fuels=(), fuel_energy_per_m=grid_m, fuel_mass_per_m=0.0,
+        fuel_volume_per_m=float("nan"), co2_ttw_per_m=0.0, ch4_per_m=0.0,
+        tailpipe_co2e_per_m=0.0, engine_out_nox_per_m=0.0,
+        nox_source="battery-electric drive: no combustion, no tailpipe NOx",
+        pm_per_m=0.0, co_per_m=0.0, nmhc_per_m=0.0, monthly=prog.monthly, yearly=prog.yearly,
+        replacements=0, best_interval_months=months, best_total_cost=0.0,
+        share_out_of_map=0.0,
+        share_full_load=sizing.energy.over_power_time / sizing.energy.duration,
+        duty=None, storage={}, electric=ElectricPhysics(sizing, charging))
+
+
+#: The energy model of each drive a study may name (``studyfile.DRIVES``): the one place a
+#: drive's physics is chosen. Each takes the arguments of :func:`class_physics`.
+DRIVES: dict[str, Callable[[FleetClass, ClassOption, ClassOption, int, float], ClassPhysics]] = {
+    "combustion": combustion_physics,
+    "battery-electric": electric_physics,
+}
 
 
 def _fuels_burnt(co: ClassOption, energy: DutyEnergy, duty: DutyRun) -> tuple[FuelBurnt, ...]:
@@ -582,8 +658,10 @@ def _response(inputs: StudyInputs, c: FleetClass, co: ClassOption, field: str, u
 
 
 def _energies(ph: ClassPhysics) -> np.ndarray:
-    """Energy per distance of each fuel an option-class burns, shape (fuels,) [J/m]."""
-    return np.array([f.per_m.fuel_energy_per_m for f in ph.fuels])
+    """Energy per distance of each carrier an option-class buys (its fuels, then grid
+    electricity), shape (carriers,) [J/m]."""
+    grid = [] if ph.electric is None else [ph.fuel_energy_per_m]
+    return np.array([f.per_m.fuel_energy_per_m for f in ph.fuels] + grid)
 
 
 def _vary(c: FleetClass, co: ClassOption, field: str, value: float
@@ -633,16 +711,28 @@ def _lines(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> dict[str, ec
                 energy[:, k], val(inputs.prices[f.fuel.id][1]) * plan.price_factor[f.fuel.id],
                 val(inputs.escalation[f.fuel.id]), val(inputs.upstream[f.fuel.id]))
                 for k, f in enumerate(ph.fuels))
+            capital, upkeep = val(co.conversion_cost), val(co.upkeep_change_per_year)
+            if (e := co.electric) is not None:
+                parts += (econ.EnergyPart(
+                    energy[:, len(ph.fuels)], sum(val(u) * share for _, u, share in e.tariff),
+                    val(e.escalation), np.array(e.grid_path(inputs.start_year,
+                                                            inputs.horizon_years)),
+                    upstream_by_year=True),)
+                capital = capital + val(e.charger_capital)
+                upkeep = upkeep + val(e.charger_upkeep_per_year)
+            v = co.new_vehicle
             lines.append(econ.ClassLine(
                 count=c.count, active=plan.active[c.id], km_per_year=val(c.km_per_year),
                 km_per_year_nominal=c.km_per_year.nominal, parts=parts,
                 tailpipe_co2e_per_m=tailpipe, catalyst_cost=catalyst,
-                upkeep_per_year=val(c.upkeep_per_year) + val(co.upkeep_change_per_year),
+                upkeep_per_year=val(c.upkeep_per_year) + upkeep,
                 tank_inspection_cost=val(co.tank_inspection_cost),
                 tank_inspection_interval=co.tank_inspection_interval, converts=co.converts,
-                conversion_cost=val(co.conversion_cost), downtime_days=val(co.downtime_days),
+                conversion_cost=capital, downtime_days=val(co.downtime_days),
                 daily_revenue=val(c.daily_revenue), remaining_life_years=c.remaining_life_years,
-                nox_mass=plan.nox_t[o.id, c.id] * 1e3))
+                nox_mass=plan.nox_t[o.id, c.id] * 1e3,
+                new_vehicle=None if v is None else econ.NewVehicle(
+                    val(v.purchase_price), val(v.resale_value), val(v.old_vehicle_sale))))
             made[key] = lines[-1]
         options[o.id] = econ.OptionLines(lines, val(o.programme_capital),
                                          val(o.programme_upkeep_per_year))
@@ -958,6 +1048,8 @@ def defaults_rows(inputs: StudyInputs,
 
         for quantity, value, unit, source in co.defaults:
             add(quantity, value, unit, source)
+        if co.drive != "combustion" and co.converts:  # no engine: no combustion defaults
+            continue
         if co.derate_against is not None:
             add("derate", f"{applied_derate(co) * 100:.1f}", "%",
                 KINDS[co.conversion].sources["derate"])

@@ -30,6 +30,7 @@ from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
+import numpy as np
 import tomlkit
 import tomlkit.items
 
@@ -67,6 +68,7 @@ from workbench.models.conversion import (
 )
 from workbench.models.duty import DutyTrace, ModeTable
 from workbench.models.economics import DISTRIBUTION_PARAMETERS, Correlation, Distribution
+from workbench.models.electric import BatteryPack, EfficiencyCurve, ElectricDrive
 from workbench.models.engine import EngineMap
 from workbench.models.engine_out import DEFAULT_REFERENCE_FUEL
 from workbench.models.nox import ENGINE_PRESETS, EngineOutNOx
@@ -157,9 +159,57 @@ class FleetClass:
     calibrate: bool = False  # apply the factor fitted to the cards to every option
 
 
+#: Drives an option may give a class: the conversions of :mod:`workbench.models.conversion`
+#: keep the combustion engine; any other drive replaces the class's vehicles by new ones
+#: (``NewVehicleInputs``) and has its own energy model (``workbench.study.runner.DRIVES``).
+DRIVES = ("combustion", "battery-electric")
+
+
+@dataclass(frozen=True)
+class NewVehicleInputs:
+    """A class's vehicles replaced by new ones, per vehicle [currency]
+    (``workbench.models.economics.NewVehicle``)."""
+
+    purchase_price: Uncertain  # paid in year 0
+    resale_value: Uncertain  # when the class leaves the programme
+    old_vehicle_sale: Uncertain  # the replaced vehicle, in year 0
+
+
+@dataclass(frozen=True)
+class ElectricInputs:
+    """What a battery-electric option gives one class: drive, pack, chargers, electricity."""
+
+    drive: ElectricDrive
+    pack: BatteryPack
+    range: float  # distance between charges [m]
+    mass_saved: float  # combustion powertrain mass the electric vehicle does without [kg]
+    charger_power: float  # one charger at the grid [W]
+    chargers_per_vehicle: float  # [-]
+    charging_window: float  # hours a day at the chargers [s]
+    charger_capital: Uncertain  # per vehicle, year 0 [currency]
+    charger_upkeep_per_year: Uncertain  # per vehicle [currency/year]
+    #: Time-of-use bands: (name, price [currency/J], share of the charging energy) each; a
+    #: flat tariff is one band ("flat", price, 1.0).
+    tariff: tuple[tuple[str, Uncertain, float], ...]
+    escalation: Uncertain  # of the electricity price [1/year]
+    #: Grid CO2e intensity by calendar year [kg/J], linear between the years, held beyond.
+    grid_co2e: tuple[tuple[int, float], ...]
+    grid_co2e_source: str
+
+    def grid_path(self, start_year: int, horizon: int) -> list[float]:
+        """Grid CO2e intensity in each programme year 0 … H [kg/J]."""
+        years, values = zip(*self.grid_co2e, strict=True)
+        return [float(v) for v in np.interp(start_year + np.arange(horizon + 1), years, values)]
+
+
 @dataclass(frozen=True)
 class ClassOption:
-    """What one option does to one class of vehicles."""
+    """What one option does to one class of vehicles.
+
+    A class whose drive is not ``combustion`` keeps the baseline's fuel, engine, map and
+    device in the combustion fields (the vehicles it replaces) and buys no fuel
+    (:attr:`fuels` is empty).
+    """
 
     converts: bool
     fuel: Fuel
@@ -194,10 +244,18 @@ class ClassOption:
     #: The diesel-like pilot of a dual-fuel engine (``conversion = "dual-fuel-ci"``; ``fuel``
     #: is then its gas); None for an engine that burns one fuel.
     pilot_fuel: Fuel | None = None
+    drive: str = "combustion"  # one of DRIVES
+    #: The class's vehicles replaced by new ones (every drive but combustion; a combustion
+    #: option that names ``purchase_price``); None for a conversion.
+    new_vehicle: NewVehicleInputs | None = None
+    electric: ElectricInputs | None = None  # drive = "battery-electric"
 
     @property
     def fuels(self) -> tuple[Fuel, ...]:
-        """The fuels it buys: its fuel, and a dual-fuel engine's pilot after it."""
+        """The fuels it buys: its fuel, and a dual-fuel engine's pilot after it (none for a
+        battery-electric drive)."""
+        if self.drive == "battery-electric":
+            return ()
         return (self.fuel,) if self.pilot_fuel is None else (self.fuel, self.pilot_fuel)
 
 
@@ -948,6 +1006,13 @@ def all_uncertain(inputs: StudyInputs) -> list[Uncertain]:
         for co in o.per_class.values():
             out += [co.conversion_cost, co.upkeep_change_per_year, co.downtime_days,
                     co.tank_inspection_cost]
+            if co.new_vehicle is not None:
+                v = co.new_vehicle
+                out += [v.purchase_price, v.resale_value, v.old_vehicle_sale]
+            if co.electric is not None:
+                e = co.electric
+                out += [e.charger_capital, e.charger_upkeep_per_year, e.escalation]
+                out += [u for _, u, _ in e.tariff]
             out += [u for _, u in co.varied]
     out += [u for _, u in inputs.prices.values()]
     out += list(inputs.escalation.values()) + list(inputs.upstream.values())
@@ -1145,8 +1210,8 @@ def _option(r: _Reader, classes: tuple[FleetClass, ...], baseline: Option | None
             "efficiency_offset", "conversion_cost", "upkeep_change_per_year", "downtime_days",
             "tank_inspection_interval_years", "tank_inspection_cost", "n2o",
             "engine_out_nox", "lambda_overall", "methane_slip", "aftertreatment",
-            "programme_capital", "programme_upkeep_per_year", "conversion", "pilot_fuel"),
-           "an option")
+            "programme_capital", "programme_upkeep_per_year", "conversion", "pilot_fuel",
+            "drive", *NEW_VEHICLE_KEYS, *ELECTRIC_KEYS), "an option")
     class_ids = {c.id for c in classes}
     converts = class_ids
     if baseline is not None and r.has("classes"):
@@ -1162,7 +1227,7 @@ def _option(r: _Reader, classes: tuple[FleetClass, ...], baseline: Option | None
             per_class[c.id] = _unchanged(baseline.per_class[c.id])
             continue
         base = None if baseline is None else baseline.per_class[c.id]
-        per_class[c.id] = _class_option(r, c, class_ids, base, base_dir, currency)
+        per_class[c.id] = _drive_option(r, c, class_ids, base, base_dir, currency)
     return Option(
         id=oid,
         name=r.text("name", oid),
@@ -1175,6 +1240,265 @@ def _option(r: _Reader, classes: tuple[FleetClass, ...], baseline: Option | None
     )
 
 
+#: Keys of a class's new vehicles (any drive): money per vehicle.
+NEW_VEHICLE_KEYS = ("purchase_price", "resale_value", "old_vehicle_sale")
+#: Keys of a battery-electric drive (``drive = "battery-electric"`` only).
+ELECTRIC_KEYS = ("motor_power", "motor_efficiency", "reducer_efficiency", "regen_share",
+                 "hvac_power", "charging_efficiency", "depth_of_discharge",
+                 "end_of_life_health", "specific_energy", "range", "mass_saved",
+                 "charger_power", "chargers_per_vehicle", "charger_capital",
+                 "charger_upkeep_per_year", "charging_window", "electricity_price",
+                 "charging_shares", "electricity_escalation", "grid_co2e", "grid_co2e_source")
+#: Keys of a combustion engine, which a battery-electric class has not got.
+COMBUSTION_KEYS = ("fuel", "conversion", "engine", "engine_map", "derate", "efficiency_offset",
+                   "engine_out_nox", "lambda_overall", "methane_slip", "aftertreatment",
+                   "pilot_fuel", "tank_inspection_interval_years", "tank_inspection_cost",
+                   "n2o", "conversion_cost")
+
+
+def _class_at(r: _Reader, key: str, class_ids: set[str], cid: str) -> str:
+    """Key path of a class's value: ``key.<class id>`` where the key is a table by class."""
+    value = r.raw(key, None)
+    if isinstance(value, Mapping) and value and set(value) <= class_ids:
+        return f"{r.at(key)}.{cid}"
+    return r.at(key)
+
+
+def _drive_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOption | None,
+                  base_dir: Path, currency: str) -> ClassOption:
+    """What an option does to a class, read by its drive (the one place that maps a drive to
+    its keys): a combustion engine (kept or converted) or a battery-electric vehicle."""
+    raw = _per_class(r, "drive", c.id, class_ids, "combustion")
+    where = _class_at(r, "drive", class_ids, c.id)
+    drive = _choice(raw, where, DRIVES, "drive")
+    if base is None and drive != "combustion":
+        raise InputError(where, "the baseline is the fleet as it runs today: give a new drive "
+                         "on a candidate")
+
+    def given(keys: Iterable[str]) -> str | None:
+        return next((k for k in keys if _per_class(r, k, c.id, class_ids, None) is not None),
+                    None)
+
+    if drive == "combustion":
+        other = given(ELECTRIC_KEYS)
+        if other is not None:
+            raise InputError(r.at(other), 'belongs to drive = "battery-electric"; name that '
+                             "drive or leave it out")
+        co = _class_option(r, c, class_ids, base, base_dir, currency)
+        new = given(NEW_VEHICLE_KEYS)
+        if new is None:
+            return co
+        if base is None:
+            raise InputError(r.at(new), "the baseline keeps today's vehicles; name new "
+                             "vehicles on a candidate")
+        return replace(co, new_vehicle=_new_vehicle(r, c, class_ids, currency))
+    assert base is not None
+    other = given(COMBUSTION_KEYS)
+    if other is not None:
+        raise InputError(r.at(other), f"a {drive} vehicle has no combustion engine; leave "
+                         f"{other} out (its energy is set by the drive's keys)")
+    return _electric_option(r, c, class_ids, base, currency, where)
+
+
+def _new_vehicle(r: _Reader, c: FleetClass, class_ids: set[str],
+                 currency: str) -> NewVehicleInputs:
+    """A class's new vehicles: purchase price (required), resale value and the old vehicle's
+    sale (0 when not given)."""
+    def money(key: str, default: Any) -> Uncertain:
+        raw = _per_class(r, key, c.id, class_ids, default)
+        where = _class_at(r, key, class_ids, c.id)
+        if raw is ...:
+            raise InputError(where, "is required for new vehicles: the price of one, e.g. "
+                             f"purchase_price = 52000 ({currency})")
+        return _uncertain(raw, _money, where, 0.0, unit=(currency, 1.0))
+
+    return NewVehicleInputs(purchase_price=money("purchase_price", ...),
+                            resale_value=money("resale_value", 0.0),
+                            old_vehicle_sale=money("old_vehicle_sale", 0.0))
+
+
+def _electric_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOption,
+                     currency: str, where_drive: str) -> ClassOption:
+    """A battery-electric drive on a class, checked: the combustion fields keep the
+    baseline's (the vehicles replaced), the drive, pack, chargers and electricity are read."""
+    if not isinstance(c.profile_data, DutyTrace):
+        raise InputError(where_drive, f"a battery-electric drive runs on a speed trace; class "
+                         f"{c.id}'s profile is not one (a time-at-mode table or logs): give "
+                         "the class a trace profile")
+
+    def at(key: str) -> str:
+        return _class_at(r, key, class_ids, c.id)
+
+    def raw(key: str, default: Any) -> Any:
+        return _per_class(r, key, c.id, class_ids, default)
+
+    def share(key: str, default: float) -> float:
+        return _fixed(raw(key, default), "[]", at(key), None, 0.0, 1.0)
+
+    def money(key: str, parse: Callable[[Any, str], float], unit: str) -> Uncertain:
+        return _uncertain(raw(key, 0.0), parse, at(key), 0.0, unit=(unit, 1.0))
+
+    defaults: list[tuple[str, str, str, str]] = []
+    model = "models/electric.py default"
+    for key, label, unit, scale in (("reducer_efficiency", "reduction gear efficiency", "%", 100),
+                                    ("regen_share", "regeneration share of braking", "%", 100),
+                                    ("charging_efficiency", "charging efficiency", "%", 100),
+                                    ("depth_of_discharge", "depth of discharge", "%", 100),
+                                    ("end_of_life_health", "end-of-life capacity", "%", 100),
+                                    ("specific_energy", "pack specific energy", "Wh/kg",
+                                     1 / 3600)):
+        if raw(key, None) is None:
+            value = (ElectricDrive.__dataclass_fields__ | BatteryPack.__dataclass_fields__)[
+                key].default
+            defaults.append((label, f"{value * scale:g}", unit, f"{model} (docs/electric.md)"))
+    curve_raw = raw("motor_efficiency", None)
+    if curve_raw is None:
+        curve = EfficiencyCurve.typical()
+        defaults.append(("motor and inverter efficiency", "typical curve, 70-93 %", "",
+                         f"{model} TYPICAL_MOTOR_CURVE (docs/electric.md)"))
+    else:
+        curve = EfficiencyCurve.constant(_fixed(curve_raw, "[]", at("motor_efficiency"), None,
+                                                0.01, 1.0))
+    try:
+        drive = ElectricDrive(
+            motor_power=_fixed(raw("motor_power", ...), "[power]", at("motor_power"), None,
+                               1.0, 1e7),
+            motor_efficiency=curve,
+            reducer_efficiency=share("reducer_efficiency", 0.97),
+            regen_share=share("regen_share", 0.6),
+            hvac_power=_fixed(raw("hvac_power", "0 W"), "[power]", at("hvac_power"), None,
+                              0.0, 1e5),
+            charging_efficiency=share("charging_efficiency", 0.88))
+        pack = BatteryPack(
+            depth_of_discharge=share("depth_of_discharge", 0.9),
+            end_of_life_health=share("end_of_life_health", 0.8),
+            specific_energy=_fixed(raw("specific_energy", "140 Wh/kg"), "J/kg",
+                                   at("specific_energy"), None, 3600.0, 3600.0 * 2000))
+    except InputError as exc:  # a share of 0 where the model needs more
+        raise InputError(at(exc.where), exc.message) from None
+    window = _fixed(raw("charging_window", "8 h"), "[time]", at("charging_window"), None,
+                    60.0, 86400.0)
+    electric = ElectricInputs(
+        drive=drive, pack=pack,
+        range=_fixed(raw("range", f"{c.range / 1e3:g} km"), "[length]", at("range"), None,
+                     1.0, MAX_RANGE),
+        mass_saved=_fixed(raw("mass_saved", "0 kg"), "[mass]", at("mass_saved"), None, 0.0,
+                          c.vehicle_data.mass * 0.9),
+        charger_power=_fixed(raw("charger_power", "22 kW"), "[power]", at("charger_power"),
+                             None, 100.0, 1e7),
+        chargers_per_vehicle=_fixed(raw("chargers_per_vehicle", 1.0), "[]",
+                                    at("chargers_per_vehicle"), None, 0.01, 100.0),
+        charging_window=window,
+        charger_capital=money("charger_capital", _money, currency),
+        charger_upkeep_per_year=money("charger_upkeep_per_year", _money_per_year,
+                                      f"{currency}/year"),
+        tariff=_tariff(raw("electricity_price", ...), raw("charging_shares", None),
+                       at("electricity_price"), at("charging_shares"), currency),
+        escalation=_uncertain(raw("electricity_escalation", 0.0), _fraction,
+                              at("electricity_escalation"), -0.5, 1.0, PERCENT),
+        grid_co2e=_grid_co2e(raw("grid_co2e", ...), at("grid_co2e")),
+        grid_co2e_source=_fixed_text(raw("grid_co2e_source", "study file"),
+                                     at("grid_co2e_source")))
+    if raw("charger_power", None) is None:
+        defaults.append(("charger power", "22", "kW", "common practice, no source (a "
+                         "three-phase AC depot charger)"))
+    if raw("charging_window", None) is None:
+        defaults.append(("charging window", "8", "h", "overnight at the depot, common "
+                         "practice, no source"))
+    zero = Uncertain(0.0, None, at("conversion_cost"), currency)
+    return ClassOption(**{
+        **base.__dict__, "converts": True, "drive": "battery-electric",
+        "derate": 0.0, "efficiency_offset": 0.0, "conversion_cost": zero,
+        "upkeep_change_per_year": _uncertain(raw("upkeep_change_per_year", 0.0),
+                                             _money_per_year, at("upkeep_change_per_year"),
+                                             None, unit=(f"{currency}/year", 1.0)),
+        "downtime_days": _uncertain(raw("downtime_days", 0.0), _days, at("downtime_days"),
+                                    0.0, unit=("day", 1.0)),
+        "tank_inspection_interval": 0, "tank_inspection_cost": replace(
+            zero, path=at("tank_inspection_cost")),
+        "n2o_per_m": 0.0, "engine_out_nox": None, "methane_slip": 0.0,
+        "aftertreatment": DEVICE_PRESETS["none"], "varied": (), "conversion": "none",
+        "derived_map": False, "defaults": tuple(defaults), "notices": (),
+        "derate_against": None, "pilot_fuel": None,
+        "new_vehicle": _new_vehicle(r, c, class_ids, currency), "electric": electric})
+
+
+def _fixed_text(value: Any, where: str) -> str:
+    if not isinstance(value, str) or not value.strip():
+        raise InputError(where, f"must be a non-empty text, got {_short(value)}")
+    return value
+
+
+def _tariff(raw: Any, shares_raw: Any, where: str, where_shares: str, currency: str
+            ) -> tuple[tuple[str, Uncertain, float], ...]:
+    """A flat electricity price (a price or a distribution of one) or time-of-use bands
+    (a table of band = price) with each band's share of the charging energy."""
+    if raw is ...:
+        raise InputError(where, 'is required: the electricity price, e.g. "0.21 per kWh", or '
+                         'bands { peak = "0.32 per kWh", night = "0.14 per kWh" } with '
+                         "charging_shares")
+
+    def price(value: Any, w: str) -> Uncertain:
+        def parse(v: Any, w2: str) -> float:
+            p = parse_price(v, where=w2, currency=currency)
+            if p.basis != "energy":
+                raise InputError(w2, f"{_short(v)} is not per energy; price electricity per "
+                                 'kWh, e.g. "0.21 per kWh"')
+            return p.value
+        return _uncertain(value, parse, w, 0.0, unit=(f"{currency}/kWh", 3.6e6))
+
+    bands = isinstance(raw, Mapping) and "kind" not in raw
+    if not bands:
+        if shares_raw is not None:
+            raise InputError(where_shares, "belongs to time-of-use bands: give "
+                             "electricity_price as a table of band = price, or leave "
+                             "charging_shares out")
+        return (("flat", price(raw, where), 1.0),)
+    if not raw:
+        raise InputError(where, "needs at least one band = price")
+    if not isinstance(shares_raw, Mapping) or set(shares_raw) != set(raw):
+        raise InputError(where_shares, f"must give each band of electricity_price "
+                         f"({', '.join(raw)}) its share of the charging energy, e.g. "
+                         f"charging_shares = {{ {next(iter(raw))} = 1.0 }}")
+    out = []
+    for name, value in raw.items():
+        share = _fixed(shares_raw[name], "[]", f"{where_shares}.{name}", None, 0.0, 1.0)
+        out.append((str(name), price(value, f"{where}.{name}"), share))
+    total = sum(s for _, _, s in out)
+    if abs(total - 1.0) > 1e-6:
+        raise InputError(where_shares, f"the bands' shares of charging energy sum to "
+                         f"{total:g}; they must sum to 1")
+    return tuple(out)
+
+
+#: Largest grid CO2e intensity [g/kWh] (a coal plant is about 1000 g/kWh, from memory).
+MAX_GRID_G_PER_KWH = 2000.0
+
+
+def _grid_co2e(raw: Any, where: str) -> tuple[tuple[int, float], ...]:
+    """Grid CO2e intensity [g/kWh, read as kg/J]: one number, or a table of calendar year =
+    number (linear between the years, held beyond the first and last)."""
+    if raw is ...:
+        raise InputError(where, "is required: the grid's CO2e per kWh drawn, e.g. "
+                         'grid_co2e = 420 or { "2027" = 420, "2035" = 180 } (g/kWh)')
+    def intensity(value: Any, w: str) -> float:
+        g = read_number(value, w, what="a number of g CO2e per kWh")
+        _check_range(g, w, 0.0, MAX_GRID_G_PER_KWH, ("g/kWh", 1.0))
+        return g / 3.6e9  # [kg/J]
+
+    if not isinstance(raw, Mapping):
+        return ((0, intensity(raw, where)),)
+    if not raw:
+        raise InputError(where, 'needs at least one year = g/kWh, e.g. { "2027" = 420 }')
+    out = []
+    for key, value in raw.items():
+        w = f"{where}.{key}"
+        if not re.fullmatch(r"\d{4}", str(key)):
+            raise InputError(w, 'name a calendar year, e.g. "2030" = 300')
+        out.append((int(key), intensity(value, w)))
+    return tuple(sorted(out))
+
+
 def _unchanged(base: ClassOption) -> ClassOption:
     return ClassOption(**{**base.__dict__, "converts": False})
 
@@ -1184,10 +1508,7 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOpt
     is_baseline = base is None
 
     def at(key: str) -> str:
-        value = r.raw(key, None)
-        if isinstance(value, Mapping) and value and set(value) <= class_ids:
-            return f"{r.at(key)}.{c.id}"
-        return r.at(key)
+        return _class_at(r, key, class_ids, c.id)
 
     def fixed(key: str, default: str | float, low: float, high: float) -> float:
         return _fixed(_per_class(r, key, c.id, class_ids, default), "[]", at(key), None, low,

@@ -13,6 +13,7 @@ import numpy as np
 import pandas as pd
 
 from workbench.core.cache import memoize
+from workbench.core.constants import J_PER_KWH
 from workbench.core.fuels import Fuel
 from workbench.models import economics as econ
 from workbench.models.duty import DutyTrace, duty_stats
@@ -20,7 +21,7 @@ from workbench.models.emissions import co2e
 from workbench.models.nox import DEFAULT_ENGINE_OUT, engine_preset, nox_sweep
 from workbench.study.naming import display_unit, input_label, input_rows, study_names
 from workbench.study.results import COLUMNS, PALETTE, StudyResult
-from workbench.study.studyfile import Study, StudyInputs, Uncertain, all_uncertain
+from workbench.study.studyfile import ClassOption, Study, StudyInputs, Uncertain, all_uncertain
 
 if TYPE_CHECKING:
     from workbench.study.runner import Plan
@@ -95,12 +96,13 @@ def physics_tables(plan: Plan) -> dict[str, pd.DataFrame]:
     Returns
     -------
     dict of str to DataFrame
-        ``nox_monthly``, ``storage``, ``operating_points``, ``flame``, ``catalyst`` and
-        ``duty``.
+        ``nox_monthly``, ``storage``, ``operating_points``, ``flame``, ``catalyst``,
+        ``duty`` and ``battery``.
     """
     return {"nox_monthly": _nox_monthly_table(plan), "storage": _storage_table(plan),
             "operating_points": _operating_points_table(plan), "flame": _flame_table(plan),
-            "catalyst": _catalyst_table(plan), "duty": _duty_table(plan.inputs)}
+            "catalyst": _catalyst_table(plan), "duty": _duty_table(plan.inputs),
+            "battery": _battery_table(plan)}
 
 
 def _empty(name: str) -> pd.DataFrame:
@@ -134,8 +136,9 @@ def _per_km_rows(plan: Plan, lines: Mapping[str, econ.OptionLines],
             one = len(ph.fuels) == 1  # litres or kg of two fuels do not add: see fuel_use
             rows.append({
                 "candidate": o.id, "vehicle_class": c.id,
-                "fuel": "/".join(f.fuel.id for f in ph.fuels),
+                "fuel": "/".join(_carriers(o.per_class[c.id])),
                 "fuel_energy_mj_per_km": ph.fuel_energy_per_m * 1e-3,
+                "energy_kwh_per_km": ph.fuel_energy_per_m * 1e3 / J_PER_KWH,
                 "fuel_l_per_100km": ph.fuel_volume_per_m * 1e8,
                 "fuel_kg_per_100km": ph.fuel_mass_per_m * 1e5 if one else np.nan,
                 "co2_ttw_g_per_km": ph.co2_ttw_per_m * 1e6,
@@ -165,7 +168,8 @@ def _fuel_use_table(plan: Plan, lines: Mapping[str, econ.OptionLines]) -> pd.Dat
     rows = []
     for o in plan.inputs.options:
         for c, line in zip(plan.inputs.classes, lines[o.id].classes, strict=True):
-            for f, part in zip(plan.physics[o.id, c.id].fuels, line.parts, strict=True):
+            fuels = plan.physics[o.id, c.id].fuels
+            for f, part in zip(fuels, line.parts[:len(fuels)], strict=True):
                 tailpipe = float(co2e(f.per_m.co2_ttw_per_m, f.ch4_per_m, 0.0))
                 upstream = econ.co2e_per_m(replace(line, parts=(part,), tailpipe_co2e_per_m=0.0))
                 rows.append({
@@ -179,7 +183,50 @@ def _fuel_use_table(plan: Plan, lines: Mapping[str, econ.OptionLines]) -> pd.Dat
                     "co2e_ttw_g_per_km": tailpipe * 1e6,
                     "co2e_wtw_g_per_km": (tailpipe + upstream) * 1e6,
                 })
+            if plan.physics[o.id, c.id].electric is not None:  # grid electricity: no tailpipe
+                upstream = econ.co2e_per_m(replace(line, parts=line.parts[-1:],
+                                                   tailpipe_co2e_per_m=0.0))
+                rows.append({
+                    "candidate": o.id, "vehicle_class": c.id, "fuel": ELECTRICITY,
+                    "role": "grid", "energy_share": 1.0,
+                    "fuel_energy_mj_per_km": plan.physics[o.id, c.id].fuel_energy_per_m * 1e-3,
+                    "co2_ttw_g_per_km": 0.0, "ch4_g_per_km": 0.0, "co2e_ttw_g_per_km": 0.0,
+                    "co2e_wtw_g_per_km": upstream * 1e6})
     return frame("fuel_use", rows)
+
+
+#: The name grid electricity goes by where a fuel's id would stand in the tables.
+ELECTRICITY = "electricity"
+
+
+def _carriers(co: ClassOption) -> tuple[str, ...]:
+    """Ids of the energy carriers an option buys for a class: its fuels, or electricity."""
+    return tuple(f.id for f in co.fuels) + ((ELECTRICITY,) if co.electric is not None else ())
+
+
+def _battery_table(plan: Plan) -> pd.DataFrame:
+    """One row per battery-electric option x class: the pack, its mass, the charging check."""
+    rows = []
+    for (oid, cid), ph in plan.physics.items():
+        if ph.electric is None:
+            continue
+        e = next(o for o in plan.inputs.options if o.id == oid).per_class[cid].electric
+        s, ch = ph.electric.sizing, ph.electric.charging
+        energy = s.energy
+        rows.append({
+            "candidate": oid, "vehicle_class": cid, "range_km": e.range / 1e3,
+            "capacity_kwh": s.capacity / J_PER_KWH, "pack_mass_kg": s.mass,
+            "added_mass_kg": s.added_mass, "payload_loss_kg": max(s.added_mass, 0.0),
+            "payload_kg": s.vehicle.payload,
+            "battery_kwh_per_km": energy.battery_per_m * 1e3 / J_PER_KWH,
+            "energy_kwh_per_km": energy.grid_per_m * 1e3 / J_PER_KWH,
+            "regen_share_of_braking": (energy.regen_wheel / energy.braking
+                                       if energy.braking > 0 else 0.0),
+            "peak_power_kw": energy.peak_dc_power / 1e3,
+            "charging_power_kw": ch.power / 1e3, "charging_hours": ch.time_needed / 3600.0,
+            "charging_window_h": ch.window / 3600.0, "charging_fits": ch.fits,
+            "charging_message": ch.message})
+    return frame("battery", rows)
 
 
 def _candidates_table(plan: Plan, det: econ.Money, per_km: list[dict],
@@ -203,8 +250,8 @@ def _candidates_table(plan: Plan, det: econ.Money, per_km: list[dict],
         pct = np.percentile(mc.npv, [10, 50, 90]) if mc is not None else [nan] * 3
         rows.append({
             "candidate": o.id, "name": o.name,
-            "fuel": "/".join(dict.fromkeys(f.id for co in o.per_class.values()
-                                           for f in co.fuels)),
+            "fuel": "/".join(dict.fromkeys(f for co in o.per_class.values()
+                                           for f in _carriers(co))),
             "is_baseline": o.is_baseline, "colour": colours[o.id],
             "fuel_energy_mj_per_km": avg("fuel_energy_mj_per_km"),
             "co2_ttw_g_per_km": avg("co2_ttw_g_per_km"),
@@ -291,7 +338,7 @@ def _nox_monthly_table(plan: Plan) -> pd.DataFrame:
 def _storage_table(plan: Plan) -> pd.DataFrame:
     rows = [{"candidate": oid, "vehicle_class": cid,
              "fuel": _fuel(plan.inputs, oid, cid).id, **ph.storage}
-            for (oid, cid), ph in plan.physics.items()]
+            for (oid, cid), ph in plan.physics.items() if ph.storage]
     return frame("storage", rows)
 
 
@@ -352,6 +399,8 @@ def _breakeven_table(inputs: StudyInputs,
 def _operating_points_table(plan: Plan) -> pd.DataFrame:
     frames = []
     for (oid, cid), ph in plan.physics.items():
+        if ph.duty is None:  # no engine
+            continue
         c = next(k for k in plan.inputs.classes if k.id == cid)
         per_year = c.km_per_year.nominal / ph.duty.energy.distance  # profile passes per year
         p = ph.duty.points
@@ -368,7 +417,7 @@ def _flame_table(plan: Plan) -> pd.DataFrame:
     for o in plan.inputs.options:
         for co in o.per_class.values():
             key = (o.id, co.fuel.id)
-            if key in seen or (not co.converts and not o.is_baseline):
+            if key in seen or (not co.converts and not o.is_baseline) or not co.fuels:
                 continue
             seen.add(key)
             table = nox_sweep(co.fuel, engine_preset(co.engine), phi=list(FLAME_PHI))
@@ -418,9 +467,15 @@ def _assumptions(study: Study, draws: int) -> dict[str, str]:
                                     "add (first order)",
         "engine-out NOx": "screening model: baseline measured or typical engine-out NOx scaled "
                           "by the flame-chemistry propensity of each fuel",
-        "classes past their remaining life": "drop out of every option alike (replacement "
-                                             "vehicles are outside the study)",
+        "classes past their remaining life": "drop out of every option alike (a candidate's "
+                                             "new vehicles run the same years and are sold "
+                                             "when the class leaves the programme)",
     }
+    if any(co.electric is not None for o in i.options for co in o.per_class.values()):
+        out["battery-electric tailpipe"] = (
+            "zero CO2, CH4, N2O, NOx, PM, CO and hydrocarbons (nothing burns on board); brake "
+            "and tyre wear particles are not counted for any drive; the grid's CO2e per kWh "
+            "drawn is counted well to wheel, year by year")
     return out
 
 

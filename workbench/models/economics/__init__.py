@@ -10,6 +10,7 @@ from workbench.models.economics.cashflow import (
     Comparison,
     EnergyPart,
     Money,
+    NewVehicle,
     NPVDraws,
     OptionLines,
     Response,
@@ -22,6 +23,7 @@ from workbench.models.economics.cashflow import (
     npv_draws,
     physics_draws,
     programme_money,
+    sold_year,
 )
 from workbench.models.economics.finance import (
     abatement_cost,
@@ -57,6 +59,7 @@ __all__ = [
     "EnergyPart",
     "Money",
     "NPVDraws",
+    "NewVehicle",
     "OptionLines",
     "Response",
     "abatement_cost",
@@ -83,6 +86,7 @@ __all__ = [
     "sample",
     "sample_inputs",
     "simple_payback",
+    "sold_year",
     "summarise",
     "tornado",
 ]

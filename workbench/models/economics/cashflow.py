@@ -39,6 +39,7 @@ __all__ = [
     "EnergyPart",
     "Money",
     "NPVDraws",
+    "NewVehicle",
     "OptionLines",
     "Response",
     "co2e_per_m",
@@ -50,6 +51,7 @@ __all__ = [
     "npv_draws",
     "physics_draws",
     "programme_money",
+    "sold_year",
 ]
 
 
@@ -219,6 +221,27 @@ def _energy(part: EnergyPart, n: int) -> FloatArray:
 
 
 @dataclass(frozen=True)
+class NewVehicle:
+    """A class's vehicles replaced by new ones (any drive: battery-electric, fuel cell or a new
+    combustion vehicle), per vehicle; arrays of shape (n,) where they vary between draws.
+
+    Attributes
+    ----------
+    purchase_price : array
+        Price of one new vehicle, paid in year 0 [currency].
+    resale_value : array
+        What one new vehicle sells for when the class leaves the programme: at the horizon, or
+        in the last year of the class's remaining life when that comes first [currency].
+    old_vehicle_sale : array
+        What one replaced vehicle sells for in year 0 [currency].
+    """
+
+    purchase_price: ArrayLike
+    resale_value: ArrayLike
+    old_vehicle_sale: ArrayLike
+
+
+@dataclass(frozen=True)
 class ClassLine:
     """One option on one vehicle class, as its cash flows need it.
 
@@ -261,6 +284,9 @@ class ClassLine:
         left after the horizon (:func:`residual_value`, straight line).
     nox_mass : numpy.ndarray
         Fleet tailpipe NOx by year at the nominal distance, shape (H+1,) [kg].
+    new_vehicle : NewVehicle, optional
+        The class's vehicles replaced by new ones (a converted class only); None for a
+        conversion of the vehicles the fleet has.
     """
 
     count: int
@@ -279,6 +305,7 @@ class ClassLine:
     daily_revenue: ArrayLike
     remaining_life_years: int
     nox_mass: np.ndarray
+    new_vehicle: NewVehicle | None = None
 
 
 @dataclass(frozen=True)
@@ -375,8 +402,38 @@ def _class_terms(c: ClassLine, n: int, years: np.ndarray, carbon: FloatArray) ->
         return km, emitted, parts, None, None
     capital = _column(c.conversion_cost, n) * c.count
     first = capital + _column(c.downtime_days, n) * _column(c.daily_revenue, n) * c.count
-    return km, emitted, parts, first, residual_value(capital, horizon,
-                                                     life=c.remaining_life_years)
+    residual = (residual_value(capital, horizon, life=c.remaining_life_years)
+                * _in_year(horizon, horizon))
+    if c.new_vehicle is not None:
+        v = c.new_vehicle
+        first = first + (_column(v.purchase_price, n) - _column(v.old_vehicle_sale, n)) * c.count
+        residual = residual + (_column(v.resale_value, n) * c.count
+                               * _in_year(horizon, sold_year(c.active)))
+    return km, emitted, parts, first, residual
+
+
+def _in_year(horizon: int, year: int) -> np.ndarray:
+    """1 in programme year ``year``, else 0, shape (H+1,)."""
+    out = np.zeros(horizon + 1)
+    out[year] = 1.0
+    return out
+
+
+def sold_year(active: np.ndarray) -> int:
+    """Programme year a class's new vehicles are sold: the last year the class runs (the
+    horizon when it runs in none).
+
+    Parameters
+    ----------
+    active : numpy.ndarray
+        1 in the years the class runs, shape (H+1,).
+
+    Returns
+    -------
+    int
+    """
+    running = np.flatnonzero(active)
+    return int(running[-1]) if running.size else len(active) - 1
 
 
 def programme_money(options: Mapping[str, OptionLines], *, baseline: str, rate: ArrayLike,
@@ -415,7 +472,11 @@ def programme_money(options: Mapping[str, OptionLines], *, baseline: str, rate: 
       reductant in proportion to the distance driven;
     - in year 0, a converted class's capital ``K N`` and downtime ``days R N``;
     - in year H, a converted class's residual value ``K N (1 - H / L)`` for a remaining life
-      ``L > H`` (:func:`residual_value`, straight line).
+      ``L > H`` (:func:`residual_value`, straight line);
+    - for a class whose vehicles are replaced by new ones (:class:`NewVehicle`): in year 0 the
+      purchase less the old vehicles' sale ``(P - S_old) N``, and the new vehicles' resale
+      ``V_new N`` in the year they leave the programme (:func:`sold_year`: the horizon, or the
+      last year of the class's remaining life when that comes first).
 
     Programme upkeep falls in every year any class runs, programme capital in year 0.
     """
@@ -446,7 +507,7 @@ def programme_money(options: Mapping[str, OptionLines], *, baseline: str, rate: 
                 cost += part
             if first_year is not None:
                 cost[:, :1] += first_year
-                residual[:, -1:] += residual_end
+                residual += residual_end
         cost += _column(option.programme_upkeep_per_year, n) * any_active
         cost[:, :1] += _column(option.programme_capital, n)
         costs[oid], residuals[oid], carbons[oid] = cost, residual, paid
@@ -654,7 +715,9 @@ def cost_per_m(line: ClassLine, *, rate: float, carbon_price: float) -> dict[str
         ``upkeep``: upkeep per vehicle-year, with catalysts, reductant and tank inspections
         averaged over the years the class runs; ``capital``: the conversion (capital and
         downtime) as a level yearly payment over the class's remaining life (capital recovery
-        factor at the discount rate); all per distance [currency/m]. Programme capital and
+        factor at the discount rate), and new vehicles' purchase less the old vehicles' sale
+        and the discounted resale, as a level payment over the years they run; all per
+        distance [currency/m]. Programme capital and
         upkeep (option-wide) and the residual value are not in it; the NPV and the levelised
         cost carry them.
     """
@@ -672,5 +735,11 @@ def cost_per_m(line: ClassLine, *, rate: float, carbon_price: float) -> dict[str
         outlay = (_one(line.conversion_cost)
                   + _one(line.downtime_days) * _one(line.daily_revenue))
         capital = outlay * float(capital_recovery_factor(rate, line.remaining_life_years)) / km
+    if line.new_vehicle is not None:
+        v = line.new_vehicle
+        years = sold_year(line.active)
+        net = (_one(v.purchase_price) - _one(v.old_vehicle_sale)
+               - _one(v.resale_value) * (1.0 + rate) ** -years)
+        capital += net * float(capital_recovery_factor(rate, max(years, 1))) / km
     return {"fuel": fuel + co2e_per_m(line) * carbon_price,
             "upkeep": upkeep_year / km, "capital": capital}
