@@ -25,7 +25,8 @@ from __future__ import annotations
 import copy
 import math
 import re
-from collections.abc import Callable, Iterable, Mapping
+from collections.abc import Callable, Iterable, Iterator, Mapping
+from contextlib import contextmanager
 from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
@@ -1386,15 +1387,13 @@ def _electric_option(r: _Reader, c: FleetClass, class_ids: set[str], base: Class
                               ("specific_energy", "pack specific energy", "Wh/kg", 1 / 3600)),
               ElectricDrive.__dataclass_fields__ | BatteryPack.__dataclass_fields__,
               _ELECTRIC_MODEL)
-    try:
+    with _model_keys(at, {}):  # a share of 0 where the model needs more
         drive = _motor(raw, at, defaults, charging_efficiency=share("charging_efficiency", 0.88))
         pack = BatteryPack(
             depth_of_discharge=share("depth_of_discharge", 0.9),
             end_of_life_health=share("end_of_life_health", 0.8),
             specific_energy=_fixed(raw("specific_energy", "140 Wh/kg"), "J/kg",
                                    at("specific_energy"), None, 3600.0, 3600.0 * 2000))
-    except InputError as exc:  # a share of 0 where the model needs more
-        raise InputError(at(exc.where), exc.message) from None
     window = _fixed(raw("charging_window", "8 h"), "[time]", at("charging_window"), None,
                     60.0, 86400.0)
     electric = ElectricInputs(
@@ -1433,6 +1432,19 @@ def _defaults(raw: Callable[[str, Any], Any], defaults: list[tuple[str, str, str
     for key, label, unit, scale in keys:
         if raw(key, None) is None:
             defaults.append((label, f"{fields[key].default * scale:g}", unit, source))
+
+
+@contextmanager
+def _model_keys(at: Callable[[str], str], keys: Mapping[str, str]) -> Iterator[None]:
+    """Name the study key of a model's own check (a share of 0 where the model needs more):
+    an InputError whose ``where`` is a model field, not yet a key path, gets the key's path
+    (``keys`` maps fields whose key differs)."""
+    try:
+        yield
+    except InputError as exc:
+        if "[" in exc.where or exc.where.startswith(("baseline", "classes")):
+            raise
+        raise InputError(at(keys.get(exc.where, exc.where)), exc.message) from None
 
 
 def _motor(raw: Callable[[str, Any], Any], at: Callable[[str], str],
@@ -1530,30 +1542,29 @@ def _fuel_cell_option(r: _Reader, c: FleetClass, class_ids: set[str], base: Clas
         FuelCellSystem.__dataclass_fields__, source)
     if raw("fuel_cell_specific_power", None) is None:
         defaults.append(("fuel-cell system specific power", "650", "W/kg", source))
-    try:
+    def quantity(key: str, default: Any, dimension: str, low: float, high: float,
+                 unit: tuple[str, float]) -> float:
+        value = _fixed(raw(key, default), dimension, at(key))
+        _check_range(value, at(key), low, high, unit)
+        return value
+
+    with _model_keys(at, {"round_trip_efficiency": "buffer_round_trip_efficiency"}):
         drive = _motor(raw, at, defaults)
-        stack = _fixed(raw("stack_power", ...), "[power]", at("stack_power"), None, 1e3, 1e7)
         system = FuelCellSystem(
-            rated_power=stack,
+            rated_power=quantity("stack_power", ..., "[power]", 1e3, 1e7, ("kW", 1e-3)),
             rated_cell_voltage=_fixed(raw("rated_cell_voltage", 0.6), "[]",
                                       at("rated_cell_voltage"), None, 0.3, 1.2),
             fuel_utilisation=share("fuel_utilisation", 0.95),
             bop_base_share=share("bop_base_share", 0.01),
             bop_load_share=share("bop_load_share", 0.08),
-            specific_power=_fixed(raw("fuel_cell_specific_power", "650 W/kg"), "W/kg",
-                                  at("fuel_cell_specific_power"), None, 10.0, 1e4))
+            specific_power=quantity("fuel_cell_specific_power", "650 W/kg", "W/kg", 10.0, 1e4,
+                                    ("W/kg", 1.0)))
         buffer = BufferBattery(
-            capacity=_fixed(raw("buffer_capacity", "2 kWh"), "[energy]", at("buffer_capacity"),
-                            None, 3.6e4, 3.6e9),
-            power=_fixed(raw("buffer_power", f"{drive.motor_power / 1e3:g} kW"), "[power]",
-                         at("buffer_power"), None, 100.0, 1e7),
+            capacity=quantity("buffer_capacity", "2 kWh", "[energy]", 3.6e4, 3.6e9,
+                              ("kWh", 1 / 3.6e6)),
+            power=quantity("buffer_power", f"{drive.motor_power / 1e3:g} kW", "[power]", 100.0,
+                           1e7, ("kW", 1e-3)),
             round_trip_efficiency=share("buffer_round_trip_efficiency", 0.90))
-    except InputError as exc:  # a model's own check: name the key that was wrong
-        key = {"net power": "stack_power", "buffer capacity": "buffer_capacity",
-               "buffer power": "buffer_power", "round_trip_efficiency":
-               "buffer_round_trip_efficiency", "specific_power": "fuel_cell_specific_power",
-               "rated_power": "stack_power"}.get(exc.where, exc.where)
-        raise InputError(at(key), exc.message) from None
     for key, label, value, unit in (("buffer_capacity", "buffer battery capacity", "2", "kWh"),
                                     ("buffer_power", "buffer battery power",
                                      f"{drive.motor_power / 1e3:g}", "kW (the motor's)"),
@@ -1572,8 +1583,8 @@ def _fuel_cell_option(r: _Reader, c: FleetClass, class_ids: set[str], base: Clas
     co2e, pathway, co2e_source = _hydrogen_co2e(raw, at, defaults)
     fuel_cell = FuelCellInputs(
         drive=drive, system=system, buffer=buffer, **_range_mass(raw, at, c),
-        tank_pressure=_fixed(raw("tank_pressure", "700 bar"), "[pressure]", at("tank_pressure"),
-                             None, 100e5, 700e5),
+        tank_pressure=quantity("tank_pressure", "700 bar", "[pressure]", 100e5, 700e5,
+                               ("bar", 1e-5)),
         hydrogen=hydrogen, price=price, price_value=price_value,
         escalation=_uncertain(raw("hydrogen_escalation", 0.0), _fraction,
                               at("hydrogen_escalation"), -0.5, 1.0, PERCENT),
