@@ -126,7 +126,8 @@ def _error(**changes) -> InputError:
 ])
 def test_bad_keys_name_the_key(changes, where, words):
     err = _error(**changes)
-    assert err.where == f"candidates[2].{where}"
+    index = len(read_study("demo").data["candidates"])  # the fuel-cell buses come last
+    assert err.where == f"candidates[{index}].{where}"
     assert words in err.message
 
 
@@ -139,3 +140,15 @@ def test_fuel_cell_keys_belong_to_the_drive():
     with pytest.raises(InputError, match="baseline") as err:
         study.with_values({"baseline.drive": "fuel-cell"})
     assert err.value.where == "baseline.drive"
+
+
+@pytest.mark.slow
+def test_the_report_shows_the_fuel_cell_table_with_its_caution(fc):
+    from workbench.interfaces.report import HYDROGEN_CAUTION, study_report_html
+
+    html = study_report_html(_study(), fc)
+    assert 'id="fuel_cell"' in html and HYDROGEN_CAUTION in html
+    section = html[html.index('id="fuel_cell"'):html.index('id="classes"')]
+    # names, not ids, reach the page (DEVELOPERS.md, rules of the house)
+    assert "Electrolysis on wind or solar electricity" in section
+    assert "green-electrolysis" not in section and "fc-bus" not in section

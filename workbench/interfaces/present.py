@@ -99,6 +99,17 @@ LABELS = {
     "observed_mj_per_km": "observed fuel energy [MJ/km]",
     "modelled_mj_per_km": "modelled fuel energy [MJ/km]",
     "rms_residual_mj_per_km": "RMS residual per vehicle [MJ/km]",
+    "energy_kwh_per_km": "energy bought [kWh/km]",
+    "capacity_kwh": "battery capacity, new [kWh]", "pack_mass_kg": "battery mass [kg]",
+    "added_mass_kg": "mass added, battery less powertrain saved [kg]",
+    "payload_loss_kg": "payload lost to the battery [kg]",
+    "payload_kg": "payload of the vehicle file [kg]",
+    "battery_kwh_per_km": "energy from the battery [kWh/km]",
+    "regen_share_of_braking": "braking energy regenerated [%]",
+    "peak_power_kw": "peak battery power [kW]", "charging_power_kw": "charging power [kW]",
+    "charging_hours": "time to recharge the range [h]",
+    "charging_window_h": "charging window [h]", "charging_fits": "recharge fits the window",
+    "charging_message": "charging note",
 }
 #: Titles of the result tables for a reader.
 TABLE_TITLES = {
@@ -115,6 +126,7 @@ TABLE_TITLES = {
     "class_decisions": "Each class converted on its own", "best_mix": "Best mix by class",
     "vehicles": "Each vehicle of a class run from its logs",
     "calibration": "The model against the fuel cards",
+    "battery": "Battery-electric options: pack, payload and charging",
     "fuel_cell": "Fuel-cell drives: stack, hydrogen and tank",
 }
 _PERCENT = re.compile(r"^(p_|share_)|_share$|efficiency$")
@@ -240,6 +252,11 @@ def reader_table(name: str, result: StudyResult, table: pd.DataFrame | None = No
         t["vehicle_class"] = t["vehicle_class"].map(names.vehicle_class)
     if "fuel" in t:
         t["fuel"] = t["fuel"].map(lambda f: " / ".join(names.fuel(x) for x in str(f).split("/")))
+    if "pathway" in t:  # a hydrogen pathway's id, or "study file" for a figure given
+        from workbench.models.fuelcell import HYDROGEN_PATHWAYS  # Cantera: only when needed
+
+        t["pathway"] = t["pathway"].map(
+            lambda p: HYDROGEN_PATHWAYS[p].name if p in HYDROGEN_PATHWAYS else p)
     records = t.to_dict("records")
     shown = [c for c in t.columns if c not in HIDDEN]
     return pd.DataFrame({column_label(c, result.currency):

@@ -31,7 +31,7 @@ import workbench
 from workbench.core.text import escape_html as _esc
 from workbench.core.text import sha256_hex
 from workbench.interfaces.charts import MapSource, all_figures
-from workbench.interfaces.present import TABLE_TITLES, reader_table, side_by_side
+from workbench.interfaces.present import TABLE_TITLES, reader_table, side_by_side, significant
 from workbench.interfaces.summary import best_mix_text, best_option, verdicts
 from workbench.io.files import check_target, write_text_atomic
 from workbench.study.results import RunMap, StudyResult, notice_lines
@@ -44,6 +44,19 @@ SAFETY_CAUTION = (
     "fitting and periodic inspection must be done by licensed installers and workshops, and "
     "local codes and type-approval rules decide what is allowed. Every figure in this report "
     "is an estimate from models and assumed inputs, not a measurement or a guarantee."
+)
+#: The caution added when an option runs on traction batteries.
+BATTERY_CAUTION = (
+    "Traction batteries and depot chargers are high-voltage equipment: their installation, "
+    "servicing, garaging and fire precautions are for trained and licensed people, and local "
+    "electrical, building and fire codes decide what is allowed."
+)
+#: The caution added when an option runs on hydrogen fuel cells.
+HYDROGEN_CAUTION = (
+    "Fuel-cell vehicles carry hydrogen at 350-700 bar, which burns with a nearly invisible "
+    "flame, and a high-voltage DC bus: vehicles, tanks, filling stations and the garages that "
+    "service them (ventilation, gas detection) are for licensed practitioners, and local codes "
+    "decide what is allowed."
 )
 
 #: The line shown when the study says its data are invented.
@@ -253,11 +266,22 @@ def _caveats(result: StudyResult) -> str:
                      f"{result.names.vehicle_class(r['vehicle_class'])}: "
                      f"{r['share_out_of_map']:.0%} of the time runs outside the engine map; "
                      "its fuel use there is an extrapolation.")
+    for _, r in result.battery.iterrows():
+        where = (f"{result.names.candidate(r['candidate'])}, "
+                 f"{result.names.vehicle_class(r['vehicle_class'])}: ")
+        if r["charging_message"]:
+            items.append(where + r["charging_message"] + ".")
+        if r["payload_loss_kg"] > r["payload_kg"]:
+            items.append(where + f"the battery takes {significant(r['payload_loss_kg'])} kg of "
+                         f"payload, more than the {significant(r['payload_kg'])} kg carried "
+                         "today.")
     if result.fictional:
         items.insert(0, DEMO_NOTICE)
     lis = "".join(f"<li>{_esc(i)}</li>" for i in items)
+    caution = (SAFETY_CAUTION + (" " + BATTERY_CAUTION if len(result.battery) else "")
+               + (" " + HYDROGEN_CAUTION if len(result.fuel_cell) else ""))
     return (f"<ul>{lis}</ul><p class=\"caution\" id=\"safety\"><strong>Safety:</strong> "
-            f"{SAFETY_CAUTION}</p>")
+            f"{caution}</p>")
 
 
 def _data(result: StudyResult, study_text: str) -> str:
@@ -299,6 +323,27 @@ def _decisions_html(result: StudyResult) -> str:
             "programme costs (station, workshop); the mix counts those of each candidate it "
             "uses once.</p>"
             f'<div class="scroll">{_table_html(reader_table("class_decisions", result))}</div>')
+
+
+#: What each new drive's table says, before the table.
+DRIVE_TABLES = {
+    "battery": "Each pack is sized for the range at the end of its life on the class's own "
+               "duty, carrying its own mass; the payload lost is the pack's mass less the "
+               "combustion powertrain it replaces.",
+    "fuel_cell": "The fuel cell meets the motor's demand on the class's own duty up to its "
+                 "rated power, the buffer battery the peaks and the regenerated braking; the "
+                 "hydrogen tank is sized for the range and carried with the stack and buffer. "
+                 "Efficiencies are on the hydrogen's lower heating value.",
+}
+
+
+def _drive_html(result: StudyResult, name: str) -> str:
+    """A new drive's table (``battery``, ``fuel_cell``) with its note (none: empty)."""
+    table = result.tables()[name]
+    if table.empty:
+        return ""
+    return (f'<h3 id="{name}">{_esc(TABLE_TITLES[name])}</h3><p>{_esc(DRIVE_TABLES[name])}</p>'
+            f'<div class="scroll">{_table_html(reader_table(name, result))}</div>')
 
 
 def _notices_html(result: StudyResult) -> str:
@@ -386,6 +431,8 @@ def html_report(
 <div class="scroll">{side}</div>
 <h3>Per vehicle class</h3>
 {per_class}
+{_drive_html(result, "battery")}
+{_drive_html(result, "fuel_cell")}
 <h2 id="classes">A decision per class</h2>
 {_decisions_html(result)}
 <h2 id="defaults">Defaults the run applied</h2>

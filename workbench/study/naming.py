@@ -13,7 +13,7 @@ from collections.abc import Mapping
 from dataclasses import dataclass, field
 from typing import Any
 
-from workbench.study.studyfile import StudyInputs, study_fuels
+from workbench.study.studyfile import ELECTRICITY, StudyInputs, study_fuels
 
 #: Words for study-file keys whose plain spelling reads badly; other keys are spelled out
 #: with their underscores as spaces.
@@ -54,6 +54,31 @@ KEY_WORDS = {
     "calibration": "fuel-card calibration of its fuel use",
     "fuel_cards": "fuel cards",
     "calibrate": "apply the fuel-card calibration",
+    "drive": "drive",
+    "purchase_price": "new vehicle price",
+    "resale_value": "new vehicle resale value",
+    "old_vehicle_sale": "sale of the old vehicle",
+    "motor_power": "motor power",
+    "motor_efficiency": "motor and inverter efficiency",
+    "reducer_efficiency": "reduction gear efficiency",
+    "regen_share": "regenerated share of braking",
+    "hvac_power": "heating and cooling power",
+    "charging_efficiency": "charging efficiency",
+    "depth_of_discharge": "battery depth of discharge",
+    "end_of_life_health": "battery capacity at end of life",
+    "specific_energy": "battery specific energy",
+    "range": "range",
+    "mass_saved": "combustion powertrain mass saved",
+    "charger_power": "charger power",
+    "chargers_per_vehicle": "chargers per vehicle",
+    "charger_capital": "charger capital per vehicle",
+    "charger_upkeep_per_year": "charger upkeep per vehicle-year",
+    "charging_window": "charging window",
+    "electricity_price": "electricity price",
+    "charging_shares": "share of charging energy",
+    "electricity_escalation": "electricity price escalation",
+    "grid_co2e": "grid CO2e per kWh",
+    "grid_co2e_source": "source of the grid CO2e",
 }
 #: Words for the top-level tables keyed by fuel id.
 _BY_FUEL = {"prices": "price of {}", "escalation": "price escalation of {}",
@@ -105,6 +130,11 @@ def study_names(inputs: StudyInputs) -> Names:
     Names
     """
     fuels = {fid: fuel.name or fid for fid, fuel in study_fuels(inputs.options).items()}
+    for co in (co for o in inputs.options for co in o.per_class.values()):
+        if co.electric is not None:
+            fuels[ELECTRICITY] = "grid electricity"
+        if co.fuel_cell is not None:
+            fuels[co.fuel_cell.hydrogen.id] = co.fuel_cell.hydrogen.name
     return Names(candidates={o.id: o.name for o in inputs.options},
                  classes={c.id: c.name for c in inputs.classes}, fuels=fuels)
 

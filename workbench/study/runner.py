@@ -418,8 +418,11 @@ def electric_physics(c: FleetClass, co: ClassOption, base: ClassOption, months: 
     """
     e = co.electric
     assert e is not None and isinstance(c.profile_data, DutyTrace)  # the study checked both
-    sizing = size_battery(c.vehicle_data, c.profile_data, e.drive, e.pack, e.range,
-                          mass_saved=e.mass_saved, settings=_settings(c))
+    try:
+        sizing = size_battery(c.vehicle_data, c.profile_data, e.drive, e.pack, e.range,
+                              mass_saved=e.mass_saved, settings=_settings(c))
+    except InputError as exc:  # the range too long for the pack: name the study's key
+        raise InputError(e.where, exc.message) from None
     grid_m = sizing.energy.grid_per_m
     charging = charging_check(e.range * grid_m, e.charger_power, e.chargers_per_vehicle,
                               e.charging_window)

@@ -165,6 +165,8 @@ class FleetClass:
 #: keep the combustion engine; any other drive replaces the class's vehicles by new ones
 #: (``NewVehicleInputs``) and has its own energy model (``workbench.study.runner.DRIVES``).
 DRIVES = ("combustion", "battery-electric", "fuel-cell")
+#: The id grid electricity goes by where a fuel's id stands in the result tables.
+ELECTRICITY = "electricity"
 
 
 @dataclass(frozen=True)
@@ -197,6 +199,7 @@ class ElectricInputs:
     #: Grid CO2e intensity by calendar year [kg/J], linear between the years, held beyond.
     grid_co2e: tuple[tuple[int, float], ...]
     grid_co2e_source: str
+    where: str = ""  # key path of the range, named when no pack can carry itself over it
 
     def grid_path(self, start_year: int, horizon: int) -> list[float]:
         """Grid CO2e intensity in each programme year 0 … H [kg/J]."""
@@ -1387,7 +1390,7 @@ def _electric_option(r: _Reader, c: FleetClass, class_ids: set[str], base: Class
                               ("specific_energy", "pack specific energy", "Wh/kg", 1 / 3600)),
               ElectricDrive.__dataclass_fields__ | BatteryPack.__dataclass_fields__,
               _ELECTRIC_MODEL)
-    with _model_keys(at, {}):  # a share of 0 where the model needs more
+    with _model_keys(at, r.path, {}):  # a share of 0 where the model needs more
         drive = _motor(raw, at, defaults, charging_efficiency=share("charging_efficiency", 0.88))
         pack = BatteryPack(
             depth_of_discharge=share("depth_of_discharge", 0.9),
@@ -1412,7 +1415,8 @@ def _electric_option(r: _Reader, c: FleetClass, class_ids: set[str], base: Class
                               at("electricity_escalation"), -0.5, 1.0, PERCENT),
         grid_co2e=_grid_co2e(raw("grid_co2e", ...), at("grid_co2e")),
         grid_co2e_source=_fixed_text(raw("grid_co2e_source", "study file"),
-                                     at("grid_co2e_source")))
+                                     at("grid_co2e_source")),
+        where=at("range"))
     if raw("charger_power", None) is None:
         defaults.append(("charger power", "22", "kW", "common practice, no source (a "
                          "three-phase AC depot charger)"))
@@ -1435,14 +1439,15 @@ def _defaults(raw: Callable[[str, Any], Any], defaults: list[tuple[str, str, str
 
 
 @contextmanager
-def _model_keys(at: Callable[[str], str], keys: Mapping[str, str]) -> Iterator[None]:
+def _model_keys(at: Callable[[str], str], option: str,
+                keys: Mapping[str, str]) -> Iterator[None]:
     """Name the study key of a model's own check (a share of 0 where the model needs more):
-    an InputError whose ``where`` is a model field, not yet a key path, gets the key's path
-    (``keys`` maps fields whose key differs)."""
+    an InputError whose ``where`` is a model field, not a key path of the ``option`` already,
+    gets the key's path (``keys`` maps fields whose key differs)."""
     try:
         yield
     except InputError as exc:
-        if "[" in exc.where or exc.where.startswith(("baseline", "classes")):
+        if exc.where.startswith(option):
             raise
         raise InputError(at(keys.get(exc.where, exc.where)), exc.message) from None
 
@@ -1548,7 +1553,7 @@ def _fuel_cell_option(r: _Reader, c: FleetClass, class_ids: set[str], base: Clas
         _check_range(value, at(key), low, high, unit)
         return value
 
-    with _model_keys(at, {"round_trip_efficiency": "buffer_round_trip_efficiency"}):
+    with _model_keys(at, r.path, {"round_trip_efficiency": "buffer_round_trip_efficiency"}):
         drive = _motor(raw, at, defaults)
         system = FuelCellSystem(
             rated_power=quantity("stack_power", ..., "[power]", 1e3, 1e7, ("kW", 1e-3)),

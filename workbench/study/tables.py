@@ -21,7 +21,14 @@ from workbench.models.emissions import co2e
 from workbench.models.nox import DEFAULT_ENGINE_OUT, engine_preset, nox_sweep
 from workbench.study.naming import display_unit, input_label, input_rows, study_names
 from workbench.study.results import COLUMNS, PALETTE, StudyResult
-from workbench.study.studyfile import ClassOption, Study, StudyInputs, Uncertain, all_uncertain
+from workbench.study.studyfile import (
+    ELECTRICITY,
+    ClassOption,
+    Study,
+    StudyInputs,
+    Uncertain,
+    all_uncertain,
+)
 
 if TYPE_CHECKING:
     from workbench.study.runner import Plan
@@ -205,10 +212,6 @@ def _fuel_use_table(plan: Plan, lines: Mapping[str, econ.OptionLines]) -> pd.Dat
                     "co2_ttw_g_per_km": 0.0, "ch4_g_per_km": 0.0, "co2e_ttw_g_per_km": 0.0,
                     "co2e_wtw_g_per_km": upstream * 1e6})
     return frame("fuel_use", rows)
-
-
-#: The name grid electricity goes by where a fuel's id would stand in the tables.
-ELECTRICITY = "electricity"
 
 
 def _carriers(co: ClassOption) -> tuple[str, ...]:

@@ -176,7 +176,8 @@ def option_slots(study: Study, key: str) -> list[OptionSlot]:
     """Every place the options set ``key`` (``fuel``, ``aftertreatment``), baseline first.
 
     An option that gives the key as a table by class id has one slot per class; otherwise one
-    slot (also when the key is absent, so a panel can add it).
+    slot (also when the key is absent, so a panel can add it). A class an option gives another
+    drive (battery-electric) has no engine keys and no slot.
 
     Parameters
     ----------
@@ -197,11 +198,15 @@ def option_slots(study: Study, key: str) -> list[OptionSlot]:
     slots = []
     for prefix, table, option in zip(prefixes, tables, inputs.options, strict=True):
         raw = table.get(key)
+        engine = {cid for cid, co in option.per_class.items() if co.drive == "combustion"}
         if isinstance(raw, dict) and raw and set(raw) <= class_ids:
             slots += [OptionSlot(f"{option.name}: {cid}", f"{prefix}.{key}.{cid}", option, cid)
-                      for cid in raw]
+                      for cid in raw if cid in engine]
         else:
             converted = [cid for cid, co in option.per_class.items() if co.converts]
+            if converted and not set(converted) & engine:
+                continue
+            converted = [cid for cid in converted if cid in engine]
             slots.append(OptionSlot(option.name, f"{prefix}.{key}", option,
                                     (converted or list(option.per_class))[0]))
     return slots
