@@ -40,7 +40,8 @@ def test_demo_round_trips_losslessly(demo):
 
 def test_tables_have_their_columns(result):
     check_columns(result)
-    assert list(result.candidates["candidate"]) == ["today", "lpg-taxis", "cng-fleet"]
+    assert list(result.candidates["candidate"]) == ["today", "lpg-taxis", "cng-fleet",
+                                                    "electric-vans"]
 
 
 def test_npv_and_payback_against_numpy_financial(result):

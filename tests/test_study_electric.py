@@ -13,6 +13,8 @@ import pytest
 from numpy.testing import assert_allclose
 
 from workbench.core.errors import InputError
+from workbench.interfaces.present import significant
+from workbench.interfaces.summary import verdicts
 from workbench.study.runner import run
 from workbench.study.studyfile import Study
 
@@ -157,6 +159,11 @@ def test_money_of_the_electric_option_in_the_study(tmp_path):
     assert_allclose(last, 10 * 15000 + 10 * 2000 * (1 - 4 / 6), rtol=1e-9)
     ranked = result.candidates.set_index("candidate")
     assert np.isfinite(ranked.loc["ev", "npv_vs_baseline"])  # ranked with the others
+    (verdict,) = verdicts(result)
+    row = result.battery.iloc[0]
+    assert verdict.name == "Electric vans"
+    assert any(f"payload lost {significant(row['payload_loss_kg'])} kg" in line
+               and "grid electricity" in line for line in verdict.per_class)
 
 
 @pytest.mark.slow

@@ -42,7 +42,8 @@ class Verdict:
     breakeven : str
         The values at which the verdict would change (NPV zero), where they exist.
     per_class : tuple of str
-        Per vehicle class: cost per km and emissions against the baseline.
+        Per vehicle class: cost per km and emissions against the baseline (a
+        battery-electric class: its pack, grid energy per km and the payload it costs).
     raises_emissions : bool
         The option raises CO2e or NOx against the baseline.
     """
@@ -161,8 +162,15 @@ def _per_class(result: StudyResult, cid: str) -> tuple[str, ...]:
         cost, _ = _change(c["cost_per_km"], b["cost_per_km"], f"{result.currency}/km")
         co2, _ = _change(c["co2e_wtw_g_per_km"], b["co2e_wtw_g_per_km"], "g/km")
         nox, _ = _change(c["nox_g_per_km"], b["nox_g_per_km"], "g/km")
+        bat = result.battery[(result.battery["candidate"] == cid)
+                             & (result.battery["vehicle_class"] == vclass)]
+        pack = "" if bat.empty else (
+            f" Battery {significant(bat['capacity_kwh'].iloc[0])} kWh, "
+            f"{significant(bat['energy_kwh_per_km'].iloc[0])} kWh/km from the grid, payload "
+            f"lost {significant(bat['payload_loss_kg'].iloc[0])} kg.")
         lines.append(f"{result.names.vehicle_class(vclass)} on "
-                     f"{result.names.fuel(c['fuel'])}: cost {cost}, CO2e {co2}, NOx {nox}.")
+                     f"{result.names.fuel(c['fuel'])}: cost {cost}, CO2e {co2}, NOx {nox}."
+                     + pack)
     return tuple(lines)
 
 

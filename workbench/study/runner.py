@@ -44,7 +44,13 @@ from workbench.models.conversion import (
     kind_derate,
 )
 from workbench.models.duty import DutySettings, DutyTrace, ModeTable
-from workbench.models.electric import BatterySizing, ChargingCheck, charging_check, size_battery
+from workbench.models.electric import (
+    BatterySizing,
+    ChargingCheck,
+    charging_check,
+    size_battery,
+    tariff_price,
+)
 from workbench.models.emissions import co2e
 from workbench.models.engine import (
     DutyEnergy,
@@ -758,7 +764,8 @@ def _lines(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> dict[str, ec
             capital, upkeep = val(co.conversion_cost), val(co.upkeep_change_per_year)
             if (e := co.electric) is not None:
                 parts += (econ.EnergyPart(
-                    energy[:, len(ph.fuels)], sum(val(u) * share for _, u, share in e.tariff),
+                    energy[:, len(ph.fuels)],
+                    tariff_price([val(u) for _, u, _ in e.tariff], [s for _, _, s in e.tariff]),
                     val(e.escalation), np.array(e.grid_path(inputs.start_year,
                                                             inputs.horizon_years)),
                     upstream_by_year=True),)

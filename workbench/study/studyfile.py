@@ -69,7 +69,7 @@ from workbench.models.conversion import (
 )
 from workbench.models.duty import DutyTrace, ModeTable
 from workbench.models.economics import DISTRIBUTION_PARAMETERS, Correlation, Distribution
-from workbench.models.electric import BatteryPack, EfficiencyCurve, ElectricDrive
+from workbench.models.electric import BatteryPack, EfficiencyCurve, ElectricDrive, tariff_price
 from workbench.models.engine import EngineMap
 from workbench.models.engine_out import DEFAULT_REFERENCE_FUEL
 from workbench.models.fuelcell import HYDROGEN_PATHWAYS, BufferBattery, FuelCellSystem
@@ -1668,13 +1668,13 @@ def _tariff(raw: Any, shares_raw: Any, where: str, where_shares: str, currency: 
                          f"({', '.join(raw)}) its share of the charging energy, e.g. "
                          f"charging_shares = {{ {next(iter(raw))} = 1.0 }}")
     out = []
-    for name, value in raw.items():
+    for name, value in sorted(raw.items()):  # by name: the same tariff in any key order
         share = _fixed(shares_raw[name], "[]", f"{where_shares}.{name}", None, 0.0, 1.0)
         out.append((str(name), price(value, f"{where}.{name}"), share))
-    total = sum(s for _, _, s in out)
-    if abs(total - 1.0) > 1e-6:
-        raise InputError(where_shares, f"the bands' shares of charging energy sum to "
-                         f"{total:g}; they must sum to 1")
+    try:
+        tariff_price([u.nominal for _, u, _ in out], [s for _, _, s in out])
+    except InputError as exc:
+        raise InputError(where_shares, exc.message) from None
     return tuple(out)
 
 

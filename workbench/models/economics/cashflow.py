@@ -379,7 +379,8 @@ def _column(x: ArrayLike, n: int) -> FloatArray:
 def _class_terms(c: ClassLine, n: int, years: np.ndarray, carbon: FloatArray) -> tuple:
     """One class line's share of an option's money (see :func:`programme_money`): fleet
     distance, CO2e, the yearly costs (fuel, carbon, upkeep, inspections, catalysts), and for a
-    converted class its year-0 capital with downtime and its residual value (else None)."""
+    converted class its year-0 capital with downtime and its residual values as (programme
+    year, value per draw) pairs (else None)."""
     horizon = len(years) - 1
     act = c.active
     km_year = _column(c.km_per_year, n)
@@ -402,21 +403,12 @@ def _class_terms(c: ClassLine, n: int, years: np.ndarray, carbon: FloatArray) ->
         return km, emitted, parts, None, None
     capital = _column(c.conversion_cost, n) * c.count
     first = capital + _column(c.downtime_days, n) * _column(c.daily_revenue, n) * c.count
-    residual = (residual_value(capital, horizon, life=c.remaining_life_years)
-                * _in_year(horizon, horizon))
+    residual = [(horizon, residual_value(capital, horizon, life=c.remaining_life_years))]
     if c.new_vehicle is not None:
         v = c.new_vehicle
         first = first + (_column(v.purchase_price, n) - _column(v.old_vehicle_sale, n)) * c.count
-        residual = residual + (_column(v.resale_value, n) * c.count
-                               * _in_year(horizon, sold_year(c.active)))
+        residual.append((sold_year(c.active), _column(v.resale_value, n) * c.count))
     return km, emitted, parts, first, residual
-
-
-def _in_year(horizon: int, year: int) -> np.ndarray:
-    """1 in programme year ``year``, else 0, shape (H+1,)."""
-    out = np.zeros(horizon + 1)
-    out[year] = 1.0
-    return out
 
 
 def sold_year(active: np.ndarray) -> int:
@@ -507,7 +499,8 @@ def programme_money(options: Mapping[str, OptionLines], *, baseline: str, rate: 
                 cost += part
             if first_year is not None:
                 cost[:, :1] += first_year
-                residual += residual_end
+                for year, value in residual_end:  # (year, value per draw (n, 1)) each
+                    residual[:, year:year + 1] += value
         cost += _column(option.programme_upkeep_per_year, n) * any_active
         cost[:, :1] += _column(option.programme_capital, n)
         costs[oid], residuals[oid], carbons[oid] = cost, residual, paid
