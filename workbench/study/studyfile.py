@@ -35,6 +35,7 @@ import numpy as np
 import tomlkit
 import tomlkit.items
 
+from workbench.core.constants import J_PER_KWH
 from workbench.core.errors import InputError
 from workbench.core.fuels import BASES, Fuel, blend, load_fuel
 from workbench.core.paths import DATA
@@ -1565,8 +1566,8 @@ def _fuel_cell_option(r: _Reader, c: FleetClass, class_ids: set[str], base: Clas
             specific_power=quantity("fuel_cell_specific_power", "650 W/kg", "W/kg", 10.0, 1e4,
                                     ("W/kg", 1.0)))
         buffer = BufferBattery(
-            capacity=quantity("buffer_capacity", "2 kWh", "[energy]", 3.6e4, 3.6e9,
-                              ("kWh", 1 / 3.6e6)),
+            capacity=quantity("buffer_capacity", "2 kWh", "[energy]", 0.01 * J_PER_KWH, 1e3 * J_PER_KWH,
+                              ("kWh", 1 / J_PER_KWH)),
             power=quantity("buffer_power", f"{drive.motor_power / 1e3:g} kW", "[power]", 100.0,
                            1e7, ("kW", 1e-3)),
             round_trip_efficiency=share("buffer_round_trip_efficiency", 0.90))
@@ -1652,7 +1653,7 @@ def _tariff(raw: Any, shares_raw: Any, where: str, where_shares: str, currency: 
                 raise InputError(w2, f"{_short(v)} is not per energy; price electricity per "
                                  'kWh, e.g. "0.21 per kWh"')
             return p.value
-        return _uncertain(value, parse, w, 0.0, unit=(f"{currency}/kWh", 3.6e6))
+        return _uncertain(value, parse, w, 0.0, unit=(f"{currency}/kWh", J_PER_KWH))
 
     bands = isinstance(raw, Mapping) and "kind" not in raw
     if not bands:
