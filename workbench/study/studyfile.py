@@ -1566,8 +1566,8 @@ def _fuel_cell_option(r: _Reader, c: FleetClass, class_ids: set[str], base: Clas
             specific_power=quantity("fuel_cell_specific_power", "650 W/kg", "W/kg", 10.0, 1e4,
                                     ("W/kg", 1.0)))
         buffer = BufferBattery(
-            capacity=quantity("buffer_capacity", "2 kWh", "[energy]", 0.01 * J_PER_KWH, 1e3 * J_PER_KWH,
-                              ("kWh", 1 / J_PER_KWH)),
+            capacity=quantity("buffer_capacity", "2 kWh", "[energy]", 0.01 * J_PER_KWH,
+                              1e3 * J_PER_KWH, ("kWh", 1 / J_PER_KWH)),
             power=quantity("buffer_power", f"{drive.motor_power / 1e3:g} kW", "[power]", 100.0,
                            1e7, ("kW", 1e-3)),
             round_trip_efficiency=share("buffer_round_trip_efficiency", 0.90))
