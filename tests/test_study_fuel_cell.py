@@ -152,3 +152,23 @@ def test_the_report_shows_the_fuel_cell_table_with_its_caution(fc):
     # names, not ids, reach the page (DEVELOPERS.md, rules of the house)
     assert "Electrolysis on wind or solar electricity" in section
     assert "green-electrolysis" not in section and "fc-bus" not in section
+
+
+@pytest.mark.slow
+def test_uncertain_hydrogen_price_and_co2e_reach_the_monte_carlo():
+    # A triangular price 7-9.5-12 per kg: the tornado's P10 and P90 are the triangular
+    # distribution's closed-form quantiles, a + sqrt(u (b - a)(c - a)) below the mode.
+    study = _study(hydrogen_price={"kind": "triangular", "low": "7 per kg",
+                                   "mode": "9.5 per kg", "high": "12 per kg"},
+                   hydrogen_pathway=None, hydrogen_co2e={"kind": "uniform", "low": 0.5,
+                                                         "high": 3.0},
+                   hydrogen_co2e_source="an invented range")
+    result = run(study, draws=200)
+    tornado = result.tornado.query("candidate == 'fc-bus'").set_index("input")
+    index = len(read_study("demo").data["candidates"])
+    price = tornado.loc[f"candidates[{index}].hydrogen_price"]
+    assert_allclose(price["low_value"], 7 + (0.1 * 5 * 2.5) ** 0.5, rtol=1e-9)
+    assert_allclose(price["high_value"], 12 - (0.1 * 5 * 2.5) ** 0.5, rtol=1e-9)
+    co2e = tornado.loc[f"candidates[{index}].hydrogen_co2e"]
+    assert_allclose([co2e["low_value"], co2e["high_value"]], [0.75, 2.75], rtol=1e-9)
+    assert price["swing"] > co2e["swing"] > 0.0
