@@ -7,6 +7,8 @@ the conversion year, year 1 is at today's prices, residual value straight line a
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 import numpy as np
 import numpy_financial as npf
 import pytest
@@ -311,3 +313,20 @@ def test_first_year_capital_per_km_of_new_vehicles():
     out = econ.cost_per_m(_new_vehicles(), rate=0.05, carbon_price=0.1)
     assert_allclose(out["capital"], (1000 * crf + net * crf) / 1e7, rtol=1e-12)
     assert_allclose(out["fuel"], 1000 * 5e-8 + 0.1 * 1e-7 * 1000, rtol=1e-12)  # year 1
+
+
+def test_new_vehicles_bought_by_phases_with_a_grant_share():
+    # Half the class replaced in year 0 and half in year 1 (phasing), a 20 % grant share: by
+    # hand, year j capital (30000 - 4000) x 2 x 0.5 + chargers 1000 x 2 x 0.5 = 27000, grants
+    # 20 % of the price and of the chargers, (30000 + 1000) x 2 x 0.5 x 0.2 = 6200; so 20800
+    # paid in each of years 0 and 1 on top of the running costs.
+    line = replace(_new_vehicles(), phasing=np.array([0.5, 0.5, 0.0, 0.0]), before=_baseline(),
+                   grant_share=0.2)
+    options = {"base": econ.OptionLines([_baseline()], 0.0, 0.0),
+               "new": econ.OptionLines([line], 0.0, 0.0)}
+    m = econ.programme_money(options, baseline="base", rate=0.05, carbon_price=0.1,
+                             horizon=H, n=1)
+    assert_allclose(m.capital["new"][0][:2] - m.grants["new"][0][:2], [20800.0, 20800.0],
+                    rtol=1e-12)
+    assert_allclose(m.grants["new"][0], [6200.0, 6200.0, 0.0, 0.0], rtol=1e-12)
+    assert_allclose(m.residual["new"][0], [0.0, 0.0, 36000.0, 0.0], rtol=1e-12)  # all resold

@@ -32,7 +32,12 @@ from workbench.core.text import escape_html as _esc
 from workbench.core.text import sha256_hex
 from workbench.interfaces.charts import MapSource, all_figures
 from workbench.interfaces.present import TABLE_TITLES, reader_table, side_by_side, significant
-from workbench.interfaces.summary import best_mix_text, best_option, verdicts
+from workbench.interfaces.summary import (
+    best_mix_text,
+    best_option,
+    programme_lines,
+    verdicts,
+)
 from workbench.io.files import check_target, write_text_atomic
 from workbench.study.results import RunMap, StudyResult, notice_lines
 from workbench.study.runner import run_maps
@@ -346,6 +351,22 @@ def _drive_html(result: StudyResult, name: str) -> str:
             f'<div class="scroll">{_table_html(reader_table(name, result))}</div>')
 
 
+def programme_html(result: StudyResult) -> str:
+    """The programme's phasing, grants, loans, fuel tax and stations as HTML (report and
+    panels); empty when the study has none of them."""
+    lines = "".join(f"<li>{_esc(line)}</li>" for line in programme_lines(result))
+    out = f'<ul id="programme-lines">{lines}</ul>' if lines else ""
+    if not result.stations.empty:
+        out += ('<h3>Refuelling stations</h3><div class="scroll" id="stations-table">'
+                f'{_table_html(reader_table("stations", result))}</div>'
+                '<p class="caution">Station sizes are screening estimates for the cost: '
+                "compressors, high-pressure storage and LPG tanks are designed, installed and "
+                "inspected by licensed practitioners, and local codes decide what a depot may "
+                "hold.</p>")
+    return out or "<p>Every conversion is in year 0, paid upfront, with no grant, fuel tax " \
+        "or station.</p>"
+
+
 def _notices_html(result: StudyResult) -> str:
     return "".join(f'<p class="caution notice">{_esc(line)}</p>'
                    for line in notice_lines(result.notices))
@@ -416,6 +437,7 @@ def html_report(
 <li><a href="#job">The question</a></li>
 <li><a href="#results">Results side by side</a></li>
 <li><a href="#classes">A decision per class</a></li>
+<li><a href="#programme">Phasing, funding and refuelling</a></li>
 <li><a href="#defaults">Defaults the run applied</a></li>
 <li><a href="#charts">Charts</a></li>
 <li><a href="#inputs">Inputs and assumptions</a></li>
@@ -435,6 +457,8 @@ def html_report(
 {_drive_html(result, "fuel_cell")}
 <h2 id="classes">A decision per class</h2>
 {_decisions_html(result)}
+<h2 id="programme">Phasing, funding and refuelling</h2>
+{programme_html(result)}
 <h2 id="defaults">Defaults the run applied</h2>
 {_notices_html(result)}
 {defaults_html(result)}

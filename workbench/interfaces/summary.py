@@ -123,7 +123,8 @@ def verdicts(result: StudyResult) -> list[Verdict]:
 
 
 def _amount(value: float, unit: str) -> str:
-    return f"{significant(value)} {unit}".strip()
+    """A value with its unit; a dimensionless ``-`` (a factor) is not written after it."""
+    return f"{significant(value)} {'' if unit == '-' else unit}".strip()
 
 
 def _drivers(result: StudyResult, cid: str) -> str:
@@ -200,3 +201,46 @@ def best_mix_text(result: StudyResult) -> str:
             "of draws)")
     return (f"Best choice per class — {'; '.join(parts)}: NPV "
             f"{money(r['npv_vs_baseline'], result.currency, signed=True)}{band}.")
+
+
+def programme_lines(result: StudyResult) -> list[str]:
+    """The programme's phasing, grants, loans and fuel tax in words, one line each.
+
+    Parameters
+    ----------
+    result : StudyResult
+        The result (its ``phasing`` and ``funding`` tables).
+
+    Returns
+    -------
+    list of str
+        A line per class converted over several years, and per candidate with grants, a loan
+        or fuel tax; empty when there is none.
+    """
+    names, cur = result.names, result.currency
+    lines = []
+    for (cand, vc), rows in result.phasing.groupby(["candidate", "vehicle_class"], sort=False):
+        done = rows[rows["vehicles_converted"] > 0]
+        if len(done) > 1:
+            parts = ", ".join(f"{significant(float(r.vehicles_converted))} in {int(r.year)}"
+                              for r in done.itertuples(index=False))
+            lines.append(f"{names.candidate(cand)} converts {names.vehicle_class(vc)} over "
+                         f"{len(done)} years ({parts}); until converted they run as the "
+                         "baseline runs them.")
+    for r in result.funding.itertuples(index=False):
+        name = names.candidate(r.candidate)
+        if r.grants > 0:
+            lines.append(f"{name}: grants of {money(r.grants, cur)} towards "
+                         f"{money(r.capital, cur)} of capital, received in the years paid.")
+        if not math.isnan(r.loan_share):
+            owed = (f"{money(r.loan_balance_at_horizon, cur)} still owed at the horizon is "
+                    "settled in the last year" if r.loan_balance_at_horizon > 0
+                    else "repaid within the horizon")
+            lines.append(f"{name}: borrows {percent(r.loan_share)} of its capital at "
+                         f"{percent(r.loan_rate)} over {int(r.loan_term_years)} years; {owed}.")
+        if r.fuel_tax_paid > 0 or r.fuel_tax_change_pv != 0:
+            lines.append(f"{name}: pays {money(r.fuel_tax_paid, cur)} of fuel tax over the "
+                         "programme (in its NPV); a public client's tax revenue changes by "
+                         f"{money(r.fuel_tax_change_pv, cur, signed=True)} against the "
+                         "baseline (present value).")
+    return lines

@@ -50,8 +50,8 @@ KEY_WORDS = {
     "tank_inspection_interval_years": "tank inspection interval [years]",
     "classes": "converted classes",
     "n2o": "tailpipe N2O",
-    "vehicle_spread": "spread of fuel use between its vehicles",
-    "calibration": "fuel-card calibration of its fuel use",
+    "vehicle_spread": "mean fuel energy per km of its vehicles (from their spread)",
+    "calibration": "fuel-card calibration factor",
     "fuel_cards": "fuel cards",
     "calibrate": "apply the fuel-card calibration",
     "drive": "drive",
@@ -79,10 +79,23 @@ KEY_WORDS = {
     "electricity_escalation": "electricity price escalation",
     "grid_co2e": "grid CO2e per kWh",
     "grid_co2e_source": "source of the grid CO2e",
+    "phasing": "conversions by year",
+    "grant": "grant per vehicle or share of its conversion cost",
+    "programme_grant": "programme grant (year 0)",
+    "loan": "loan",
+    "term_years": "term [years]",
+    "station": "refuelling station",
+    "window": "refuelling window",
+    "compressor_cost": "compressor cost per kg/h",
+    "storage_cost": "storage cost per m3",
+    "dispenser_cost": "cost per dispenser",
+    "upkeep_share": "upkeep as a share of its capital",
+    "hour_cost": "cost of an hour lost",
+    "detour": "time lost per fill",
 }
 #: Words for the top-level tables keyed by fuel id.
 _BY_FUEL = {"prices": "price of {}", "escalation": "price escalation of {}",
-            "upstream": "upstream CO2e of {}"}
+            "upstream": "upstream CO2e of {}", "fuel_tax": "fuel tax on {}"}
 _INDEX = re.compile(r"^(classes|candidates)\[(\d+)\]$")
 
 
@@ -271,9 +284,9 @@ def input_rows(data: Mapping[str, Any], inputs: StudyInputs) -> list[dict[str, s
         for key, raw in table.items():
             if key not in ("id", "name"):
                 add(f"{'Baseline' if kind == 'baseline' else 'Option'}: {name}", key, raw)
-    for section in ("prices", "escalation", "upstream"):
+    for section in ("prices", "escalation", "upstream", "fuel_tax"):
         for fid, raw in data.get(section, {}).items():
-            rows.append({"section": section.capitalize(),
+            rows.append({"section": section.replace("_", " ").capitalize(),
                          "input": _BY_FUEL[section].format(names.fuel(fid)),
                          "value": _value_text(raw)})
     return rows

@@ -58,11 +58,13 @@ from workbench.io.vehicles import read_vehicle
 from workbench.models.aftertreatment import DEVICE_PRESETS, Aftertreatment
 from workbench.models.calibration import FuelRecords
 from workbench.models.conversion import (
+    DEFAULT_SUBSTITUTION,
     KINDS,
     REGIME_DEVICE,
     REGIME_LAMBDA,
     REGIME_SLIP,
     ConversionKind,
+    Substitution,
     conversion_kind,
     fuel_regime,
     infer_kind,
@@ -75,6 +77,7 @@ from workbench.models.engine import EngineMap
 from workbench.models.engine_out import DEFAULT_REFERENCE_FUEL
 from workbench.models.fuelcell import HYDROGEN_PATHWAYS, BufferBattery, FuelCellSystem
 from workbench.models.nox import ENGINE_PRESETS, EngineOutNOx
+from workbench.models.storage.state import storage_spec
 from workbench.models.vehicle import Vehicle
 
 #: The demo study of a fictional port city.
@@ -275,6 +278,14 @@ class ClassOption:
     new_vehicle: NewVehicleInputs | None = None
     electric: ElectricInputs | None = None  # drive = "battery-electric"
     fuel_cell: FuelCellInputs | None = None  # drive = "fuel-cell"
+    #: A dual-fuel engine's gas share against load (``gas_substitution``; the kind's curve
+    #: when not given).
+    substitution: Substitution = DEFAULT_SUBSTITUTION
+    #: Share of the class converted in each programme year from year 0 (``phasing``); None
+    #: converts it all in year 0.
+    phasing: tuple[float, ...] | None = None
+    grant_per_vehicle: float = 0.0  # grant per vehicle converted, with its capital [currency]
+    grant_share: float = 0.0  # grant as a share of the conversion capital [-]
 
     @property
     def fuels(self) -> tuple[Fuel, ...]:
@@ -300,6 +311,47 @@ def study_fuels(options: Iterable[Option]) -> dict[str, Fuel]:
 
 
 @dataclass(frozen=True)
+class LoanTerms:
+    """A candidate's financing (``loan``): a share of each year's capital borrowed."""
+
+    share: Uncertain  # [-]
+    rate: Uncertain  # real interest rate per year [-]
+    term_years: int
+
+
+#: Station kinds by the storage kind of the fuel they dispense.
+STATION_KINDS = {"compressed": "cng", "liquefied": "lpg"}
+#: Where a station is: at the depot (the operator builds it) or away from it (the vehicles
+#: drive to a public station and lose time).
+STATION_LOCATIONS = ("depot", "off-depot")
+
+
+@dataclass(frozen=True)
+class Station:
+    """A candidate's refuelling station (``station``), SI; money in the study currency."""
+
+    kind: str  # "cng" or "lpg" (:data:`STATION_KINDS`)
+    fuel: Fuel
+    location: str  # :data:`STATION_LOCATIONS`
+    window: float  # refuelling window per day [s]
+    operating_days: float  # days a year the fleet runs and refuels
+    peak_factor: float  # busiest hour over the window's mean hour [-]
+    storage_pressure: float  # CNG buffer [Pa]
+    fill_pressure: float  # vehicles' cylinders [Pa]
+    hose_flow: float  # per dispenser [kg/s] CNG, [m3/s] LPG
+    handling: float  # time per fill besides the flow [s]
+    autonomy_days: float  # LPG tank [day]
+    fill_limit: float  # LPG tank [-]
+    compressor_cost: Uncertain  # per kg/h of compressor capacity [currency]
+    storage_cost: Uncertain  # per m3 of water volume (buffer or tank) [currency]
+    dispenser_cost: Uncertain  # per dispenser [currency]
+    upkeep_share: Uncertain  # of the station's capital, per year [-]
+    detour: float  # time lost per fill, off the depot [s]
+    hour_cost: Uncertain  # cost of an hour a vehicle loses [currency/h]
+    classes: tuple[str, ...] = ()  # class ids it serves (converted to its fuel)
+
+
+@dataclass(frozen=True)
 class Option:
     """The baseline or one candidate."""
 
@@ -309,6 +361,10 @@ class Option:
     per_class: dict[str, ClassOption]
     programme_capital: Uncertain  # one-off, year 0 [currency]
     programme_upkeep_per_year: Uncertain  # [currency/year]
+    programme_grant: float = 0.0  # received in year 0 [currency]
+    programme_grant_share: float = 0.0  # of the programme capital, in year 0 [-]
+    loan: LoanTerms | None = None
+    stations: tuple[Station, ...] = ()  # a candidate's own: one; a best mix's: its candidates'
 
 
 @dataclass(frozen=True)
@@ -333,6 +389,8 @@ class StudyInputs:
     escalation: dict[str, Uncertain]  # by fuel id [1/year]
     upstream: dict[str, Uncertain]  # by fuel id, well-to-tank CO2e [kg/J]
     upstream_sources: dict[str, str]
+    #: By fuel id: fuel tax paid on top of the price, basis and value [currency/basis].
+    fuel_tax: dict[str, tuple[Price, Uncertain]] = field(default_factory=dict)
     uncertain: dict[str, Distribution] = field(default_factory=dict)
     correlation: Correlation | None = None
 
@@ -789,7 +847,8 @@ def _g_per_mj(raw: Any, where: str) -> float:
 def _parse(data: Mapping[str, Any], base_dir: Path) -> StudyInputs:
     top = _Reader(data, "")
     top.only(("title", "currency", "fictional", "notes", "programme", "classes", "baseline",
-              "candidates", "prices", "escalation", "upstream", "correlations"), "a study")
+              "candidates", "prices", "escalation", "upstream", "correlations", "fuel_tax"),
+             "a study")
     currency = top.text("currency")
     if not re.fullmatch(r"[A-Z]{3}", currency):
         raise InputError("currency", f"must be a three-letter code such as EUR, got {currency!r}")
@@ -835,7 +894,7 @@ def _parse(data: Mapping[str, Any], base_dir: Path) -> StudyInputs:
 #: Top-level tables whose values depend only on the study's fuels and currency (and that no
 #: other table depends on): an edit inside them re-checks those tables alone
 #: (:meth:`Study.with_values`).
-LOCAL_SECTIONS = frozenset({"programme", "prices", "escalation", "upstream"})
+LOCAL_SECTIONS = frozenset({"programme", "prices", "escalation", "upstream", "fuel_tax"})
 
 
 def _pilot_only(options: Iterable[Option]) -> dict[str, str]:
@@ -889,6 +948,9 @@ def _local_sections(top: _Reader, fuels: Mapping[str, Fuel], currency: str,
     if "upstream" in sections:
         out["upstream"], out["upstream_sources"] = _upstream(
             _Reader(top.raw("upstream"), "upstream"), fuels)
+    if "fuel_tax" in sections:
+        out["fuel_tax"] = _prices(_Reader(top.raw("fuel_tax", {}), "fuel_tax"), fuels,
+                                  currency, {}, required=False)
     return out
 
 
@@ -899,6 +961,7 @@ def _with_uncertain(inputs: StudyInputs, correlations: Any) -> StudyInputs:
                  and not u.dist.spread_is_zero}
     inputs = replace(inputs, uncertain=uncertain,
                      correlation=_correlations(correlations, uncertain))
+    _check_phasing(inputs)
     check_draws(inputs.draws, inputs, "programme.monte_carlo_draws")
     return inputs
 
@@ -1029,6 +1092,11 @@ def all_uncertain(inputs: StudyInputs) -> list[Uncertain]:
         out += [u for _, u in c.varied]
     for o in inputs.options:
         out += [o.programme_capital, o.programme_upkeep_per_year]
+        if o.loan is not None:
+            out += [o.loan.share, o.loan.rate]
+        for st in o.stations:
+            out += [st.compressor_cost, st.storage_cost, st.dispenser_cost, st.upkeep_share,
+                    st.hour_cost]
         for co in o.per_class.values():
             out += [co.conversion_cost, co.upkeep_change_per_year, co.downtime_days,
                     co.tank_inspection_cost]
@@ -1044,6 +1112,7 @@ def all_uncertain(inputs: StudyInputs) -> list[Uncertain]:
                 out += [h.price_value, h.escalation, h.co2e_per_kg]
             out += [u for _, u in co.varied]
     out += [u for _, u in inputs.prices.values()]
+    out += [u for _, u in inputs.fuel_tax.values()]
     out += list(inputs.escalation.values()) + list(inputs.upstream.values())
     seen: dict[str, Uncertain] = {}
     for u in out:
@@ -1240,7 +1309,13 @@ def _option(r: _Reader, classes: tuple[FleetClass, ...], baseline: Option | None
             "tank_inspection_interval_years", "tank_inspection_cost", "n2o",
             "engine_out_nox", "lambda_overall", "methane_slip", "aftertreatment",
             "programme_capital", "programme_upkeep_per_year", "conversion", "pilot_fuel",
+            "gas_substitution", "phasing", "grant", "programme_grant", "loan", "station",
             "drive", *NEW_VEHICLE_KEYS, *ELECTRIC_KEYS, *FUEL_CELL_KEYS), "an option")
+    if baseline is None:
+        for key in ("phasing", "grant", "programme_grant", "loan", "station"):
+            if r.has(key):
+                raise InputError(r.at(key), "the baseline converts nothing; name it on the "
+                                 "candidates")
     class_ids = {c.id for c in classes}
     converts = class_ids
     if baseline is not None and r.has("classes"):
@@ -1257,6 +1332,7 @@ def _option(r: _Reader, classes: tuple[FleetClass, ...], baseline: Option | None
             continue
         base = None if baseline is None else baseline.per_class[c.id]
         per_class[c.id] = _drive_option(r, c, class_ids, base, base_dir, currency)
+    grant, grant_share = _grant(r.raw("programme_grant", 0), r.at("programme_grant"))
     return Option(
         id=oid,
         name=r.text("name", oid),
@@ -1266,6 +1342,11 @@ def _option(r: _Reader, classes: tuple[FleetClass, ...], baseline: Option | None
                                       unit=(currency, 1.0)),
         programme_upkeep_per_year=r.uncertain("programme_upkeep_per_year", _money_per_year,
                                               0.0, low=0.0, unit=(f"{currency}/year", 1.0)),
+        programme_grant=grant,
+        programme_grant_share=grant_share,
+        loan=None if not r.has("loan") else _loan(r.raw("loan"), r.at("loan")),
+        stations=() if not r.has("station") else (_station(
+            r.raw("station"), r.at("station"), classes, per_class, converts, currency),),
     )
 
 
@@ -1515,7 +1596,7 @@ def _new_drive(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOption
         "n2o_per_m": 0.0, "engine_out_nox": None, "methane_slip": 0.0,
         "aftertreatment": DEVICE_PRESETS["none"], "varied": (), "conversion": "none",
         "derived_map": False, "defaults": tuple(defaults), "notices": (),
-        "derate_against": None, "pilot_fuel": None,
+        "derate_against": None, "pilot_fuel": None, **_phasing_and_grant(r, c, class_ids),
         "new_vehicle": _new_vehicle(r, c, class_ids, currency), **drive})
 
 
@@ -1808,6 +1889,7 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOpt
         at_raw = {"preset": device_default, **(at_raw or {})}
     mismatch = None if map_raw is not None else regime_mismatch(fuel, kind, map_regime)
     return ClassOption(
+        **_phasing_and_grant(r, c, class_ids),
         converts=not is_baseline,
         fuel=fuel,
         engine=engine,
@@ -1839,6 +1921,8 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOpt
         derate_against=(base.fuel if base is not None else fuel) if air_derate else None,
         reference_fuel=load_fuel(DEFAULT_REFERENCE_FUEL[engine]),
         pilot_fuel=pilot,
+        substitution=_substitution(_per_class(r, "gas_substitution", c.id, class_ids, None),
+                                   at("gas_substitution"), kind.name),
     )
 
 
@@ -1869,6 +1953,34 @@ def _pilot_fuel(r: _Reader, c: FleetClass, class_ids: set[str], kind: str, fuel:
         raise InputError(where, f"the pilot {pilot.id} does not ignite by compression; a "
                          'dual-fuel engine needs a diesel-like pilot: pilot_fuel = "diesel"')
     return pilot
+
+
+#: The keys of a ``gas_substitution`` table and the curve's own values.
+_SUBSTITUTION_KEYS = {"share_max": DEFAULT_SUBSTITUTION.share_max,
+                      "load_low": DEFAULT_SUBSTITUTION.load_low,
+                      "load_high": DEFAULT_SUBSTITUTION.load_high}
+
+
+def _substitution(raw: Any, where: str, kind: str) -> Substitution:
+    """A dual-fuel option's ``gas_substitution`` table, checked (the kind's curve if absent)."""
+    if raw is None:
+        return DEFAULT_SUBSTITUTION
+    if kind != "dual-fuel-ci":
+        raise InputError(where, 'a gas substitution curve belongs to conversion = '
+                         '"dual-fuel-ci"; name that conversion or leave gas_substitution out')
+    example = 'gas_substitution = {share_max = "60 %", load_low = "20 %", load_high = "60 %"}'
+    if not isinstance(raw, Mapping) or not raw:
+        raise InputError(where, f"give a table, e.g. {example}")
+    unknown = sorted(set(raw) - set(_SUBSTITUTION_KEYS))
+    if unknown:
+        raise InputError(f"{where}.{unknown[0]}",
+                         f"unknown key; use {', '.join(_SUBSTITUTION_KEYS)} ({example})")
+    values = {key: _fixed(raw.get(key, default), "[]", f"{where}.{key}", None, 0.0, 1.0)
+              for key, default in _SUBSTITUTION_KEYS.items()}
+    try:
+        return Substitution(**values)
+    except InputError as exc:
+        raise InputError(f"{where}.{exc.where}", exc.message) from None
 
 
 def _choice(value: Any, where: str, choices: Iterable[str], what: str) -> str:
@@ -1902,6 +2014,161 @@ def _whole(value: Any, where: str) -> int:
         raise InputError(where, f"must be a whole number of years from 0 (none) to {MAX_YEARS}; "
                          f"got {_short(value)}")
     return value
+
+
+# ----------------------------------------------------------------------------- programme
+
+#: Most money a grant or a station's unit cost may be [currency] (a guard against a typo).
+MAX_MONEY = 1e15
+
+
+def _phasing_and_grant(r: _Reader, c: FleetClass, class_ids: set[str]) -> dict[str, Any]:
+    """A class option's ``phasing``, ``grant_per_vehicle`` and ``grant_share`` (any drive)."""
+    grant, grant_share = _grant(_per_class(r, "grant", c.id, class_ids, 0),
+                                _class_at(r, "grant", class_ids, c.id))
+    raw = _per_class(r, "phasing", c.id, class_ids, None)
+    return {"phasing": None if raw is None else _phasing(
+                raw, _class_at(r, "phasing", class_ids, c.id), c),
+            "grant_per_vehicle": grant, "grant_share": grant_share}
+
+
+def _grant(raw: Any, where: str) -> tuple[float, float]:
+    """A grant as (money, share): a sum (``500``, ``"500 KBD"``) or a share (``"30 %"``)."""
+    if isinstance(raw, Mapping):
+        raise InputError(where, "must be a sum (500) or a share of the capital (\"30 %\"); "
+                         "a grant cannot carry a distribution")
+    if isinstance(raw, str) and raw.strip().endswith("%"):
+        share = _fraction(raw, where)
+        _check_range(share, where, 0.0, 1.0, PERCENT)
+        return 0.0, share
+    money = _quantity(raw, "[currency]", where, None)
+    _check_range(money, where, 0.0, MAX_MONEY)
+    return money, 0.0
+
+
+def _phasing(raw: Any, where: str, c: FleetClass) -> tuple[float, ...]:
+    """Shares of the class converted in each year from year 0: shares adding up to 1 or
+    whole counts adding up to the class's vehicles, at most one a year of its life."""
+    if not isinstance(raw, list) or not raw or not all(
+            isinstance(x, int | float) and not isinstance(x, bool) for x in raw):
+        raise InputError(where, "must be a list of shares a year from year 0, e.g. [0.5, 0.5], "
+                         f"or of vehicle counts adding up to {c.count}, got {_short(raw)}")
+    values = [float(x) for x in raw]
+    if any(not math.isfinite(x) or x < 0 for x in values):
+        raise InputError(where, f"shares and counts must be 0 or more, got {_short(raw)}")
+    total = sum(values)
+    counts = all(isinstance(x, int) for x in raw)
+    if counts and total == c.count:
+        shares = [x / c.count for x in values]
+    elif abs(total - 1.0) <= 1e-9:
+        shares = [x / total for x in values]
+    else:
+        what = f"counts add up to {total:g}, not the class's {c.count} vehicles" if counts \
+            else f"shares add up to {total:g}, not 1"
+        raise InputError(where, f"{what}; give shares adding up to 1 or counts adding up to "
+                         f"{c.count}")
+    if len(shares) > c.remaining_life_years:
+        raise InputError(where, f"{len(shares)} years of conversions, but the class runs "
+                         f"{c.remaining_life_years} more years; convert within its life")
+    return tuple(shares)
+
+
+def _check_phasing(inputs: StudyInputs) -> None:
+    """Every phased conversion ends before the horizon (each cohort runs a year at least)."""
+    h = inputs.horizon_years
+    for i, o in enumerate(inputs.candidates):
+        for cid, co in o.per_class.items():
+            if co.converts and co.phasing is not None and len(co.phasing) > h:
+                raise InputError(f"candidates[{i}].phasing", f"{len(co.phasing)} years of "
+                                 f"conversions on {cid} within a {h}-year horizon; shorten "
+                                 "the phasing or lengthen programme.horizon_years")
+
+
+def _loan(raw: Any, where: str) -> LoanTerms:
+    r = _Reader(raw, where)
+    r.only(("share", "rate", "term_years"), "a loan")
+    return LoanTerms(
+        share=r.uncertain("share", _fraction, low=0.0, high=1.0, unit=PERCENT),
+        rate=r.uncertain("rate", _fraction, low=0.0, high=1.0, unit=PERCENT),
+        term_years=r.integer("term_years", low=1, high=MAX_YEARS))
+
+
+#: Keys of a station, by where they apply.
+_STATION_DEPOT = ("compressor_cost", "storage_cost", "dispenser_cost", "upkeep_share")
+_STATION_OFF = ("detour", "hour_cost")
+
+
+def _station(raw: Any, where: str, classes: tuple[FleetClass, ...],
+             per_class: Mapping[str, ClassOption], converts: Iterable[str],
+             currency: str) -> Station:
+    """A candidate's refuelling station: one fuel (the gas its converted classes run on)."""
+    r = _Reader(raw, where)
+    r.only(("location", "window", "operating_days", "peak_factor", "storage_pressure",
+            "fill_pressure", "hose_flow", "handling", "autonomy_days", "fill_limit",
+            *_STATION_DEPOT, *_STATION_OFF), "a station")
+    served = [c.id for c in classes if c.id in set(converts) and per_class[c.id].converts]
+    fuels = {per_class[cid].fuel.id: per_class[cid].fuel for cid in served}
+    if len(fuels) != 1:
+        raise InputError(where, f"a station dispenses one fuel; the candidate's classes run on "
+                         f"{', '.join(sorted(fuels)) or 'none'}: split it into candidates")
+    fuel = next(iter(fuels.values()))
+    spec = storage_spec(fuel)
+    storage = spec.kind
+    if storage not in STATION_KINDS:
+        raise InputError(where, f"sizes compressed-gas (CNG) and liquefied-gas (LPG) stations; "
+                         f"{fuel.id} is stored {storage}: leave station out")
+    kind = STATION_KINDS[storage]
+    if kind == "lpg" and fuel.liquid_density is None:
+        raise InputError(where, f"{fuel.id} has no liquid density, which an LPG station's "
+                         "tank needs; give liquid_density in its fuel file")
+    location = _choice(r.raw("location", "depot"), r.at("location"), STATION_LOCATIONS,
+                       "station location")
+    for key in _STATION_DEPOT if location == "off-depot" else _STATION_OFF:
+        if r.has(key):
+            other = "depot" if location == "off-depot" else "off-depot"
+            raise InputError(r.at(key), f'applies to location = "{other}" only; leave it out')
+    vehicle_p = spec.pressure or 20e6
+
+    def q(key: str, dimension: str, default: Any, unit: str, scale: float, low: float,
+          high: float) -> float:
+        """A station quantity checked in ``unit`` (errors say it), returned times ``scale``
+        (in SI)."""
+        value = r.quantity(key, dimension, default, unit=unit)
+        _check_range(value, r.at(key), low, high, (unit, 1.0))
+        return value * scale
+
+    if kind == "cng":
+        flow = q("hose_flow", "[mass] / [time]", "20 kg/min", "kg/min", 1 / 60, 0.01, 600.0)
+    else:
+        flow = q("hose_flow", "[length] ** 3 / [time]", "40 L/min", "L/min", 1e-3 / 60, 0.01,
+                 6000.0)
+    money = {"unit": (currency, 1.0)}
+    station = Station(
+        kind=kind, fuel=fuel, location=location,
+        window=q("window", "[time]", "8 h", "hour", 3600.0, 1 / 60, 24.0),
+        operating_days=r.quantity("operating_days", "[]", 365, low=1.0, high=366.0),
+        peak_factor=r.quantity("peak_factor", "[]", 2.0, low=1.0, high=24.0),
+        storage_pressure=q("storage_pressure", "[pressure]", "250 bar", "bar", 1e5, 1.0,
+                           1000.0),
+        fill_pressure=q("fill_pressure", "[pressure]", f"{vehicle_p / 1e5:g} bar", "bar", 1e5,
+                        1.0, 1000.0),
+        hose_flow=flow,
+        handling=q("handling", "[time]", "5 min", "minute", 60.0, 0.0, 1440.0),
+        autonomy_days=r.quantity("autonomy_days", "[]", 7, low=0.1, high=366.0),
+        fill_limit=r.quantity("fill_limit", "[]", "85 %", low=0.1, high=1.0),
+        compressor_cost=r.uncertain("compressor_cost", _money, 0.0, low=0.0, **money),
+        storage_cost=r.uncertain("storage_cost", _money, 0.0, low=0.0, **money),
+        dispenser_cost=r.uncertain("dispenser_cost", _money, 0.0, low=0.0, **money),
+        upkeep_share=r.uncertain("upkeep_share", _fraction, 0.0, low=0.0, high=1.0,
+                                 unit=PERCENT),
+        detour=q("detour", "[time]", "0 min", "minute", 60.0, 0.0, 1440.0),
+        hour_cost=r.uncertain("hour_cost", _money, 0.0, low=0.0,
+                              unit=(f"{currency}/h", 1.0)),
+        classes=tuple(served))
+    if kind == "cng" and not station.storage_pressure > station.fill_pressure:
+        raise InputError(r.at("storage_pressure"), "must be above fill_pressure (the buffer "
+                         "fills the vehicles' cylinders by pressure difference)")
+    return station
 
 
 def _fuel(raw: Any, where: str, base_dir: Path) -> Fuel:
@@ -2023,7 +2290,9 @@ def _age(raw: Any, where: str) -> tuple[float, str | None]:
 
 
 def _prices(r: _Reader, fuels: Mapping[str, Fuel], currency: str,
-            pilots: Mapping[str, str]) -> dict[str, tuple[Price, Uncertain]]:
+            pilots: Mapping[str, str], *, required: bool = True
+            ) -> dict[str, tuple[Price, Uncertain]]:
+    """Prices (or, not ``required``, fuel taxes) by fuel id, each on a basis fitting its fuel."""
     out = {}
     for fid in r.table:
         if fid not in fuels:
@@ -2031,6 +2300,8 @@ def _prices(r: _Reader, fuels: Mapping[str, Fuel], currency: str,
     for fid in fuels:
         where = r.at(fid)
         raw = r.raw(fid, None)
+        if raw is None and not required:
+            continue
         if raw is None:
             role = f" ({pilots[fid]})" if fid in pilots else ""
             raise InputError(where, f'is required: the price of {fid}{role}, e.g. '

@@ -19,6 +19,7 @@ from workbench.models import economics as econ
 from workbench.models.duty import DutyTrace, duty_stats
 from workbench.models.emissions import co2e
 from workbench.models.nox import DEFAULT_ENGINE_OUT, engine_preset, nox_sweep
+from workbench.study import refuelling
 from workbench.study.naming import display_unit, input_label, input_rows, study_names
 from workbench.study.results import COLUMNS, PALETTE, StudyResult
 from workbench.study.studyfile import (
@@ -82,6 +83,10 @@ def study_result(study: Study, plan: Plan, lines: Mapping[str, econ.OptionLines]
         fuel_use=_fuel_use_table(plan, lines),
         cash_flows=_cash_flow_table(plan, det),
         fleet_years=_fleet_years_table(plan, det),
+        programme_years=_programme_table(plan, det),
+        phasing=frame("phasing", _phasing_rows(plan)),
+        funding=frame("funding", _funding_rows(plan, det)),
+        stations=frame("stations", refuelling.station_rows(plan)),
         monte_carlo=_monte_carlo_table({k: v.npv for k, v in draws.items()}),
         tornado=_tornado_table(plan, sensitivity),
         breakeven=_breakeven_table(inputs, break_even),
@@ -341,22 +346,101 @@ def _cash_flow_table(plan: Plan, det: econ.Money) -> pd.DataFrame:
     return _by_year("cash_flows", inputs, parts)
 
 
+def phasing_of(plan: Plan, option: str, cid: str) -> np.ndarray | None:
+    """Share of class ``cid`` an option converts in each programme year, shape (H+1,); None
+    when it converts the class all in year 0 or not at all."""
+    co = next(o for o in plan.inputs.options if o.id == option).per_class[cid]
+    if not co.converts or co.phasing is None:
+        return None
+    out = np.zeros(plan.inputs.horizon_years + 1)
+    out[:len(co.phasing)] = co.phasing
+    return out
+
+
 def _fleet_years_table(plan: Plan, det: econ.Money) -> pd.DataFrame:
     inputs = plan.inputs
+    h = inputs.horizon_years
+    base = inputs.baseline.id
     parts: list[dict[str, np.ndarray]] = []
     for o in inputs.options:
-        energy = ttw = nox = repl = np.zeros(inputs.horizon_years + 1)
+        energy = ttw = nox = repl = np.zeros(h + 1)
         for c in inputs.classes:
             ph = plan.physics[o.id, c.id]
             km = c.km_per_year.nominal * c.count * plan.active[c.id]
-            energy = energy + km * ph.fuel_energy_per_m
-            ttw = ttw + km * ph.co2_ttw_per_m
-            nox = nox + plan.nox_t[o.id, c.id]
-            repl = repl + plan.replacements[o.id, c.id]
+            phasing = phasing_of(plan, o.id, c.id)
+            share = econ.converted_share(phasing, h) if phasing is not None else 1.0
+            was = plan.physics[base, c.id]
+            energy = energy + km * (share * ph.fuel_energy_per_m
+                                    + (1.0 - share) * was.fuel_energy_per_m)
+            ttw = ttw + km * (share * ph.co2_ttw_per_m + (1.0 - share) * was.co2_ttw_per_m)
+            repl = repl + econ.cohorts(plan.replacements[o.id, c.id], phasing) \
+                * plan.active[c.id] + (1.0 - share) * plan.replacements[base, c.id]
+        nox = det.nox[o.id] / 1e3
         parts.append({"fuel_energy_gj": energy / 1e9, "co2_ttw_t": ttw / 1e3,
                       "co2e_wtw_t": det.co2e[o.id][0] / 1e3, "nox_t": nox,
                       "catalyst_replacements": repl, "cost_total": det.costs[o.id][0]})
     return _by_year("fleet_years", inputs, parts)
+
+
+def _programme_table(plan: Plan, det: econ.Money) -> pd.DataFrame:
+    """Capital, grants, financing and fuel tax by candidate and year (the public client's
+    view of the fuel tax: ``fuel_tax_vs_baseline``)."""
+    inputs = plan.inputs
+    base = inputs.baseline.id
+    parts = [{"capital": det.capital[o.id][0], "grants": det.grants[o.id][0],
+              "financing": det.financing[o.id][0],
+              "loan_balance": np.where(np.arange(inputs.horizon_years + 1)
+                                       == inputs.horizon_years, det.loan_balance[o.id][0], 0.0),
+              "fuel_tax": det.tax[o.id][0],
+              "fuel_tax_vs_baseline": det.tax[o.id][0] - det.tax[base][0]}
+             for o in inputs.options]
+    return _by_year("programme_years", inputs, parts)
+
+
+def _phasing_rows(plan: Plan) -> list[dict]:
+    """Rows of the ``phasing`` table: each class a candidate converts, by programme year."""
+    inputs = plan.inputs
+    h = inputs.horizon_years
+    rows = []
+    for o in inputs.candidates:
+        for c in inputs.classes:
+            co = o.per_class[c.id]
+            if not co.converts:
+                continue
+            shares = phasing_of(plan, o.id, c.id)
+            if shares is None:
+                shares = np.zeros(h + 1)
+                shares[0] = 1.0
+            running = econ.converted_share(shares, h) * plan.active[c.id]
+            for y in range(h + 1):
+                rows.append({"candidate": o.id, "vehicle_class": c.id,
+                             "year": inputs.start_year + y, "converted_share": shares[y],
+                             "vehicles_converted": shares[y] * c.count,
+                             "running_converted_share": running[y]})
+    return rows
+
+
+def _funding_rows(plan: Plan, det: econ.Money) -> list[dict]:
+    """Rows of the ``funding`` table: each candidate's capital, grants, loan and the present
+    value of the change in fuel tax it pays (the public client's revenue change)."""
+    inputs = plan.inputs
+    base = inputs.baseline.id
+    rate = float(det.rate[0])
+    rows = []
+    for o in inputs.candidates:
+        tax_change = det.tax[o.id][0] - det.tax[base][0]
+        rows.append({
+            "candidate": o.id, "capital": float(det.capital[o.id][0].sum()),
+            "grants": float(det.grants[o.id][0].sum()),
+            "loan_share": np.nan if o.loan is None else o.loan.share.nominal,
+            "loan_rate": np.nan if o.loan is None else o.loan.rate.nominal,
+            "loan_term_years": np.nan if o.loan is None else o.loan.term_years,
+            "loan_balance_at_horizon": float(det.loan_balance[o.id][0]),
+            "fuel_tax_paid": float(det.tax[o.id][0].sum()),
+            "fuel_tax_change_pv": float(np.asarray(econ.npv(rate, tax_change))),
+            "npv_vs_baseline": float(np.asarray(econ.npv(
+                rate, det.cash[o.id][0] - det.cash[base][0])))})
+    return rows
 
 
 def _by_year(name: str, inputs: StudyInputs, parts: list[dict[str, np.ndarray]]
@@ -402,7 +486,7 @@ def _monte_carlo_table(mc: Mapping[str, np.ndarray]) -> pd.DataFrame:
 
 
 def _tornado_table(plan: Plan, sensitivity: Mapping[str, pd.DataFrame]) -> pd.DataFrame:
-    units = {u.path: (u.unit, u.scale) for u in all_uncertain(plan.inputs)}
+    units = {u.path: (u.unit, u.scale) for u in all_uncertain(plan.inputs)} | plan.factor_units
     frames = []
     for oid, t in sensitivity.items():
         t = t[t["swing"] > 1e-9 * max(float(t["swing"].max()), 1.0)]
@@ -529,6 +613,25 @@ def _assumptions(study: Study, draws: int) -> dict[str, str]:
             "the hydrogen (its pathway, to the plant gate) is counted well to wheel. Hydrogen "
             "at 350-700 bar: tanks, stations and garages follow local codes and licensed "
             "practice")
+    per_class = [co for o in i.candidates for co in o.per_class.values() if co.converts]
+    if any(co.phasing is not None for co in per_class):
+        out["phased conversions"] = ("a vehicle converted in year j runs converted from year "
+                                     "j + 1 and as the baseline until then; each cohort's "
+                                     "catalysts, inspections and residual value count from "
+                                     "its own conversion year")
+    if any(o.loan is not None for o in i.candidates):
+        out["loans"] = ("a share of each year's capital net of grants is borrowed at a real "
+                        "rate and repaid as a level annuity from the next year; a balance left "
+                        "at the horizon is settled in the last year")
+    if i.fuel_tax:
+        out["fuel tax"] = ("paid on top of the prices and escalated with its fuel's price; in "
+                           "the operator's NPV, and as the public client's revenue change in "
+                           "the funding table")
+    if any(o.stations for o in i.candidates):
+        out["refuelling stations"] = ("sized for the whole class converted at the nominal "
+                                      "distance; screening sizes for the cost, to be designed "
+                                      "and installed by licensed practitioners under local "
+                                      "codes")
     return out
 
 
