@@ -123,6 +123,7 @@ def _error(**changes) -> InputError:
     ({"bop_load_share": 0.7}, "bop_load_share", "below 0.5"),
     ({"stack_power": "100 kg"}, "stack_power", "[mass]"),
     ({"drive": "fuel-cel"}, "drive", "fuel-cell"),
+    ({"station": {"location": "depot"}}, "station", "programme_capital"),
 ])
 def test_bad_keys_name_the_key(changes, where, words):
     err = _error(**changes)

@@ -2107,6 +2107,12 @@ def _station(raw: Any, where: str, classes: tuple[FleetClass, ...],
             "fill_pressure", "hose_flow", "handling", "autonomy_days", "fill_limit",
             *_STATION_DEPOT, *_STATION_OFF), "a station")
     served = [c.id for c in classes if c.id in set(converts) and per_class[c.id].converts]
+    drives = {per_class[cid].drive for cid in served} - {"combustion"}
+    if drives:
+        raise InputError(where, f"sizes gas stations for engines; a {' or '.join(sorted(drives))}"
+                         " drive's chargers or hydrogen station are not sized here: give a "
+                         "hydrogen station's cost as programme_capital and its upkeep as "
+                         "programme_upkeep_per_year, and leave station out")
     fuels = {per_class[cid].fuel.id: per_class[cid].fuel for cid in served}
     if len(fuels) != 1:
         raise InputError(where, f"a station dispenses one fuel; the candidate's classes run on "
