@@ -262,3 +262,28 @@ def test_a_time_at_mode_profile_is_refused(tmp_path):
     with pytest.raises(InputError, match="speed trace") as err:
         Study(data, base_dir=tmp_path)
     assert err.value.where == "candidates[0].drive"
+
+
+def test_a_drive_per_class_reads_each_class_by_its_own_keys(tmp_path):
+    # Two classes on the same trace: the option keeps the first a combustion engine on LPG and
+    # makes the second battery-electric; keys by class id go to their class only.
+    study = _study(tmp_path, _constant_speed())
+    data = study.data
+    data["classes"].append({**data["classes"][0], "id": "van2"})
+    cand = {k: v if k in ("id", "name") else {"van2": v}
+            for k, v in data["candidates"][0].items()}
+    cand.update(drive={"van": "combustion", "van2": "battery-electric"}, fuel={"van": "lpg"})
+    data["prices"]["lpg"] = "0.80 per L"
+    data["upstream"]["lpg"] = {"wtt_co2e_g_per_mj": 8.0, "source": "invented"}
+    option = Study({**data, "candidates": [cand]}, base_dir=tmp_path).inputs.candidates[0]
+    van, van2 = option.per_class["van"], option.per_class["van2"]
+    assert (van.drive, van.fuel.id, van.electric, van.new_vehicle) == ("combustion", "lpg",
+                                                                       None, None)
+    assert van2.drive == "battery-electric" and van2.fuels == ()
+    assert van2.electric.drive.motor_power == 150e3
+    assert van2.new_vehicle.purchase_price.nominal == 50000
+    # a key by class that names the combustion class for an electric-only key is refused
+    cand["motor_power"] = {"van": "150 kW"}
+    with pytest.raises(InputError) as err:
+        Study({**data, "candidates": [cand]}, base_dir=tmp_path)
+    assert err.value.where == "candidates[0].motor_power.van"

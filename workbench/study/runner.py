@@ -1075,8 +1075,9 @@ def _calibration_notes(inputs: StudyInputs) -> dict[str, str]:
 def _break_even(plan: Plan) -> dict[str, list[tuple[Uncertain, float]]]:
     """Per candidate, the inputs that could turn its verdict and where its NPV is zero.
 
-    The inputs are the prices of the fuels a candidate brings in and the km per year of the
-    classes it converts, one at a time, every other input nominal.
+    The inputs are the prices of the fuels a candidate brings in (grid electricity: each
+    tariff band's price) and the km per year of the classes it converts, one at a time, every
+    other input nominal.
     """
     inputs = plan.inputs
     base = inputs.baseline.id
@@ -1086,6 +1087,8 @@ def _break_even(plan: Plan) -> dict[str, list[tuple[Uncertain, float]]]:
         converted = [co for co in o.per_class.values() if co.converts]
         found = [inputs.prices[f][1] for f in dict.fromkeys(
             fuel.id for co in converted for fuel in co.fuels) if f not in base_fuels]
+        found += list({u.path: u for co in converted if co.electric is not None
+                       for _, u, _ in co.electric.tariff}.values())  # grid electricity
         found += [c.km_per_year for c in inputs.classes if o.per_class[c.id].converts]
         subjects += [(o.id, u) for u in found]
     out: dict[str, list[tuple[Uncertain, float]]] = {o.id: [] for o in inputs.candidates}

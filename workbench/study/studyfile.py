@@ -1406,8 +1406,8 @@ def _drive_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOpt
         if other is not None:
             owner = " or ".join(f'drive = "{d}"' for d, keys in DRIVE_KEYS.items()
                                 if other in keys)
-            raise InputError(r.at(other), f"belongs to {owner}; name that drive or leave it "
-                             "out")
+            raise InputError(_class_at(r, other, class_ids, c.id),
+                             f"belongs to {owner}; name that drive or leave it out")
 
     not_of(drive)
     if drive == "combustion":
@@ -1422,8 +1422,9 @@ def _drive_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOpt
     assert base is not None
     other = given(COMBUSTION_KEYS)
     if other is not None:
-        raise InputError(r.at(other), f"a {drive} vehicle has no combustion engine; leave "
-                         f"{other} out (its energy is set by the drive's keys)")
+        raise InputError(_class_at(r, other, class_ids, c.id), f"a {drive} vehicle has no "
+                         f"combustion engine; leave {other} out (its energy is set by the "
+                         "drive's keys)")
     if not isinstance(c.profile_data, DutyTrace):
         raise InputError(where, f"a {drive} drive runs on a speed trace; class {c.id}'s "
                          "profile is not one (a time-at-mode table or logs): give the class a "
