@@ -278,6 +278,68 @@ def test_bad_timestamp_names_the_row(tmp_path):
         list(read_batches(log))
 
 
+def test_bad_row_of_a_long_file_counts_within_the_file(tmp_path):
+    # vehicle B's second row is the file's row 5 (header row 1), not B's row 2 or 3
+    path = tmp_path / "fleet.csv"
+    path.write_text("vehicle,time_s,speed_km_per_h\nA,0,0\nB,0,36\nA,1,3.6\nB,1,fast\n")
+    logs = {v.vehicle: v for v in list_vehicles(path).vehicles}
+    assert len(list(read_batches(logs["A"]))) == 1
+    with pytest.raises(InputError, match=r"fleet.csv row 5: .*'fast' is not a number"):
+        list(read_batches(logs["B"]))
+
+
+def _long_log(rows: int, bad: int | None = None) -> str:
+    lines = ["vehicle,timestamp,speed_km_per_h,altitude_m"]
+    for i in range(rows):
+        stamp = pd.Timestamp("2026-03-01T08:00:00Z") + pd.Timedelta(seconds=i // 2)
+        speed = "fast" if i == bad else f"{(i * 7) % 90}.5"
+        lines.append(f"V{i % 2},{stamp.isoformat().replace('+00:00', 'Z')},{speed},{i % 13}")
+    return "\n".join(lines) + "\n"
+
+
+def test_arrow_and_pandas_readers_agree(tmp_path):
+    # a plain file goes through Arrow's reader, the same rows after a comment line through
+    # pandas' (a '#' anywhere sends a file there): same numbers, in batches of any size
+    text = _long_log(6000)
+    (tmp_path / "plain.csv").write_text(text)
+    (tmp_path / "commented.csv").write_text("# exported by a logger\n" + text)
+    got = {}
+    for name in ("plain", "commented"):
+        for log in list_vehicles(tmp_path / f"{name}.csv").vehicles:
+            b = list(read_batches(log, batch_rows=1000))
+            got[name, log.vehicle] = (np.concatenate([x.time for x in b]),
+                                      np.concatenate([x.speed for x in b]),
+                                      np.concatenate([x.extras["altitude"] for x in b]))
+    for v in ("V0", "V1"):
+        for a, b in zip(got["plain", v], got["commented", v], strict=True):
+            assert a.size == 3000
+            assert_allclose(a, b, rtol=0, atol=0)
+    # 1 m/s = 3.6 km/h exactly (SI); epoch seconds of the first stamp from pandas
+    assert_allclose(got["plain", "V0"][1][:2], [0.5 / 3.6, 14.5 / 3.6])
+    assert got["plain", "V0"][0][0] == pd.Timestamp("2026-03-01T08:00:00Z").timestamp()
+
+
+def test_bad_value_deep_in_a_plain_file_names_its_row(tmp_path):
+    # Arrow reads the first blocks; from the block it cannot read on pandas takes over and
+    # names the row; the rows already read are not read twice
+    path = tmp_path / "long.csv"
+    path.write_text(_long_log(6000, bad=5001))
+    logs = {v.vehicle: v for v in list_vehicles(path).vehicles}
+    good = list(read_batches(logs["V0"], batch_rows=1000))
+    assert sum(b.time.size for b in good) == 3000
+    t = np.concatenate([b.time for b in good])
+    assert np.all(np.diff(t) == 1.0)
+    with pytest.raises(InputError, match=r"long.csv row 5003: .*'fast' is not a number"):
+        list(read_batches(logs["V1"], batch_rows=1000))
+
+
+def test_timestamps_without_zone_are_utc(tmp_path):
+    path = tmp_path / "naive.csv"
+    path.write_text("timestamp,speed_km_per_h\n2026-03-01T08:00:00,0\n2026-03-01T08:00:01.5,36\n")
+    (b,) = list(read_batches(list_vehicles(path).vehicles[0]))
+    assert_allclose(b.time - pd.Timestamp("2026-03-01T08:00:00Z").timestamp(), [0.0, 1.5])
+
+
 def test_missing_source():
     with pytest.raises(InputError, match="no such file, folder or pattern"):
         list_vehicles(Path("/nonexistent/logs/*.csv").parent)

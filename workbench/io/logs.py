@@ -18,6 +18,7 @@ from __future__ import annotations
 
 import csv
 import glob
+import mmap
 import re
 from collections.abc import Iterator
 from dataclasses import dataclass
@@ -27,7 +28,7 @@ import numpy as np
 import pandas as pd
 
 from workbench.core.errors import InputError
-from workbench.io.csvtext import read_file_bytes
+from workbench.io.csvtext import _BOM, read_file_bytes
 from workbench.io.profiles import _side_units as _profile_units
 from workbench.models.logs import LogBatch
 
@@ -51,6 +52,9 @@ VEHICLE_NAMES = ("vehicle", "vehicle_id")
 _TIME_NAMES = ("timestamp", "datetime", "time", "elapsed")
 #: Rows read at a time from one CSV file per vehicle.
 CSV_CHUNK_ROWS = 1_000_000
+#: Most bytes of CSV text Arrow's reader parses at a time (about 450,000 rows of a logger
+#: export; in blocks of 1 MiB, one per thread); smaller batches of rows ask for fewer.
+ARROW_PIECE_BYTES = 16 << 20
 _SUFFIXES = (".csv", ".txt", ".parquet", ".pq")
 
 
@@ -244,8 +248,16 @@ def _read_csv(path: Path, d: _Dialect, usecols: list[str], chunksize: int | None
                          ) from None
 
 
-def _numbers(values: pd.Series, where: str, first_row: int, name: str) -> np.ndarray:
-    """A column as floats; text with a decimal comma is read, other text named by row."""
+def _row(rows: int | np.ndarray, k: int) -> int:
+    """File row of value ``k``: ``rows`` is the row of the first value (the others follow),
+    or the row of each value (a vehicle's rows of a long file)."""
+    return int(rows[k]) if isinstance(rows, np.ndarray) else rows + k
+
+
+def _numbers(values: pd.Series, where: str, first_row: int | np.ndarray, name: str
+             ) -> np.ndarray:
+    """A column as floats; text with a decimal comma is read, other text named by row
+    (``first_row``: see :func:`_row`)."""
     if values.dtype.kind in "fiu":
         return values.to_numpy(dtype=float)
     text = values.astype("string").str.strip()
@@ -253,7 +265,7 @@ def _numbers(values: pd.Series, where: str, first_row: int, name: str) -> np.nda
     bad = out.isna() & text.notna() & (text != "")
     if bad.any():
         k = int(np.argmax(bad.to_numpy()))
-        raise InputError(f"{where} row {first_row + k}",
+        raise InputError(f"{where} row {_row(first_row, k)}",
                          f"{name} '{text.iloc[k]}' is not a number")
     return out.to_numpy(dtype=float, na_value=np.nan)
 
@@ -280,8 +292,10 @@ def _arrow_seconds(values: pd.Series) -> np.ndarray | None:
     return None
 
 
-def _seconds(values: pd.Series, unit: str, where: str, first_row: int, name: str) -> np.ndarray:
-    """A time column as float seconds (elapsed or since the epoch)."""
+def _seconds(values: pd.Series, unit: str, where: str, first_row: int | np.ndarray, name: str
+             ) -> np.ndarray:
+    """A time column as float seconds (elapsed or since the epoch; ``first_row``: see
+    :func:`_row`)."""
     if unit in ISO_UNITS or values.dtype.kind == "M":
         if values.dtype.kind == "M":
             stamps = values
@@ -293,7 +307,7 @@ def _seconds(values: pd.Series, unit: str, where: str, first_row: int, name: str
             bad = stamps.isna() & values.notna()
             if bad.any():
                 k = int(np.argmax(bad.to_numpy()))
-                raise InputError(f"{where} row {first_row + k}",
+                raise InputError(f"{where} row {_row(first_row, k)}",
                                  f"{name} '{values.iloc[k]}' is not an ISO 8601 time "
                                  "(e.g. 2026-03-01T08:00:00Z)")
         if getattr(stamps.dt, "tz", None) is not None:
@@ -305,13 +319,131 @@ def _seconds(values: pd.Series, unit: str, where: str, first_row: int, name: str
     return _numbers(values, where, first_row, name) * factor
 
 
-def _batch(frame: pd.DataFrame, cols: Columns, where: str, first_row: int) -> LogBatch:
-    t = _seconds(frame[cols.time[0]], cols.time[1], where, first_row, cols.time[0])
-    v = _numbers(frame[cols.speed[0]], where, first_row, cols.speed[0]) * SPEED_UNITS[
-        cols.speed[1]]
-    extras = {q: _numbers(frame[raw], where, first_row, raw) * OTHER_UNITS[q][unit]
-              for q, (raw, unit) in cols.extras.items()}
-    return LogBatch(time=t, speed=v, extras=extras)
+def _si(cols: Columns, time: np.ndarray, speed: np.ndarray, extras: dict[str, np.ndarray]
+        ) -> LogBatch:
+    """A batch in SI from the columns' values in their own units (time already seconds)."""
+    return LogBatch(time=time, speed=speed * SPEED_UNITS[cols.speed[1]],
+                    extras={q: extras[q] * OTHER_UNITS[q][unit]
+                            for q, (_, unit) in cols.extras.items()})
+
+
+def _batch(frame: pd.DataFrame, cols: Columns, where: str, rows: int | np.ndarray
+           ) -> LogBatch:
+    return _si(cols, _seconds(frame[cols.time[0]], cols.time[1], where, rows, cols.time[0]),
+               _numbers(frame[cols.speed[0]], where, rows, cols.speed[0]),
+               {q: _numbers(frame[raw], where, rows, raw) for q, (raw, _) in cols.extras.items()})
+
+
+def _arrow_plain(path: Path, d: _Dialect) -> int | None:
+    """Where the data of a file Arrow's CSV reader reads as pandas' reader does begin (the
+    byte after the header line), or None: the header on the first line, no byte-order mark,
+    decimal points, no ``#`` (comments, which Arrow does not know) and no ``"`` (a quoted
+    field may hold a line break, and the file is read in pieces cut at line breaks)."""
+    if d.decimal != "." or d.header_line != 1:
+        return None
+    try:
+        with path.open("rb") as fh, mmap.mmap(fh.fileno(), 0, access=mmap.ACCESS_READ) as mm:
+            if mm[:len(_BOM)] == _BOM or mm.find(b"#") >= 0 or mm.find(b'"') >= 0:
+                return None
+            start = mm.find(b"\n")
+    except (OSError, ValueError):  # an empty file cannot be mapped
+        return None
+    return start + 1 if start >= 0 else None
+
+
+def _arrow_batches(path: Path, start: int, d: _Dialect, cols: Columns, vehicle: str | None,
+                   batch_rows: int) -> Iterator[tuple[LogBatch, int]]:
+    """Arrow's multi-threaded CSV reader on pieces of the file from byte ``start`` on, cut
+    at line breaks (memory bounded by the piece): each batch (rows of ``vehicle`` only, when
+    given) and the data rows it read. Columns are typed up front (ISO times as timestamps,
+    parsed by Arrow; times without a zone are UTC); a value Arrow cannot read raises an
+    ArrowException, and the caller lets pandas name the row."""
+    import pyarrow as pa
+    import pyarrow.compute as pc
+    import pyarrow.csv as pcsv
+
+    types = dict.fromkeys(cols.names, pa.float64())
+    if cols.vehicle:
+        types[cols.vehicle] = pa.string()
+    iso = cols.time[1] in ISO_UNITS
+    kinds = [pa.timestamp("ns", tz="UTC"), pa.timestamp("ns")] if iso else [pa.float64()]
+    factor = 1.0 if iso else ELAPSED_UNITS.get(cols.time[1]) or EPOCH_UNITS[cols.time[1]]
+    piece = max(1 << 16, min(ARROW_PIECE_BYTES, 64 * batch_rows))
+    read = pcsv.ReadOptions(column_names=d.header, use_threads=True)
+    parse = pcsv.ParseOptions(delimiter=d.sep)
+
+    def table(data: pa.Buffer) -> pa.Table:
+        for k, kind in enumerate(kinds):
+            types[cols.time[0]] = kind
+            try:
+                return pcsv.read_csv(pa.BufferReader(data), read_options=read,
+                                     parse_options=parse, convert_options=pcsv.ConvertOptions(
+                                         column_types=types, include_columns=cols.names))
+            except pa.ArrowInvalid:  # ISO times without a zone: read as UTC
+                if k == len(kinds) - 1:
+                    raise
+        raise AssertionError  # pragma: no cover - the loop returns or raises
+
+    def values(t: pa.Table, name: str) -> np.ndarray:
+        return t.column(name).to_numpy()
+
+    with pa.memory_map(str(path)) as src:
+        size = src.size()
+        while start < size:
+            end = min(start + piece, size)
+            if end < size:  # on to the end of the line
+                tail = src.read_at(min(1 << 16, size - end), end)
+                cut = tail.find(b"\n")
+                end = end + cut + 1 if cut >= 0 else end + len(tail)
+            src.seek(start)
+            t = table(src.read_buffer(end - start))  # no copy: a view of the mapped file
+            start = end
+            n = t.num_rows
+            if vehicle is not None:
+                t = t.filter(pc.equal(pc.utf8_trim_whitespace(t.column(cols.vehicle)), vehicle))
+            time = t.column(cols.time[0])
+            seconds = (pc.cast(time, pa.int64()).to_numpy() / 1e9 if iso
+                       else time.to_numpy() * factor)
+            yield _si(cols, seconds, values(t, cols.speed[0]),
+                      {q: values(t, raw) for q, (raw, _) in cols.extras.items()}), n
+
+
+def _csv_batches(path: Path, log: VehicleLog, batch_rows: int) -> Iterator[LogBatch]:
+    """One vehicle's batches of a CSV file: Arrow's reader where it reads the file as pandas
+    does, else (or from the first row Arrow cannot read on) pandas' reader, which names the
+    bad row. Row numbers count within the file (all vehicles' rows)."""
+    import pyarrow as pa
+
+    d = _dialect(path)
+    cols = resolve_columns(path, d.header)
+    vehicle = log.vehicle if cols.vehicle else None
+    done = 0  # data rows already yielded by Arrow
+    start = _arrow_plain(path, d)
+    if start is not None:
+        try:
+            for batch, n in _arrow_batches(path, start, d, cols, vehicle, batch_rows):
+                yield batch
+                done += n
+            return
+        except pa.ArrowException:
+            pass  # pandas reads on and names the row
+    first = d.header_line + 1
+    start = 0  # data rows before this chunk
+    for frame in _read_csv(path, d, cols.names, batch_rows):
+        n = len(frame)
+        rows = first + start + np.arange(n)
+        if start + n <= done:
+            start += n
+            continue
+        keep = np.arange(n) >= done - start
+        if vehicle is not None:
+            keep &= (frame[cols.vehicle].astype("string").str.strip() == vehicle).to_numpy(
+                dtype=bool, na_value=False)
+        if keep.all():
+            yield _batch(frame, cols, str(path), int(rows[0]) if n else first + start)
+        else:
+            yield _batch(frame[keep], cols, str(path), rows[keep])
+        start += n
 
 
 # ----------------------------------------------------------------------------- sources
@@ -525,15 +657,7 @@ def read_batches(log: VehicleLog, *, batch_rows: int = CSV_CHUNK_ROWS) -> Iterat
     """
     path = Path(log.path)
     if log.kind == "csv":
-        d = _dialect(path)
-        cols = resolve_columns(path, d.header)
-        row = d.header_line + 1
-        for frame in _read_csv(path, d, cols.names, batch_rows):
-            n = len(frame)
-            if cols.vehicle:
-                frame = frame[frame[cols.vehicle].astype("string").str.strip() == log.vehicle]
-            yield _batch(frame, cols, str(path), row)
-            row += n
+        yield from _csv_batches(path, log, batch_rows)
         return
     import pyarrow.compute as pc
     import pyarrow.parquet as pq
