@@ -303,17 +303,19 @@ def test_arrow_and_pandas_readers_agree(tmp_path):
     text = _long_log(6000)
     (tmp_path / "plain.csv").write_text(text)
     (tmp_path / "commented.csv").write_text("# exported by a logger\n" + text)
+    (tmp_path / "bom.csv").write_text("\ufeff" + text)  # Arrow's reader too
     got = {}
-    for name in ("plain", "commented"):
+    for name in ("plain", "commented", "bom"):
         for log in list_vehicles(tmp_path / f"{name}.csv").vehicles:
             b = list(read_batches(log, batch_rows=1000))
             got[name, log.vehicle] = (np.concatenate([x.time for x in b]),
                                       np.concatenate([x.speed for x in b]),
                                       np.concatenate([x.extras["altitude"] for x in b]))
     for v in ("V0", "V1"):
-        for a, b in zip(got["plain", v], got["commented", v], strict=True):
+        for a, b, c in zip(got["plain", v], got["commented", v], got["bom", v], strict=True):
             assert a.size == 3000
             assert_allclose(a, b, rtol=0, atol=0)
+            assert_allclose(c, b, rtol=0, atol=0)
     # 1 m/s = 3.6 km/h exactly (SI); epoch seconds of the first stamp from pandas
     assert_allclose(got["plain", "V0"][1][:2], [0.5 / 3.6, 14.5 / 3.6])
     assert got["plain", "V0"][0][0] == pd.Timestamp("2026-03-01T08:00:00Z").timestamp()

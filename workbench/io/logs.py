@@ -28,7 +28,7 @@ import numpy as np
 import pandas as pd
 
 from workbench.core.errors import InputError
-from workbench.io.csvtext import _BOM, read_file_bytes
+from workbench.io.csvtext import read_file_bytes
 from workbench.io.profiles import _side_units as _profile_units
 from workbench.models.logs import LogBatch
 
@@ -336,14 +336,15 @@ def _batch(frame: pd.DataFrame, cols: Columns, where: str, rows: int | np.ndarra
 
 def _arrow_plain(path: Path, d: _Dialect) -> int | None:
     """Where the data of a file Arrow's CSV reader reads as pandas' reader does begin (the
-    byte after the header line), or None: the header on the first line, no byte-order mark,
-    decimal points, no ``#`` (comments, which Arrow does not know) and no ``"`` (a quoted
-    field may hold a line break, and the file is read in pieces cut at line breaks)."""
+    byte after the header line, which :func:`_dialect` read, byte-order mark and all), or
+    None: the header on the first line, decimal points, no ``#`` (comments, which Arrow does
+    not know) and no ``"`` (a quoted field may hold a line break, and the file is read in
+    pieces cut at line breaks)."""
     if d.decimal != "." or d.header_line != 1:
         return None
     try:
         with path.open("rb") as fh, mmap.mmap(fh.fileno(), 0, access=mmap.ACCESS_READ) as mm:
-            if mm[:len(_BOM)] == _BOM or mm.find(b"#") >= 0 or mm.find(b'"') >= 0:
+            if mm.find(b"#") >= 0 or mm.find(b'"') >= 0:
                 return None
             start = mm.find(b"\n")
     except (OSError, ValueError):  # an empty file cannot be mapped
