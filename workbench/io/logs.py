@@ -32,6 +32,11 @@ from workbench.io.csvtext import read_file_bytes
 from workbench.io.profiles import _side_units as _profile_units
 from workbench.models.logs import LogBatch
 
+try:
+    import numba
+except ImportError:  # pragma: no cover - numba is a dependency; the fallback is for odd installs
+    numba = None
+
 #: Speed units: token -> factor to m/s (mph exact: NIST Handbook 44, Appendix C).
 SPEED_UNITS = {"km_per_h": 1.0 / 3.6, "kmh": 1.0 / 3.6, "kph": 1.0 / 3.6,
                "m_per_s": 1.0, "mps": 1.0, "mph": 0.44704}
@@ -52,9 +57,6 @@ VEHICLE_NAMES = ("vehicle", "vehicle_id")
 _TIME_NAMES = ("timestamp", "datetime", "time", "elapsed")
 #: Rows read at a time from one CSV file per vehicle.
 CSV_CHUNK_ROWS = 1_000_000
-#: Most bytes of CSV text Arrow's reader parses at a time (about 450,000 rows of a logger
-#: export; in blocks of 1 MiB, one per thread); smaller batches of rows ask for fewer.
-ARROW_PIECE_BYTES = 16 << 20
 _SUFFIXES = (".csv", ".txt", ".parquet", ".pq")
 
 
@@ -228,14 +230,40 @@ def _dialect(path: Path) -> _Dialect:
                     header_line=lineno)
 
 
-def _read_csv(path: Path, d: _Dialect, usecols: list[str], chunksize: int | None
-              ) -> Iterator[pd.DataFrame]:
-    """The named columns, in chunks (types inferred: forcing text columns to ``str`` made
-    pandas' C parser five times slower)."""
+@dataclass(frozen=True)
+class _Body:
+    """What the data rows of a CSV file hold, from one scan (:func:`_body`)."""
+
+    comments: bool = True  # a ``#``: pandas looks for comments
+    spaces: bool = True  # a space: pandas skips spaces after separators
+
+
+def _body(path: Path, d: _Dialect) -> _Body:
+    """Whether the file has comments (lines before the header, or a ``#`` after it) and the
+    rows after the header a space (two scans of the mapped file for one byte each); without
+    them pandas' reader runs a third faster."""
     try:
-        reader = pd.read_csv(path, sep=d.sep, decimal=d.decimal, comment="#",
-                             encoding="utf-8", usecols=usecols, skip_blank_lines=True,
-                             skipinitialspace=True, chunksize=chunksize, engine="c")
+        with path.open("rb") as fh, mmap.mmap(fh.fileno(), 0, access=mmap.ACCESS_READ) as mm:
+            start = 0
+            for _ in range(d.header_line):
+                start = mm.find(b"\n", start) + 1
+            if start == 0:
+                return _Body()
+            return _Body(comments=d.header_line > 1 or mm.find(b"#", start) >= 0,
+                         spaces=mm.find(b" ", start) >= 0)
+    except (OSError, ValueError):  # an empty file cannot be mapped
+        return _Body()
+
+
+def _read_csv(path: Path, d: _Dialect, usecols: list[str], chunksize: int | None,
+              body: _Body = _Body()) -> Iterator[pd.DataFrame]:
+    """The named columns, in chunks (types inferred: forcing text columns to ``str`` made
+    pandas' C parser five times slower); ``body``: what pandas must look for."""
+    try:
+        reader = pd.read_csv(path, sep=d.sep, decimal=d.decimal,
+                             comment="#" if body.comments else None, encoding="utf-8",
+                             usecols=usecols, skip_blank_lines=True,
+                             skipinitialspace=body.spaces, chunksize=chunksize, engine="c")
         if chunksize is None:
             yield reader
         else:
@@ -270,6 +298,134 @@ def _numbers(values: pd.Series, where: str, first_row: int | np.ndarray, name: s
     return out.to_numpy(dtype=float, na_value=np.nan)
 
 
+def _digits(data: np.ndarray, at: int, n: int) -> int:  # pragma: no cover - compiled by numba
+    """The decimal number of the ``n`` bytes at ``data[at:]``, or -1 if one is not a digit."""
+    x = 0
+    for j in range(at, at + n):
+        c = np.int64(data[j]) - 48
+        if c < 0 or c > 9:
+            return -1
+        x = 10 * x + c
+    return x
+
+
+def _civil_days(y: int, mo: int, d: int) -> int:  # pragma: no cover - compiled by numba
+    """Days since 1970-01-01 of a date (proleptic Gregorian), -2**62 when it is no date or
+    outside the years 1678-2261 that int64 nanoseconds hold. H. Hinnant, "chrono-compatible
+    low-level date algorithms", days_from_civil (exact in integers)."""
+    leap = y % 4 == 0 and (y % 100 != 0 or y % 400 == 0)
+    month_days = 29 if mo == 2 and leap else (28 if mo == 2 else 30 + ((mo + mo // 8) % 2))
+    if not (1678 <= y <= 2261 and 1 <= mo <= 12 and 1 <= d <= month_days):
+        return -(1 << 62)
+    yy = y - (mo <= 2)
+    era = yy // 400
+    yoe = yy - era * 400
+    doy = (153 * (mo - 3 if mo > 2 else mo + 9) + 2) // 5 + d - 1
+    return era * 146097 + yoe * 365 + yoe // 4 - yoe // 100 + doy - 719468
+
+
+def _iso_ns(data: np.ndarray, offsets: np.ndarray,
+            out: np.ndarray) -> int:  # pragma: no cover - compiled by numba
+    """Nanoseconds since the epoch of ISO 8601 texts into ``out``, text ``i`` being the bytes
+    ``data[offsets[i]:offsets[i + 1]]`` (Arrow's string layout): ``YYYY-MM-DDTHH:MM:SS`` (``T``
+    or a space), up to nine decimals, then ``Z``, ``+HH:MM``, ``-HH:MM`` or nothing (UTC).
+    Returns -1, or the first text of another form (the general parsers then take over). A
+    date equal to the previous text's is not parsed again."""
+    prev = -1  # start of the previous text, whose date bytes ``days`` holds
+    days = 0
+    for i in range(out.size):
+        a = offsets[i]
+        b = offsets[i + 1]
+        if b - a < 19:
+            return i
+        same = prev >= 0
+        if same:
+            for j in range(10):
+                if data[a + j] != data[prev + j]:
+                    same = False
+                    break
+        if not same:
+            if data[a + 4] != 45 or data[a + 7] != 45:
+                return i
+            days = _civil_days(_digits(data, a, 4), _digits(data, a + 5, 2),
+                               _digits(data, a + 8, 2))
+            if days == -(1 << 62):
+                return i
+            prev = a
+        t = data[a + 10]
+        if data[a + 13] != 58 or data[a + 16] != 58 or not (t == 84 or t == 32):
+            return i
+        h = _digits(data, a + 11, 2)
+        mi = _digits(data, a + 14, 2)
+        sec = _digits(data, a + 17, 2)
+        if not (0 <= h <= 23 and 0 <= mi <= 59 and 0 <= sec <= 59):
+            return i
+        p = a + 19
+        frac = 0
+        if p < b and data[p] == 46:
+            p += 1
+            scale = 100_000_000
+            while p < b and 48 <= data[p] <= 57 and scale > 0:
+                frac += (np.int64(data[p]) - 48) * scale
+                scale //= 10
+                p += 1
+            if p == a + 20 or (p < b and 48 <= data[p] <= 57):
+                return i
+        zone = 0
+        if p < b:
+            z = data[p]
+            if z == 90 and p + 1 == b:
+                p = b
+            elif (z == 43 or z == 45) and b - p == 6 and data[p + 3] == 58:
+                zh = _digits(data, p + 1, 2)
+                zm = _digits(data, p + 4, 2)
+                if not (0 <= zh <= 23 and 0 <= zm <= 59):
+                    return i
+                zone = (zh * 60 + zm) * 60 * (1 if z == 43 else -1)
+            else:
+                return i
+        out[i] = (days * 86400 + h * 3600 + mi * 60 + sec - zone) * 1_000_000_000 + frac
+    return -1
+
+
+if numba is not None:
+    _digits = numba.njit(cache=True, error_model="numpy")(_digits)
+    _civil_days = numba.njit(cache=True, error_model="numpy")(_civil_days)
+    _iso_ns = numba.njit(cache=True, error_model="numpy")(_iso_ns)
+
+
+def _fixed_iso_seconds(values: pd.Series) -> np.ndarray | None:
+    """ISO 8601 text as epoch seconds by the compiled fixed-format pass over Arrow's string
+    buffers (:func:`_iso_ns`; a logger's stamps in a fraction of Arrow's general parser's
+    time), or None when numba is missing, the column is not Arrow strings, has empty cells,
+    or a text is of another form."""
+    import pyarrow as pa
+
+    if numba is None:
+        return None  # pragma: no cover - numba is a dependency
+    try:
+        arr = pa.array(values, from_pandas=True)  # pandas' own Arrow strings: no copy
+    except (pa.ArrowInvalid, pa.ArrowTypeError):
+        return None
+    chunks = arr.chunks if isinstance(arr, pa.ChunkedArray) else [arr]
+    out = np.empty(len(values), dtype=np.int64)
+    at = 0
+    for c in chunks:
+        if not (pa.types.is_string(c.type) or pa.types.is_large_string(c.type)) \
+                or c.null_count:
+            return None
+        if len(c) == 0:
+            continue
+        _, off_buf, data_buf = c.buffers()
+        offsets = np.frombuffer(off_buf, dtype=np.int32 if pa.types.is_string(c.type)
+                                else np.int64)[c.offset:c.offset + len(c) + 1]
+        data = np.frombuffer(data_buf, dtype=np.uint8)
+        if offsets[-1] > data.size or _iso_ns(data, offsets, out[at:at + len(c)]) >= 0:
+            return None
+        at += len(c)
+    return out.astype(float) / 1e9
+
+
 def _arrow_seconds(values: pd.Series) -> np.ndarray | None:
     """ISO 8601 text as epoch seconds through Arrow's parser (three times pandas' speed), or
     None when Arrow cannot read every cell (dates only, spaces for ``T``, bad cells): pandas
@@ -300,7 +456,9 @@ def _seconds(values: pd.Series, unit: str, where: str, first_row: int | np.ndarr
         if values.dtype.kind == "M":
             stamps = values
         else:
-            fast = _arrow_seconds(values)
+            fast = _fixed_iso_seconds(values)
+            if fast is None:
+                fast = _arrow_seconds(values)
             if fast is not None:
                 return fast
             stamps = pd.to_datetime(values, errors="coerce", utc=True, format="ISO8601")
@@ -319,132 +477,32 @@ def _seconds(values: pd.Series, unit: str, where: str, first_row: int | np.ndarr
     return _numbers(values, where, first_row, name) * factor
 
 
-def _si(cols: Columns, time: np.ndarray, speed: np.ndarray, extras: dict[str, np.ndarray]
-        ) -> LogBatch:
-    """A batch in SI from the columns' values in their own units (time already seconds)."""
-    return LogBatch(time=time, speed=speed * SPEED_UNITS[cols.speed[1]],
-                    extras={q: extras[q] * OTHER_UNITS[q][unit]
-                            for q, (_, unit) in cols.extras.items()})
-
-
 def _batch(frame: pd.DataFrame, cols: Columns, where: str, rows: int | np.ndarray
            ) -> LogBatch:
-    return _si(cols, _seconds(frame[cols.time[0]], cols.time[1], where, rows, cols.time[0]),
-               _numbers(frame[cols.speed[0]], where, rows, cols.speed[0]),
-               {q: _numbers(frame[raw], where, rows, raw) for q, (raw, _) in cols.extras.items()})
-
-
-def _arrow_plain(path: Path, d: _Dialect) -> int | None:
-    """Where the data of a file Arrow's CSV reader reads as pandas' reader does begin (the
-    byte after the header line, which :func:`_dialect` read, byte-order mark and all), or
-    None: the header on the first line, decimal points, no ``#`` (comments, which Arrow does
-    not know) and no ``"`` (a quoted field may hold a line break, and the file is read in
-    pieces cut at line breaks)."""
-    if d.decimal != "." or d.header_line != 1:
-        return None
-    try:
-        with path.open("rb") as fh, mmap.mmap(fh.fileno(), 0, access=mmap.ACCESS_READ) as mm:
-            if mm.find(b"#") >= 0 or mm.find(b'"') >= 0:
-                return None
-            start = mm.find(b"\n")
-    except (OSError, ValueError):  # an empty file cannot be mapped
-        return None
-    return start + 1 if start >= 0 else None
-
-
-def _arrow_batches(path: Path, start: int, d: _Dialect, cols: Columns, vehicle: str | None,
-                   batch_rows: int) -> Iterator[tuple[LogBatch, int]]:
-    """Arrow's multi-threaded CSV reader on pieces of the file from byte ``start`` on, cut
-    at line breaks (memory bounded by the piece): each batch (rows of ``vehicle`` only, when
-    given) and the data rows it read. Columns are typed up front (ISO times as timestamps,
-    parsed by Arrow; times without a zone are UTC); a value Arrow cannot read raises an
-    ArrowException, and the caller lets pandas name the row."""
-    import pyarrow as pa
-    import pyarrow.compute as pc
-    import pyarrow.csv as pcsv
-
-    types = dict.fromkeys(cols.names, pa.float64())
-    if cols.vehicle:
-        types[cols.vehicle] = pa.string()
-    iso = cols.time[1] in ISO_UNITS
-    kinds = [pa.timestamp("ns", tz="UTC"), pa.timestamp("ns")] if iso else [pa.float64()]
-    factor = 1.0 if iso else ELAPSED_UNITS.get(cols.time[1]) or EPOCH_UNITS[cols.time[1]]
-    piece = max(1 << 16, min(ARROW_PIECE_BYTES, 64 * batch_rows))
-    read = pcsv.ReadOptions(column_names=d.header, use_threads=True)
-    parse = pcsv.ParseOptions(delimiter=d.sep)
-
-    def table(data: pa.Buffer) -> pa.Table:
-        for k, kind in enumerate(kinds):
-            types[cols.time[0]] = kind
-            try:
-                return pcsv.read_csv(pa.BufferReader(data), read_options=read,
-                                     parse_options=parse, convert_options=pcsv.ConvertOptions(
-                                         column_types=types, include_columns=cols.names))
-            except pa.ArrowInvalid:  # ISO times without a zone: read as UTC
-                if k == len(kinds) - 1:
-                    raise
-        raise AssertionError  # pragma: no cover - the loop returns or raises
-
-    def values(t: pa.Table, name: str) -> np.ndarray:
-        return t.column(name).to_numpy()
-
-    with pa.memory_map(str(path)) as src:
-        size = src.size()
-        while start < size:
-            end = min(start + piece, size)
-            if end < size:  # on to the end of the line
-                tail = src.read_at(min(1 << 16, size - end), end)
-                cut = tail.find(b"\n")
-                end = end + cut + 1 if cut >= 0 else end + len(tail)
-            src.seek(start)
-            t = table(src.read_buffer(end - start))  # no copy: a view of the mapped file
-            start = end
-            n = t.num_rows
-            if vehicle is not None:
-                t = t.filter(pc.equal(pc.utf8_trim_whitespace(t.column(cols.vehicle)), vehicle))
-            time = t.column(cols.time[0])
-            seconds = (pc.cast(time, pa.int64()).to_numpy() / 1e9 if iso
-                       else time.to_numpy() * factor)
-            yield _si(cols, seconds, values(t, cols.speed[0]),
-                      {q: values(t, raw) for q, (raw, _) in cols.extras.items()}), n
+    """A frame's columns in SI (``rows``: file rows, see :func:`_row`)."""
+    t = _seconds(frame[cols.time[0]], cols.time[1], where, rows, cols.time[0])
+    v = _numbers(frame[cols.speed[0]], where, rows, cols.speed[0]) * SPEED_UNITS[
+        cols.speed[1]]
+    extras = {q: _numbers(frame[raw], where, rows, raw) * OTHER_UNITS[q][unit]
+              for q, (raw, unit) in cols.extras.items()}
+    return LogBatch(time=t, speed=v, extras=extras)
 
 
 def _csv_batches(path: Path, log: VehicleLog, batch_rows: int) -> Iterator[LogBatch]:
-    """One vehicle's batches of a CSV file: Arrow's reader where it reads the file as pandas
-    does, else (or from the first row Arrow cannot read on) pandas' reader, which names the
-    bad row. Row numbers count within the file (all vehicles' rows)."""
-    import pyarrow as pa
-
+    """One vehicle's batches of a CSV file; row numbers count within the file (all
+    vehicles' rows)."""
     d = _dialect(path)
     cols = resolve_columns(path, d.header)
-    vehicle = log.vehicle if cols.vehicle else None
-    done = 0  # data rows already yielded by Arrow
-    start = _arrow_plain(path, d)
-    if start is not None:
-        try:
-            for batch, n in _arrow_batches(path, start, d, cols, vehicle, batch_rows):
-                yield batch
-                done += n
-            return
-        except pa.ArrowException:
-            pass  # pandas reads on and names the row
-    first = d.header_line + 1
-    start = 0  # data rows before this chunk
-    for frame in _read_csv(path, d, cols.names, batch_rows):
+    row = d.header_line + 1
+    for frame in _read_csv(path, d, cols.names, batch_rows, _body(path, d)):
         n = len(frame)
-        rows = first + start + np.arange(n)
-        if start + n <= done:
-            start += n
-            continue
-        keep = np.arange(n) >= done - start
-        if vehicle is not None:
-            keep &= (frame[cols.vehicle].astype("string").str.strip() == vehicle).to_numpy(
+        if cols.vehicle:
+            keep = (frame[cols.vehicle].astype("string").str.strip() == log.vehicle).to_numpy(
                 dtype=bool, na_value=False)
-        if keep.all():
-            yield _batch(frame, cols, str(path), int(rows[0]) if n else first + start)
+            yield _batch(frame[keep], cols, str(path), row + np.flatnonzero(keep))
         else:
-            yield _batch(frame[keep], cols, str(path), rows[keep])
-        start += n
+            yield _batch(frame, cols, str(path), row)
+        row += n
 
 
 # ----------------------------------------------------------------------------- sources
@@ -675,6 +733,9 @@ def read_batches(log: VehicleLog, *, batch_rows: int = CSV_CHUNK_ROWS) -> Iterat
     for b in batches:
         frame = b.to_pandas()
         if log.kind == "parquet" and log.shared:
-            frame = frame[frame[cols.vehicle].astype("string") == log.vehicle]
-        yield _batch(frame, cols, str(path), row)
+            keep = (frame[cols.vehicle].astype("string") == log.vehicle).to_numpy(
+                dtype=bool, na_value=False)
+            yield _batch(frame[keep], cols, str(path), row + np.flatnonzero(keep))
+        else:
+            yield _batch(frame, cols, str(path), row)
         row += b.num_rows
