@@ -330,9 +330,9 @@ def _iso_ns(data: np.ndarray, offsets: np.ndarray,
     ``data[offsets[i]:offsets[i + 1]]`` (Arrow's string layout): ``YYYY-MM-DDTHH:MM:SS`` (``T``
     or a space), up to nine decimals, then ``Z``, ``+HH:MM``, ``-HH:MM`` or nothing (UTC).
     Returns -1, or the first text of another form (the general parsers then take over). A
-    date equal to the previous text's is not parsed again."""
-    prev = -1  # start of the previous text, whose date bytes ``days`` holds
-    days = 0
+    text that starts as the previous one, to the minute, only has its seconds parsed."""
+    prev = -1  # start of the previous text, whose minute ``base`` holds [s]
+    base = 0
     for i in range(out.size):
         a = offsets[i]
         b = offsets[i + 1]
@@ -340,29 +340,29 @@ def _iso_ns(data: np.ndarray, offsets: np.ndarray,
             return i
         same = prev >= 0
         if same:
-            for j in range(10):
+            for j in range(16, -1, -1):  # the minute changes first
                 if data[a + j] != data[prev + j]:
                     same = False
                     break
         if not same:
-            if data[a + 4] != 45 or data[a + 7] != 45:
+            t = data[a + 10]
+            if data[a + 4] != 45 or data[a + 7] != 45 or data[a + 13] != 58 \
+                    or data[a + 16] != 58 or not (t == 84 or t == 32):
                 return i
             days = _civil_days(_digits(data, a, 4), _digits(data, a + 5, 2),
                                _digits(data, a + 8, 2))
-            if days == -(1 << 62):
+            h = _digits(data, a + 11, 2)
+            mi = _digits(data, a + 14, 2)
+            if days == -(1 << 62) or not (0 <= h <= 23 and 0 <= mi <= 59):
                 return i
+            base = days * 86400 + h * 3600 + mi * 60
             prev = a
-        t = data[a + 10]
-        if data[a + 13] != 58 or data[a + 16] != 58 or not (t == 84 or t == 32):
-            return i
-        h = _digits(data, a + 11, 2)
-        mi = _digits(data, a + 14, 2)
         sec = _digits(data, a + 17, 2)
-        if not (0 <= h <= 23 and 0 <= mi <= 59 and 0 <= sec <= 59):
+        if not 0 <= sec <= 59:
             return i
         p = a + 19
         frac = 0
-        if p < b and data[p] == 46:
+        if p < b and data[p] == 46:  # decimals
             p += 1
             scale = 100_000_000
             while p < b and 48 <= data[p] <= 57 and scale > 0:
@@ -370,11 +370,11 @@ def _iso_ns(data: np.ndarray, offsets: np.ndarray,
                 scale //= 10
                 p += 1
             if p == a + 20 or (p < b and 48 <= data[p] <= 57):
-                return i
+                return i  # a point without decimals, or more than nine
         zone = 0
         if p < b:
             z = data[p]
-            if z == 90 and p + 1 == b:
+            if z == 90 and p + 1 == b:  # Z
                 p = b
             elif (z == 43 or z == 45) and b - p == 6 and data[p + 3] == 58:
                 zh = _digits(data, p + 1, 2)
@@ -384,7 +384,7 @@ def _iso_ns(data: np.ndarray, offsets: np.ndarray,
                 zone = (zh * 60 + zm) * 60 * (1 if z == 43 else -1)
             else:
                 return i
-        out[i] = (days * 86400 + h * 3600 + mi * 60 + sec - zone) * 1_000_000_000 + frac
+        out[i] = (base + sec - zone) * 1_000_000_000 + frac
     return -1
 
 
