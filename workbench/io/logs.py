@@ -57,6 +57,9 @@ VEHICLE_NAMES = ("vehicle", "vehicle_id")
 _TIME_NAMES = ("timestamp", "datetime", "time", "elapsed")
 #: Rows read at a time from one CSV file per vehicle.
 CSV_CHUNK_ROWS = 1_000_000
+#: A CSV file of at most this many bytes per row of a batch is read at once (a logger row
+#: is 20 to 40 bytes).
+WHOLE_FILE_BYTES_PER_ROW = 64
 _SUFFIXES = (".csv", ".txt", ".parquet", ".pq")
 
 
@@ -255,7 +258,7 @@ def _body(path: Path, d: _Dialect) -> _Body:
         return _Body()
 
 
-def _read_csv(path: Path, d: _Dialect, usecols: list[str], chunksize: int | None,
+def _read_csv(path: Path, d: _Dialect, usecols: list[str] | None, chunksize: int | None,
               body: _Body = _Body()) -> Iterator[pd.DataFrame]:
     """The named columns, in chunks (types inferred: forcing text columns to ``str`` made
     pandas' C parser five times slower); ``body``: what pandas must look for."""
@@ -494,7 +497,12 @@ def _csv_batches(path: Path, log: VehicleLog, batch_rows: int) -> Iterator[LogBa
     d = _dialect(path)
     cols = resolve_columns(path, d.header)
     row = d.header_line + 1
-    for frame in _read_csv(path, d, cols.names, batch_rows, _body(path, d)):
+    # pandas reads a whole file on two threads, by chunks or only some columns on one: a
+    # file of up to WHOLE_FILE_BYTES_PER_ROW * batch_rows bytes is read at once, and all its
+    # columns when it has no others
+    whole = path.stat().st_size <= WHOLE_FILE_BYTES_PER_ROW * batch_rows
+    usecols = None if sorted(cols.names) == sorted(d.header) else cols.names
+    for frame in _read_csv(path, d, usecols, None if whole else batch_rows, _body(path, d)):
         n = len(frame)
         if cols.vehicle:
             keep = (frame[cols.vehicle].astype("string").str.strip() == log.vehicle).to_numpy(
