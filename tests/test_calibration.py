@@ -88,11 +88,14 @@ def test_calibration_recovers_a_planted_factor():
 def test_shipped_example_cards_against_its_logs():
     data = demo_profiles.DATA
     run = run_fleet(demo_fleet.DATA / "logs", read_vehicle(data / "vehicles" / "taxi.toml"),
-                    read_map(data / "maps" / "taxi-si-1.8l.csv"), engine="serial")
+                    read_map(data / "maps" / "taxi-si-1.8l.csv"), engine="serial",
+                    settings=demo_fleet.MODEL_SETTINGS)
     records = read_fuel_cards(demo_fleet.DATA / "fuel-cards.csv")
     # gasoline: 43.2 MJ/kg x 745 kg/m3 (JEC WTW v5 fuel properties; from memory)
     cal, notes = calibrate_fleet(run, records, energy_per_amount=43.2e6 * 745.0)
     assert cal.vehicles == 12  # the broken log's vehicle has cards but no logs
     assert any("KB-T13 is not in the logs" in n for n in notes)
-    # invented data: the cards' ~6.6 L/100 km against the model's ~6.1 L/100 km
-    assert 0.9 < cal.factor < 1.3 and 0 < cal.factor_se < 0.1
+    # invented cards: the model on the demo study's taxi settings times 1.04, against the
+    # same model on the logs, which read a few % less fuel than the clean shifts (the exact
+    # relation is checked in tests/test_study_calibration.py)
+    assert 1.0 < cal.factor < 1.2 and 0 < cal.factor_se < 0.1

@@ -7,6 +7,8 @@ the conversion year, year 1 is at today's prices, residual value straight line a
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 import numpy as np
 import numpy_financial as npf
 import pytest
@@ -240,3 +242,91 @@ def test_physics_draws_interpolate_each_carrier():
     e, _, _ = econ.physics_draws(np.array([1200.0, 2200.0]), 1e-4, np.zeros(H + 1), [r],
                                  {"a": np.array([0.5, 1.0])}, 2)
     assert_allclose(e, [[1200.0, 2200.0], [1400.0, 2400.0]], rtol=1e-12)
+
+
+# --- new vehicles instead of a conversion (any drive) ---------------------------------------
+# Invented: the two vehicles are sold for 4000 each in year 0 and replaced by new ones at
+# 30000 each; the class's remaining life ends in year 2, so the new vehicles are sold then, for
+# 18000 each. They buy 1000 J/m at 5e-8 /J (grid electricity, say), no tailpipe CO2e, upstream
+# 1e-7 kg/J in year 1 falling by 2e-8 a year.
+ACTIVE_2 = np.array([0.0, 1.0, 1.0, 0.0])  # runs in years 1..2 (remaining life 2)
+GRID = econ.EnergyPart(1000.0, 5e-8, 0.0, np.array([1e-7, 1e-7, 8e-8, 6e-8]),
+                       upstream_by_year=True)
+
+
+def _new_vehicles(**money: float) -> econ.ClassLine:
+    bought = {"purchase_price": 30000.0, "resale_value": 18000.0, "old_vehicle_sale": 4000.0,
+              **money}
+    return econ.ClassLine(
+        count=2, active=ACTIVE_2, km_per_year=1e7, km_per_year_nominal=1e7, parts=(GRID,),
+        tailpipe_co2e_per_m=0.0, catalyst_cost=np.zeros(H + 1), upkeep_per_year=300.0,
+        tank_inspection_cost=0.0, tank_inspection_interval=0, converts=True,
+        conversion_cost=1000.0, downtime_days=0.0, daily_revenue=0.0, remaining_life_years=2,
+        nox_mass=np.zeros(H + 1), new_vehicle=econ.NewVehicle(**bought))
+
+
+def test_new_vehicle_line_against_a_hand_built_cash_flow():
+    # By hand: year 0 buys 2 x 30000 new vehicles, sells 2 x 4000 old ones and spends 2 x 1000
+    # on chargers (the line's capital): 60000 - 8000 + 2000 = 54000. Years 1-2: grid energy
+    # 2e7 m x 1000 J/m x 5e-8 /J = 1000; carbon 2e7 x 1000 x u_t x 0.1 = 200 (year 1), 160
+    # (year 2); upkeep 2 x 300 = 600. Year 3: the class has left the programme.
+    # The new vehicles are resold in year 2, the class's last year: 2 x 18000 = 36000; the
+    # chargers' capital has no value left after the 2-year remaining life (straight line).
+    options = {"base": econ.OptionLines([_baseline()], 0.0, 0.0),
+               "new": econ.OptionLines([_new_vehicles()], 0.0, 0.0)}
+    m = econ.programme_money(options, baseline="base", rate=0.05, carbon_price=0.1,
+                             horizon=H, n=1)
+    cost = np.array([54000.0, 1000.0 + 200.0 + 600.0, 1000.0 + 160.0 + 600.0, 0.0])
+    residual = np.array([0.0, 0.0, 36000.0, 0.0])
+    assert_allclose(m.costs["new"][0], cost, rtol=1e-12)
+    assert_allclose(m.residual["new"][0], residual, rtol=1e-12)
+    assert_allclose(m.co2e["new"][0], [0.0, 2000.0, 1600.0, 0.0], rtol=1e-12)
+    base_cash = -np.array([0.0, 2600.0, 2720.0, 2852.0])  # test_baseline_costs_by_hand
+    # NPV by numpy-financial (values[0] undiscounted, as year 0 here)
+    assert_allclose(econ.compare(m, "new", "base").npv,
+                    [npf.npv(0.05, residual - cost - base_cash)], rtol=1e-12)
+    assert econ.sold_year(ACTIVE_2) == 2 and econ.sold_year(ACTIVE) == 3
+    assert econ.sold_year(np.zeros(H + 1)) == H  # a class that never runs: at the horizon
+
+
+def test_new_vehicle_sale_and_resale_move_money_one_for_one():
+    # Each KBD of old-vehicle sale is one less in year 0; each KBD of resale one more in the
+    # year of sale, per vehicle (linearity of the line, no source needed).
+    def money(**kw: float) -> econ.Money:
+        options = {"base": econ.OptionLines([_baseline()], 0.0, 0.0),
+                   "new": econ.OptionLines([_new_vehicles(**kw)], 0.0, 0.0)}
+        return econ.programme_money(options, baseline="base", rate=0.05, carbon_price=0.1,
+                                    horizon=H, n=1)
+
+    ref = money()
+    assert_allclose(money(old_vehicle_sale=5000.0).costs["new"][0] - ref.costs["new"][0],
+                    [-2000.0, 0.0, 0.0, 0.0], atol=1e-9)
+    assert_allclose(money(resale_value=0.0).residual["new"][0], 0.0, atol=0)
+
+
+def test_first_year_capital_per_km_of_new_vehicles():
+    # Capital per km: chargers 1000 over the 2-year life, plus the purchase less the old
+    # vehicle's sale less the resale discounted from year 2, as a level payment over 2 years
+    # (capital recovery factor r (1+r)^n / ((1+r)^n - 1)); per 1e7 m a year.
+    crf = 0.05 * 1.05**2 / (1.05**2 - 1)
+    net = 30000 - 4000 - 18000 / 1.05**2
+    out = econ.cost_per_m(_new_vehicles(), rate=0.05, carbon_price=0.1)
+    assert_allclose(out["capital"], (1000 * crf + net * crf) / 1e7, rtol=1e-12)
+    assert_allclose(out["fuel"], 1000 * 5e-8 + 0.1 * 1e-7 * 1000, rtol=1e-12)  # year 1
+
+
+def test_new_vehicles_bought_by_phases_with_a_grant_share():
+    # Half the class replaced in year 0 and half in year 1 (phasing), a 20 % grant share: by
+    # hand, year j capital (30000 - 4000) x 2 x 0.5 + chargers 1000 x 2 x 0.5 = 27000, grants
+    # 20 % of the price and of the chargers, (30000 + 1000) x 2 x 0.5 x 0.2 = 6200; so 20800
+    # paid in each of years 0 and 1 on top of the running costs.
+    line = replace(_new_vehicles(), phasing=np.array([0.5, 0.5, 0.0, 0.0]), before=_baseline(),
+                   grant_share=0.2)
+    options = {"base": econ.OptionLines([_baseline()], 0.0, 0.0),
+               "new": econ.OptionLines([line], 0.0, 0.0)}
+    m = econ.programme_money(options, baseline="base", rate=0.05, carbon_price=0.1,
+                             horizon=H, n=1)
+    assert_allclose(m.capital["new"][0][:2] - m.grants["new"][0][:2], [20800.0, 20800.0],
+                    rtol=1e-12)
+    assert_allclose(m.grants["new"][0], [6200.0, 6200.0, 0.0, 0.0], rtol=1e-12)
+    assert_allclose(m.residual["new"][0], [0.0, 0.0, 36000.0, 0.0], rtol=1e-12)  # all resold

@@ -179,8 +179,15 @@ def test_monte_carlo_histograms_and_percentile_lines(result):
     for cand in result.monte_carlo["candidate"].unique():
         (hist,) = candidate_traces(fig, cand)
         draws = result.monte_carlo[result.monte_carlo["candidate"] == cand]["npv_vs_baseline"]
-        assert_allclose(hist.x, draws, rtol=1e-12)
-        assert hist.histnorm == "percent"
+        # pre-binned bars: every draw in exactly one bin, counted here by comparison
+        lo, hi = np.asarray(hist.customdata).T
+        assert len(hist.x) == charts.MC_BINS
+        assert_allclose([lo[0], hi[-1]], [draws.min(), draws.max()])
+        assert_allclose(hist.x, (lo + hi) / 2, rtol=1e-12)
+        inside = [(draws >= a) & ((draws < b) | ((draws == b) & (i == len(lo) - 1)))
+                  for i, (a, b) in enumerate(zip(lo, hi, strict=True))]
+        assert_allclose(hist.y, [100.0 * m.sum() / len(draws) for m in inside], rtol=1e-9)
+        assert_allclose(sum(hist.y), 100.0, rtol=1e-9)
         for column in ("npv_p10", "npv_p50", "npv_p90"):
             assert any(math.isclose(x, cands.loc[cand, column]) for x in line_x)
     n = result.monte_carlo["candidate"].nunique()

@@ -6,6 +6,7 @@ import json
 
 import pytest
 
+from workbench.core.fuels import load_fuel
 from workbench.interfaces.cli import main
 
 
@@ -94,6 +95,17 @@ def test_dual_fuel_splits_the_energy_between_gas_and_pilot(capsys):
     assert gas["fuel_energy_mj_per_km"] == pytest.approx(share * total, rel=1e-12)
     # 3 % of the gas slips unburnt: a little more energy than the diesel alone
     assert diesel["fuel_energy_mj_per_km"] < total < 1.02 * diesel["fuel_energy_mj_per_km"]
+    # the slipped methane (3 % of the gas's methane) leaves as CH4, not CO2: carbon balance
+    # with 12.011 g C, 16.043 g CH4, 44.009 g CO2 per mol (IUPAC atomic weights, from memory)
+    ng = load_fuel("natural-gas")
+    m_gas = gas["fuel_kg_per_100km"] * 10  # [g/km]
+    ch4 = 0.03 * ng.mole_fractions["CH4"] * 16.043 / ng.molar_mass() * m_gas
+    assert gas["ch4_g_per_km"] == pytest.approx(ch4, rel=1e-4)
+    carbon = {"CH4": 1, "C2H6": 2, "C3H8": 3, "C4H10,n-butane": 4, "CO2": 1}
+    moles_c = sum(n * ng.mole_fractions.get(s, 0.0) for s, n in carbon.items())
+    co2_all = m_gas * moles_c * 44.009 / ng.molar_mass()
+    assert gas["co2_ttw_g_per_km"] == pytest.approx(co2_all - ch4 * 44.009 / 16.043, rel=1e-4)
+    assert pilot["ch4_g_per_km"] == diesel["ch4_g_per_km"] == 0.0
 
 
 def test_fuel_text(capsys):

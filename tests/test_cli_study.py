@@ -16,7 +16,7 @@ KEYS = ["id", "fuel", "fuel_energy_mj_per_km", "co2_ttw_g_per_km", "co2e_wtw_g_p
 
 def test_check_says_what_the_file_holds(run_cli):
     code, out, _ = run_cli("study", "check", str(DEMO_STUDY))
-    assert code == 0 and out.startswith("ok:") and "2 candidates" in out
+    assert code == 0 and out.startswith("ok:") and "3 candidates" in out
 
 
 def test_check_lists_the_defaults_and_warns_about_a_kept_map(run_cli, tmp_path):
@@ -44,7 +44,7 @@ def test_run_json_has_the_promised_keys(run_cli):
     data = json.loads(out)
     assert data["currency"] == "KBD"
     cands = data["candidates"]
-    assert [c["id"] for c in cands] == ["today", "lpg-taxis", "cng-fleet"]
+    assert [c["id"] for c in cands] == ["today", "lpg-taxis", "cng-fleet", "electric-vans"]
     assert data["notices"] == [] and {"quantity", "value", "unit", "source"} <= set(
         data["defaults"][0])
     for c in cands:

@@ -115,12 +115,28 @@ def test_dedicated_si_peak_efficiency_in_the_published_range():
 
 
 def test_substitution_share_closed_form():
+    # the kind's curve as docs/study-file.md states it: 0 below 20 %, linear to 60 % at 60 %
     load = np.array([0.0, 0.2, 0.4, 0.6, 1.0])
-    assert_allclose(cv.substitution_share(load), [0.0, 0.0, 0.3, 0.6, 0.6], atol=1e-15)
+    assert_allclose(cv.DEFAULT_SUBSTITUTION.share(load), [0.0, 0.0, 0.3, 0.6, 0.6],
+                    atol=1e-15)
+    # a kit's own curve: 0 below 10 %, 50 % from 50 % load (linear in between)
+    kit = cv.Substitution(share_max=0.5, load_low=0.1, load_high=0.5)
+    assert_allclose(kit.share(np.array([0.05, 0.3, 0.7])), [0.0, 0.25, 0.5], atol=1e-15)
     diesel = read_map(VAN_MAP)
-    out = cv.dual_fuel_map(diesel, methane_slip=0.03)
-    sigma = cv.substitution_share(diesel.torque[:, None] / diesel.full_load_torque[None, :])
+    out = cv.dual_fuel_map(diesel, methane_slip=0.03, curve=kit)
+    sigma = kit.share(diesel.torque[:, None] / diesel.full_load_torque[None, :])
     assert_allclose(out.engine_map.efficiency, diesel.efficiency * (1 - 0.03 * sigma))
+
+
+@pytest.mark.parametrize(("values", "where"), [
+    ({"share_max": 1.0}, "share_max"),
+    ({"load_low": 0.6, "load_high": 0.6}, "load_low"),
+    ({"load_low": 0.5, "load_high": 1.2}, "load_low"),
+])
+def test_a_substitution_curve_that_cannot_be_is_refused(values, where):
+    with pytest.raises(InputError) as err:
+        cv.Substitution(**values)
+    assert err.value.where == where
 
 
 def test_infer_kind_and_regime_lines():

@@ -188,6 +188,10 @@ def test_time_of_use_tariff_is_energy_weighted():
     assert tariff_price([0.21], [1.0]) == 0.21
     with pytest.raises(InputError, match=r"sum to 0\.9"):
         tariff_price([0.3, 0.1], [0.2, 0.7])
+    # one price per Monte Carlo draw: each draw weighted alike (0.3 x 0.3 + 0.7 x 0.1 = 0.16;
+    # 0.3 x 0.4 + 0.7 x 0.2 = 0.26), an array back
+    drawn = tariff_price([np.array([0.30, 0.40]), np.array([0.10, 0.20])], [0.3, 0.7])
+    assert_allclose(drawn, [0.16, 0.26], rtol=1e-12)
 
 
 @pytest.mark.parametrize("changes, field", [

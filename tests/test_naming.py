@@ -17,7 +17,9 @@ def demo():
 
 @pytest.mark.parametrize("path, label", [
     ("classes[0].km_per_year", "Taxis: km per vehicle-year"),
-    ("classes.taxi.vehicle_spread", "Taxis: spread of fuel use between its vehicles"),
+    ("classes.taxi.vehicle_spread",
+     "Taxis: mean fuel energy per km of its vehicles (from their spread)"),
+    ("classes.taxi.calibration", "Taxis: fuel-card calibration factor"),
     ("candidates[1].efficiency_offset.bus",
      "Natural gas across the fleet · Shuttle buses: brake-efficiency offset"),
     ("candidates[0].aftertreatment.life", "LPG conversion of the taxis: catalyst life"),

@@ -263,7 +263,7 @@ time_s,speed_km_per_h
 def test_duty_upload_updates_study_stats_and_plot(app, tmp_path):
     duty = app.duty
     assert duty.plot is None  # made when its tab is first opened
-    app.tabs.selected_index = 2
+    app.tabs.selected_index = list(app.tabs.children).index(app.duty)
     assert duty.plot is not None and duty.plot in duty.children
     assert "distance [km]" in duty.stats.value
     _upload(duty.files.upload, "my shift.csv", TRACE)
@@ -383,6 +383,25 @@ def test_conversion_kind_picked_in_the_panel_reaches_the_study_and_the_warning(a
     assert "taxi: bi-fuel-si" in lpg.kinds.value
 
 
+def test_a_dual_fuel_candidate_s_pilot_is_picked_in_the_panel(app):
+    pilot = app.candidates.pilots["candidates[1].pilot_fuel"]
+    assert pilot.choice.disabled  # no dual-fuel class yet
+    app.candidates.conversions["candidates[1].conversion.van"].choice.value = "dual-fuel-ci"
+    assert not pilot.choice.disabled and "van: diesel" in pilot.note.value
+    fuel_use = app.state.result.fuel_use
+    assert set(fuel_use.query("candidate == 'cng-fleet'")["role"]) >= {"gas", "pilot"}
+    # another compression-ignition fuel of the library: written for the dual-fuel class only
+    # (the option's other classes are not dual fuel), its prices copied from diesel's
+    pilot.choice.value = "n-dodecane"
+    assert pilot.error.value == ""
+    assert app.study.get("candidates[1].pilot_fuel.van") == "n-dodecane"
+    assert app.study.get("prices.n-dodecane") == app.study.get("prices.diesel")
+    assert "van: n-dodecane" in pilot.note.value and "copied from diesel" in pilot.note.value
+    pilot.choice.value = "(the class's fuel today)"
+    assert pilot.error.value == "", pilot.error.value
+    assert "pilot_fuel" not in app.study.data["candidates"][1]
+
+
 def test_the_answer_is_on_top_in_the_report_s_words(app):
     from workbench.interfaces.report import SAFETY_CAUTION
     from workbench.interfaces.summary import verdicts
@@ -397,3 +416,57 @@ def test_the_answer_is_on_top_in_the_report_s_words(app):
     before = top.value
     app.economics.prices["lpg"].params["mode"].value = "0.70 per L"
     assert top.value != before
+
+
+def test_fleet_progress_bar_follows_the_vehicles(demo):
+    # The bar is driven by the (done, total) callback the terminal prints
+    # (workbench.study.fleet.Progress); a later, shorter run must not be clipped by the
+    # earlier one's count.
+    from workbench.interfaces.panels.app import FleetProgress
+    from workbench.interfaces.panels.state import StudyState
+
+    state = StudyState(demo, draws=0, run_now=False)
+    bar = FleetProgress(state)
+    assert bar.layout.display == "none"  # nothing run from logs yet
+    state._vehicle_done(3, 13)
+    assert (bar.bar.value, bar.bar.max, bar.bar.bar_style) == (3, 13, "info")
+    assert bar.label.value == "3 of 13 vehicles run" and bar.layout.display is None
+    state._vehicle_done(13, 13)
+    assert (bar.bar.value, bar.bar.bar_style) == (13, "success")
+    state._vehicle_done(2, 5)
+    assert (bar.bar.value, bar.bar.max) == (2, 5)
+    assert state.vehicle_progress == (2, 5)
+    assert FleetProgress(state).bar.value == 2  # a bar made later starts from the last report
+
+
+def test_fleet_progress_bar_during_a_study_run(tmp_path):
+    # A study whose taxis are a folder of logger files (a copy, so no cached run of the same
+    # files skips the work): each fleet run (one per map the class runs on) reports every
+    # vehicle, 1..13 of 13, to the panel's bar, in the state's own run.
+    import shutil
+
+    from workbench.core.paths import DATA
+    from workbench.interfaces.panels.app import FleetProgress
+    from workbench.interfaces.panels.state import StudyState
+    from workbench.io import demo_fleet
+
+    logs = tmp_path / "logs"
+    shutil.copytree(demo_fleet.DATA / "logs", logs)
+    text = (DATA / "studies" / "kestrel-bay.toml").read_text(encoding="utf-8")
+    text = text.replace('profile = "taxi-shift"', f'profile = "{logs.as_posix()}"', 1)
+    (tmp_path / "fleet.toml").write_text(text, encoding="utf-8")
+    state = StudyState(read_study(tmp_path / "fleet.toml"), draws=0, run_now=False)
+    bar = FleetProgress(state)
+    calls = []
+    state.on_vehicles(lambda done, total: calls.append((done, total)))
+    state.rerun()
+    assert calls and len(calls) % 13 == 0
+    assert calls == [(i, 13) for i in range(1, 14)] * (len(calls) // 13)
+    assert (bar.bar.value, bar.bar.max, bar.bar.bar_style) == (13, 13, "success")
+    assert bar.label.value == "13 of 13 vehicles run"
+
+
+def test_app_shows_the_fleet_progress_bar(app):
+    # the demo study runs no logs: the bar is in the app, hidden
+    assert app.fleet_progress in app.children
+    assert app.fleet_progress.layout.display == "none"

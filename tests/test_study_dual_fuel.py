@@ -102,8 +102,11 @@ def test_fuel_use_and_co2e_of_each_fuel_by_hand(dual):
     assert_allclose(gas["fuel_kg_per_100km"], gas["fuel_energy_mj_per_km"] / lhv * 100,
                     rtol=5e-3)
     m_gas = gas["fuel_kg_per_100km"] / 100  # [kg/km]
-    assert_allclose(gas["co2_ttw_g_per_km"], m_gas * co2_per_kg * 1e3, rtol=1e-4)
-    assert_allclose(gas["ch4_g_per_km"], SLIP * ch4_share * m_gas * 1e3, rtol=1e-4)
+    ch4 = SLIP * ch4_share * m_gas  # [kg/km] slipped unburnt
+    assert_allclose(gas["ch4_g_per_km"], ch4 * 1e3, rtol=1e-4)
+    # carbon balance: the slipped methane's carbon leaves as CH4, not as CO2
+    assert_allclose(gas["co2_ttw_g_per_km"], (m_gas * co2_per_kg - ch4 * CO2 / CH4) * 1e3,
+                    rtol=1e-4)
     assert_allclose(gas["co2e_ttw_g_per_km"],
                     gas["co2_ttw_g_per_km"] + GWP_CH4 * gas["ch4_g_per_km"], rtol=1e-9)
     # pilot diesel: the file's LHV 43.1 MJ/kg, density 835 kg/m3, carbon 0.862
@@ -137,6 +140,7 @@ def test_both_fuels_are_priced_with_the_carbon_on_both(dual):
 
 def test_the_defaults_table_lists_the_dual_fuel_defaults_with_sources(dual):
     d = dual.defaults.query("candidate == 'dual-bus' and vehicle_class == 'bus'")
+    assert not d["quantity"].duplicated().any()  # each default once
     rows = dict(zip(d["quantity"], d["value"], strict=True))
     assert rows["pilot fuel"] == "diesel"
     assert rows["methane slip"] == "3.00%"
@@ -146,6 +150,25 @@ def test_the_defaults_table_lists_the_dual_fuel_defaults_with_sources(dual):
     assert "engine-out NOx, dual fuel" in rows
     assert all(d["source"].str.len() > 0)
     assert dual.notices.empty  # a diesel map converted by its own kind: nothing to warn
+
+
+def test_a_given_slip_and_curve_are_inputs_not_defaults():
+    res = run(_dual_buses(methane_slip="2 %", gas_substitution={
+        "share_max": "50 %", "load_low": "10 %", "load_high": "50 %"}), draws=0)
+    d = res.defaults.query("candidate == 'dual-bus'")
+    assert not {"methane slip", "methane slip of the gas", "gas substitution curve",
+                "gas share at high load"} & set(d["quantity"])
+    # the kit's curve by hand over the duty histogram, as in the default-curve test
+    op = res.operating_points.query("candidate == 'dual-bus' and vehicle_class == 'bus'")
+    emap = read_map(DATA / "maps" / "bus-ci-4.5l.csv")
+    omega = op["engine_speed_rpm"].to_numpy() * 2 * np.pi / 60
+    torque = op["torque_nm"].to_numpy()
+    load = torque / np.interp(omega, emap.speed, emap.full_load_torque)
+    sigma = 0.5 * np.clip((load - 0.1) / (0.5 - 0.1), 0.0, 1.0)
+    fuel = torque * omega * op["hours"].to_numpy() / op["brake_efficiency"].to_numpy()
+    fu = res.fuel_use.set_index(["candidate", "vehicle_class", "role"])
+    assert_allclose(fu.loc[("dual-bus", "bus", "gas"), "energy_share"],
+                    np.sum(sigma * fuel) / np.sum(fuel), rtol=2e-3)
 
 
 def test_lpg_as_the_gas_slips_no_methane_and_keeps_the_diesel_energy():
@@ -191,6 +214,17 @@ def test_a_missing_diesel_price_names_the_key_to_add():
     ({"pilot_fuel": "natural-gas"}, "candidates[0].pilot_fuel", "diesel-like pilot"),
     ({"conversion": "dedicated-si", "pilot_fuel": "diesel"}, "candidates[0].pilot_fuel",
      "dual-fuel-ci"),
+    ({"conversion": "dedicated-si", "gas_substitution": {"share_max": "50 %"}},
+     "candidates[0].gas_substitution", "dual-fuel-ci"),
+    ({"gas_substitution": "60 %"}, "candidates[0].gas_substitution", "give a table"),
+    ({"gas_substitution": {"share": "50 %"}}, "candidates[0].gas_substitution.share",
+     "unknown key"),
+    ({"gas_substitution": {"share_max": "100 %"}}, "candidates[0].gas_substitution.share_max",
+     "less than 100 %"),
+    ({"gas_substitution": {"load_low": "70 %"}}, "candidates[0].gas_substitution.load_low",
+     "must rise"),
+    ({"gas_substitution": {"load_high": "12 rpm"}},
+     "candidates[0].gas_substitution.load_high", ""),
 ])
 def test_bad_dual_fuel_options_are_refused_in_one_line(extra, where, words):
     with pytest.raises(InputError) as err:

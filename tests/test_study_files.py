@@ -152,7 +152,7 @@ def test_run_opens_no_file(monkeypatch):
                          (Path, "read_text")):
         monkeypatch.setattr(target, name, refuse)
     result = run(study, draws=10)
-    assert len(result.candidates) == 3
+    assert len(result.candidates) == 4
 
 
 # ----------------------------------------------------------------------------- resolution

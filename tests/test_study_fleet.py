@@ -55,12 +55,30 @@ def test_class_energy_is_the_fleet_aggregate(fleet_study, result):
 def test_study_says_how_many_vehicles_were_used(result):
     note = result.assumptions["vehicle logs, Taxis"]  # the class's name, as the report shows
     assert note.startswith("12 of 13 vehicles used")
-    assert "KB-T13.csv row" in note and "spread between the class's vehicles" in note
+    assert "KB-T13.csv row" in note and "uncertainty of the class mean" in note
+
+
+def test_the_class_mean_is_drawn_with_its_standard_error(fleet_study, result):
+    # The Monte Carlo factor's sd is the standard error of the km-weighted mean over the
+    # mean (docs/fleet-logs.md: the programme converts the whole class), which is the
+    # between-vehicle spread shrunk by about sqrt(effective vehicles); checked by hand on
+    # three vehicles in tests/test_fleet.py.
+    from workbench.study import runner
+
+    plan, _ = runner._plan(fleet_study.inputs)
+    agg = plan.physics[fleet_study.inputs.baseline.id, "taxi"].duty.fleet.aggregate
+    dist = runner._vehicle_spread(plan)["classes.taxi.vehicle_spread"]
+    assert dist.kind == "normal" and dist.mean == 1.0
+    assert_allclose(dist.sd, agg.mean_se_per_m / agg.energy_per_m, rtol=1e-12)
+    # narrower than one vehicle's spread (what was drawn before, about P10-P90 / 2.56)
+    per_vehicle_sd = np.std(result.vehicles["fuel_energy_mj_per_km"], ddof=1) * 1e3
+    assert dist.sd * agg.energy_per_m < 0.5 * per_vehicle_sd
+    assert 1.0 < agg.effective_vehicles <= agg.vehicles
 
 
 def test_spread_between_vehicles_widens_the_monte_carlo(fleet_study, result, monkeypatch):
-    # The same study with the spread drawn and without (draws=400 both, same seed): the
-    # spread adds variance to each candidate's NPV (a normal factor with sd > 0 on fuel).
+    # The same study with the class mean's uncertainty drawn and without (draws=400 both,
+    # same seed): it adds variance to each candidate's NPV (a normal factor, sd > 0, on fuel).
     mc = result.monte_carlo
     assert len(mc) > 0
     from workbench.study import runner

@@ -204,6 +204,19 @@ def progress(args: argparse.Namespace) -> Callable[[str], None] | None:
     return say
 
 
+def print_vehicles(done: int, total: int) -> None:
+    """Fleet progress on standard error, ``vehicles 7/13`` rewritten in place: the
+    ``(done, total)`` callback of ``workbench.study.fleet.Progress``."""
+    print(f"\rvehicles {done}/{total}", end="\n" if done == total else "", file=sys.stderr,
+          flush=True)
+
+
+def vehicle_progress(args: argparse.Namespace) -> Callable[[int, int], None] | None:
+    """:func:`print_vehicles` where :func:`progress` prints (a terminal, no ``--quiet``), else
+    None: the vehicles of a study's fleet runs as they finish."""
+    return print_vehicles if progress(args) is not None else None
+
+
 def read_bytes_arg(ref: str, option: str) -> bytes:
     """The bytes of standard input, for a file argument given as ``-``.
 

@@ -89,8 +89,43 @@ LABELS = {
     "fills": "fuel-card fills", "card_km": "distance on the cards [km]",
     "observed_mj_per_km": "observed fuel energy [MJ/km]",
     "modelled_mj_per_km": "modelled fuel energy [MJ/km]",
+    "residual_mj_per_km": "residual, observed − calibrated model [MJ/km]",
     "rms_residual_mj_per_km": "RMS residual per vehicle [MJ/km]",
+    "energy_kwh_per_km": "energy bought [kWh/km]",
+    "capacity_kwh": "battery capacity, new [kWh]", "pack_mass_kg": "battery mass [kg]",
+    "added_mass_kg": "mass added, battery less powertrain saved [kg]",
+    "payload_loss_kg": "payload lost to the battery [kg]",
+    "payload_kg": "payload of the vehicle file [kg]",
+    "battery_kwh_per_km": "energy from the battery [kWh/km]",
+    "regen_share_of_braking": "braking energy regenerated [%]",
+    "peak_power_kw": "peak battery power [kW]", "charging_power_kw": "charging power [kW]",
+    "charging_hours": "time to recharge the range [h]",
+    "charging_window_h": "charging window [h]", "charging_fits": "recharge fits the window",
+    "charging_message": "charging note",
+    "capital": "capital [{cur}]", "grants": "grants [{cur}]",
+    "financing": "financing, repayments less borrowing [{cur}]",
+    "loan_balance": "loan balance settled [{cur}]", "fuel_tax": "fuel tax paid [{cur}]",
+    "fuel_tax_vs_baseline": "fuel tax vs baseline [{cur}]",
+    "converted_share": "share converted that year [%]",
+    "vehicles_converted": "vehicles converted that year",
+    "running_converted_share": "share running converted [%]",
+    "loan_share": "share borrowed [%]", "loan_rate": "loan rate [%]",
+    "loan_term_years": "loan term [years]",
+    "loan_balance_at_horizon": "loan balance settled at the horizon [{cur}]",
+    "fuel_tax_paid": "fuel tax paid over the programme [{cur}]",
+    "fuel_tax_change_pv": "tax revenue change vs baseline, present value [{cur}]",
+    "kind": "station", "location": "where", "classes": "serves",
+    "daily_fuel_kg": "fuel a day [kg]", "daily_fuel_l": "fuel a day [L]",
+    "fills_per_day": "fills a day", "window_h": "refuelling window [h]",
+    "compressor_kg_per_h": "compressor [kg/h]", "compressor_sm3_per_h": "compressor [Sm3/h]",
+    "buffer_m3": "buffer storage, water volume [m3]", "tank_m3": "tank, water volume [m3]",
+    "dispensers": "dispensers", "upkeep_per_year": "upkeep per year [{cur}]",
+    "lost_hours_per_year": "vehicle hours lost a year [h]",
+    "lost_time_cost_per_year": "cost of the hours lost a year [{cur}]",
 }
+#: Words for a station's kind and location.
+STATION_WORDS = {"cng": "compressed gas (CNG)", "lpg": "liquefied gas (LPG)",
+                 "depot": "at the depot", "off-depot": "off the depot"}
 #: Titles of the result tables for a reader.
 TABLE_TITLES = {
     "candidates": "Options over the whole programme", "per_km": "Options per vehicle class",
@@ -106,10 +141,14 @@ TABLE_TITLES = {
     "class_decisions": "Each class converted on its own", "best_mix": "Best mix by class",
     "vehicles": "Each vehicle of a class run from its logs",
     "calibration": "The model against the fuel cards",
+    "battery": "Battery-electric options: pack, payload and charging",
+    "programme_years": "Capital, grants, financing and fuel tax by year",
+    "phasing": "Conversions by year", "funding": "Grants, loans and fuel tax",
+    "stations": "Refuelling stations",
 }
-_PERCENT = re.compile(r"^(p_|share_)|_share$|efficiency$")
+_PERCENT = re.compile(r"^(p_|share_)|_share$|efficiency$|^loan_rate$")
 _WHOLE = frozenset({"year", "month", "replacements", "catalyst_replacements", "draw",
-                    "vehicles", "fills"})
+                    "vehicles", "fills", "dispensers", "loan_term_years"})
 
 
 def column_label(column: str, currency: str) -> str:
@@ -230,6 +269,11 @@ def reader_table(name: str, result: StudyResult, table: pd.DataFrame | None = No
         t["vehicle_class"] = t["vehicle_class"].map(names.vehicle_class)
     if "fuel" in t:
         t["fuel"] = t["fuel"].map(lambda f: " / ".join(names.fuel(x) for x in str(f).split("/")))
+    if name == "stations":
+        t["classes"] = t["classes"].map(
+            lambda ids: ", ".join(names.vehicle_class(x) for x in str(ids).split(", ")))
+        for column in ("kind", "location"):
+            t[column] = t[column].map(lambda w: STATION_WORDS.get(w, w))
     records = t.to_dict("records")
     shown = [c for c in t.columns if c not in HIDDEN]
     return pd.DataFrame({column_label(c, result.currency):

@@ -31,8 +31,13 @@ import workbench
 from workbench.core.text import escape_html as _esc
 from workbench.core.text import sha256_hex
 from workbench.interfaces.charts import MapSource, all_figures
-from workbench.interfaces.present import TABLE_TITLES, reader_table, side_by_side
-from workbench.interfaces.summary import best_mix_text, best_option, verdicts
+from workbench.interfaces.present import TABLE_TITLES, reader_table, side_by_side, significant
+from workbench.interfaces.summary import (
+    best_mix_text,
+    best_option,
+    programme_lines,
+    verdicts,
+)
 from workbench.io.files import check_target, write_text_atomic
 from workbench.study.results import RunMap, StudyResult, notice_lines
 from workbench.study.runner import run_maps
@@ -44,6 +49,12 @@ SAFETY_CAUTION = (
     "fitting and periodic inspection must be done by licensed installers and workshops, and "
     "local codes and type-approval rules decide what is allowed. Every figure in this report "
     "is an estimate from models and assumed inputs, not a measurement or a guarantee."
+)
+#: The caution added when an option runs on traction batteries.
+BATTERY_CAUTION = (
+    "Traction batteries and depot chargers are high-voltage equipment: their installation, "
+    "servicing, garaging and fire precautions are for trained and licensed people, and local "
+    "electrical, building and fire codes decide what is allowed."
 )
 
 #: The line shown when the study says its data are invented.
@@ -253,11 +264,21 @@ def _caveats(result: StudyResult) -> str:
                      f"{result.names.vehicle_class(r['vehicle_class'])}: "
                      f"{r['share_out_of_map']:.0%} of the time runs outside the engine map; "
                      "its fuel use there is an extrapolation.")
+    for _, r in result.battery.iterrows():
+        where = (f"{result.names.candidate(r['candidate'])}, "
+                 f"{result.names.vehicle_class(r['vehicle_class'])}: ")
+        if r["charging_message"]:
+            items.append(where + r["charging_message"] + ".")
+        if r["payload_loss_kg"] > r["payload_kg"]:
+            items.append(where + f"the battery takes {significant(r['payload_loss_kg'])} kg of "
+                         f"payload, more than the {significant(r['payload_kg'])} kg carried "
+                         "today.")
     if result.fictional:
         items.insert(0, DEMO_NOTICE)
     lis = "".join(f"<li>{_esc(i)}</li>" for i in items)
+    caution = SAFETY_CAUTION + (" " + BATTERY_CAUTION if len(result.battery) else "")
     return (f"<ul>{lis}</ul><p class=\"caution\" id=\"safety\"><strong>Safety:</strong> "
-            f"{SAFETY_CAUTION}</p>")
+            f"{caution}</p>")
 
 
 def _data(result: StudyResult, study_text: str) -> str:
@@ -299,6 +320,31 @@ def _decisions_html(result: StudyResult) -> str:
             "programme costs (station, workshop); the mix counts those of each candidate it "
             "uses once.</p>"
             f'<div class="scroll">{_table_html(reader_table("class_decisions", result))}</div>')
+
+
+def _battery_html(result: StudyResult) -> str:
+    """The battery-electric options' packs, payload loss and charging check (none: empty)."""
+    if result.battery.empty:
+        return ""
+    return ('<h3 id="battery">Battery-electric options: pack, payload and charging</h3>'
+            "<p>Each pack is sized for the range at the end of its life on the class's own "
+            "duty, carrying its own mass; the payload lost is the pack's mass less the "
+            "combustion powertrain it replaces.</p>"
+            f'<div class="scroll">{_table_html(reader_table("battery", result))}</div>')
+def programme_html(result: StudyResult) -> str:
+    """The programme's phasing, grants, loans, fuel tax and stations as HTML (report and
+    panels); empty when the study has none of them."""
+    lines = "".join(f"<li>{_esc(line)}</li>" for line in programme_lines(result))
+    out = f'<ul id="programme-lines">{lines}</ul>' if lines else ""
+    if not result.stations.empty:
+        out += ('<h3>Refuelling stations</h3><div class="scroll" id="stations-table">'
+                f'{_table_html(reader_table("stations", result))}</div>'
+                '<p class="caution">Station sizes are screening estimates for the cost: '
+                "compressors, high-pressure storage and LPG tanks are designed, installed and "
+                "inspected by licensed practitioners, and local codes decide what a depot may "
+                "hold.</p>")
+    return out or "<p>Every conversion is in year 0, paid upfront, with no grant, fuel tax " \
+        "or station.</p>"
 
 
 def _notices_html(result: StudyResult) -> str:
@@ -371,6 +417,7 @@ def html_report(
 <li><a href="#job">The question</a></li>
 <li><a href="#results">Results side by side</a></li>
 <li><a href="#classes">A decision per class</a></li>
+<li><a href="#programme">Phasing, funding and refuelling</a></li>
 <li><a href="#defaults">Defaults the run applied</a></li>
 <li><a href="#charts">Charts</a></li>
 <li><a href="#inputs">Inputs and assumptions</a></li>
@@ -386,8 +433,11 @@ def html_report(
 <div class="scroll">{side}</div>
 <h3>Per vehicle class</h3>
 {per_class}
+{_battery_html(result)}
 <h2 id="classes">A decision per class</h2>
 {_decisions_html(result)}
+<h2 id="programme">Phasing, funding and refuelling</h2>
+{programme_html(result)}
 <h2 id="defaults">Defaults the run applied</h2>
 {_notices_html(result)}
 {defaults_html(result)}

@@ -42,7 +42,8 @@ class Verdict:
     breakeven : str
         The values at which the verdict would change (NPV zero), where they exist.
     per_class : tuple of str
-        Per vehicle class: cost per km and emissions against the baseline.
+        Per vehicle class: cost per km and emissions against the baseline (a
+        battery-electric class: its pack, grid energy per km and the payload it costs).
     raises_emissions : bool
         The option raises CO2e or NOx against the baseline.
     """
@@ -122,7 +123,8 @@ def verdicts(result: StudyResult) -> list[Verdict]:
 
 
 def _amount(value: float, unit: str) -> str:
-    return f"{significant(value)} {unit}".strip()
+    """A value with its unit; a dimensionless ``-`` (a factor) is not written after it."""
+    return f"{significant(value)} {'' if unit == '-' else unit}".strip()
 
 
 def _drivers(result: StudyResult, cid: str) -> str:
@@ -161,8 +163,15 @@ def _per_class(result: StudyResult, cid: str) -> tuple[str, ...]:
         cost, _ = _change(c["cost_per_km"], b["cost_per_km"], f"{result.currency}/km")
         co2, _ = _change(c["co2e_wtw_g_per_km"], b["co2e_wtw_g_per_km"], "g/km")
         nox, _ = _change(c["nox_g_per_km"], b["nox_g_per_km"], "g/km")
+        bat = result.battery[(result.battery["candidate"] == cid)
+                             & (result.battery["vehicle_class"] == vclass)]
+        pack = "" if bat.empty else (
+            f" Battery {significant(bat['capacity_kwh'].iloc[0])} kWh, "
+            f"{significant(bat['energy_kwh_per_km'].iloc[0])} kWh/km from the grid, payload "
+            f"lost {significant(bat['payload_loss_kg'].iloc[0])} kg.")
         lines.append(f"{result.names.vehicle_class(vclass)} on "
-                     f"{result.names.fuel(c['fuel'])}: cost {cost}, CO2e {co2}, NOx {nox}.")
+                     f"{result.names.fuel(c['fuel'])}: cost {cost}, CO2e {co2}, NOx {nox}."
+                     + pack)
     return tuple(lines)
 
 
@@ -192,3 +201,46 @@ def best_mix_text(result: StudyResult) -> str:
             "of draws)")
     return (f"Best choice per class — {'; '.join(parts)}: NPV "
             f"{money(r['npv_vs_baseline'], result.currency, signed=True)}{band}.")
+
+
+def programme_lines(result: StudyResult) -> list[str]:
+    """The programme's phasing, grants, loans and fuel tax in words, one line each.
+
+    Parameters
+    ----------
+    result : StudyResult
+        The result (its ``phasing`` and ``funding`` tables).
+
+    Returns
+    -------
+    list of str
+        A line per class converted over several years, and per candidate with grants, a loan
+        or fuel tax; empty when there is none.
+    """
+    names, cur = result.names, result.currency
+    lines = []
+    for (cand, vc), rows in result.phasing.groupby(["candidate", "vehicle_class"], sort=False):
+        done = rows[rows["vehicles_converted"] > 0]
+        if len(done) > 1:
+            parts = ", ".join(f"{significant(float(r.vehicles_converted))} in {int(r.year)}"
+                              for r in done.itertuples(index=False))
+            lines.append(f"{names.candidate(cand)} converts {names.vehicle_class(vc)} over "
+                         f"{len(done)} years ({parts}); until converted they run as the "
+                         "baseline runs them.")
+    for r in result.funding.itertuples(index=False):
+        name = names.candidate(r.candidate)
+        if r.grants > 0:
+            lines.append(f"{name}: grants of {money(r.grants, cur)} towards "
+                         f"{money(r.capital, cur)} of capital, received in the years paid.")
+        if not math.isnan(r.loan_share):
+            owed = (f"{money(r.loan_balance_at_horizon, cur)} still owed at the horizon is "
+                    "settled in the last year" if r.loan_balance_at_horizon > 0
+                    else "repaid within the horizon")
+            lines.append(f"{name}: borrows {percent(r.loan_share)} of its capital at "
+                         f"{percent(r.loan_rate)} over {int(r.loan_term_years)} years; {owed}.")
+        if r.fuel_tax_paid > 0 or r.fuel_tax_change_pv != 0:
+            lines.append(f"{name}: pays {money(r.fuel_tax_paid, cur)} of fuel tax over the "
+                         "programme (in its NPV); a public client's tax revenue changes by "
+                         f"{money(r.fuel_tax_change_pv, cur, signed=True)} against the "
+                         "baseline (present value).")
+    return lines

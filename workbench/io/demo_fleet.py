@@ -6,7 +6,11 @@ loggers do: irregular sampling (about 1 sample in 6 skipped, timestamps jittered
 noise of 1 km/h, a few spikes, a few signal dropouts of 5–20 minutes, repeated rows, an
 altitude column and a text column. Vehicle 7's logger reports mph with ``;`` separators and
 decimal commas; vehicle 13's file is broken (a row of text where the speed should be). Fuel
-cards record a fill every few days: litres and the odometer, from an invented consumption.
+cards record a fill every few days: litres and the odometer. The litres are the model's own
+consumption of each vehicle's clean shifts (the demo study's taxi: its vehicle, map, fuel and
+settings, :data:`MODEL`) times an invented factor, :data:`INVENTED_CARD_FACTOR`, with invented
+scatter per vehicle and per fill — so the demo's fuel-card calibration should find about that
+factor.
 
 ``python -m workbench.io.demo_fleet DIR [--vehicles 40] [--days 14] [--parquet]`` writes a
 fleet; :func:`write_demo_fleet` with ``small=True`` wrote the example shipped in
@@ -16,22 +20,30 @@ fleet; :func:`write_demo_fleet` with ``small=True`` wrote the example shipped in
 from __future__ import annotations
 
 import argparse
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
 import pandas as pd
 
 from workbench.io.demo_profiles import taxi_shift
-from workbench.models.duty import DutyTrace
+from workbench.models.duty import DutySettings, DutyTrace
 
 DATA = Path(__file__).resolve().parents[1] / "data" / "fleet"
 #: First day of the invented logs (UTC).
 START = pd.Timestamp("2026-03-02T00:00:00")
 #: The vehicle whose logger reports mph (semicolons, decimal commas) and the broken one.
 MPH_VEHICLE, BROKEN_VEHICLE = 7, 13
-#: Invented fuel use of the fleet's taxis, litres of gasoline per 100 km (mean, spread).
-INVENTED_L_PER_100KM = (6.6, 0.5)
+#: Invented ratio of the fuel the demo taxis buy to what the model says they burn [-].
+INVENTED_CARD_FACTOR = 1.04
+#: Invented scatter of the cards, relative standard deviations [-]: each vehicle's own
+#: deviation from the model (driver, tyres), and each fill's (tank not topped up exactly).
+INVENTED_VEHICLE_SD, INVENTED_FILL_SD = 0.03, 0.05
+#: The model the cards are made from: vehicle, map and fuel names of the demo study's taxi
+#: class (``workbench/data/studies/kestrel-bay.toml``) ...
+MODEL = ("taxi", "taxi-si-1.8l", "gasoline")
+#: ... and its duty settings there (accessory_power 1.5 kW, extra_idle_share 0.15).
+MODEL_SETTINGS = DutySettings(accessory_power=1500.0, extra_idle_share=0.15)
 _NOTE = ("# INVENTED demo logger export of the fictional Kestrel Bay taxi fleet; not measured.\n"
          "# Made by workbench.io.demo_fleet (seeded); see docs/fleet-logs.md.\n")
 
@@ -46,19 +58,25 @@ class DemoFleet:
         Folder of logger files, one per vehicle.
     fuel_cards : pathlib.Path
         Fuel-card CSV of all vehicles.
+    model_l_per_km : dict of str to float
+        By vehicle id, the model's fuel on its clean shifts (before the logger's noise, gaps
+        and spikes) that its fills were made from, before the invented factor [L/km].
     """
 
     logs: Path
     fuel_cards: Path
+    model_l_per_km: dict[str, float] = field(default_factory=dict)
 
 
 def _vehicle_log(rng: np.random.Generator, days: int, shift_hours: float,
-                 pool: list[DutyTrace]) -> pd.DataFrame:
-    """One vehicle's raw samples: times [s from START], speed [m/s], altitude [m]."""
-    parts = []
+                 pool: list[DutyTrace]) -> tuple[pd.DataFrame, list[DutyTrace]]:
+    """One vehicle's raw samples (times [s from START], speed [m/s], altitude [m]) and the
+    clean shifts they were made from."""
+    parts, shifts = [], []
     for day in range(days):
         trace = (pool[int(rng.integers(len(pool)))] if pool else
                  taxi_shift(seed=int(rng.integers(1 << 30)), hours=shift_hours))
+        shifts.append(trace)
         start = day * 86400.0 + 3600.0 * rng.uniform(5.0, 9.0)
         t = start + trace.time
         dist = np.concatenate(([0.0], np.cumsum(np.diff(trace.time) * 0.5
@@ -79,13 +97,48 @@ def _vehicle_log(rng: np.random.Generator, days: int, shift_hours: float,
         dup = rng.integers(0, t.size, 5)
         order = np.sort(np.concatenate((np.arange(t.size), dup)))
         parts.append(pd.DataFrame({"t": t[order], "v": v[order], "alt": alt[order]}))
-    return pd.concat(parts, ignore_index=True)
+    return pd.concat(parts, ignore_index=True), shifts
 
 
-def _fills(rng: np.random.Generator, vid: str, km_per_day: float, days: int
-           ) -> list[dict[str, object]]:
-    mean, sd = INVENTED_L_PER_100KM
-    rate = rng.normal(mean, sd)
+class _Model:
+    """The demo study's taxi model (:data:`MODEL`, :data:`MODEL_SETTINGS`): litres of fuel
+    per km of a vehicle's clean shifts, each shift run once."""
+
+    def __init__(self) -> None:
+        from workbench.core.fuels import load_fuel
+        from workbench.io.demo_profiles import DATA as SHIPPED
+        from workbench.io.maps import read_map
+        from workbench.io.vehicles import read_vehicle
+        from workbench.models.combustion import fuel_sheet
+
+        vehicle, engine_map, fuel = MODEL
+        self.vehicle = read_vehicle(SHIPPED / "vehicles" / f"{vehicle}.toml")
+        self.engine_map = read_map(SHIPPED / "maps" / f"{engine_map}.csv")
+        gas = load_fuel(fuel)
+        self.joules_per_litre = fuel_sheet(gas).lhv_mass * gas.liquid_density * 1e-3
+        self._runs: dict[int, tuple[float, float]] = {}
+
+    def litres_per_km(self, shifts: list[DutyTrace]) -> float:
+        """Model fuel over model distance of the shifts [L/km]."""
+        from workbench.models.engine import run_duty
+
+        fuel = distance = 0.0
+        for trace in shifts:
+            if id(trace) not in self._runs:
+                e = run_duty(trace, self.vehicle, self.engine_map,
+                             settings=MODEL_SETTINGS).energy
+                self._runs[id(trace)] = (e.fuel_energy, e.distance)
+            fuel += self._runs[id(trace)][0]
+            distance += self._runs[id(trace)][1]
+        return fuel / self.joules_per_litre / (distance / 1e3)
+
+
+def _fills(rng: np.random.Generator, scatter: np.random.Generator, vid: str,
+           km_per_day: float, days: int, litres_per_km: float) -> list[dict[str, object]]:
+    """Fills every 2-4 days: the model's litres times the invented factor and scatter (the
+    vehicle's from ``rng``, each fill's from ``scatter``, so the logs drawn after it from
+    ``rng`` stay as they were)."""
+    rate = litres_per_km * INVENTED_CARD_FACTOR * rng.normal(1.0, INVENTED_VEHICLE_SD)
     odometer = float(rng.uniform(40_000, 160_000))
     rows = []
     day = 0.0
@@ -94,8 +147,9 @@ def _fills(rng: np.random.Generator, vid: str, km_per_day: float, days: int
         km = km_per_day * gap * rng.uniform(0.85, 1.15)
         day += gap
         odometer += km
+        litres = km * rate * scatter.normal(1.0, INVENTED_FILL_SD)
         rows.append({"date": (START + pd.Timedelta(days=day)).strftime("%Y-%m-%d"),
-                     "vehicle": vid, "litres": round(km * rate / 100.0, 2),
+                     "vehicle": vid, "litres": round(litres, 2),
                      "odometer_km": round(odometer)})
     return rows
 
@@ -133,15 +187,19 @@ def write_demo_fleet(directory: str | Path, *, vehicles: int = 40, days: int = 1
     logs = out / "logs"
     logs.mkdir(parents=True, exist_ok=True)
     rng = np.random.default_rng(seed)
+    scatter = np.random.default_rng([seed, 1])
+    model = _Model()
     pool = [taxi_shift(seed=seed * 1000 + i, hours=shift_hours) for i in range(shift_pool)]
     cards: list[dict[str, object]] = []
+    modelled: dict[str, float] = {}
     for k in range(1, vehicles + 1):
         vid = f"KB-T{k:02d}"
-        raw = _vehicle_log(rng, days, shift_hours, pool)
+        raw, shifts = _vehicle_log(rng, days, shift_hours, pool)
         stamps = START + pd.to_timedelta(raw["t"], unit="s")
         km_per_day = float(np.sum(np.diff(raw["t"]).clip(0, 60)
                                   * raw["v"].to_numpy()[1:])) / days / 1e3
-        cards += _fills(rng, vid, km_per_day, card_days or days)
+        modelled[vid] = model.litres_per_km(shifts)
+        cards += _fills(rng, scatter, vid, km_per_day, card_days or days, modelled[vid])
         if parquet:
             frame = pd.DataFrame({"timestamp": stamps, "speed_km_per_h": raw["v"] * 3.6,
                                   "altitude_m": raw["alt"]})
@@ -171,7 +229,7 @@ def write_demo_fleet(directory: str | Path, *, vehicles: int = 40, days: int = 1
     pd.DataFrame(cards).to_csv(cards_path, index=False)
     text = cards_path.read_text(encoding="utf-8")
     cards_path.write_text(_NOTE + text, encoding="utf-8")
-    return DemoFleet(logs=logs, fuel_cards=cards_path)
+    return DemoFleet(logs=logs, fuel_cards=cards_path, model_l_per_km=modelled)
 
 
 def write_shipped_example(directory: Path = DATA) -> DemoFleet:

@@ -18,7 +18,7 @@ memory). The residual of each vehicle is its observed energy per km minus ``k m_
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 
 import numpy as np
@@ -153,6 +153,24 @@ class Calibration:
     modelled_per_m: float
     residuals: pd.DataFrame
     rms_residual_per_m: float
+
+    def per_vehicle(self, vehicles: Sequence[str]) -> pd.DataFrame:
+        """Observed fuel energy per km and residual of the given vehicles, in their order.
+
+        Parameters
+        ----------
+        vehicles : sequence of str
+            Vehicle ids (e.g. the rows of a per-vehicle table).
+
+        Returns
+        -------
+        pandas.DataFrame
+            ``observed_mj_per_km`` and ``residual_mj_per_km`` (observed minus the calibrated
+            model, ``k m_i``) [MJ/km], one row per id; NaN for a vehicle not in the fit.
+        """
+        cols = ["observed_mj_per_km", "residual_mj_per_km"]
+        return (self.residuals.set_index("vehicle")[cols]
+                .reindex(pd.Index(list(vehicles), dtype=object)).reset_index(drop=True))
 
 
 def calibrate(observed: Mapping[str, ObservedUse], modelled_per_m: Mapping[str, float], *,

@@ -50,6 +50,8 @@ AIR_MODELS: dict[str, dict[str, float]] = {
 K_WATER_GAS_SHIFT = 3.5
 #: Molar mass of CO2 [kg/kmol].
 M_CO2 = thermo.molar_mass({"C": 1, "O": 2})
+#: Molar mass of methane [kg/kmol].
+M_CH4 = thermo.molar_mass({"C": 1, "H": 4})
 M_H2O = thermo.molar_mass({"H": 2, "O": 1})
 
 

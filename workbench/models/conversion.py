@@ -17,7 +17,7 @@ the methane slip:
     :func:`dedicated_si_map`.
 ``dual-fuel-ci``
     A diesel engine that still ignites by compression on a diesel pilot while gas supplies a
-    share of the energy that grows with load (:func:`substitution_share`), with methane slip
+    share of the energy that grows with load (:class:`Substitution`), with methane slip
     from the lean premixed gas (:func:`dual_fuel_map`).
 
 Everything here is a screening model from a published parametric engine model, not an engine
@@ -36,7 +36,7 @@ air); from memory.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Literal
 
 import numpy as np
@@ -44,8 +44,8 @@ import numpy as np
 from workbench.core.constants import ATMOSPHERE, GAS_CONSTANT, RPM
 from workbench.core.errors import InputError
 from workbench.core.fuels import Fuel
-from workbench.models.combustion import FuelSheet
-from workbench.models.engine import DutyRun, EngineMap
+from workbench.models.combustion import M_CH4, M_CO2, FuelSheet
+from workbench.models.engine import DutyRun, EngineMap, FuelPerDistance
 
 Regime = Literal["spark-ignition", "compression-ignition", "lean-burn-gas"]
 KindName = Literal["none", "bi-fuel-si", "dedicated-si", "dual-fuel-ci"]
@@ -465,39 +465,68 @@ def dedicated_si_map(
     return DerivedMap(emap, params)
 
 
-#: The dual-fuel substitution curve (:func:`substitution_share`): gas share of the fuel energy
-#: at and above ``GAS_LOAD_HIGH`` [-], and the loads (torque over full-load torque) where
+#: The dual-fuel substitution curve (:class:`Substitution`): gas share of the fuel energy at
+#: and above ``GAS_LOAD_HIGH`` [-], and the loads (torque over full-load torque) where
 #: substitution starts and where it reaches that share [-]; ``KINDS["dual-fuel-ci"].source``.
 GAS_SHARE_MAX, GAS_LOAD_LOW, GAS_LOAD_HIGH = 0.6, 0.2, 0.6
 
 
-def substitution_share(load: np.ndarray, *, share_max: float = GAS_SHARE_MAX,
-                       load_low: float = GAS_LOAD_LOW, load_high: float = GAS_LOAD_HIGH
-                       ) -> np.ndarray:
-    """Share of fuel energy from gas in a dual-fuel diesel at a load [-].
+@dataclass(frozen=True)
+class Substitution:
+    """The share of a dual-fuel diesel's fuel energy that comes from gas, against load.
 
-    Parameters
+    Attributes
     ----------
-    load : array_like
-        Torque over full-load torque at that speed [-].
     share_max : float
-        Gas share at and above ``load_high`` [-].
+        Gas share at and above ``load_high`` [-], in [0, 1).
     load_low, load_high : float
-        Loads at which substitution starts and reaches ``share_max`` [-].
-
-    Returns
-    -------
-    numpy.ndarray
-        0 below ``load_low``, linear up to ``share_max`` at ``load_high``, held above: at low
-        load the premixed gas charge is too lean to burn well, so controllers run on diesel
-        (common practice, from memory).
+        Loads (torque over full-load torque) at which substitution starts and reaches
+        ``share_max`` [-], ``0 <= load_low < load_high <= 1``.
     """
-    x = (np.asarray(load, dtype=float) - load_low) / (load_high - load_low)
-    return share_max * np.clip(x, 0.0, 1.0)
+
+    share_max: float = GAS_SHARE_MAX
+    load_low: float = GAS_LOAD_LOW
+    load_high: float = GAS_LOAD_HIGH
+
+    def __post_init__(self) -> None:
+        if not 0.0 <= self.share_max < 1.0:
+            raise InputError("share_max", f"the gas share at high load is {self.share_max:.0%}; "
+                             "give 0 or more and less than 100 %: the pilot always burns "
+                             "some diesel")
+        if not 0.0 <= self.load_low < self.load_high <= 1.0:
+            raise InputError("load_low", f"loads {self.load_low:.0%} then {self.load_high:.0%} "
+                             "must rise: 0 <= load_low < load_high <= 100 %")
+
+    def share(self, load: np.ndarray) -> np.ndarray:
+        """Gas share of the fuel energy at a load [-].
+
+        Parameters
+        ----------
+        load : array_like
+            Torque over full-load torque at that speed [-].
+
+        Returns
+        -------
+        numpy.ndarray
+            0 below ``load_low``, linear up to ``share_max`` at ``load_high``, held above: at
+            low load the premixed gas charge is too lean to burn well, so controllers run on
+            diesel (common practice, from memory).
+        """
+        x = (np.asarray(load, dtype=float) - self.load_low) / (self.load_high - self.load_low)
+        return self.share_max * np.clip(x, 0.0, 1.0)
+
+    def describe(self) -> str:
+        """The curve in words, in per cent."""
+        return (f"0 below {self.load_low * 100:g} % load, rising linearly to "
+                f"{self.share_max * 100:g} % at {self.load_high * 100:g} % load and above")
+
+
+#: The kind's own curve.
+DEFAULT_SUBSTITUTION = Substitution()
 
 
 def dual_fuel_map(diesel: EngineMap, *, methane_slip: float = 0.03,
-                  share_max: float = GAS_SHARE_MAX) -> DerivedMap:
+                  curve: Substitution = DEFAULT_SUBSTITUTION) -> DerivedMap:
     """The map of a dual-fuel diesel: the diesel's, less the energy of the gas that slips.
 
     Parameters
@@ -506,8 +535,8 @@ def dual_fuel_map(diesel: EngineMap, *, methane_slip: float = 0.03,
         The diesel engine's map.
     methane_slip : float
         Share of the gas leaving unburnt [-].
-    share_max : float
-        Gas energy share at high load [-].
+    curve : Substitution
+        Gas share of the fuel energy against load.
 
     Returns
     -------
@@ -516,20 +545,21 @@ def dual_fuel_map(diesel: EngineMap, *, methane_slip: float = 0.03,
         (ignition and combustion phasing held by the pilot), the slipped gas is lost.
     """
     load = diesel.torque[:, None] / diesel.full_load_torque[None, :]
-    sigma = substitution_share(load, share_max=share_max)
+    sigma = curve.share(load)
     eff = diesel.efficiency * (1.0 - sigma * methane_slip)
     emap = EngineMap(name=f"{diesel.name} as dual-fuel-ci", speed=diesel.speed,
                      torque=diesel.torque, efficiency=eff,
                      full_load_torque=diesel.full_load_torque, idle_speed=diesel.idle_speed,
                      idle_fuel_power=diesel.idle_fuel_power)
     kind = KINDS["dual-fuel-ci"]
-    return DerivedMap(emap, {"gas share at high load": (share_max, "-", kind.source),
+    return DerivedMap(emap, {"gas share at high load": (curve.share_max, "-", kind.source),
                              "methane slip of the gas": (methane_slip, "-",
                                                          kind.sources["methane_slip"])})
 
 
 def duty_gas_share(points_speed: np.ndarray, points_torque: np.ndarray, fuel_energy: np.ndarray,
-                   engine_map: EngineMap, *, share_max: float = GAS_SHARE_MAX) -> float:
+                   engine_map: EngineMap, *, curve: Substitution = DEFAULT_SUBSTITUTION
+                   ) -> float:
     """Fuel-energy-weighted gas share of a dual-fuel engine over a duty [-].
 
     Parameters
@@ -542,8 +572,8 @@ def duty_gas_share(points_speed: np.ndarray, points_torque: np.ndarray, fuel_ene
         Fuel energy at each point [J].
     engine_map : EngineMap
         The map (its full-load curve sets the load).
-    share_max : float
-        Gas share at high load [-].
+    curve : Substitution
+        Gas share of the fuel energy against load.
 
     Returns
     -------
@@ -553,11 +583,11 @@ def duty_gas_share(points_speed: np.ndarray, points_torque: np.ndarray, fuel_ene
     load = np.asarray(points_torque, float) / engine_map.max_torque(np.asarray(points_speed,
                                                                                float))
     w = np.asarray(fuel_energy, dtype=float)
-    return float(np.sum(substitution_share(load, share_max=share_max) * w) / np.sum(w))
+    return float(np.sum(curve.share(load) * w) / np.sum(w))
 
 
 def histogram_gas_share(duty: DutyRun, engine_map: EngineMap, *,
-                        share_max: float = GAS_SHARE_MAX) -> float:
+                        curve: Substitution = DEFAULT_SUBSTITUTION) -> float:
     """Gas share of a dual-fuel engine's fuel energy over a duty, from its operating points.
 
     Parameters
@@ -566,8 +596,8 @@ def histogram_gas_share(duty: DutyRun, engine_map: EngineMap, *,
         The duty run on the dual-fuel map (its speed x torque histogram, ``DutyRun.points``).
     engine_map : EngineMap
         That map: its full-load curve sets each cell's load, its fuel power the weight.
-    share_max : float
-        Gas share at high load [-] (:func:`substitution_share`).
+    curve : Substitution
+        Gas share of the fuel energy against load.
 
     Returns
     -------
@@ -580,7 +610,34 @@ def histogram_gas_share(duty: DutyRun, engine_map: EngineMap, *,
     speed = pts["engine_speed_rpm"].to_numpy(dtype=float) * RPM
     torque = pts["torque_nm"].to_numpy(dtype=float)
     fuel = engine_map.fuel_power(speed, torque).fuel_power * pts["seconds"].to_numpy(dtype=float)
-    return duty_gas_share(speed, torque, fuel, engine_map, share_max=share_max)
+    return duty_gas_share(speed, torque, fuel, engine_map, curve=curve)
+
+
+def slipped(per_m: FuelPerDistance, fuel: Fuel, methane_slip: float
+            ) -> tuple[FuelPerDistance, float]:
+    """A fuel's use per metre with a share of its methane leaving unburnt.
+
+    Parameters
+    ----------
+    per_m : FuelPerDistance
+        The fuel's use with all its carbon burnt to CO2.
+    fuel : Fuel
+        The fuel (its methane mole fraction).
+    methane_slip : float
+        Share of the fuel's methane leaving unburnt [-].
+
+    Returns
+    -------
+    (FuelPerDistance, float)
+        The use with the CO2 of the slipped methane's carbon taken off (it leaves as CH4:
+        ``CO2 = m_C M_CO2/M_C - m_CH4 M_CO2/M_CH4``, carbon balance; the methane's GWP-100
+        counts its later oxidation), and the slipped methane [kg/m].
+    """
+    x = fuel.mole_fractions.get("CH4", 0.0)
+    ch4 = methane_slip * x * M_CH4 / fuel.molar_mass() * per_m.fuel_mass_per_m if x else 0.0
+    if not ch4:
+        return per_m, 0.0
+    return replace(per_m, co2_ttw_per_m=per_m.co2_ttw_per_m - ch4 * M_CO2 / M_CH4), ch4
 
 
 @dataclass(frozen=True)
@@ -604,8 +661,8 @@ class ConvertedEngine:
 
 def convert(engine_map: EngineMap, kind: ConversionKind, sheet: FuelSheet,
             reference: FuelSheet | None, *, derate: float | None = None,
-            efficiency_offset: float | None = None, methane_slip: float | None = None
-            ) -> ConvertedEngine:
+            efficiency_offset: float | None = None, methane_slip: float | None = None,
+            substitution: Substitution = DEFAULT_SUBSTITUTION) -> ConvertedEngine:
     """The map a fuel runs on after a conversion of this kind.
 
     Parameters
@@ -622,6 +679,8 @@ def convert(engine_map: EngineMap, kind: ConversionKind, sheet: FuelSheet,
         Given values; replace the kind's own [-].
     methane_slip : float, optional
         Given slip (dual fuel); replaces the kind's own [-].
+    substitution : Substitution, optional
+        Gas share against load (dual fuel).
 
     Returns
     -------
@@ -634,7 +693,7 @@ def convert(engine_map: EngineMap, kind: ConversionKind, sheet: FuelSheet,
         return ConvertedEngine(out.engine_map, float(d), offset, out.parameters)
     if kind.name == "dual-fuel-ci":
         slip = kind.methane_slip if methane_slip is None else methane_slip
-        out = dual_fuel_map(engine_map, methane_slip=slip)
+        out = dual_fuel_map(engine_map, methane_slip=slip, curve=substitution)
         d = 0.0 if derate is None else derate
         emap = out.engine_map.adjusted(derate=d, efficiency_offset=offset)
         return ConvertedEngine(emap, d, offset, out.parameters)
@@ -646,6 +705,7 @@ def convert(engine_map: EngineMap, kind: ConversionKind, sheet: FuelSheet,
 
 
 __all__ = [
+    "DEFAULT_SUBSTITUTION",
     "GAS_LOAD_HIGH",
     "GAS_LOAD_LOW",
     "GAS_SHARE_MAX",
@@ -656,6 +716,7 @@ __all__ = [
     "ConversionKind",
     "ConvertedEngine",
     "DerivedMap",
+    "Substitution",
     "WillansFit",
     "air_displacement_derate",
     "conversion_kind",
@@ -670,6 +731,6 @@ __all__ = [
     "kind_derate",
     "otto_efficiency",
     "regime_mismatch",
-    "substitution_share",
+    "slipped",
     "willans_fit",
 ]

@@ -512,20 +512,22 @@ def charging_check(daily_grid_energy: float, charger_power: float, chargers_per_
     return ChargingCheck(power=power, time_needed=needed, window=window, fits=needed <= window)
 
 
-def tariff_price(prices: Sequence[float], shares: Sequence[float]) -> float:
+def tariff_price(prices: Sequence[float | np.ndarray], shares: Sequence[float]
+                 ) -> float | np.ndarray:
     """Energy-weighted price of a time-of-use tariff [currency/J, or the prices' unit].
 
     Parameters
     ----------
-    prices : sequence of float
-        Price of each tariff band.
+    prices : sequence of float or numpy.ndarray
+        Price of each tariff band (an array: one value per Monte Carlo draw).
     shares : sequence of float
         Share of the charging energy drawn in each band, summing to 1 [-].
 
     Returns
     -------
-    float
-        ``sum(share_i price_i)``; a flat tariff is one band with share 1.
+    float or numpy.ndarray
+        ``sum(share_i price_i)``, an array when the prices are; a flat tariff is one band
+        with share 1.
 
     Raises
     ------
@@ -539,4 +541,5 @@ def tariff_price(prices: Sequence[float], shares: Sequence[float]) -> float:
     if abs(sum(shares) - 1.0) > 1e-6:
         raise InputError("tariff", f"the bands' shares of charging energy sum to "
                                    f"{sum(shares):g}; they must sum to 1")
-    return float(sum(p * s for p, s in zip(prices, shares, strict=True)))
+    total = sum(p * s for p, s in zip(prices, shares, strict=True))
+    return total if isinstance(total, np.ndarray) else float(total)

@@ -3,12 +3,14 @@
 Each vehicle's cleaned trips run through the fused pipeline once; what is kept of it is a
 :class:`VehicleSummary` (energy sums, operating-point histograms, what cleaning dropped). The
 class is the sum of its vehicles (:func:`aggregate`): its fuel energy per km is total fuel over
-total distance, which is the km-weighted mean of the vehicles' energy per km, and its spread is
-the P10–P90 of the vehicles' energy per km (each vehicle counted once).
+total distance, which is the km-weighted mean of the vehicles' energy per km; its spread is
+the P10–P90 of the vehicles' energy per km (each vehicle counted once), and the standard error
+of the km-weighted mean is the ratio estimator's (:func:`weighted_mean_se`).
 """
 
 from __future__ import annotations
 
+import math
 from collections.abc import Sequence
 from dataclasses import dataclass, fields
 
@@ -72,6 +74,11 @@ class ClassAggregate:
         Summed operating-point histograms [s], [J].
     vehicles : int
         Vehicles in the aggregate.
+    mean_se_per_m : float
+        Standard error of ``energy_per_m`` as an estimate of the class's mean [J/m]
+        (:func:`weighted_mean_se`; NaN for one vehicle).
+    effective_vehicles : float
+        Kish's effective number of vehicles of the km weights, ``(sum d)^2 / sum d^2`` [-].
     """
 
     energy: DutyEnergy
@@ -80,6 +87,47 @@ class ClassAggregate:
     seconds: np.ndarray
     fuel: np.ndarray
     vehicles: int
+    mean_se_per_m: float = float("nan")
+    effective_vehicles: float = float("nan")
+
+
+def weighted_mean_se(values: Sequence[float] | np.ndarray,
+                     weights: Sequence[float] | np.ndarray) -> tuple[float, float, float]:
+    """Weighted mean, its standard error and the effective number of the weights.
+
+    Parameters
+    ----------
+    values : sequence of float
+        One figure per vehicle, e.g. fuel energy per distance ``r_i`` [any unit].
+    weights : sequence of float
+        Its weight, e.g. distance driven ``d_i`` [any unit, positive].
+
+    Returns
+    -------
+    mean : float
+        ``R = sum d_i r_i / sum d_i`` [unit of ``values``].
+    se : float
+        ``sqrt(n / (n - 1) * sum w_i^2 (r_i - R)^2)`` with ``w_i = d_i / sum d``
+        [unit of ``values``]; NaN for one value.
+    n_eff : float
+        Kish's effective number, ``(sum d)^2 / sum d^2 = 1 / sum w_i^2`` [-].
+
+    Notes
+    -----
+    ``R`` is the ratio estimator ``sum E_i / sum d_i`` (``E_i = d_i r_i``), and ``se`` its
+    standard error, ``sqrt(sum (E_i - R d_i)^2 / (n (n - 1))) / mean(d)`` (W. G. Cochran,
+    *Sampling Techniques*, 3rd ed., Wiley 1977, ch. 6, without the finite-population
+    correction; from memory), the same estimator as the fuel-card calibration
+    (``workbench.models.calibration``). With equal weights it is ``s / sqrt(n)``; when the
+    deviations share one variance ``sigma^2`` it is about ``sigma / sqrt(n_eff)``.
+    """
+    r = np.asarray(values, dtype=float)
+    d = np.asarray(weights, dtype=float)
+    w = d / d.sum()
+    mean = float(np.sum(w * r))
+    n = r.size
+    se = math.sqrt(n / (n - 1) * float(np.sum(w**2 * (r - mean) ** 2))) if n > 1 else math.nan
+    return mean, se, float(1.0 / np.sum(w**2))
 
 
 def aggregate(summaries: Sequence[VehicleSummary]) -> ClassAggregate:
@@ -106,6 +154,7 @@ def aggregate(summaries: Sequence[VehicleSummary]) -> ClassAggregate:
     energy = DutyEnergy(**total)
     per_m = np.array([s.energy_per_m for s in summaries])
     p10, p90 = np.quantile(per_m, SPREAD_QUANTILES)
+    _, se, n_eff = weighted_mean_se(per_m, [s.energy.distance for s in summaries])
     return ClassAggregate(
         energy=energy,
         energy_per_m=energy.fuel_energy / energy.distance,
@@ -113,6 +162,8 @@ def aggregate(summaries: Sequence[VehicleSummary]) -> ClassAggregate:
         seconds=np.sum([s.seconds for s in summaries], axis=0),
         fuel=np.sum([s.fuel for s in summaries], axis=0),
         vehicles=len(summaries),
+        mean_se_per_m=se,
+        effective_vehicles=n_eff,
     )
 
 

@@ -50,13 +50,20 @@ def _synthetic(plan: Plan, choice: Mapping[str, str], oid: str, *, programme: bo
     by_id = {o.id: o for o in inputs.options}
     per_class = {c: by_id[o].per_class[c] for c, o in choice.items()}
     payers = [inputs.baseline]
+    used = [by_id[o] for o in dict.fromkeys(choice.values()) if o != inputs.baseline.id]
     if programme:
-        payers += [by_id[o] for o in dict.fromkeys(choice.values()) if o != inputs.baseline.id]
+        payers += used
+    # each payer's stations, serving the classes the mix takes from it
+    stations = tuple(replace(st, classes=served) for o in payers[1:] for st in o.stations
+                     if (served := tuple(c for c in st.classes if choice.get(c) == o.id)))
     return Option(id=oid, name=oid, is_baseline=False, per_class=per_class,
                   programme_capital=_programme(payers, "programme_capital",
                                                f"{oid}.programme_capital"),
                   programme_upkeep_per_year=_programme(payers, "programme_upkeep_per_year",
-                                                       f"{oid}.programme_upkeep"))
+                                                       f"{oid}.programme_upkeep"),
+                  programme_grant=sum(o.programme_grant + o.programme_grant_share
+                                      * o.programme_capital.nominal for o in payers[1:]),
+                  loan=used[0].loan if len(used) == 1 else None, stations=stations)
 
 
 def _extend(plan: Plan, options: dict[str, tuple[Option, Mapping[str, str]]], *,
@@ -80,11 +87,10 @@ def _npv(money: econ.Money, oid: str, base: str) -> float:
     return float(np.asarray(econ.npv(money.rate[0], money.cash[oid][0] - money.cash[base][0])))
 
 
-def _row(money: econ.Money, plan: Plan, oid: str, base: str, choice: Mapping[str, str]) -> dict:
+def _row(money: econ.Money, oid: str, base: str) -> dict:
     rate = money.rate
     diff = money.cash[oid] - money.cash[base]
-    nox_kg = sum(float((plan.nox_t[base, c] - plan.nox_t[o, c]).sum()) for c, o in
-                 choice.items()) * 1e3
+    nox_kg = float((money.nox[base] - money.nox[oid]).sum())  # a phased class's cohorts in
     return {
         "npv_vs_baseline": _npv(money, oid, base),
         "discounted_payback_years": float(np.asarray(econ.discounted_payback(rate[0],
@@ -193,12 +199,12 @@ def decision_tables(plan: Plan, samples: Mapping[str, np.ndarray], n: int,
             draws[best_id] = np.asarray(econ.npv(
                 money.rate, money.cash[best_id] - money.cash[base])).reshape(-1)
     rows = []
-    for oid, (_, choice) in single.items():
+    for oid in single:
         src, cid = oid.split("@", 1)
         rows.append({"candidate": src, "vehicle_class": cid,
-                     **_row(det, ext, oid, base, choice), **_spread(draws, oid),
+                     **_row(det, oid, base), **_spread(draws, oid),
                      "in_best_mix": best_choice[cid] == src})
-    mix = {**_row(det, ext, best_id, base, best_choice), **_spread(draws, best_id)}
+    mix = {**_row(det, best_id, base), **_spread(draws, best_id)}
     mix_rows = [{"vehicle_class": cid, "candidate": best_choice[cid], **mix} for cid in classes]
     return rows, mix_rows
 

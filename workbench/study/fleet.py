@@ -24,6 +24,7 @@ import os
 from collections.abc import Callable, Iterator
 from concurrent.futures import ProcessPoolExecutor, as_completed
 from contextlib import contextmanager
+from contextvars import ContextVar
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -66,7 +67,30 @@ from workbench.models.vehicle import Vehicle
 SINGLE_THREAD_ENV = {v: "1" for v in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS",
                                       "MKL_NUM_THREADS", "NUMBA_NUM_THREADS")}
 
+#: Progress of a fleet run: called with (vehicles done, vehicles in all) as each vehicle
+#: finishes; the terminal prints it (``workbench fleet run``, ``study run``), the panels draw
+#: it as a bar (``workbench.interfaces.panels.app.FleetProgress``).
 Progress = Callable[[int, int], None]
+
+#: The progress the fleet runs of a study report to (:func:`reporting`).
+_REPORT: ContextVar[Progress | None] = ContextVar("fleet_progress", default=None)
+
+
+@contextmanager
+def reporting(progress: Progress | None) -> Iterator[None]:
+    """Inside the block, every fleet run of a study (:func:`fleet_duty`) reports its vehicles
+    to ``progress``; the study's physics cache stays keyed by the physics alone.
+
+    Parameters
+    ----------
+    progress : callable or None
+        ``progress(done, total)`` [vehicles]; None reports nothing.
+    """
+    token = _REPORT.set(progress)
+    try:
+        yield
+    finally:
+        _REPORT.reset(token)
 
 
 @dataclass(frozen=True)
@@ -429,16 +453,18 @@ def fleet_duty(logs: FleetSource, vehicle: Vehicle, engine_map: EngineMap, *,
     Returns
     -------
     FleetDutyRun
-        Energy of the class, NOx weighting over :data:`NOX_SPEED_BINS` groups of its
+        Energy of the class (its vehicles reported to the progress of :func:`reporting`
+        as they finish), NOx weighting over :data:`NOX_SPEED_BINS` groups of its
         histogram's speed bins, its operating points, and the run.
     """
-    run = run_fleet(logs, vehicle, engine_map, settings=settings, engine=engine)
+    run = run_fleet(logs, vehicle, engine_map, settings=settings, engine=engine,
+                    progress=_REPORT.get())
     speeds, weights, points = class_tables(run.aggregate, engine_map, NOX_SPEED_BINS)
     return FleetDutyRun(run.aggregate.energy, speeds, weights, points, run)
 
 
-def vehicle_rows(vehicle_class: str, duty: DutyRun, fuel: Fuel, sheet: FuelSheet
-                 ) -> list[dict[str, Any]]:
+def vehicle_rows(vehicle_class: str, duty: DutyRun, fuel: Fuel, sheet: FuelSheet,
+                 calibration: Calibration | None = None) -> list[dict[str, Any]]:
     """Rows of the study's ``vehicles`` table for one class: each vehicle on the given fuel.
 
     Parameters
@@ -452,14 +478,20 @@ def vehicle_rows(vehicle_class: str, duty: DutyRun, fuel: Fuel, sheet: FuelSheet
         The fuel the figures are on (the study passes the baseline's).
     sheet : FuelSheet
         Its property sheet.
+    calibration : Calibration, optional
+        The class's fit against its fuel cards (on the baseline).
 
     Returns
     -------
     list of dict
-        ``vehicle_class``, ``vehicle``, ``fuel``, ``distance_logged_km``, ``fuel_energy_mj_per_km``,
-        ``fuel_l_per_100km`` (NaN for a fuel not sold as a liquid), ``share_idle`` and
-        ``outlier`` (outside Tukey's fences of the class's L/100 km, or of its MJ/km when
-        the fuel has no litres; :func:`workbench.models.fleet.tukey_outliers`).
+        ``vehicle_class``, ``vehicle``, ``fuel``, ``distance_logged_km``,
+        ``fuel_energy_mj_per_km`` (modelled, before calibration), ``fuel_l_per_100km`` (NaN
+        for a fuel not sold as a liquid), ``share_idle``, ``outlier`` (outside Tukey's fences
+        of the class's L/100 km, or of its MJ/km when the fuel has no litres;
+        :func:`workbench.models.fleet.tukey_outliers`), and from the fuel cards
+        ``observed_mj_per_km`` and ``residual_mj_per_km`` (observed minus the calibrated
+        model; :meth:`Calibration.per_vehicle`), NaN without cards or for a vehicle not in
+        the fit.
     """
     if not isinstance(duty, FleetDutyRun):
         return []
@@ -467,8 +499,14 @@ def vehicle_rows(vehicle_class: str, duty: DutyRun, fuel: Fuel, sheet: FuelSheet
     litres = np.array([p.fuel_volume_per_m * 1e8 for p in per_m])
     energy = np.array([p.fuel_energy_per_m * 1e-3 for p in per_m])
     outlier = tukey_outliers(litres if np.isfinite(litres).all() else energy)
+    ids = [s.vehicle for s in duty.fleet.summaries]
+    cards = (calibration.per_vehicle(ids) if calibration is not None else
+             pd.DataFrame(np.nan, index=range(len(ids)),
+                          columns=["observed_mj_per_km", "residual_mj_per_km"]))
     return [{"vehicle_class": vehicle_class, "vehicle": s.vehicle, "fuel": fuel.id,
              "distance_logged_km": s.energy.distance / 1e3, "fuel_energy_mj_per_km": energy[i],
              "fuel_l_per_100km": litres[i], "share_idle": s.energy.share_idle,
-             "outlier": bool(outlier[i])}
+             "outlier": bool(outlier[i]),
+             "observed_mj_per_km": float(cards["observed_mj_per_km"].iloc[i]),
+             "residual_mj_per_km": float(cards["residual_mj_per_km"].iloc[i])}
             for i, s in enumerate(duty.fleet.summaries)]

@@ -13,7 +13,7 @@ from collections.abc import Mapping
 from dataclasses import dataclass, field
 from typing import Any
 
-from workbench.study.studyfile import StudyInputs, study_fuels
+from workbench.study.studyfile import ELECTRICITY, StudyInputs, study_fuels
 
 #: Words for study-file keys whose plain spelling reads badly; other keys are spelled out
 #: with their underscores as spaces.
@@ -50,14 +50,52 @@ KEY_WORDS = {
     "tank_inspection_interval_years": "tank inspection interval [years]",
     "classes": "converted classes",
     "n2o": "tailpipe N2O",
-    "vehicle_spread": "spread of fuel use between its vehicles",
-    "calibration": "fuel-card calibration of its fuel use",
+    "vehicle_spread": "mean fuel energy per km of its vehicles (from their spread)",
+    "calibration": "fuel-card calibration factor",
     "fuel_cards": "fuel cards",
     "calibrate": "apply the fuel-card calibration",
+    "drive": "drive",
+    "purchase_price": "new vehicle price",
+    "resale_value": "new vehicle resale value",
+    "old_vehicle_sale": "sale of the old vehicle",
+    "motor_power": "motor power",
+    "motor_efficiency": "motor and inverter efficiency",
+    "reducer_efficiency": "reduction gear efficiency",
+    "regen_share": "regenerated share of braking",
+    "hvac_power": "heating and cooling power",
+    "charging_efficiency": "charging efficiency",
+    "depth_of_discharge": "battery depth of discharge",
+    "end_of_life_health": "battery capacity at end of life",
+    "specific_energy": "battery specific energy",
+    "range": "range",
+    "mass_saved": "combustion powertrain mass saved",
+    "charger_power": "charger power",
+    "chargers_per_vehicle": "chargers per vehicle",
+    "charger_capital": "charger capital per vehicle",
+    "charger_upkeep_per_year": "charger upkeep per vehicle-year",
+    "charging_window": "charging window",
+    "electricity_price": "electricity price",
+    "charging_shares": "share of charging energy",
+    "electricity_escalation": "electricity price escalation",
+    "grid_co2e": "grid CO2e per kWh",
+    "grid_co2e_source": "source of the grid CO2e",
+    "phasing": "conversions by year",
+    "grant": "grant per vehicle or share of its conversion cost",
+    "programme_grant": "programme grant (year 0)",
+    "loan": "loan",
+    "term_years": "term [years]",
+    "station": "refuelling station",
+    "window": "refuelling window",
+    "compressor_cost": "compressor cost per kg/h",
+    "storage_cost": "storage cost per m3",
+    "dispenser_cost": "cost per dispenser",
+    "upkeep_share": "upkeep as a share of its capital",
+    "hour_cost": "cost of an hour lost",
+    "detour": "time lost per fill",
 }
 #: Words for the top-level tables keyed by fuel id.
 _BY_FUEL = {"prices": "price of {}", "escalation": "price escalation of {}",
-            "upstream": "upstream CO2e of {}"}
+            "upstream": "upstream CO2e of {}", "fuel_tax": "fuel tax on {}"}
 _INDEX = re.compile(r"^(classes|candidates)\[(\d+)\]$")
 
 
@@ -105,6 +143,8 @@ def study_names(inputs: StudyInputs) -> Names:
     Names
     """
     fuels = {fid: fuel.name or fid for fid, fuel in study_fuels(inputs.options).items()}
+    if any(co.electric is not None for o in inputs.options for co in o.per_class.values()):
+        fuels[ELECTRICITY] = "grid electricity"
     return Names(candidates={o.id: o.name for o in inputs.options},
                  classes={c.id: c.name for c in inputs.classes}, fuels=fuels)
 
@@ -241,9 +281,9 @@ def input_rows(data: Mapping[str, Any], inputs: StudyInputs) -> list[dict[str, s
         for key, raw in table.items():
             if key not in ("id", "name"):
                 add(f"{'Baseline' if kind == 'baseline' else 'Option'}: {name}", key, raw)
-    for section in ("prices", "escalation", "upstream"):
+    for section in ("prices", "escalation", "upstream", "fuel_tax"):
         for fid, raw in data.get(section, {}).items():
-            rows.append({"section": section.capitalize(),
+            rows.append({"section": section.replace("_", " ").capitalize(),
                          "input": _BY_FUEL[section].format(names.fuel(fid)),
                          "value": _value_text(raw)})
     return rows

@@ -34,11 +34,11 @@ COLUMNS: dict[str, tuple[str, ...]] = {
     ),
     # one row per candidate x vehicle class: the duty-level figures
     "per_km": (
-        "candidate", "vehicle_class", "fuel", "fuel_energy_mj_per_km", "fuel_l_per_100km",
-        "fuel_kg_per_100km", "co2_ttw_g_per_km", "co2e_wtw_g_per_km", "nox_engine_out_g_per_km",
-        "nox_g_per_km", "pm_mg_per_km", "co_g_per_km", "thc_g_per_km", "cost_fuel_per_km",
-        "cost_upkeep_per_km", "cost_capital_per_km", "cost_per_km", "share_out_of_map",
-        "share_full_load",
+        "candidate", "vehicle_class", "fuel", "fuel_energy_mj_per_km", "energy_kwh_per_km",
+        "fuel_l_per_100km", "fuel_kg_per_100km", "co2_ttw_g_per_km", "co2e_wtw_g_per_km",
+        "nox_engine_out_g_per_km", "nox_g_per_km", "pm_mg_per_km", "co_g_per_km",
+        "thc_g_per_km", "cost_fuel_per_km", "cost_upkeep_per_km", "cost_capital_per_km",
+        "cost_per_km", "share_out_of_map", "share_full_load",
     ),
     # one row per candidate x vehicle class x fuel it burns (a dual-fuel engine: gas, pilot)
     "fuel_use": (
@@ -56,6 +56,30 @@ COLUMNS: dict[str, tuple[str, ...]] = {
         "candidate", "year", "fuel_energy_gj", "co2_ttw_t", "co2e_wtw_t", "nox_t",
         "catalyst_replacements", "cost_total",
     ),
+    # one row per candidate x year: capital (net of nothing), grants, financing's net outflow,
+    # the loan balance settled at the horizon, fuel tax paid and its change on the baseline
+    "programme_years": (
+        "candidate", "year", "capital", "grants", "financing", "loan_balance", "fuel_tax",
+        "fuel_tax_vs_baseline",
+    ),
+    # one row per candidate x class it converts x year: the share converted that year
+    "phasing": (
+        "candidate", "vehicle_class", "year", "converted_share", "vehicles_converted",
+        "running_converted_share",
+    ),
+    # one row per candidate: its capital, grants, loan and the fuel tax it pays (the public
+    # client's revenue change as a present value)
+    "funding": (
+        "candidate", "capital", "grants", "loan_share", "loan_rate", "loan_term_years",
+        "loan_balance_at_horizon", "fuel_tax_paid", "fuel_tax_change_pv", "npv_vs_baseline",
+    ),
+    # one row per candidate with a refuelling station: its size, money and the time lost
+    "stations": (
+        "candidate", "fuel", "kind", "location", "classes", "daily_fuel_kg", "daily_fuel_l",
+        "fills_per_day", "window_h", "compressor_kg_per_h", "compressor_sm3_per_h",
+        "buffer_m3", "tank_m3", "dispensers", "capital", "upkeep_per_year",
+        "lost_hours_per_year", "lost_time_cost_per_year",
+    ),
     # one row per candidate x vehicle class x month: tailpipe NOx as catalysts age
     "nox_monthly": (
         "candidate", "vehicle_class", "month", "catalyst_efficiency", "nox_g_per_km",
@@ -66,6 +90,14 @@ COLUMNS: dict[str, tuple[str, ...]] = {
         "candidate", "vehicle_class", "fuel", "energy_density_mj_per_kg", "energy_density_mj_per_l",
         "system_energy_density_mj_per_kg", "system_energy_density_mj_per_l",
         "tank_volume_l", "tank_system_mass_kg", "range_km",
+    ),
+    # one row per battery-electric candidate x vehicle class: the pack sized for the range,
+    # its mass against the vehicle's payload, and whether a recharge fits the window
+    "battery": (
+        "candidate", "vehicle_class", "range_km", "capacity_kwh", "pack_mass_kg",
+        "added_mass_kg", "payload_loss_kg", "payload_kg", "battery_kwh_per_km",
+        "energy_kwh_per_km", "regen_share_of_braking", "peak_power_kw", "charging_power_kw",
+        "charging_hours", "charging_window_h", "charging_fits", "charging_message",
     ),
     # one row per candidate x Monte Carlo draw
     "monte_carlo": ("candidate", "draw", "npv_vs_baseline"),
@@ -111,10 +143,11 @@ COLUMNS: dict[str, tuple[str, ...]] = {
         "co2e_avoided_t", "nox_avoided_kg", "npv_p10", "npv_p50", "npv_p90", "p_npv_positive",
     ),
     # one row per vehicle of a class run from its logs, on the baseline's fuel (empty when no
-    # class is): the distribution across vehicles, outliers by Tukey's fences
+    # class is): the distribution across vehicles, outliers by Tukey's fences, and each
+    # vehicle's fuel cards against the model (NaN without cards)
     "vehicles": (
         "vehicle_class", "vehicle", "fuel", "distance_logged_km", "fuel_energy_mj_per_km",
-        "fuel_l_per_100km", "share_idle", "outlier",
+        "fuel_l_per_100km", "share_idle", "outlier", "observed_mj_per_km", "residual_mj_per_km",
     ),
     # one row per class with fuel cards: the factor fitted to them (baseline fuel) and the fit
     "calibration": (
@@ -167,7 +200,12 @@ class StudyResult:
         factor fitted to its fuel cards and whether the run applied it
         (``workbench.study.runner.calibration_rows``); ``fuel_use`` each fuel an option burns
         on a class (a dual-fuel engine's gas and pilot apart: energy share, fuel per 100 km,
-        CO2e).
+        CO2e; grid electricity of a battery-electric drive); ``battery`` each battery-electric
+        option's pack on a class (capacity, mass, payload loss, charging check);
+        ``programme_years`` each candidate's capital, grants, financing and fuel tax by year,
+        ``phasing`` the share of each class converted each year, ``funding`` each candidate's
+        grants, loan and fuel-tax change, ``stations`` its refuelling station
+        (``workbench.study.refuelling``).
     assumptions : dict
         Flat record of the inputs that shaped the result (for the report), values as text.
     fictional : bool
@@ -214,6 +252,16 @@ class StudyResult:
         columns=list(COLUMNS["calibration"])))
     fuel_use: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
         columns=list(COLUMNS["fuel_use"])))
+    battery: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
+        columns=list(COLUMNS["battery"])))
+    programme_years: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
+        columns=list(COLUMNS["programme_years"])))
+    phasing: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
+        columns=list(COLUMNS["phasing"])))
+    funding: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
+        columns=list(COLUMNS["funding"])))
+    stations: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
+        columns=list(COLUMNS["stations"])))
     assumptions: dict[str, str] = field(default_factory=dict)
     sources: dict[str, str] = field(default_factory=dict)
 

@@ -18,7 +18,7 @@ A price, discount-rate or other money change re-uses every cached physics result
 from __future__ import annotations
 
 from collections.abc import Callable, Mapping
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 import pandas as pd
@@ -27,7 +27,6 @@ from workbench.core.cache import memoize
 from workbench.core.constants import J_PER_KWH
 from workbench.core.errors import InputError
 from workbench.core.fuels import Fuel
-from workbench.core.thermo import molar_mass
 from workbench.core.units import Price, price_per_energy
 from workbench.io.logs import FleetSource
 from workbench.models import economics as econ
@@ -35,15 +34,22 @@ from workbench.models.aftertreatment import Aftertreatment, optimal_interval, pr
 from workbench.models.calibration import Calibration
 from workbench.models.combustion import FuelSheet, fuel_sheet
 from workbench.models.conversion import (
-    GAS_LOAD_HIGH,
-    GAS_LOAD_LOW,
-    GAS_SHARE_MAX,
+    DEFAULT_SUBSTITUTION,
     KINDS,
+    Substitution,
     convert,
     histogram_gas_share,
     kind_derate,
+    slipped,
 )
 from workbench.models.duty import DutySettings, DutyTrace, ModeTable
+from workbench.models.electric import (
+    BatterySizing,
+    ChargingCheck,
+    charging_check,
+    size_battery,
+    tariff_price,
+)
 from workbench.models.emissions import co2e
 from workbench.models.engine import (
     DutyEnergy,
@@ -58,12 +64,14 @@ from workbench.models.nox import DEFAULT_ENGINE_OUT
 from workbench.models.pollutants import pollutant_factors
 from workbench.models.storage import tank_for_range
 from workbench.models.vehicle import Vehicle
-from workbench.study import tables
+from workbench.study import refuelling, tables
 from workbench.study.fleet import (
     FleetDutyRun,
+    Progress,
     calibrate_fleet,
     card_energy_per_amount,
     fleet_duty,
+    reporting,
     vehicle_rows,
 )
 from workbench.study.results import RunMap, StudyResult
@@ -84,7 +92,8 @@ from workbench.study.studyfile import (
 @memoize(maxsize=128)
 def converted_map(engine_map: EngineMap, derate: float, efficiency_offset: float,
                   conversion: str = "none", fuel: Fuel | None = None,
-                  methane_slip: float | None = None
+                  methane_slip: float | None = None,
+                  substitution: Substitution = DEFAULT_SUBSTITUTION
                   ) -> tuple[EngineMap, dict[str, tuple[float, str, str]]]:
     """The map a fuel runs on, and the numbers a derived map used (cached by their content).
 
@@ -102,6 +111,8 @@ def converted_map(engine_map: EngineMap, derate: float, efficiency_offset: float
         The fuel a derived map burns.
     methane_slip : float, optional
         Share of a dual-fuel engine's gas that slips unburnt [-]; None: the kind's.
+    substitution : Substitution, optional
+        A dual-fuel engine's gas share against load.
 
     Returns
     -------
@@ -109,7 +120,8 @@ def converted_map(engine_map: EngineMap, derate: float, efficiency_offset: float
     """
     sheet = fuel_sheet(fuel) if fuel is not None else None
     out = convert(engine_map, KINDS[conversion], sheet, None, derate=derate,
-                  efficiency_offset=efficiency_offset, methane_slip=methane_slip)
+                  efficiency_offset=efficiency_offset, methane_slip=methane_slip,
+                  substitution=substitution)
     return out.engine_map, out.parameters
 
 
@@ -117,7 +129,8 @@ def converted_map(engine_map: EngineMap, derate: float, efficiency_offset: float
 def duty_physics(profile: DutyTrace | ModeTable | FleetSource, vehicle: Vehicle | None,
                  engine_map: EngineMap, derate: float, efficiency_offset: float,
                  settings: DutySettings, conversion: str = "none", fuel: Fuel | None = None,
-                 methane_slip: float | None = None) -> DutyRun:
+                 methane_slip: float | None = None,
+                 substitution: Substitution = DEFAULT_SUBSTITUTION) -> DutyRun:
     """Run a profile with a vehicle and an adjusted map (cached by their content).
 
     Parameters
@@ -136,16 +149,16 @@ def duty_physics(profile: DutyTrace | ModeTable | FleetSource, vehicle: Vehicle 
         Added to every map cell [-].
     settings : DutySettings
         Accessories, engine-off at stops, extra idling.
-    conversion, fuel, methane_slip
-        Conversion kind whose derived map applies, its fuel and a dual-fuel engine's slip
-        (:func:`converted_map`).
+    conversion, fuel, methane_slip, substitution
+        Conversion kind whose derived map applies, its fuel, a dual-fuel engine's slip and
+        gas share against load (:func:`converted_map`).
 
     Returns
     -------
     DutyRun
     """
     emap = converted_map(engine_map, derate, efficiency_offset, conversion, fuel,
-                         methane_slip)[0]
+                         methane_slip, substitution)[0]
     if isinstance(profile, FleetSource):
         return fleet_duty(profile, vehicle, emap, settings=settings)
     return run_duty(profile, vehicle, emap, settings=settings)
@@ -164,7 +177,8 @@ class FuelBurnt:
     energy_share : float
         Its share of the class's fuel energy over the duty [-].
     per_m : FuelPerDistance
-        Its energy, mass, volume and tank-to-wheel CO2 (all its carbon burnt) per metre.
+        Its energy, mass, volume and tank-to-wheel CO2 per metre: the CO2 of its carbon less
+        that of the methane slipping unburnt (which leaves as CH4, not CO2).
     ch4_per_m : float
         Its methane slipping unburnt [kg/m].
     """
@@ -177,13 +191,23 @@ class FuelBurnt:
 
 
 @dataclass(frozen=True)
+class ElectricPhysics:
+    """A battery-electric drive on a class: the pack sized for the range on the class's duty
+    (its energy flows in ``sizing.energy``) and the charging check of a full recharge."""
+
+    sizing: BatterySizing
+    charging: ChargingCheck
+
+
+@dataclass(frozen=True)
 class ClassPhysics:
     """Everything about one option on one vehicle class that does not involve money; the
-    per-metre figures are totals over the fuels it burns (:attr:`fuels`)."""
+    per-metre figures are totals over the energy carriers it buys (:attr:`fuels`, and grid
+    electricity for a battery-electric drive)."""
 
-    sheet: FuelSheet  # of its (first) fuel
+    sheet: FuelSheet | None  # of its (first) fuel; None without a fuel
     fuels: tuple[FuelBurnt, ...]  # the option's fuel first, then a dual-fuel pilot
-    fuel_energy_per_m: float  # [J/m]
+    fuel_energy_per_m: float  # energy bought [J/m]: fuel LHV, or grid electricity
     fuel_mass_per_m: float  # [kg/m]
     fuel_volume_per_m: float  # [m3/m], NaN when not stored as a liquid or two fuels
     co2_ttw_per_m: float  # [kg/m]
@@ -200,9 +224,10 @@ class ClassPhysics:
     best_interval_months: int
     best_total_cost: float
     share_out_of_map: float
-    share_full_load: float
-    duty: DutyRun
-    storage: dict[str, float]
+    share_full_load: float  # of the time at full load (an electric motor: above rated power)
+    duty: DutyRun | None  # the engine's duty run; None without an engine
+    storage: dict[str, float]  # the fuel tank; empty without a fuel
+    electric: ElectricPhysics | None = None
 
 
 def _settings(c: FleetClass) -> DutySettings:
@@ -219,20 +244,21 @@ def applied_derate(co: ClassOption) -> float:
     return kind_derate(KINDS[co.conversion], fuel_sheet(co.fuel), fuel_sheet(co.derate_against))
 
 
-def _map_inputs(co: ClassOption
-                ) -> tuple[EngineMap, float, float, str, Fuel | None, float | None]:
-    """(map, derate, offset, conversion kind, fuel, slip) that :func:`converted_map` takes for
-    an option: the kind's derived map only where the option derives one, the option's methane
-    slip where that map is a dual-fuel one."""
+def _map_inputs(co: ClassOption) -> tuple[EngineMap, float, float, str, Fuel | None,
+                                          float | None, Substitution]:
+    """(map, derate, offset, conversion kind, fuel, slip, substitution curve) that
+    :func:`converted_map` takes for an option: the kind's derived map only where the option
+    derives one, the option's methane slip and curve where that map is a dual-fuel one."""
     kind, fuel = (co.conversion, co.fuel) if co.derived_map else ("none", None)
-    slip = co.methane_slip if kind == "dual-fuel-ci" else None
-    return co.map_data, applied_derate(co), co.efficiency_offset, kind, fuel, slip
+    dual = kind == "dual-fuel-ci"
+    return (co.map_data, applied_derate(co), co.efficiency_offset, kind, fuel,
+            co.methane_slip if dual else None, co.substitution if dual else DEFAULT_SUBSTITUTION)
 
 
 def _duty_for(c: FleetClass, co: ClassOption) -> DutyRun:
-    emap, derate, offset, kind, fuel, slip = _map_inputs(co)
+    emap, derate, offset, kind, fuel, slip, curve = _map_inputs(co)
     return duty_physics(c.profile_data, c.vehicle_data, emap, derate, offset, _settings(c),
-                        kind, fuel, slip)
+                        kind, fuel, slip, curve)
 
 
 def option_map(co: ClassOption) -> EngineMap:
@@ -270,7 +296,7 @@ def run_maps(inputs: StudyInputs) -> list[RunMap]:
     for c in inputs.classes:
         groups: dict[EngineMap, list[str]] = {}
         for o in sorted(inputs.options, key=lambda o: not o.is_baseline):
-            if c.id in o.per_class:
+            if c.id in o.per_class and o.per_class[c.id].drive == "combustion":
                 groups.setdefault(option_map(o.per_class[c.id]), []).append(o.id)
         out += [RunMap(c.id, tuple(ids), emap) for emap, ids in groups.items()]
     return out
@@ -279,7 +305,31 @@ def run_maps(inputs: StudyInputs) -> list[RunMap]:
 @memoize(maxsize=256)
 def class_physics(c: FleetClass, co: ClassOption, base: ClassOption, months: int,
                   nox_damage_cost: float) -> ClassPhysics:
-    """All physics of one option on one class (duty, chemistry, catalyst, tank), cached.
+    """All physics of one option on one class, by its drive (:data:`DRIVES`), cached.
+
+    Parameters
+    ----------
+    c : FleetClass
+        The vehicle class (its nominal km per year sets the catalysts' ageing).
+    co : ClassOption
+        What the option does to the class.
+    base : ClassOption
+        What the baseline does to the class (its engine-out NOx is the reference).
+    months : int
+        Months the class runs within the programme.
+    nox_damage_cost : float
+        Damage cost of NOx for the best catalyst interval [currency/kg].
+
+    Returns
+    -------
+    ClassPhysics
+    """
+    return DRIVES[co.drive](c, co, base, months, nox_damage_cost)
+
+
+def combustion_physics(c: FleetClass, co: ClassOption, base: ClassOption, months: int,
+                       nox_damage_cost: float) -> ClassPhysics:
+    """All physics of a combustion engine on one class (duty, chemistry, catalyst, tank).
 
     Parameters
     ----------
@@ -359,21 +409,64 @@ def class_physics(c: FleetClass, co: ClassOption, base: ClassOption, months: int
     )
 
 
+def electric_physics(c: FleetClass, co: ClassOption, base: ClassOption, months: int,
+                     nox_damage_cost: float) -> ClassPhysics:
+    """All physics of a battery-electric drive on one class (arguments as
+    :func:`class_physics`).
+
+    The pack is sized for the option's range on the class's trace, carrying its own mass
+    (:func:`workbench.models.electric.size_battery`); the energy bought is the grid energy per
+    metre with the pack on board. Nothing burns on board: tailpipe CO2, CH4, N2O, NOx, PM, CO
+    and hydrocarbons are zero (brake and tyre wear particles are not counted, for any drive).
+    The charging check asks whether a recharge of the whole range fits the charging window.
+    """
+    e = co.electric
+    assert e is not None and isinstance(c.profile_data, DutyTrace)  # the study checked both
+    try:
+        sizing = size_battery(c.vehicle_data, c.profile_data, e.drive, e.pack, e.range,
+                              mass_saved=e.mass_saved, settings=_settings(c))
+    except InputError as exc:  # the range too long for the pack: name the study's key
+        raise InputError(e.where, exc.message) from None
+    grid_m = sizing.energy.grid_per_m
+    charging = charging_check(e.range * grid_m, e.charger_power, e.chargers_per_vehicle,
+                              e.charging_window)
+    prog = programme_nox(co.aftertreatment, 0.0, distance_per_month=c.km_per_year.nominal / 12,
+                         months=months, fleet_size=c.count, nox_damage_cost=nox_damage_cost)
+    return ClassPhysics(
+        sheet=None, fuels=(), fuel_energy_per_m=grid_m, fuel_mass_per_m=0.0,
+        fuel_volume_per_m=float("nan"), co2_ttw_per_m=0.0, ch4_per_m=0.0,
+        tailpipe_co2e_per_m=0.0, engine_out_nox_per_m=0.0,
+        nox_source="battery-electric drive: no combustion, no tailpipe NOx",
+        pm_per_m=0.0, co_per_m=0.0, nmhc_per_m=0.0, monthly=prog.monthly, yearly=prog.yearly,
+        replacements=0, best_interval_months=months, best_total_cost=0.0,
+        share_out_of_map=0.0,
+        share_full_load=sizing.energy.over_power_time / sizing.energy.duration,
+        duty=None, storage={}, electric=ElectricPhysics(sizing, charging))
+
+
+#: The energy model of each drive a study may name (``studyfile.DRIVES``): the one place a
+#: drive's physics is chosen. Each takes the arguments of :func:`class_physics`.
+DRIVES: dict[str, Callable[[FleetClass, ClassOption, ClassOption, int, float], ClassPhysics]] = {
+    "combustion": combustion_physics,
+    "battery-electric": electric_physics,
+}
+
+
 def _fuels_burnt(co: ClassOption, energy: DutyEnergy, duty: DutyRun) -> tuple[FuelBurnt, ...]:
     """The fuels an option burns on a class's duty: its fuel; or, on a dual-fuel engine, its
     gas at the duty's gas share (:func:`histogram_gas_share` on the map it ran on) and the
-    pilot for the rest. The methane slip applies to the (gas) fuel's methane."""
+    pilot for the rest. The methane slip applies to the (gas) fuel's methane, whose carbon
+    leaves as CH4 rather than CO2 (:func:`~workbench.models.conversion.slipped`)."""
     def burnt(fuel: Fuel, role: str, share: float) -> FuelBurnt:
         part = energy if share == 1.0 else replace(energy,
                                                   fuel_energy=energy.fuel_energy * share)
         per_m = fuel_per_distance_for(part, fuel, fuel_sheet(fuel))
-        slip = co.methane_slip if fuel is co.fuel else 0.0
-        return FuelBurnt(fuel, role, share, per_m,
-                         slip * _methane_mass_share(fuel) * per_m.fuel_mass_per_m)
+        per_m, ch4 = slipped(per_m, fuel, co.methane_slip if fuel is co.fuel else 0.0)
+        return FuelBurnt(fuel, role, share, per_m, ch4)
 
     if co.pilot_fuel is None:
         return (burnt(co.fuel, "fuel", 1.0),)
-    share = histogram_gas_share(duty, option_map(co))
+    share = histogram_gas_share(duty, option_map(co), curve=co.substitution)
     return burnt(co.fuel, "gas", share), burnt(co.pilot_fuel, "pilot", 1.0 - share)
 
 
@@ -417,6 +510,12 @@ def class_calibration(c: FleetClass, base: ClassOption
         raise InputError(where, exc.message) from None
 
 
+def _fit(c: FleetClass, base: ClassOption) -> Calibration | None:
+    """A class's fit against its fuel cards (applied or not), None without cards."""
+    found = class_calibration(c, base)
+    return None if found is None else found[0]
+
+
 def applied_calibration(c: FleetClass, base: ClassOption) -> float:
     """Factor a class's modelled fuel energy per km is multiplied by on every option [-]:
     the fitted one when the class calibrates, else 1."""
@@ -437,11 +536,6 @@ def _best_interval(device: Aftertreatment, eo: float, km_month: float, months: i
                               nox_damage_cost=damage, fleet_size=count)
     row = choice.table.loc[choice.table["interval_months"] == choice.interval_months].iloc[0]
     return choice.interval_months, float(row["total_cost"])
-
-
-def _methane_mass_share(fuel: Fuel) -> float:
-    x = fuel.mole_fractions.get("CH4", 0.0)
-    return x * molar_mass({"C": 1, "H": 4}) / fuel.molar_mass() if x else 0.0
 
 
 @memoize(maxsize=256)
@@ -473,6 +567,10 @@ class Plan:
     replacements: dict[tuple[str, str], np.ndarray]  # fleet catalyst replacements by year
     price_factor: dict[str, float]  # by fuel id: currency/J per unit of price value
     responses: dict[tuple[str, str], list[econ.Response]]  # physics inputs with a distribution
+    #: by key path of a drawn physics factor (spread, calibration): its display unit and the
+    #: scale from the factor to it (the tornado shows the factor's values in that unit)
+    factor_units: dict[str, tuple[str, float]] = field(default_factory=dict)
+    tax_factor: dict[str, float] = field(default_factory=dict)  # as price_factor, fuel tax
 
 
 #: Quantiles at which an uncertain physics input is evaluated; draws between them are
@@ -523,9 +621,13 @@ def _plan(inputs: StudyInputs) -> tuple[Plan, dict[str, pd.DataFrame]]:
     physics-only tables."""
     cached = _physics_plan(inputs)
     factors: dict[str, float] = {}
+    taxes: dict[str, float] = {}
     for fid, fuel in study_fuels(inputs.options).items():
         factors[fid] = price_factor(inputs.prices[fid][0], fuel)
-    return replace(cached.plan, inputs=inputs, price_factor=factors), cached.tables
+        if fid in inputs.fuel_tax:
+            taxes[fid] = price_factor(inputs.fuel_tax[fid][0], fuel)
+    return replace(cached.plan, inputs=inputs, price_factor=factors,
+                   tax_factor=taxes), cached.tables
 
 
 def price_factor(price: Price, fuel: Fuel) -> float:
@@ -582,8 +684,10 @@ def _response(inputs: StudyInputs, c: FleetClass, co: ClassOption, field: str, u
 
 
 def _energies(ph: ClassPhysics) -> np.ndarray:
-    """Energy per distance of each fuel an option-class burns, shape (fuels,) [J/m]."""
-    return np.array([f.per_m.fuel_energy_per_m for f in ph.fuels])
+    """Energy per distance of each carrier an option-class buys (its fuels, then grid
+    electricity), shape (carriers,) [J/m]."""
+    grid = [] if ph.electric is None else [ph.fuel_energy_per_m]
+    return np.array([f.per_m.fuel_energy_per_m for f in ph.fuels] + grid)
 
 
 def _vary(c: FleetClass, co: ClassOption, field: str, value: float
@@ -613,8 +717,15 @@ def _lines(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> dict[str, ec
             seen[key] = _values(u, params, n)
         return seen[key]
 
+    def tax(fid: str) -> np.ndarray | float:
+        if fid not in inputs.fuel_tax:
+            return 0.0
+        return val(inputs.fuel_tax[fid][1]) * plan.tax_factor[fid]
+
+    h = inputs.horizon_years
     options = {}
     made: dict[tuple[int, ...], econ.ClassLine] = {}
+    before: dict[str, econ.ClassLine] = {}  # the baseline's line of each class
     for o in inputs.options:
         lines = []
         for c in inputs.classes:
@@ -622,7 +733,8 @@ def _lines(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> dict[str, ec
             ph = plan.physics[o.id, c.id]
             # a synthetic option reuses a (candidate, class)'s objects: one line for them all
             key = tuple(map(id, (c, co, ph, plan.catalyst_cost[o.id, c.id],
-                                 plan.responses[o.id, c.id], plan.nox_t[o.id, c.id])))
+                                 plan.responses[o.id, c.id], plan.nox_t[o.id, c.id],
+                                 *o.stations)))
             if key in made:
                 lines.append(made[key])
                 continue
@@ -631,21 +743,51 @@ def _lines(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> dict[str, ec
                 plan.responses[o.id, c.id], params, n)
             parts = tuple(econ.EnergyPart(
                 energy[:, k], val(inputs.prices[f.fuel.id][1]) * plan.price_factor[f.fuel.id],
-                val(inputs.escalation[f.fuel.id]), val(inputs.upstream[f.fuel.id]))
+                val(inputs.escalation[f.fuel.id]), val(inputs.upstream[f.fuel.id]),
+                tax_per_j=tax(f.fuel.id))
                 for k, f in enumerate(ph.fuels))
+            own_capital = val(co.conversion_cost)
+            own_upkeep = val(co.upkeep_change_per_year)
+            if (e := co.electric) is not None:
+                parts += (econ.EnergyPart(
+                    energy[:, len(ph.fuels)],
+                    tariff_price([val(u) for _, u, _ in e.tariff], [s for _, _, s in e.tariff]),
+                    val(e.escalation), np.array(e.grid_path(inputs.start_year,
+                                                            inputs.horizon_years)),
+                    upstream_by_year=True),)
+                own_capital = own_capital + val(e.charger_capital)
+                own_upkeep = own_upkeep + val(e.charger_upkeep_per_year)
+            v = co.new_vehicle
+            phasing = None
+            if co.converts and co.phasing is not None:
+                phasing = np.zeros(h + 1)
+                phasing[:len(co.phasing)] = co.phasing
             lines.append(econ.ClassLine(
                 count=c.count, active=plan.active[c.id], km_per_year=val(c.km_per_year),
                 km_per_year_nominal=c.km_per_year.nominal, parts=parts,
                 tailpipe_co2e_per_m=tailpipe, catalyst_cost=catalyst,
-                upkeep_per_year=val(c.upkeep_per_year) + val(co.upkeep_change_per_year),
+                upkeep_per_year=val(c.upkeep_per_year) + own_upkeep,
                 tank_inspection_cost=val(co.tank_inspection_cost),
                 tank_inspection_interval=co.tank_inspection_interval, converts=co.converts,
-                conversion_cost=val(co.conversion_cost), downtime_days=val(co.downtime_days),
+                conversion_cost=own_capital, downtime_days=val(co.downtime_days),
                 daily_revenue=val(c.daily_revenue), remaining_life_years=c.remaining_life_years,
-                nox_mass=plan.nox_t[o.id, c.id] * 1e3))
+                nox_mass=plan.nox_t[o.id, c.id] * 1e3, phasing=phasing,
+                before=before.get(c.id), grant_per_vehicle=co.grant_per_vehicle,
+                grant_share=co.grant_share,
+                time_cost_per_m=refuelling.time_cost_per_m(o, c, val) if co.converts else 0.0,
+                new_vehicle=None if v is None else econ.NewVehicle(
+                    val(v.purchase_price), val(v.resale_value), val(v.old_vehicle_sale))))
             made[key] = lines[-1]
-        options[o.id] = econ.OptionLines(lines, val(o.programme_capital),
-                                         val(o.programme_upkeep_per_year))
+            if o.is_baseline:
+                before[c.id] = lines[-1]
+        capital, upkeep = refuelling.station_money(refuelling.station_sizes(plan, o), val)
+        programme = val(o.programme_capital)
+        loan = None if o.loan is None else econ.Loan(val(o.loan.share), val(o.loan.rate),
+                                                      o.loan.term_years)
+        options[o.id] = econ.OptionLines(
+            lines, programme + capital, val(o.programme_upkeep_per_year) + upkeep,
+            programme_grant=o.programme_grant + o.programme_grant_share * programme,
+            loan=loan)
     return options
 
 
@@ -673,7 +815,8 @@ def _values(u: Uncertain, params: Mapping[str, np.ndarray], n: int) -> np.ndarra
 
 
 def run(study: Study, *, draws: int | None = None,
-        progress: Callable[[str], None] | None = None) -> StudyResult:
+        progress: Callable[[str], None] | None = None,
+        vehicles: Progress | None = None) -> StudyResult:
     """Run a study.
 
     Parameters
@@ -685,6 +828,10 @@ def run(study: Study, *, draws: int | None = None,
         the Monte Carlo and the tornado.
     progress : callable, optional
         Called with a short text as each slow step starts (the panels show it).
+    vehicles : callable, optional
+        Called with (vehicles done, vehicles in all) as each vehicle of a class run from its
+        logs finishes, once per fleet run (``workbench.study.fleet.Progress``; the terminal
+        prints it, the panels draw a bar); not called when the physics is cached.
 
     Returns
     -------
@@ -694,7 +841,8 @@ def run(study: Study, *, draws: int | None = None,
     say = progress or (lambda _text: None)
     n = inputs.draws if draws is None else check_draws(draws, inputs, "draws")
     say("physics and chemistry (cached after the first run)")
-    plan, physics_tables = _plan(inputs)
+    with reporting(vehicles):
+        plan, physics_tables = _plan(inputs)
     say("money")
     lines = _lines(plan, {}, 1)
     det = _money(plan, {}, 1, lines)
@@ -703,14 +851,13 @@ def run(study: Study, *, draws: int | None = None,
     sensitivity: dict[str, pd.DataFrame] = {}
     if n > 0:
         say(f"Monte Carlo, {n} draws")
-        samples = econ.sample_inputs({**inputs.uncertain, **_vehicle_spread(plan),
-                                      **_calibration_spread(plan)}, n,
-                                     inputs.seed, correlation=inputs.correlation)
+        drawn = {**inputs.uncertain, **_vehicle_spread(plan), **_calibration_spread(plan)}
+        samples = econ.sample_inputs(drawn, n, inputs.seed, correlation=inputs.correlation)
         money = _money(plan, samples, n)
         for o in inputs.candidates:
             draws_of[o.id] = econ.npv_draws(money, o.id, inputs.baseline.id)
-            if inputs.uncertain:
-                sensitivity[o.id] = _sensitivity(plan, o.id)
+            if drawn:
+                sensitivity[o.id] = _sensitivity(plan, o.id, drawn)
     result = tables.study_result(study, plan, lines, det, draws_of,
                                  sensitivity, n, _break_even(plan), physics_tables)
     from workbench.study.decisions import decision_tables  # it builds on this module
@@ -725,7 +872,8 @@ def run(study: Study, *, draws: int | None = None,
                          row for c in inputs.classes for row in vehicle_rows(
                              c.id, plan.physics[inputs.baseline.id, c.id].duty,
                              inputs.baseline.per_class[c.id].fuel,
-                             plan.physics[inputs.baseline.id, c.id].sheet)]),
+                             plan.physics[inputs.baseline.id, c.id].sheet,
+                             _fit(c, inputs.baseline.per_class[c.id]))]),
                      calibration=tables.frame("calibration", calibration_rows(inputs)))
     result.assumptions.update(_fleet_notes(plan))
     result.assumptions.update(_calibration_notes(inputs))
@@ -733,29 +881,31 @@ def run(study: Study, *, draws: int | None = None,
     return result
 
 
-#: P90 of the standard normal distribution (scipy.stats.norm.ppf(0.9)).
-_Z90 = 1.2815515655446004
-
-
 def _vehicle_spread(plan: Plan) -> dict[str, econ.Distribution]:
-    """The spread between a fleet-log class's vehicles as an uncertain physics input.
+    """What the spread between a fleet-log class's vehicles leaves uncertain in its mean, as
+    an uncertain physics input.
 
-    A normal factor on the class's fuel energy per km (mean 1) whose P10 and P90 are the
-    vehicles' P10 and P90 over the class's value (baseline option); every option of the class
-    takes the same draw, scaling its fuel energy and tailpipe CO2e per km. Adds the responses
-    to ``plan`` and returns the distributions to draw, by key path.
+    A normal factor on the class's fuel energy per km, mean 1, sd the standard error of the
+    km-weighted mean over the mean (baseline option; ``ClassAggregate.mean_se_per_m``): the
+    programme converts the whole class, so its fuel is the class mean's, not one vehicle's
+    (``docs/fleet-logs.md``). Every option of the class takes the same draw, scaling its fuel
+    energy and tailpipe CO2e per km; the tornado shows it as the class's fuel energy per km
+    on the baseline [MJ/km]. Adds the responses to ``plan`` and returns the distributions to
+    draw, by key path.
     """
     out = {}
+    base = plan.inputs.baseline.id
     for c in plan.inputs.classes:
-        duty = plan.physics[plan.inputs.baseline.id, c.id].duty
+        duty = plan.physics[base, c.id].duty
         if not isinstance(duty, FleetDutyRun):
             continue
         agg = duty.fleet.aggregate
-        sd = (agg.spread_per_m[1] - agg.spread_per_m[0]) / (2 * _Z90) / agg.energy_per_m
-        if sd <= 0.0:
+        sd = agg.mean_se_per_m / agg.energy_per_m
+        if not sd > 0.0:  # NaN with one vehicle: nothing drawn
             continue
         path = f"classes.{c.id}.vehicle_spread"
-        out[path] = _fuel_factor(plan, c, path, sd)
+        out[path] = _fuel_factor(plan, c, path, sd, "MJ/km",
+                                 plan.physics[base, c.id].fuel_energy_per_m / 1e3)
     return out
 
 
@@ -772,15 +922,18 @@ def _calibration_spread(plan: Plan) -> dict[str, econ.Distribution]:
         if cal is None or not cal[0].factor_se > 0.0:  # NaN with one vehicle: nothing drawn
             continue
         path = f"classes.{c.id}.calibration"
-        out[path] = _fuel_factor(plan, c, path, cal[0].factor_se / cal[0].factor)
+        out[path] = _fuel_factor(plan, c, path, cal[0].factor_se / cal[0].factor, "-",
+                                 cal[0].factor)
     return out
 
 
-def _fuel_factor(plan: Plan, c: FleetClass, path: str, sd: float) -> econ.Distribution:
+def _fuel_factor(plan: Plan, c: FleetClass, path: str, sd: float, unit: str, scale: float
+                 ) -> econ.Distribution:
     """A normal factor (mean 1, ``sd``) on a class's fuel energy and tailpipe CO2e per km on
-    every option, added to ``plan``'s responses once (a warm re-run shares the cached plan);
-    returns its distribution."""
+    every option, added to ``plan``'s responses once (a warm re-run shares the cached plan),
+    with the unit and scale the tornado shows it in; returns its distribution."""
     dist = econ.Distribution("normal", mean=1.0, sd=sd, where=path)
+    plan.factor_units[path] = (unit, scale)
     nodes = np.asarray(dist.ppf(np.array(RESPONSE_QUANTILES)), dtype=float)
     for o in plan.inputs.options:
         if any(r.path == path for r in plan.responses[o.id, c.id]):
@@ -800,13 +953,18 @@ def _fleet_notes(plan: Plan) -> dict[str, str]:
         if not isinstance(duty, FleetDutyRun):
             continue
         run = duty.fleet
-        lo, hi = (x / 1e3 for x in run.aggregate.spread_per_m)
+        agg = run.aggregate
+        lo, hi = (x / 1e3 for x in agg.spread_per_m)
         left = f"; left out: {'; '.join(run.problems)}" if run.problems else ""
+        drawn = (f"its standard error ± {agg.mean_se_per_m / 1e3:.3f} MJ/km "
+                 f"({agg.effective_vehicles:.1f} vehicles' worth of km) drawn in the Monte "
+                 "Carlo as the uncertainty of the class mean"
+                 if agg.mean_se_per_m > 0.0 else "one vehicle: no spread to draw")
         out[f"vehicle logs, {c.name}"] = (
             f"{len(run.summaries)} of {run.found} vehicles used, "
-            f"{run.aggregate.energy.distance / 1e3:,.0f} km, km-weighted; between vehicles "
-            f"P10-P90 {lo:.2f}-{hi:.2f} MJ/km on the baseline, drawn in the Monte Carlo as "
-            f"the spread between the class's vehicles{left}")
+            f"{agg.energy.distance / 1e3:,.0f} km, km-weighted mean "
+            f"{agg.energy_per_m / 1e3:.2f} MJ/km on the baseline (before calibration); "
+            f"between vehicles P10-P90 {lo:.2f}-{hi:.2f} MJ/km; {drawn}{left}")
     return out
 
 
@@ -870,8 +1028,9 @@ def _calibration_notes(inputs: StudyInputs) -> dict[str, str]:
 def _break_even(plan: Plan) -> dict[str, list[tuple[Uncertain, float]]]:
     """Per candidate, the inputs that could turn its verdict and where its NPV is zero.
 
-    The inputs are the prices of the fuels a candidate brings in and the km per year of the
-    classes it converts, one at a time, every other input nominal.
+    The inputs are the prices of the fuels a candidate brings in (grid electricity: each
+    tariff band's price) and the km per year of the classes it converts, one at a time, every
+    other input nominal.
     """
     inputs = plan.inputs
     base = inputs.baseline.id
@@ -881,6 +1040,8 @@ def _break_even(plan: Plan) -> dict[str, list[tuple[Uncertain, float]]]:
         converted = [co for co in o.per_class.values() if co.converts]
         found = [inputs.prices[f][1] for f in dict.fromkeys(
             fuel.id for co in converted for fuel in co.fuels) if f not in base_fuels]
+        found += list({u.path: u for co in converted if co.electric is not None
+                       for _, u, _ in co.electric.tariff}.values())  # grid electricity
         found += [c.km_per_year for c in inputs.classes if o.per_class[c.id].converts]
         subjects += [(o.id, u) for u in found]
     out: dict[str, list[tuple[Uncertain, float]]] = {o.id: [] for o in inputs.candidates}
@@ -904,15 +1065,17 @@ def _break_even(plan: Plan) -> dict[str, list[tuple[Uncertain, float]]]:
     return out
 
 
-def _sensitivity(plan: Plan, option: str) -> pd.DataFrame:
-    """One-at-a-time sensitivity of an option's NPV to each uncertain input (P10 and P90)."""
+def _sensitivity(plan: Plan, option: str, dists: Mapping[str, econ.Distribution]
+                 ) -> pd.DataFrame:
+    """One-at-a-time sensitivity of an option's NPV to each uncertain input (P10 and P90):
+    the study's and the drawn physics factors (vehicle spread, calibration)."""
     base = plan.inputs.baseline.id
 
     def npv_of(params: dict[str, np.ndarray]) -> np.ndarray:
         n = len(next(iter(params.values())))
         return econ.npv_draws(_money(plan, params, n), option, base).npv
 
-    return econ.tornado(npv_of, plan.inputs.uncertain)
+    return econ.tornado(npv_of, dists)
 
 
 # ----------------------------------------------------------------------------- defaults
@@ -958,17 +1121,18 @@ def defaults_rows(inputs: StudyInputs,
 
         for quantity, value, unit, source in co.defaults:
             add(quantity, value, unit, source)
+        if co.drive != "combustion" and co.converts:  # no engine: no combustion defaults
+            continue
         if co.derate_against is not None:
             add("derate", f"{applied_derate(co) * 100:.1f}", "%",
                 KINDS[co.conversion].sources["derate"])
-        if co.derived_map:
+        if co.derived_map and co.pilot_fuel is None:
+            # a dual-fuel map's numbers are its slip and curve, each listed on its own below
             for name, (value, unit, source) in converted_map(*_map_inputs(co))[1].items():
                 add(name, f"{value:.4g}", unit, source)
-        if co.pilot_fuel is not None:
-            kind = KINDS[co.conversion]
-            add("gas substitution curve", f"0 below {GAS_LOAD_LOW * 100:g} % load, rising linearly "
-                f"to {GAS_SHARE_MAX * 100:g} % at {GAS_LOAD_HIGH * 100:g} % load and above",
-                "share of fuel energy", kind.source)
+        if co.pilot_fuel is not None and co.substitution == DEFAULT_SUBSTITUTION:
+            add("gas substitution curve", co.substitution.describe(), "share of fuel energy",
+                KINDS[co.conversion].source)
             if physics is not None:
                 ph = physics[oid, cid]
                 add("gas energy share on the duty", f"{ph.fuels[0].energy_share * 100:.1f}",

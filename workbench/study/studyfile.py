@@ -30,6 +30,7 @@ from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
+import numpy as np
 import tomlkit
 import tomlkit.items
 
@@ -55,11 +56,13 @@ from workbench.io.vehicles import read_vehicle
 from workbench.models.aftertreatment import DEVICE_PRESETS, Aftertreatment
 from workbench.models.calibration import FuelRecords
 from workbench.models.conversion import (
+    DEFAULT_SUBSTITUTION,
     KINDS,
     REGIME_DEVICE,
     REGIME_LAMBDA,
     REGIME_SLIP,
     ConversionKind,
+    Substitution,
     conversion_kind,
     fuel_regime,
     infer_kind,
@@ -67,9 +70,11 @@ from workbench.models.conversion import (
 )
 from workbench.models.duty import DutyTrace, ModeTable
 from workbench.models.economics import DISTRIBUTION_PARAMETERS, Correlation, Distribution
+from workbench.models.electric import BatteryPack, EfficiencyCurve, ElectricDrive, tariff_price
 from workbench.models.engine import EngineMap
 from workbench.models.engine_out import DEFAULT_REFERENCE_FUEL
 from workbench.models.nox import ENGINE_PRESETS, EngineOutNOx
+from workbench.models.storage.state import storage_spec
 from workbench.models.vehicle import Vehicle
 
 #: The demo study of a fictional port city.
@@ -157,9 +162,60 @@ class FleetClass:
     calibrate: bool = False  # apply the factor fitted to the cards to every option
 
 
+#: Drives an option may give a class: the conversions of :mod:`workbench.models.conversion`
+#: keep the combustion engine; any other drive replaces the class's vehicles by new ones
+#: (``NewVehicleInputs``) and has its own energy model (``workbench.study.runner.DRIVES``).
+DRIVES = ("combustion", "battery-electric")
+#: The id grid electricity goes by where a fuel's id stands in the result tables.
+ELECTRICITY = "electricity"
+
+
+@dataclass(frozen=True)
+class NewVehicleInputs:
+    """A class's vehicles replaced by new ones, per vehicle [currency]
+    (``workbench.models.economics.NewVehicle``)."""
+
+    purchase_price: Uncertain  # paid in year 0
+    resale_value: Uncertain  # when the class leaves the programme
+    old_vehicle_sale: Uncertain  # the replaced vehicle, in year 0
+
+
+@dataclass(frozen=True)
+class ElectricInputs:
+    """What a battery-electric option gives one class: drive, pack, chargers, electricity."""
+
+    drive: ElectricDrive
+    pack: BatteryPack
+    range: float  # distance between charges [m]
+    mass_saved: float  # combustion powertrain mass the electric vehicle does without [kg]
+    charger_power: float  # one charger at the grid [W]
+    chargers_per_vehicle: float  # [-]
+    charging_window: float  # hours a day at the chargers [s]
+    charger_capital: Uncertain  # per vehicle, year 0 [currency]
+    charger_upkeep_per_year: Uncertain  # per vehicle [currency/year]
+    #: Time-of-use bands: (name, price [currency/J], share of the charging energy) each; a
+    #: flat tariff is one band ("flat", price, 1.0).
+    tariff: tuple[tuple[str, Uncertain, float], ...]
+    escalation: Uncertain  # of the electricity price [1/year]
+    #: Grid CO2e intensity by calendar year [kg/J], linear between the years, held beyond.
+    grid_co2e: tuple[tuple[int, float], ...]
+    grid_co2e_source: str
+    where: str = ""  # key path of the range, named when no pack can carry itself over it
+
+    def grid_path(self, start_year: int, horizon: int) -> list[float]:
+        """Grid CO2e intensity in each programme year 0 … H [kg/J]."""
+        years, values = zip(*self.grid_co2e, strict=True)
+        return [float(v) for v in np.interp(start_year + np.arange(horizon + 1), years, values)]
+
+
 @dataclass(frozen=True)
 class ClassOption:
-    """What one option does to one class of vehicles."""
+    """What one option does to one class of vehicles.
+
+    A class whose drive is not ``combustion`` keeps the baseline's fuel, engine, map and
+    device in the combustion fields (the vehicles it replaces) and buys no fuel
+    (:attr:`fuels` is empty).
+    """
 
     converts: bool
     fuel: Fuel
@@ -194,10 +250,26 @@ class ClassOption:
     #: The diesel-like pilot of a dual-fuel engine (``conversion = "dual-fuel-ci"``; ``fuel``
     #: is then its gas); None for an engine that burns one fuel.
     pilot_fuel: Fuel | None = None
+    drive: str = "combustion"  # one of DRIVES
+    #: The class's vehicles replaced by new ones (every drive but combustion; a combustion
+    #: option that names ``purchase_price``); None for a conversion.
+    new_vehicle: NewVehicleInputs | None = None
+    electric: ElectricInputs | None = None  # drive = "battery-electric"
+    #: A dual-fuel engine's gas share against load (``gas_substitution``; the kind's curve
+    #: when not given).
+    substitution: Substitution = DEFAULT_SUBSTITUTION
+    #: Share of the class converted in each programme year from year 0 (``phasing``); None
+    #: converts it all in year 0.
+    phasing: tuple[float, ...] | None = None
+    grant_per_vehicle: float = 0.0  # grant per vehicle converted, with its capital [currency]
+    grant_share: float = 0.0  # grant as a share of the conversion capital [-]
 
     @property
     def fuels(self) -> tuple[Fuel, ...]:
-        """The fuels it buys: its fuel, and a dual-fuel engine's pilot after it."""
+        """The fuels it buys: its fuel, and a dual-fuel engine's pilot after it (none for a
+        battery-electric drive)."""
+        if self.drive == "battery-electric":
+            return ()
         return (self.fuel,) if self.pilot_fuel is None else (self.fuel, self.pilot_fuel)
 
 
@@ -216,6 +288,47 @@ def study_fuels(options: Iterable[Option]) -> dict[str, Fuel]:
 
 
 @dataclass(frozen=True)
+class LoanTerms:
+    """A candidate's financing (``loan``): a share of each year's capital borrowed."""
+
+    share: Uncertain  # [-]
+    rate: Uncertain  # real interest rate per year [-]
+    term_years: int
+
+
+#: Station kinds by the storage kind of the fuel they dispense.
+STATION_KINDS = {"compressed": "cng", "liquefied": "lpg"}
+#: Where a station is: at the depot (the operator builds it) or away from it (the vehicles
+#: drive to a public station and lose time).
+STATION_LOCATIONS = ("depot", "off-depot")
+
+
+@dataclass(frozen=True)
+class Station:
+    """A candidate's refuelling station (``station``), SI; money in the study currency."""
+
+    kind: str  # "cng" or "lpg" (:data:`STATION_KINDS`)
+    fuel: Fuel
+    location: str  # :data:`STATION_LOCATIONS`
+    window: float  # refuelling window per day [s]
+    operating_days: float  # days a year the fleet runs and refuels
+    peak_factor: float  # busiest hour over the window's mean hour [-]
+    storage_pressure: float  # CNG buffer [Pa]
+    fill_pressure: float  # vehicles' cylinders [Pa]
+    hose_flow: float  # per dispenser [kg/s] CNG, [m3/s] LPG
+    handling: float  # time per fill besides the flow [s]
+    autonomy_days: float  # LPG tank [day]
+    fill_limit: float  # LPG tank [-]
+    compressor_cost: Uncertain  # per kg/h of compressor capacity [currency]
+    storage_cost: Uncertain  # per m3 of water volume (buffer or tank) [currency]
+    dispenser_cost: Uncertain  # per dispenser [currency]
+    upkeep_share: Uncertain  # of the station's capital, per year [-]
+    detour: float  # time lost per fill, off the depot [s]
+    hour_cost: Uncertain  # cost of an hour a vehicle loses [currency/h]
+    classes: tuple[str, ...] = ()  # class ids it serves (converted to its fuel)
+
+
+@dataclass(frozen=True)
 class Option:
     """The baseline or one candidate."""
 
@@ -225,6 +338,10 @@ class Option:
     per_class: dict[str, ClassOption]
     programme_capital: Uncertain  # one-off, year 0 [currency]
     programme_upkeep_per_year: Uncertain  # [currency/year]
+    programme_grant: float = 0.0  # received in year 0 [currency]
+    programme_grant_share: float = 0.0  # of the programme capital, in year 0 [-]
+    loan: LoanTerms | None = None
+    stations: tuple[Station, ...] = ()  # a candidate's own: one; a best mix's: its candidates'
 
 
 @dataclass(frozen=True)
@@ -249,6 +366,8 @@ class StudyInputs:
     escalation: dict[str, Uncertain]  # by fuel id [1/year]
     upstream: dict[str, Uncertain]  # by fuel id, well-to-tank CO2e [kg/J]
     upstream_sources: dict[str, str]
+    #: By fuel id: fuel tax paid on top of the price, basis and value [currency/basis].
+    fuel_tax: dict[str, tuple[Price, Uncertain]] = field(default_factory=dict)
     uncertain: dict[str, Distribution] = field(default_factory=dict)
     correlation: Correlation | None = None
 
@@ -705,7 +824,8 @@ def _g_per_mj(raw: Any, where: str) -> float:
 def _parse(data: Mapping[str, Any], base_dir: Path) -> StudyInputs:
     top = _Reader(data, "")
     top.only(("title", "currency", "fictional", "notes", "programme", "classes", "baseline",
-              "candidates", "prices", "escalation", "upstream", "correlations"), "a study")
+              "candidates", "prices", "escalation", "upstream", "correlations", "fuel_tax"),
+             "a study")
     currency = top.text("currency")
     if not re.fullmatch(r"[A-Z]{3}", currency):
         raise InputError("currency", f"must be a three-letter code such as EUR, got {currency!r}")
@@ -751,7 +871,7 @@ def _parse(data: Mapping[str, Any], base_dir: Path) -> StudyInputs:
 #: Top-level tables whose values depend only on the study's fuels and currency (and that no
 #: other table depends on): an edit inside them re-checks those tables alone
 #: (:meth:`Study.with_values`).
-LOCAL_SECTIONS = frozenset({"programme", "prices", "escalation", "upstream"})
+LOCAL_SECTIONS = frozenset({"programme", "prices", "escalation", "upstream", "fuel_tax"})
 
 
 def _pilot_only(options: Iterable[Option]) -> dict[str, str]:
@@ -805,6 +925,9 @@ def _local_sections(top: _Reader, fuels: Mapping[str, Fuel], currency: str,
     if "upstream" in sections:
         out["upstream"], out["upstream_sources"] = _upstream(
             _Reader(top.raw("upstream"), "upstream"), fuels)
+    if "fuel_tax" in sections:
+        out["fuel_tax"] = _prices(_Reader(top.raw("fuel_tax", {}), "fuel_tax"), fuels,
+                                  currency, {}, required=False)
     return out
 
 
@@ -815,6 +938,7 @@ def _with_uncertain(inputs: StudyInputs, correlations: Any) -> StudyInputs:
                  and not u.dist.spread_is_zero}
     inputs = replace(inputs, uncertain=uncertain,
                      correlation=_correlations(correlations, uncertain))
+    _check_phasing(inputs)
     check_draws(inputs.draws, inputs, "programme.monte_carlo_draws")
     return inputs
 
@@ -945,11 +1069,24 @@ def all_uncertain(inputs: StudyInputs) -> list[Uncertain]:
         out += [u for _, u in c.varied]
     for o in inputs.options:
         out += [o.programme_capital, o.programme_upkeep_per_year]
+        if o.loan is not None:
+            out += [o.loan.share, o.loan.rate]
+        for st in o.stations:
+            out += [st.compressor_cost, st.storage_cost, st.dispenser_cost, st.upkeep_share,
+                    st.hour_cost]
         for co in o.per_class.values():
             out += [co.conversion_cost, co.upkeep_change_per_year, co.downtime_days,
                     co.tank_inspection_cost]
+            if co.new_vehicle is not None:
+                v = co.new_vehicle
+                out += [v.purchase_price, v.resale_value, v.old_vehicle_sale]
+            if co.electric is not None:
+                e = co.electric
+                out += [e.charger_capital, e.charger_upkeep_per_year, e.escalation]
+                out += [u for _, u, _ in e.tariff]
             out += [u for _, u in co.varied]
     out += [u for _, u in inputs.prices.values()]
+    out += [u for _, u in inputs.fuel_tax.values()]
     out += list(inputs.escalation.values()) + list(inputs.upstream.values())
     seen: dict[str, Uncertain] = {}
     for u in out:
@@ -1145,8 +1282,14 @@ def _option(r: _Reader, classes: tuple[FleetClass, ...], baseline: Option | None
             "efficiency_offset", "conversion_cost", "upkeep_change_per_year", "downtime_days",
             "tank_inspection_interval_years", "tank_inspection_cost", "n2o",
             "engine_out_nox", "lambda_overall", "methane_slip", "aftertreatment",
-            "programme_capital", "programme_upkeep_per_year", "conversion", "pilot_fuel"),
-           "an option")
+            "programme_capital", "programme_upkeep_per_year", "conversion", "pilot_fuel",
+            "gas_substitution", "phasing", "grant", "programme_grant", "loan", "station",
+            "drive", *NEW_VEHICLE_KEYS, *ELECTRIC_KEYS), "an option")
+    if baseline is None:
+        for key in ("phasing", "grant", "programme_grant", "loan", "station"):
+            if r.has(key):
+                raise InputError(r.at(key), "the baseline converts nothing; name it on the "
+                                 "candidates")
     class_ids = {c.id for c in classes}
     converts = class_ids
     if baseline is not None and r.has("classes"):
@@ -1162,7 +1305,8 @@ def _option(r: _Reader, classes: tuple[FleetClass, ...], baseline: Option | None
             per_class[c.id] = _unchanged(baseline.per_class[c.id])
             continue
         base = None if baseline is None else baseline.per_class[c.id]
-        per_class[c.id] = _class_option(r, c, class_ids, base, base_dir, currency)
+        per_class[c.id] = _drive_option(r, c, class_ids, base, base_dir, currency)
+    grant, grant_share = _grant(r.raw("programme_grant", 0), r.at("programme_grant"))
     return Option(
         id=oid,
         name=r.text("name", oid),
@@ -1172,7 +1316,275 @@ def _option(r: _Reader, classes: tuple[FleetClass, ...], baseline: Option | None
                                       unit=(currency, 1.0)),
         programme_upkeep_per_year=r.uncertain("programme_upkeep_per_year", _money_per_year,
                                               0.0, low=0.0, unit=(f"{currency}/year", 1.0)),
+        programme_grant=grant,
+        programme_grant_share=grant_share,
+        loan=None if not r.has("loan") else _loan(r.raw("loan"), r.at("loan")),
+        stations=() if not r.has("station") else (_station(
+            r.raw("station"), r.at("station"), classes, per_class, converts, currency),),
     )
+
+
+#: Keys of a class's new vehicles (any drive): money per vehicle.
+NEW_VEHICLE_KEYS = ("purchase_price", "resale_value", "old_vehicle_sale")
+#: Keys of a battery-electric drive (``drive = "battery-electric"`` only).
+ELECTRIC_KEYS = ("motor_power", "motor_efficiency", "reducer_efficiency", "regen_share",
+                 "hvac_power", "charging_efficiency", "depth_of_discharge",
+                 "end_of_life_health", "specific_energy", "range", "mass_saved",
+                 "charger_power", "chargers_per_vehicle", "charger_capital",
+                 "charger_upkeep_per_year", "charging_window", "electricity_price",
+                 "charging_shares", "electricity_escalation", "grid_co2e", "grid_co2e_source")
+#: Keys of a combustion engine, which a battery-electric class has not got.
+COMBUSTION_KEYS = ("fuel", "conversion", "engine", "engine_map", "derate", "efficiency_offset",
+                   "engine_out_nox", "lambda_overall", "methane_slip", "aftertreatment",
+                   "pilot_fuel", "tank_inspection_interval_years", "tank_inspection_cost",
+                   "n2o", "conversion_cost")
+
+
+def _class_at(r: _Reader, key: str, class_ids: set[str], cid: str) -> str:
+    """Key path of a class's value: ``key.<class id>`` where the key is a table by class."""
+    value = r.raw(key, None)
+    if isinstance(value, Mapping) and value and set(value) <= class_ids:
+        return f"{r.at(key)}.{cid}"
+    return r.at(key)
+
+
+def _drive_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOption | None,
+                  base_dir: Path, currency: str) -> ClassOption:
+    """What an option does to a class, read by its drive (the one place that maps a drive to
+    its keys): a combustion engine (kept or converted) or a battery-electric vehicle."""
+    raw = _per_class(r, "drive", c.id, class_ids, "combustion")
+    where = _class_at(r, "drive", class_ids, c.id)
+    drive = _choice(raw, where, DRIVES, "drive")
+    if base is None and drive != "combustion":
+        raise InputError(where, "the baseline is the fleet as it runs today: give a new drive "
+                         "on a candidate")
+
+    def given(keys: Iterable[str]) -> str | None:
+        return next((k for k in keys if _per_class(r, k, c.id, class_ids, None) is not None),
+                    None)
+
+    if drive == "combustion":
+        other = given(ELECTRIC_KEYS)
+        if other is not None:
+            raise InputError(_class_at(r, other, class_ids, c.id), 'belongs to drive = '
+                             '"battery-electric"; name that drive or leave it out')
+        co = _class_option(r, c, class_ids, base, base_dir, currency)
+        new = given(NEW_VEHICLE_KEYS)
+        if new is None:
+            return co
+        if base is None:
+            raise InputError(r.at(new), "the baseline keeps today's vehicles; name new "
+                             "vehicles on a candidate")
+        return replace(co, new_vehicle=_new_vehicle(r, c, class_ids, currency))
+    assert base is not None
+    other = given(COMBUSTION_KEYS)
+    if other is not None:
+        raise InputError(_class_at(r, other, class_ids, c.id), f"a {drive} vehicle has no "
+                         f"combustion engine; leave {other} out (its energy is set by the "
+                         "drive's keys)")
+    return _electric_option(r, c, class_ids, base, currency, where)
+
+
+def _new_vehicle(r: _Reader, c: FleetClass, class_ids: set[str],
+                 currency: str) -> NewVehicleInputs:
+    """A class's new vehicles: purchase price (required), resale value and the old vehicle's
+    sale (0 when not given)."""
+    def money(key: str, default: Any) -> Uncertain:
+        raw = _per_class(r, key, c.id, class_ids, default)
+        where = _class_at(r, key, class_ids, c.id)
+        if raw is ...:
+            raise InputError(where, "is required for new vehicles: the price of one, e.g. "
+                             f"purchase_price = 52000 ({currency})")
+        return _uncertain(raw, _money, where, 0.0, unit=(currency, 1.0))
+
+    return NewVehicleInputs(purchase_price=money("purchase_price", ...),
+                            resale_value=money("resale_value", 0.0),
+                            old_vehicle_sale=money("old_vehicle_sale", 0.0))
+
+
+def _electric_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOption,
+                     currency: str, where_drive: str) -> ClassOption:
+    """A battery-electric drive on a class, checked: the combustion fields keep the
+    baseline's (the vehicles replaced), the drive, pack, chargers and electricity are read."""
+    if not isinstance(c.profile_data, DutyTrace):
+        raise InputError(where_drive, f"a battery-electric drive runs on a speed trace; class "
+                         f"{c.id}'s profile is not one (a time-at-mode table or logs): give "
+                         "the class a trace profile")
+
+    def at(key: str) -> str:
+        return _class_at(r, key, class_ids, c.id)
+
+    def raw(key: str, default: Any) -> Any:
+        return _per_class(r, key, c.id, class_ids, default)
+
+    def share(key: str, default: float) -> float:
+        return _fixed(raw(key, default), "[]", at(key), None, 0.0, 1.0)
+
+    def money(key: str, parse: Callable[[Any, str], float], unit: str) -> Uncertain:
+        return _uncertain(raw(key, 0.0), parse, at(key), 0.0, unit=(unit, 1.0))
+
+    defaults: list[tuple[str, str, str, str]] = []
+    model = "models/electric.py default"
+    for key, label, unit, scale in (("reducer_efficiency", "reduction gear efficiency", "%", 100),
+                                    ("regen_share", "regeneration share of braking", "%", 100),
+                                    ("charging_efficiency", "charging efficiency", "%", 100),
+                                    ("depth_of_discharge", "depth of discharge", "%", 100),
+                                    ("end_of_life_health", "end-of-life capacity", "%", 100),
+                                    ("specific_energy", "pack specific energy", "Wh/kg",
+                                     1 / 3600)):
+        if raw(key, None) is None:
+            value = (ElectricDrive.__dataclass_fields__ | BatteryPack.__dataclass_fields__)[
+                key].default
+            defaults.append((label, f"{value * scale:g}", unit, f"{model} (docs/electric.md)"))
+    curve_raw = raw("motor_efficiency", None)
+    if curve_raw is None:
+        curve = EfficiencyCurve.typical()
+        defaults.append(("motor and inverter efficiency", "typical curve, 70-93 %", "",
+                         f"{model} TYPICAL_MOTOR_CURVE (docs/electric.md)"))
+    else:
+        curve = EfficiencyCurve.constant(_fixed(curve_raw, "[]", at("motor_efficiency"), None,
+                                                0.01, 1.0))
+    try:
+        drive = ElectricDrive(
+            motor_power=_fixed(raw("motor_power", ...), "[power]", at("motor_power"), None,
+                               1.0, 1e7),
+            motor_efficiency=curve,
+            reducer_efficiency=share("reducer_efficiency", 0.97),
+            regen_share=share("regen_share", 0.6),
+            hvac_power=_fixed(raw("hvac_power", "0 W"), "[power]", at("hvac_power"), None,
+                              0.0, 1e5),
+            charging_efficiency=share("charging_efficiency", 0.88))
+        pack = BatteryPack(
+            depth_of_discharge=share("depth_of_discharge", 0.9),
+            end_of_life_health=share("end_of_life_health", 0.8),
+            specific_energy=_fixed(raw("specific_energy", "140 Wh/kg"), "J/kg",
+                                   at("specific_energy"), None, 3600.0, 3600.0 * 2000))
+    except InputError as exc:  # the model's own check (a share of 0): name the study's key
+        if exc.where.startswith(r.path):
+            raise
+        raise InputError(at(exc.where), exc.message) from None
+    window = _fixed(raw("charging_window", "8 h"), "[time]", at("charging_window"), None,
+                    60.0, 86400.0)
+    electric = ElectricInputs(
+        drive=drive, pack=pack,
+        range=_fixed(raw("range", f"{c.range / 1e3:g} km"), "[length]", at("range"), None,
+                     1.0, MAX_RANGE),
+        mass_saved=_fixed(raw("mass_saved", "0 kg"), "[mass]", at("mass_saved"), None, 0.0,
+                          c.vehicle_data.mass * 0.9),
+        charger_power=_fixed(raw("charger_power", "22 kW"), "[power]", at("charger_power"),
+                             None, 100.0, 1e7),
+        chargers_per_vehicle=_fixed(raw("chargers_per_vehicle", 1.0), "[]",
+                                    at("chargers_per_vehicle"), None, 0.01, 100.0),
+        charging_window=window,
+        charger_capital=money("charger_capital", _money, currency),
+        charger_upkeep_per_year=money("charger_upkeep_per_year", _money_per_year,
+                                      f"{currency}/year"),
+        tariff=_tariff(raw("electricity_price", ...), raw("charging_shares", None),
+                       at("electricity_price"), at("charging_shares"), currency),
+        escalation=_uncertain(raw("electricity_escalation", 0.0), _fraction,
+                              at("electricity_escalation"), -0.5, 1.0, PERCENT),
+        grid_co2e=_grid_co2e(raw("grid_co2e", ...), at("grid_co2e")),
+        grid_co2e_source=_fixed_text(raw("grid_co2e_source", "study file"),
+                                     at("grid_co2e_source")),
+        where=at("range"))
+    if raw("charger_power", None) is None:
+        defaults.append(("charger power", "22", "kW", "common practice, no source (a "
+                         "three-phase AC depot charger)"))
+    if raw("charging_window", None) is None:
+        defaults.append(("charging window", "8", "h", "overnight at the depot, common "
+                         "practice, no source"))
+    zero = Uncertain(0.0, None, at("conversion_cost"), currency)
+    return ClassOption(**{
+        **base.__dict__, "converts": True, "drive": "battery-electric",
+        "derate": 0.0, "efficiency_offset": 0.0, "conversion_cost": zero,
+        "upkeep_change_per_year": _uncertain(raw("upkeep_change_per_year", 0.0),
+                                             _money_per_year, at("upkeep_change_per_year"),
+                                             None, unit=(f"{currency}/year", 1.0)),
+        "downtime_days": _uncertain(raw("downtime_days", 0.0), _days, at("downtime_days"),
+                                    0.0, unit=("day", 1.0)),
+        "tank_inspection_interval": 0, "tank_inspection_cost": replace(
+            zero, path=at("tank_inspection_cost")),
+        "n2o_per_m": 0.0, "engine_out_nox": None, "methane_slip": 0.0,
+        "aftertreatment": DEVICE_PRESETS["none"], "varied": (), "conversion": "none",
+        "derived_map": False, "defaults": tuple(defaults), "notices": (),
+        "derate_against": None, "pilot_fuel": None, **_phasing_and_grant(r, c, class_ids),
+        "new_vehicle": _new_vehicle(r, c, class_ids, currency), "electric": electric})
+
+
+def _fixed_text(value: Any, where: str) -> str:
+    if not isinstance(value, str) or not value.strip():
+        raise InputError(where, f"must be a non-empty text, got {_short(value)}")
+    return value
+
+
+def _tariff(raw: Any, shares_raw: Any, where: str, where_shares: str, currency: str
+            ) -> tuple[tuple[str, Uncertain, float], ...]:
+    """A flat electricity price (a price or a distribution of one) or time-of-use bands
+    (a table of band = price) with each band's share of the charging energy."""
+    if raw is ...:
+        raise InputError(where, 'is required: the electricity price, e.g. "0.21 per kWh", or '
+                         'bands { peak = "0.32 per kWh", night = "0.14 per kWh" } with '
+                         "charging_shares")
+
+    def price(value: Any, w: str) -> Uncertain:
+        def parse(v: Any, w2: str) -> float:
+            p = parse_price(v, where=w2, currency=currency)
+            if p.basis != "energy":
+                raise InputError(w2, f"{_short(v)} is not per energy; price electricity per "
+                                 'kWh, e.g. "0.21 per kWh"')
+            return p.value
+        return _uncertain(value, parse, w, 0.0, unit=(f"{currency}/kWh", 3.6e6))
+
+    bands = isinstance(raw, Mapping) and "kind" not in raw
+    if not bands:
+        if shares_raw is not None:
+            raise InputError(where_shares, "belongs to time-of-use bands: give "
+                             "electricity_price as a table of band = price, or leave "
+                             "charging_shares out")
+        return (("flat", price(raw, where), 1.0),)
+    if not raw:
+        raise InputError(where, "needs at least one band = price")
+    if not isinstance(shares_raw, Mapping) or set(shares_raw) != set(raw):
+        raise InputError(where_shares, f"must give each band of electricity_price "
+                         f"({', '.join(raw)}) its share of the charging energy, e.g. "
+                         f"charging_shares = {{ {next(iter(raw))} = 1.0 }}")
+    out = []
+    for name, value in sorted(raw.items()):  # by name: the same tariff in any key order
+        share = _fixed(shares_raw[name], "[]", f"{where_shares}.{name}", None, 0.0, 1.0)
+        out.append((str(name), price(value, f"{where}.{name}"), share))
+    try:
+        tariff_price([u.nominal for _, u, _ in out], [s for _, _, s in out])
+    except InputError as exc:
+        raise InputError(where_shares, exc.message) from None
+    return tuple(out)
+
+
+#: Largest grid CO2e intensity [g/kWh] (a coal plant is about 1000 g/kWh, from memory).
+MAX_GRID_G_PER_KWH = 2000.0
+
+
+def _grid_co2e(raw: Any, where: str) -> tuple[tuple[int, float], ...]:
+    """Grid CO2e intensity [g/kWh, read as kg/J]: one number, or a table of calendar year =
+    number (linear between the years, held beyond the first and last)."""
+    if raw is ...:
+        raise InputError(where, "is required: the grid's CO2e per kWh drawn, e.g. "
+                         'grid_co2e = 420 or { "2027" = 420, "2035" = 180 } (g/kWh)')
+    def intensity(value: Any, w: str) -> float:
+        g = read_number(value, w, what="a number of g CO2e per kWh")
+        _check_range(g, w, 0.0, MAX_GRID_G_PER_KWH, ("g/kWh", 1.0))
+        return g / 3.6e9  # [kg/J]
+
+    if not isinstance(raw, Mapping):
+        return ((0, intensity(raw, where)),)
+    if not raw:
+        raise InputError(where, 'needs at least one year = g/kWh, e.g. { "2027" = 420 }')
+    out = []
+    for key, value in raw.items():
+        w = f"{where}.{key}"
+        if not re.fullmatch(r"\d{4}", str(key)):
+            raise InputError(w, 'name a calendar year, e.g. "2030" = 300')
+        out.append((int(key), intensity(value, w)))
+    return tuple(sorted(out))
 
 
 def _unchanged(base: ClassOption) -> ClassOption:
@@ -1184,10 +1596,7 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOpt
     is_baseline = base is None
 
     def at(key: str) -> str:
-        value = r.raw(key, None)
-        if isinstance(value, Mapping) and value and set(value) <= class_ids:
-            return f"{r.at(key)}.{c.id}"
-        return r.at(key)
+        return _class_at(r, key, class_ids, c.id)
 
     def fixed(key: str, default: str | float, low: float, high: float) -> float:
         return _fixed(_per_class(r, key, c.id, class_ids, default), "[]", at(key), None, low,
@@ -1279,6 +1688,7 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOpt
         at_raw = {"preset": device_default, **(at_raw or {})}
     mismatch = None if map_raw is not None else regime_mismatch(fuel, kind, map_regime)
     return ClassOption(
+        **_phasing_and_grant(r, c, class_ids),
         converts=not is_baseline,
         fuel=fuel,
         engine=engine,
@@ -1310,6 +1720,8 @@ def _class_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOpt
         derate_against=(base.fuel if base is not None else fuel) if air_derate else None,
         reference_fuel=load_fuel(DEFAULT_REFERENCE_FUEL[engine]),
         pilot_fuel=pilot,
+        substitution=_substitution(_per_class(r, "gas_substitution", c.id, class_ids, None),
+                                   at("gas_substitution"), kind.name),
     )
 
 
@@ -1340,6 +1752,34 @@ def _pilot_fuel(r: _Reader, c: FleetClass, class_ids: set[str], kind: str, fuel:
         raise InputError(where, f"the pilot {pilot.id} does not ignite by compression; a "
                          'dual-fuel engine needs a diesel-like pilot: pilot_fuel = "diesel"')
     return pilot
+
+
+#: The keys of a ``gas_substitution`` table and the curve's own values.
+_SUBSTITUTION_KEYS = {"share_max": DEFAULT_SUBSTITUTION.share_max,
+                      "load_low": DEFAULT_SUBSTITUTION.load_low,
+                      "load_high": DEFAULT_SUBSTITUTION.load_high}
+
+
+def _substitution(raw: Any, where: str, kind: str) -> Substitution:
+    """A dual-fuel option's ``gas_substitution`` table, checked (the kind's curve if absent)."""
+    if raw is None:
+        return DEFAULT_SUBSTITUTION
+    if kind != "dual-fuel-ci":
+        raise InputError(where, 'a gas substitution curve belongs to conversion = '
+                         '"dual-fuel-ci"; name that conversion or leave gas_substitution out')
+    example = 'gas_substitution = {share_max = "60 %", load_low = "20 %", load_high = "60 %"}'
+    if not isinstance(raw, Mapping) or not raw:
+        raise InputError(where, f"give a table, e.g. {example}")
+    unknown = sorted(set(raw) - set(_SUBSTITUTION_KEYS))
+    if unknown:
+        raise InputError(f"{where}.{unknown[0]}",
+                         f"unknown key; use {', '.join(_SUBSTITUTION_KEYS)} ({example})")
+    values = {key: _fixed(raw.get(key, default), "[]", f"{where}.{key}", None, 0.0, 1.0)
+              for key, default in _SUBSTITUTION_KEYS.items()}
+    try:
+        return Substitution(**values)
+    except InputError as exc:
+        raise InputError(f"{where}.{exc.where}", exc.message) from None
 
 
 def _choice(value: Any, where: str, choices: Iterable[str], what: str) -> str:
@@ -1373,6 +1813,161 @@ def _whole(value: Any, where: str) -> int:
         raise InputError(where, f"must be a whole number of years from 0 (none) to {MAX_YEARS}; "
                          f"got {_short(value)}")
     return value
+
+
+# ----------------------------------------------------------------------------- programme
+
+#: Most money a grant or a station's unit cost may be [currency] (a guard against a typo).
+MAX_MONEY = 1e15
+
+
+def _phasing_and_grant(r: _Reader, c: FleetClass, class_ids: set[str]) -> dict[str, Any]:
+    """A class option's ``phasing``, ``grant_per_vehicle`` and ``grant_share`` (any drive)."""
+    grant, grant_share = _grant(_per_class(r, "grant", c.id, class_ids, 0),
+                                _class_at(r, "grant", class_ids, c.id))
+    raw = _per_class(r, "phasing", c.id, class_ids, None)
+    return {"phasing": None if raw is None else _phasing(
+                raw, _class_at(r, "phasing", class_ids, c.id), c),
+            "grant_per_vehicle": grant, "grant_share": grant_share}
+
+
+def _grant(raw: Any, where: str) -> tuple[float, float]:
+    """A grant as (money, share): a sum (``500``, ``"500 KBD"``) or a share (``"30 %"``)."""
+    if isinstance(raw, Mapping):
+        raise InputError(where, "must be a sum (500) or a share of the capital (\"30 %\"); "
+                         "a grant cannot carry a distribution")
+    if isinstance(raw, str) and raw.strip().endswith("%"):
+        share = _fraction(raw, where)
+        _check_range(share, where, 0.0, 1.0, PERCENT)
+        return 0.0, share
+    money = _quantity(raw, "[currency]", where, None)
+    _check_range(money, where, 0.0, MAX_MONEY)
+    return money, 0.0
+
+
+def _phasing(raw: Any, where: str, c: FleetClass) -> tuple[float, ...]:
+    """Shares of the class converted in each year from year 0: shares adding up to 1 or
+    whole counts adding up to the class's vehicles, at most one a year of its life."""
+    if not isinstance(raw, list) or not raw or not all(
+            isinstance(x, int | float) and not isinstance(x, bool) for x in raw):
+        raise InputError(where, "must be a list of shares a year from year 0, e.g. [0.5, 0.5], "
+                         f"or of vehicle counts adding up to {c.count}, got {_short(raw)}")
+    values = [float(x) for x in raw]
+    if any(not math.isfinite(x) or x < 0 for x in values):
+        raise InputError(where, f"shares and counts must be 0 or more, got {_short(raw)}")
+    total = sum(values)
+    counts = all(isinstance(x, int) for x in raw)
+    if counts and total == c.count:
+        shares = [x / c.count for x in values]
+    elif abs(total - 1.0) <= 1e-9:
+        shares = [x / total for x in values]
+    else:
+        what = f"counts add up to {total:g}, not the class's {c.count} vehicles" if counts \
+            else f"shares add up to {total:g}, not 1"
+        raise InputError(where, f"{what}; give shares adding up to 1 or counts adding up to "
+                         f"{c.count}")
+    if len(shares) > c.remaining_life_years:
+        raise InputError(where, f"{len(shares)} years of conversions, but the class runs "
+                         f"{c.remaining_life_years} more years; convert within its life")
+    return tuple(shares)
+
+
+def _check_phasing(inputs: StudyInputs) -> None:
+    """Every phased conversion ends before the horizon (each cohort runs a year at least)."""
+    h = inputs.horizon_years
+    for i, o in enumerate(inputs.candidates):
+        for cid, co in o.per_class.items():
+            if co.converts and co.phasing is not None and len(co.phasing) > h:
+                raise InputError(f"candidates[{i}].phasing", f"{len(co.phasing)} years of "
+                                 f"conversions on {cid} within a {h}-year horizon; shorten "
+                                 "the phasing or lengthen programme.horizon_years")
+
+
+def _loan(raw: Any, where: str) -> LoanTerms:
+    r = _Reader(raw, where)
+    r.only(("share", "rate", "term_years"), "a loan")
+    return LoanTerms(
+        share=r.uncertain("share", _fraction, low=0.0, high=1.0, unit=PERCENT),
+        rate=r.uncertain("rate", _fraction, low=0.0, high=1.0, unit=PERCENT),
+        term_years=r.integer("term_years", low=1, high=MAX_YEARS))
+
+
+#: Keys of a station, by where they apply.
+_STATION_DEPOT = ("compressor_cost", "storage_cost", "dispenser_cost", "upkeep_share")
+_STATION_OFF = ("detour", "hour_cost")
+
+
+def _station(raw: Any, where: str, classes: tuple[FleetClass, ...],
+             per_class: Mapping[str, ClassOption], converts: Iterable[str],
+             currency: str) -> Station:
+    """A candidate's refuelling station: one fuel (the gas its converted classes run on)."""
+    r = _Reader(raw, where)
+    r.only(("location", "window", "operating_days", "peak_factor", "storage_pressure",
+            "fill_pressure", "hose_flow", "handling", "autonomy_days", "fill_limit",
+            *_STATION_DEPOT, *_STATION_OFF), "a station")
+    served = [c.id for c in classes if c.id in set(converts) and per_class[c.id].converts]
+    fuels = {per_class[cid].fuel.id: per_class[cid].fuel for cid in served}
+    if len(fuels) != 1:
+        raise InputError(where, f"a station dispenses one fuel; the candidate's classes run on "
+                         f"{', '.join(sorted(fuels)) or 'none'}: split it into candidates")
+    fuel = next(iter(fuels.values()))
+    spec = storage_spec(fuel)
+    storage = spec.kind
+    if storage not in STATION_KINDS:
+        raise InputError(where, f"sizes compressed-gas (CNG) and liquefied-gas (LPG) stations; "
+                         f"{fuel.id} is stored {storage}: leave station out")
+    kind = STATION_KINDS[storage]
+    if kind == "lpg" and fuel.liquid_density is None:
+        raise InputError(where, f"{fuel.id} has no liquid density, which an LPG station's "
+                         "tank needs; give liquid_density in its fuel file")
+    location = _choice(r.raw("location", "depot"), r.at("location"), STATION_LOCATIONS,
+                       "station location")
+    for key in _STATION_DEPOT if location == "off-depot" else _STATION_OFF:
+        if r.has(key):
+            other = "depot" if location == "off-depot" else "off-depot"
+            raise InputError(r.at(key), f'applies to location = "{other}" only; leave it out')
+    vehicle_p = spec.pressure or 20e6
+
+    def q(key: str, dimension: str, default: Any, unit: str, scale: float, low: float,
+          high: float) -> float:
+        """A station quantity checked in ``unit`` (errors say it), returned times ``scale``
+        (in SI)."""
+        value = r.quantity(key, dimension, default, unit=unit)
+        _check_range(value, r.at(key), low, high, (unit, 1.0))
+        return value * scale
+
+    if kind == "cng":
+        flow = q("hose_flow", "[mass] / [time]", "20 kg/min", "kg/min", 1 / 60, 0.01, 600.0)
+    else:
+        flow = q("hose_flow", "[length] ** 3 / [time]", "40 L/min", "L/min", 1e-3 / 60, 0.01,
+                 6000.0)
+    money = {"unit": (currency, 1.0)}
+    station = Station(
+        kind=kind, fuel=fuel, location=location,
+        window=q("window", "[time]", "8 h", "hour", 3600.0, 1 / 60, 24.0),
+        operating_days=r.quantity("operating_days", "[]", 365, low=1.0, high=366.0),
+        peak_factor=r.quantity("peak_factor", "[]", 2.0, low=1.0, high=24.0),
+        storage_pressure=q("storage_pressure", "[pressure]", "250 bar", "bar", 1e5, 1.0,
+                           1000.0),
+        fill_pressure=q("fill_pressure", "[pressure]", f"{vehicle_p / 1e5:g} bar", "bar", 1e5,
+                        1.0, 1000.0),
+        hose_flow=flow,
+        handling=q("handling", "[time]", "5 min", "minute", 60.0, 0.0, 1440.0),
+        autonomy_days=r.quantity("autonomy_days", "[]", 7, low=0.1, high=366.0),
+        fill_limit=r.quantity("fill_limit", "[]", "85 %", low=0.1, high=1.0),
+        compressor_cost=r.uncertain("compressor_cost", _money, 0.0, low=0.0, **money),
+        storage_cost=r.uncertain("storage_cost", _money, 0.0, low=0.0, **money),
+        dispenser_cost=r.uncertain("dispenser_cost", _money, 0.0, low=0.0, **money),
+        upkeep_share=r.uncertain("upkeep_share", _fraction, 0.0, low=0.0, high=1.0,
+                                 unit=PERCENT),
+        detour=q("detour", "[time]", "0 min", "minute", 60.0, 0.0, 1440.0),
+        hour_cost=r.uncertain("hour_cost", _money, 0.0, low=0.0,
+                              unit=(f"{currency}/h", 1.0)),
+        classes=tuple(served))
+    if kind == "cng" and not station.storage_pressure > station.fill_pressure:
+        raise InputError(r.at("storage_pressure"), "must be above fill_pressure (the buffer "
+                         "fills the vehicles' cylinders by pressure difference)")
+    return station
 
 
 def _fuel(raw: Any, where: str, base_dir: Path) -> Fuel:
@@ -1494,7 +2089,9 @@ def _age(raw: Any, where: str) -> tuple[float, str | None]:
 
 
 def _prices(r: _Reader, fuels: Mapping[str, Fuel], currency: str,
-            pilots: Mapping[str, str]) -> dict[str, tuple[Price, Uncertain]]:
+            pilots: Mapping[str, str], *, required: bool = True
+            ) -> dict[str, tuple[Price, Uncertain]]:
+    """Prices (or, not ``required``, fuel taxes) by fuel id, each on a basis fitting its fuel."""
     out = {}
     for fid in r.table:
         if fid not in fuels:
@@ -1502,6 +2099,8 @@ def _prices(r: _Reader, fuels: Mapping[str, Fuel], currency: str,
     for fid in fuels:
         where = r.at(fid)
         raw = r.raw(fid, None)
+        if raw is None and not required:
+            continue
         if raw is None:
             role = f" ({pilots[fid]})" if fid in pilots else ""
             raise InputError(where, f'is required: the price of {fid}{role}, e.g. '

@@ -13,14 +13,23 @@ import numpy as np
 import pandas as pd
 
 from workbench.core.cache import memoize
+from workbench.core.constants import J_PER_KWH
 from workbench.core.fuels import Fuel
 from workbench.models import economics as econ
 from workbench.models.duty import DutyTrace, duty_stats
 from workbench.models.emissions import co2e
 from workbench.models.nox import DEFAULT_ENGINE_OUT, engine_preset, nox_sweep
+from workbench.study import refuelling
 from workbench.study.naming import display_unit, input_label, input_rows, study_names
 from workbench.study.results import COLUMNS, PALETTE, StudyResult
-from workbench.study.studyfile import Study, StudyInputs, Uncertain, all_uncertain
+from workbench.study.studyfile import (
+    ELECTRICITY,
+    ClassOption,
+    Study,
+    StudyInputs,
+    Uncertain,
+    all_uncertain,
+)
 
 if TYPE_CHECKING:
     from workbench.study.runner import Plan
@@ -74,6 +83,10 @@ def study_result(study: Study, plan: Plan, lines: Mapping[str, econ.OptionLines]
         fuel_use=_fuel_use_table(plan, lines),
         cash_flows=_cash_flow_table(plan, det),
         fleet_years=_fleet_years_table(plan, det),
+        programme_years=_programme_table(plan, det),
+        phasing=frame("phasing", _phasing_rows(plan)),
+        funding=frame("funding", _funding_rows(plan, det)),
+        stations=frame("stations", refuelling.station_rows(plan)),
         monte_carlo=_monte_carlo_table({k: v.npv for k, v in draws.items()}),
         tornado=_tornado_table(plan, sensitivity),
         breakeven=_breakeven_table(inputs, break_even),
@@ -95,12 +108,13 @@ def physics_tables(plan: Plan) -> dict[str, pd.DataFrame]:
     Returns
     -------
     dict of str to DataFrame
-        ``nox_monthly``, ``storage``, ``operating_points``, ``flame``, ``catalyst`` and
-        ``duty``.
+        ``nox_monthly``, ``storage``, ``operating_points``, ``flame``, ``catalyst``,
+        ``duty`` and ``battery``.
     """
     return {"nox_monthly": _nox_monthly_table(plan), "storage": _storage_table(plan),
             "operating_points": _operating_points_table(plan), "flame": _flame_table(plan),
-            "catalyst": _catalyst_table(plan), "duty": _duty_table(plan.inputs)}
+            "catalyst": _catalyst_table(plan), "duty": _duty_table(plan.inputs),
+            "battery": _battery_table(plan)}
 
 
 def _empty(name: str) -> pd.DataFrame:
@@ -134,8 +148,9 @@ def _per_km_rows(plan: Plan, lines: Mapping[str, econ.OptionLines],
             one = len(ph.fuels) == 1  # litres or kg of two fuels do not add: see fuel_use
             rows.append({
                 "candidate": o.id, "vehicle_class": c.id,
-                "fuel": "/".join(f.fuel.id for f in ph.fuels),
+                "fuel": "/".join(_carriers(o.per_class[c.id])),
                 "fuel_energy_mj_per_km": ph.fuel_energy_per_m * 1e-3,
+                "energy_kwh_per_km": ph.fuel_energy_per_m * 1e3 / J_PER_KWH,
                 "fuel_l_per_100km": ph.fuel_volume_per_m * 1e8,
                 "fuel_kg_per_100km": ph.fuel_mass_per_m * 1e5 if one else np.nan,
                 "co2_ttw_g_per_km": ph.co2_ttw_per_m * 1e6,
@@ -165,7 +180,8 @@ def _fuel_use_table(plan: Plan, lines: Mapping[str, econ.OptionLines]) -> pd.Dat
     rows = []
     for o in plan.inputs.options:
         for c, line in zip(plan.inputs.classes, lines[o.id].classes, strict=True):
-            for f, part in zip(plan.physics[o.id, c.id].fuels, line.parts, strict=True):
+            fuels = plan.physics[o.id, c.id].fuels
+            for f, part in zip(fuels, line.parts[:len(fuels)], strict=True):
                 tailpipe = float(co2e(f.per_m.co2_ttw_per_m, f.ch4_per_m, 0.0))
                 upstream = econ.co2e_per_m(replace(line, parts=(part,), tailpipe_co2e_per_m=0.0))
                 rows.append({
@@ -179,7 +195,46 @@ def _fuel_use_table(plan: Plan, lines: Mapping[str, econ.OptionLines]) -> pd.Dat
                     "co2e_ttw_g_per_km": tailpipe * 1e6,
                     "co2e_wtw_g_per_km": (tailpipe + upstream) * 1e6,
                 })
+            if plan.physics[o.id, c.id].electric is not None:  # grid electricity: no tailpipe
+                upstream = econ.co2e_per_m(replace(line, parts=line.parts[-1:],
+                                                   tailpipe_co2e_per_m=0.0))
+                rows.append({
+                    "candidate": o.id, "vehicle_class": c.id, "fuel": ELECTRICITY,
+                    "role": "grid", "energy_share": 1.0,
+                    "fuel_energy_mj_per_km": plan.physics[o.id, c.id].fuel_energy_per_m * 1e-3,
+                    "co2_ttw_g_per_km": 0.0, "ch4_g_per_km": 0.0, "co2e_ttw_g_per_km": 0.0,
+                    "co2e_wtw_g_per_km": upstream * 1e6})
     return frame("fuel_use", rows)
+
+
+def _carriers(co: ClassOption) -> tuple[str, ...]:
+    """Ids of the energy carriers an option buys for a class: its fuels, or electricity."""
+    return tuple(f.id for f in co.fuels) + ((ELECTRICITY,) if co.electric is not None else ())
+
+
+def _battery_table(plan: Plan) -> pd.DataFrame:
+    """One row per battery-electric option x class: the pack, its mass, the charging check."""
+    rows = []
+    for (oid, cid), ph in plan.physics.items():
+        if ph.electric is None:
+            continue
+        e = next(o for o in plan.inputs.options if o.id == oid).per_class[cid].electric
+        s, ch = ph.electric.sizing, ph.electric.charging
+        energy = s.energy
+        rows.append({
+            "candidate": oid, "vehicle_class": cid, "range_km": e.range / 1e3,
+            "capacity_kwh": s.capacity / J_PER_KWH, "pack_mass_kg": s.mass,
+            "added_mass_kg": s.added_mass, "payload_loss_kg": max(s.added_mass, 0.0),
+            "payload_kg": s.vehicle.payload,
+            "battery_kwh_per_km": energy.battery_per_m * 1e3 / J_PER_KWH,
+            "energy_kwh_per_km": energy.grid_per_m * 1e3 / J_PER_KWH,
+            "regen_share_of_braking": (energy.regen_wheel / energy.braking
+                                       if energy.braking > 0 else 0.0),
+            "peak_power_kw": energy.peak_dc_power / 1e3,
+            "charging_power_kw": ch.power / 1e3, "charging_hours": ch.time_needed / 3600.0,
+            "charging_window_h": ch.window / 3600.0, "charging_fits": ch.fits,
+            "charging_message": ch.message})
+    return frame("battery", rows)
 
 
 def _candidates_table(plan: Plan, det: econ.Money, per_km: list[dict],
@@ -203,8 +258,8 @@ def _candidates_table(plan: Plan, det: econ.Money, per_km: list[dict],
         pct = np.percentile(mc.npv, [10, 50, 90]) if mc is not None else [nan] * 3
         rows.append({
             "candidate": o.id, "name": o.name,
-            "fuel": "/".join(dict.fromkeys(f.id for co in o.per_class.values()
-                                           for f in co.fuels)),
+            "fuel": "/".join(dict.fromkeys(f for co in o.per_class.values()
+                                           for f in _carriers(co))),
             "is_baseline": o.is_baseline, "colour": colours[o.id],
             "fuel_energy_mj_per_km": avg("fuel_energy_mj_per_km"),
             "co2_ttw_g_per_km": avg("co2_ttw_g_per_km"),
@@ -247,22 +302,101 @@ def _cash_flow_table(plan: Plan, det: econ.Money) -> pd.DataFrame:
     return _by_year("cash_flows", inputs, parts)
 
 
+def phasing_of(plan: Plan, option: str, cid: str) -> np.ndarray | None:
+    """Share of class ``cid`` an option converts in each programme year, shape (H+1,); None
+    when it converts the class all in year 0 or not at all."""
+    co = next(o for o in plan.inputs.options if o.id == option).per_class[cid]
+    if not co.converts or co.phasing is None:
+        return None
+    out = np.zeros(plan.inputs.horizon_years + 1)
+    out[:len(co.phasing)] = co.phasing
+    return out
+
+
 def _fleet_years_table(plan: Plan, det: econ.Money) -> pd.DataFrame:
     inputs = plan.inputs
+    h = inputs.horizon_years
+    base = inputs.baseline.id
     parts: list[dict[str, np.ndarray]] = []
     for o in inputs.options:
-        energy = ttw = nox = repl = np.zeros(inputs.horizon_years + 1)
+        energy = ttw = nox = repl = np.zeros(h + 1)
         for c in inputs.classes:
             ph = plan.physics[o.id, c.id]
             km = c.km_per_year.nominal * c.count * plan.active[c.id]
-            energy = energy + km * ph.fuel_energy_per_m
-            ttw = ttw + km * ph.co2_ttw_per_m
-            nox = nox + plan.nox_t[o.id, c.id]
-            repl = repl + plan.replacements[o.id, c.id]
+            phasing = phasing_of(plan, o.id, c.id)
+            share = econ.converted_share(phasing, h) if phasing is not None else 1.0
+            was = plan.physics[base, c.id]
+            energy = energy + km * (share * ph.fuel_energy_per_m
+                                    + (1.0 - share) * was.fuel_energy_per_m)
+            ttw = ttw + km * (share * ph.co2_ttw_per_m + (1.0 - share) * was.co2_ttw_per_m)
+            repl = repl + econ.cohorts(plan.replacements[o.id, c.id], phasing) \
+                * plan.active[c.id] + (1.0 - share) * plan.replacements[base, c.id]
+        nox = det.nox[o.id] / 1e3
         parts.append({"fuel_energy_gj": energy / 1e9, "co2_ttw_t": ttw / 1e3,
                       "co2e_wtw_t": det.co2e[o.id][0] / 1e3, "nox_t": nox,
                       "catalyst_replacements": repl, "cost_total": det.costs[o.id][0]})
     return _by_year("fleet_years", inputs, parts)
+
+
+def _programme_table(plan: Plan, det: econ.Money) -> pd.DataFrame:
+    """Capital, grants, financing and fuel tax by candidate and year (the public client's
+    view of the fuel tax: ``fuel_tax_vs_baseline``)."""
+    inputs = plan.inputs
+    base = inputs.baseline.id
+    parts = [{"capital": det.capital[o.id][0], "grants": det.grants[o.id][0],
+              "financing": det.financing[o.id][0],
+              "loan_balance": np.where(np.arange(inputs.horizon_years + 1)
+                                       == inputs.horizon_years, det.loan_balance[o.id][0], 0.0),
+              "fuel_tax": det.tax[o.id][0],
+              "fuel_tax_vs_baseline": det.tax[o.id][0] - det.tax[base][0]}
+             for o in inputs.options]
+    return _by_year("programme_years", inputs, parts)
+
+
+def _phasing_rows(plan: Plan) -> list[dict]:
+    """Rows of the ``phasing`` table: each class a candidate converts, by programme year."""
+    inputs = plan.inputs
+    h = inputs.horizon_years
+    rows = []
+    for o in inputs.candidates:
+        for c in inputs.classes:
+            co = o.per_class[c.id]
+            if not co.converts:
+                continue
+            shares = phasing_of(plan, o.id, c.id)
+            if shares is None:
+                shares = np.zeros(h + 1)
+                shares[0] = 1.0
+            running = econ.converted_share(shares, h) * plan.active[c.id]
+            for y in range(h + 1):
+                rows.append({"candidate": o.id, "vehicle_class": c.id,
+                             "year": inputs.start_year + y, "converted_share": shares[y],
+                             "vehicles_converted": shares[y] * c.count,
+                             "running_converted_share": running[y]})
+    return rows
+
+
+def _funding_rows(plan: Plan, det: econ.Money) -> list[dict]:
+    """Rows of the ``funding`` table: each candidate's capital, grants, loan and the present
+    value of the change in fuel tax it pays (the public client's revenue change)."""
+    inputs = plan.inputs
+    base = inputs.baseline.id
+    rate = float(det.rate[0])
+    rows = []
+    for o in inputs.candidates:
+        tax_change = det.tax[o.id][0] - det.tax[base][0]
+        rows.append({
+            "candidate": o.id, "capital": float(det.capital[o.id][0].sum()),
+            "grants": float(det.grants[o.id][0].sum()),
+            "loan_share": np.nan if o.loan is None else o.loan.share.nominal,
+            "loan_rate": np.nan if o.loan is None else o.loan.rate.nominal,
+            "loan_term_years": np.nan if o.loan is None else o.loan.term_years,
+            "loan_balance_at_horizon": float(det.loan_balance[o.id][0]),
+            "fuel_tax_paid": float(det.tax[o.id][0].sum()),
+            "fuel_tax_change_pv": float(np.asarray(econ.npv(rate, tax_change))),
+            "npv_vs_baseline": float(np.asarray(econ.npv(
+                rate, det.cash[o.id][0] - det.cash[base][0])))})
+    return rows
 
 
 def _by_year(name: str, inputs: StudyInputs, parts: list[dict[str, np.ndarray]]
@@ -291,7 +425,7 @@ def _nox_monthly_table(plan: Plan) -> pd.DataFrame:
 def _storage_table(plan: Plan) -> pd.DataFrame:
     rows = [{"candidate": oid, "vehicle_class": cid,
              "fuel": _fuel(plan.inputs, oid, cid).id, **ph.storage}
-            for (oid, cid), ph in plan.physics.items()]
+            for (oid, cid), ph in plan.physics.items() if ph.storage]
     return frame("storage", rows)
 
 
@@ -308,7 +442,7 @@ def _monte_carlo_table(mc: Mapping[str, np.ndarray]) -> pd.DataFrame:
 
 
 def _tornado_table(plan: Plan, sensitivity: Mapping[str, pd.DataFrame]) -> pd.DataFrame:
-    units = {u.path: (u.unit, u.scale) for u in all_uncertain(plan.inputs)}
+    units = {u.path: (u.unit, u.scale) for u in all_uncertain(plan.inputs)} | plan.factor_units
     frames = []
     for oid, t in sensitivity.items():
         t = t[t["swing"] > 1e-9 * max(float(t["swing"].max()), 1.0)]
@@ -352,6 +486,8 @@ def _breakeven_table(inputs: StudyInputs,
 def _operating_points_table(plan: Plan) -> pd.DataFrame:
     frames = []
     for (oid, cid), ph in plan.physics.items():
+        if ph.duty is None:  # no engine
+            continue
         c = next(k for k in plan.inputs.classes if k.id == cid)
         per_year = c.km_per_year.nominal / ph.duty.energy.distance  # profile passes per year
         p = ph.duty.points
@@ -368,7 +504,7 @@ def _flame_table(plan: Plan) -> pd.DataFrame:
     for o in plan.inputs.options:
         for co in o.per_class.values():
             key = (o.id, co.fuel.id)
-            if key in seen or (not co.converts and not o.is_baseline):
+            if key in seen or (not co.converts and not o.is_baseline) or not co.fuels:
                 continue
             seen.add(key)
             table = nox_sweep(co.fuel, engine_preset(co.engine), phi=list(FLAME_PHI))
@@ -418,9 +554,34 @@ def _assumptions(study: Study, draws: int) -> dict[str, str]:
                                     "add (first order)",
         "engine-out NOx": "screening model: baseline measured or typical engine-out NOx scaled "
                           "by the flame-chemistry propensity of each fuel",
-        "classes past their remaining life": "drop out of every option alike (replacement "
-                                             "vehicles are outside the study)",
+        "classes past their remaining life": "drop out of every option alike (a candidate's "
+                                             "new vehicles run the same years and are sold "
+                                             "when the class leaves the programme)",
     }
+    if any(co.electric is not None for o in i.options for co in o.per_class.values()):
+        out["battery-electric tailpipe"] = (
+            "zero CO2, CH4, N2O, NOx, PM, CO and hydrocarbons (nothing burns on board); brake "
+            "and tyre wear particles are not counted for any drive; the grid's CO2e per kWh "
+            "drawn is counted well to wheel, year by year")
+    per_class = [co for o in i.candidates for co in o.per_class.values() if co.converts]
+    if any(co.phasing is not None for co in per_class):
+        out["phased conversions"] = ("a vehicle converted in year j runs converted from year "
+                                     "j + 1 and as the baseline until then; each cohort's "
+                                     "catalysts, inspections and residual value count from "
+                                     "its own conversion year")
+    if any(o.loan is not None for o in i.candidates):
+        out["loans"] = ("a share of each year's capital net of grants is borrowed at a real "
+                        "rate and repaid as a level annuity from the next year; a balance left "
+                        "at the horizon is settled in the last year")
+    if i.fuel_tax:
+        out["fuel tax"] = ("paid on top of the prices and escalated with its fuel's price; in "
+                           "the operator's NPV, and as the public client's revenue change in "
+                           "the funding table")
+    if any(o.stations for o in i.candidates):
+        out["refuelling stations"] = ("sized for the whole class converted at the nominal "
+                                      "distance; screening sizes for the cost, to be designed "
+                                      "and installed by licensed practitioners under local "
+                                      "codes")
     return out
 
 

@@ -73,15 +73,21 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--efficiency-offset", type=finite_float, metavar="X",
                    help="added to the map's brake efficiency on the candidate fuels, e.g. -0.01 "
                         "(default: the conversion's)")
+    add_settings_options(p)
+    p.add_argument("--json", action="store_true", help="print JSON")
+    add_fuels_option(p)
+    p.set_defaults(func=_fuel)
+
+
+def add_settings_options(p: argparse.ArgumentParser) -> None:
+    """Add the duty settings (accessories, engine-off at stops, extra idling) to a command;
+    :func:`settings_from` reads them back."""
     p.add_argument("--accessory-kw", type=finite_float, default=0.0, metavar="KW",
                    help="accessory power while the engine runs, kW (default 0)")
     p.add_argument("--engine-off-at-stops", action="store_true",
                    help="stop the engine at every stop")
     p.add_argument("--extra-idle-share", type=finite_float, default=0.0, metavar="X",
                    help="share of time idling beyond the trace, e.g. waiting at a rank")
-    p.add_argument("--json", action="store_true", help="print JSON")
-    add_fuels_option(p)
-    p.set_defaults(func=_fuel)
 
 
 def _kinds() -> list[str]:
@@ -158,7 +164,8 @@ def _stats(args: argparse.Namespace) -> None:
         print("\n".join(f"{k:34s} {_fmt(v)}" for k, v in record.items()))
 
 
-def _settings(args: argparse.Namespace) -> DutySettings:
+def settings_from(args: argparse.Namespace) -> DutySettings:
+    """The duty settings of :func:`add_settings_options`, checked (errors name the option)."""
     from workbench.models.duty import DutySettings
 
     options = {"accessory_power": "--accessory-kw", "extra_idle_share": "--extra-idle-share"}
@@ -178,17 +185,19 @@ def _fuel(args: argparse.Namespace) -> None:
     from workbench.models.combustion import fuel_sheet
     from workbench.models.conversion import (
         KINDS,
+        REGIME_SLIP,
         convert,
         fuel_regime,
         histogram_gas_share,
         infer_kind,
         kind_derate,
         regime_mismatch,
+        slipped,
     )
     from workbench.models.duty import DutyTrace
     from workbench.models.engine import fuel_per_distance_for, run_duty
 
-    settings = _settings(args)
+    settings = settings_from(args)
     profile = _profile(args.profile)
     base_map = read_map(resolve(args.map, "map", "--map"))
     vehicle = None
@@ -233,20 +242,24 @@ def _fuel(args: argparse.Namespace) -> None:
         first = first or phys
         record = {"fuel": fuel.id, "conversion": kind.name, "derate": derate,
                   "efficiency_offset": offset}
+        # the kind's methane slip, or the regime's for a fuel burnt as made for (as a study)
+        slip = kind.methane_slip if kind.name != "none" else REGIME_SLIP[fuel_regime(fuel)]
         if kind.name == "dual-fuel-ci":
             share = histogram_gas_share(phys, engine.engine_map)
             record["gas_energy_share"] = share
             total = phys.energy.fuel_energy
-            gas = fuel_per_distance_for(replace(phys.energy, fuel_energy=total * share), fuel,
-                                        sheet)
+            gas, ch4 = slipped(fuel_per_distance_for(
+                replace(phys.energy, fuel_energy=total * share), fuel, sheet), fuel, slip)
             pilot = fuel_per_distance_for(replace(phys.energy, fuel_energy=total * (1 - share)),
                                           fuels[0], reference)
-            rows.append(record | gas.trade_units())
+            rows.append(record | gas.trade_units() | {"ch4_g_per_km": ch4 * 1e6})
             rows.append({"fuel": f"{fuels[0].id} pilot", "conversion": kind.name,
                          "derate": derate, "efficiency_offset": offset,
-                         "gas_energy_share": share} | pilot.trade_units())
+                         "gas_energy_share": share} | pilot.trade_units()
+                        | {"ch4_g_per_km": 0.0})
         else:
-            rows.append(record | fuel_per_distance_for(phys.energy, fuel, sheet).trade_units())
+            use, ch4 = slipped(fuel_per_distance_for(phys.energy, fuel, sheet), fuel, slip)
+            rows.append(record | use.trade_units() | {"ch4_g_per_km": ch4 * 1e6})
     energy = first.energy
     record = {
         "profile": args.profile,

@@ -10,11 +10,15 @@ from __future__ import annotations
 
 import argparse
 import math
-import sys
 
 from workbench.core.errors import InputError
-from workbench.interfaces.cli import add_quiet, command
-from workbench.interfaces.commands.duty import demo_names, resolve
+from workbench.interfaces.cli import add_quiet, command, print_vehicles
+from workbench.interfaces.commands.duty import (
+    add_settings_options,
+    demo_names,
+    resolve,
+    settings_from,
+)
 
 
 def register(sub: argparse._SubParsersAction) -> None:
@@ -34,7 +38,8 @@ def register(sub: argparse._SubParsersAction) -> None:
                 example=["workbench fleet run 'logs/*.csv' --vehicle taxi --map taxi-si-1.8l "
                          "--fuel gasoline",
                          "workbench fleet run logs/ --vehicle taxi --map taxi-si-1.8l "
-                         "--fuel lpg --fuel-cards cards.csv --workers 2 --json"])
+                         "--fuel gasoline --fuel-cards cards.csv --accessory-kw 1.5 "
+                         "--extra-idle-share 0.15 --workers 2 --json"])
     p.add_argument("source", metavar="SOURCE",
                    help="logger file, folder, glob ('logs/*.csv') or Parquet dataset folder")
     p.add_argument("--vehicle", required=True, metavar="V",
@@ -43,6 +48,7 @@ def register(sub: argparse._SubParsersAction) -> None:
                    help=f"demo map ({', '.join(demo_names('map'))}) or a map CSV path")
     p.add_argument("--fuel", required=True, metavar="F", help="the fuel the logs were driven on")
     p.add_argument("--fuel-cards", metavar="CSV", help="fuel-card fills to compare and calibrate")
+    add_settings_options(p)
     p.add_argument("--workers", type=int, default=None, metavar="N",
                    help="local worker processes (default: one per core; 1 runs in process)")
     p.add_argument("--scheduler", metavar="ADDR",
@@ -51,11 +57,6 @@ def register(sub: argparse._SubParsersAction) -> None:
     add_quiet(p)
     p.add_argument("--json", action="store_true", help="print JSON")
     p.set_defaults(func=_run)
-
-
-def _progress(done: int, total: int) -> None:
-    print(f"\rvehicles {done}/{total}", end="\n" if done == total else "", file=sys.stderr,
-          flush=True)
 
 
 def _run(args: argparse.Namespace) -> None:
@@ -75,8 +76,9 @@ def _run(args: argparse.Namespace) -> None:
     sheet = fuel_sheet(fuel)
     density = fuel.liquid_density or math.nan
     engine = args.scheduler or ("serial" if args.workers == 1 else "process")
-    run = run_fleet(args.source, vehicle, engine_map, engine=engine, workers=args.workers,
-                    progress=None if args.quiet else _progress)
+    run = run_fleet(args.source, vehicle, engine_map, settings=settings_from(args),
+                    engine=engine, workers=args.workers,
+                    progress=None if args.quiet else print_vehicles)
     table = run.table()
     to_l100 = 1e8 / (sheet.lhv_mass * density)  # J/m -> L/100 km
     table["fuel_l_per_100km"] = table["fuel_energy_mj_per_km"] * 1e3 * to_l100
@@ -88,13 +90,18 @@ def _run(args: argparse.Namespace) -> None:
         "fuel_l_per_100km_p10": agg.spread_per_m[0] * to_l100,
         "fuel_l_per_100km_p90": agg.spread_per_m[1] * to_l100,
         "distance_km": agg.energy.distance / 1e3, "share_idle": agg.energy.share_idle,
-        "problems": list(run.problems), "vehicles": table.to_dict("records"),
+        "problems": list(run.problems),
     }
     cal = None
+    cols = ["vehicle", "distance_km", "fuel_l_per_100km", "share_idle", "trips", "gaps",
+            "spikes", "duplicates", "missing"]
     if args.fuel_cards:
         records = read_fuel_cards(args.fuel_cards)
         per_amount = card_energy_per_amount(fuel, sheet.lhv_mass, records.basis, "--fuel")
         cal, notes = calibrate_fleet(run, records, energy_per_amount=per_amount)
+        cards = cal.per_vehicle(table["vehicle"])
+        table = table.assign(**{k: cards[k].to_numpy() for k in cards})
+        cols[3:3] = ["fuel_energy_mj_per_km", *cards]
         record["calibration"] = {"calibration_factor": cal.factor,
                                  "calibration_factor_se": cal.factor_se,
                                  "vehicles": cal.vehicles,
@@ -103,11 +110,10 @@ def _run(args: argparse.Namespace) -> None:
                                  "rms_residual_mj_per_km": cal.rms_residual_per_m / 1e3,
                                  "notes": list(notes),
                                  "residuals": cal.residuals.to_dict("records")}
+    record["vehicles"] = table.to_dict("records")
     if args.json:
         print_json(record)
         return
-    cols = ["vehicle", "distance_km", "fuel_l_per_100km", "share_idle", "trips", "gaps",
-            "spikes", "duplicates", "missing"]
     print(table[cols].to_string(index=False, float_format=lambda x: f"{x:.3g}"))
     print(f"\nclass: {record['fuel_l_per_100km']:.2f} L/100 km over "
           f"{record['distance_km']:,.0f} km, {len(run.summaries)} of {run.found} vehicles; "
@@ -119,5 +125,5 @@ def _run(args: argparse.Namespace) -> None:
         print(f"\nfuel cards: observed {cal.observed_per_m / 1e3:.3f} MJ/km, modelled "
               f"{cal.modelled_per_m / 1e3:.3f} MJ/km over {cal.vehicles} vehicles; "
               f"calibration factor {cal.factor:.3f} ± {cal.factor_se:.3f} (1 se), "
-              f"RMS residual {cal.rms_residual_per_m / 1e3:.3f} MJ/km")
-        print(cal.residuals.to_string(index=False, float_format=lambda x: f"{x:.3f}"))
+              f"RMS residual {cal.rms_residual_per_m / 1e3:.3f} MJ/km (each vehicle's "
+              "observed and residual in the table above)")

@@ -16,6 +16,7 @@ from workbench.interfaces.cli import (
     command,
     open_in_browser,
     progress,
+    vehicle_progress,
 )
 from workbench.io.files import check_target, write_text_atomic
 
@@ -138,7 +139,8 @@ def _result(study: Study, args: argparse.Namespace) -> StudyResult:
 
     if args.draws is not None:
         check_draws(args.draws, study.inputs, "--draws")
-    return run(study, draws=args.draws, progress=progress(args))
+    return run(study, draws=args.draws, progress=progress(args),
+               vehicles=vehicle_progress(args))
 
 
 def _check(args: argparse.Namespace) -> None:

@@ -13,8 +13,9 @@ from workbench.interfaces.panels.candidates import CandidatesPanel
 from workbench.interfaces.panels.economics import EconomicsPanel
 from workbench.interfaces.panels.export import ExportPanel
 from workbench.interfaces.panels.inputs import DutyPanel, EngineMapPanel
+from workbench.interfaces.panels.programme import ProgrammePanel
 from workbench.interfaces.panels.results import ResultsPanel
 from workbench.interfaces.panels.state import StudyState
 
 __all__ = ["App", "CandidatesPanel", "DutyPanel", "EconomicsPanel", "EngineMapPanel",
-           "ExportPanel", "ResultsPanel", "StudyState", "open_study"]
+           "ExportPanel", "ProgrammePanel", "ResultsPanel", "StudyState", "open_study"]

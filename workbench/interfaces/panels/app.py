@@ -17,6 +17,7 @@ from workbench.interfaces.panels.economics import EconomicsPanel
 from workbench.interfaces.panels.export import ExportPanel
 from workbench.interfaces.panels.fields import esc
 from workbench.interfaces.panels.inputs import DutyPanel, EngineMapPanel
+from workbench.interfaces.panels.programme import ProgrammePanel
 from workbench.interfaces.panels.results import ResultsPanel
 from workbench.interfaces.panels.state import StudyState
 from workbench.interfaces.report import SAFETY_CAUTION
@@ -35,6 +36,40 @@ class StatusLine(widgets.HTML):
         return f'<div class="wb-status" style="color:#555"><i>{esc(text)}</i></div>'
 
 
+class FleetProgress(widgets.HBox):
+    """A bar of the vehicles a fleet run has done (a class run from its logs), fed by the
+    state's vehicle progress: the ``(done, total)`` callback the terminal prints
+    (``workbench.study.fleet.Progress``). Hidden until a fleet run reports; made after the
+    state's first run (:func:`open_study` runs the study before laying out the panels), it
+    starts from the last report of that run.
+
+    Attributes
+    ----------
+    bar : ipywidgets.IntProgress
+        ``value`` vehicles done of ``max``.
+    label : ipywidgets.Label
+        ``"7 of 13 vehicles run"``.
+    """
+
+    def __init__(self, state: StudyState) -> None:
+        self.bar = widgets.IntProgress(value=0, min=0, max=1, description="vehicles",
+                                       bar_style="info")
+        self.label = widgets.Label("")
+        super().__init__([self.bar, self.label], layout=widgets.Layout(display="none"))
+        state.on_vehicles(self.update)
+        if state.vehicle_progress is not None:
+            self.update(*state.vehicle_progress)
+
+    def update(self, done: int, total: int) -> None:
+        """Show ``done`` of ``total`` vehicles [-]; green when the run is through."""
+        self.bar.value = 0  # before max, so a shorter run's max never clips the old value
+        self.bar.max = max(total, 1)
+        self.bar.value = done
+        self.bar.bar_style = "success" if done >= total else "info"
+        self.label.value = f"{done} of {total} vehicles run"
+        self.layout.display = None
+
+
 class App(widgets.VBox):
     """Every panel of the workbench over one :class:`StudyState`.
 
@@ -49,29 +84,35 @@ class App(widgets.VBox):
     ----------
     state : StudyState
         The shared state.
-    economics, candidates, duty, engine_map, results, export : widgets
+    economics, programme, candidates, duty, engine_map, results, export : widgets
         The panels.
+    status, fleet_progress : widgets
+        What the current run is doing; the vehicles a fleet run has done.
     """
 
     def __init__(self, state: StudyState, *, export_dir: Path | None = None) -> None:
         self.state = state
         self.economics = EconomicsPanel(state)
+        self.programme = ProgrammePanel(state)
         self.candidates = CandidatesPanel(state)
         self.duty = DutyPanel(state, plot=False)
         self.engine_map = EngineMapPanel(state, plot=False)
         self.results = ResultsPanel(state)
         self.export = ExportPanel(state, folder=export_dir)
         self.status = StatusLine(state)
-        self.tabs = widgets.Tab(children=[self.economics, self.candidates, self.duty,
-                                          self.engine_map],
-                                titles=("Economics", "Fuels", "Duty", "Efficiency map"))
+        self.fleet_progress = FleetProgress(state)
+        self.tabs = widgets.Tab(children=[self.economics, self.programme, self.candidates,
+                                          self.duty, self.engine_map],
+                                titles=("Economics", "Programme", "Fuels", "Duty",
+                                        "Efficiency map"))
         self.tabs.observe(self._tab_opened, names="selected_index")
         title = state.result.title if state.result is not None else state.study.where
         super().__init__([
             widgets.HTML(f"<h2>{esc(title)}</h2><p style='border-left:6px solid #D55E00;"
                          f"padding:4px 10px;background:#fff4ec'><b>Safety:</b> "
                          f"{esc(SAFETY_CAUTION)}</p>"),
-            self.results.verdict, self.status, self.tabs, self.results, self.export,
+            self.results.verdict, self.status, self.fleet_progress, self.tabs, self.results,
+            self.export,
         ])
 
     def _tab_opened(self, change: dict) -> None:

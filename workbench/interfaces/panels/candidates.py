@@ -8,12 +8,15 @@ escalation and upstream entries to the new id (the panel says so: check them in 
 panel) and drops the old fuel's entries when no option uses it any more. Each row shows the
 fuel's sheet (``workbench.interfaces.sheets.fuel_record``) as a table. Each candidate's
 conversion kind (``bi-fuel-si``, ``dedicated-si``, ...) is picked beside its fuel, or left to
-the study's inference; the row says which kind each class gets.
+the study's inference; the row says which kind each class gets. A ``dual-fuel-ci`` candidate's
+pilot fuel (a compression-ignition fuel; by default the diesel the class burns today) is picked
+below, with its prices copied as for a fuel.
 """
 
 from __future__ import annotations
 
 import tomllib
+from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Any
 
@@ -24,7 +27,7 @@ from workbench.core.fuels import BASES, Fuel, find_fuel, list_fuels, load_fuel
 from workbench.interfaces.panels.fields import error_widget, esc, show_error
 from workbench.interfaces.panels.state import OptionSlot, StudyState, option_slots
 from workbench.interfaces.sheets import SHEET_FIELDS, format_cell, fuel_record
-from workbench.models.conversion import KINDS
+from workbench.models.conversion import KINDS, fuel_regime
 from workbench.study.studyfile import Study
 
 #: Dropdown value meaning "a blend of two library fuels".
@@ -72,6 +75,57 @@ def sheet_html(fuel: Fuel) -> str:
         for k, unit in SHEET_FIELDS.items() if k not in _HIDDEN)
     return (f'<div class="wb-sheet"><b>{esc(fuel.name)}</b> ({esc(fuel.id)})'
             f'<table style="font-size:12px;border-collapse:collapse">{rows}</table></div>')
+
+
+def switch_fuel(state: StudyState, paths: Sequence[str], old_id: str, new_id: str,
+                still_used: set[str]) -> tuple[InputError | None, str]:
+    """Write a library fuel's id at key paths, with the price tables that follow a fuel.
+
+    The new fuel takes the old one's ``prices``, ``escalation`` and ``upstream`` entries where
+    the study has none for it; the old fuel's entries go when no other choice uses it.
+
+    Parameters
+    ----------
+    state : StudyState
+        The shared state (changed and re-run on success).
+    paths : sequence of str
+        Key paths of the fuel choice (one, or one per class).
+    old_id, new_id : str
+        The fuel there now and the one picked.
+    still_used : set of str
+        Ids of the fuels the study's other choices burn.
+
+    Returns
+    -------
+    (InputError or None, str)
+        The error to show, and a note (HTML) naming the copied tables, or "".
+    """
+    data = state.study.data
+    changes: dict[str, Any] = dict.fromkeys(paths, new_id)
+    copied = []
+    for table in FUEL_TABLES:
+        entries = data.get(table, {})
+        if new_id not in entries and old_id in entries:
+            changes[f"{table}.{new_id}"] = entries[old_id]
+            copied.append(table)
+    remove = _dropped(data, old_id, still_used | {new_id})
+    error = state.apply_many(changes, remove=remove)
+    note = (f"<i>{esc(', '.join(copied))} of {esc(new_id)} copied from {esc(old_id)}: check "
+            "them in the economics panel.</i>") if copied and error is None else ""
+    return error, note
+
+
+def _dropped(data: dict[str, Any], old_id: str, still_used: set[str]) -> tuple[str, ...]:
+    """Key paths of a fuel's price-like entries once no choice uses it (none while one does)."""
+    if old_id in still_used:
+        return ()
+    return tuple(f"{t}.{old_id}" for t in FUEL_TABLES if old_id in data.get(t, {}))
+
+
+def pilot_fuels(study: Study) -> list[Fuel]:
+    """The pilot fuels the study's dual-fuel options burn (each class's)."""
+    return [co.pilot_fuel for o in study.inputs.options for co in o.per_class.values()
+            if co.pilot_fuel is not None]
 
 
 class FuelRow(widgets.VBox):
@@ -141,28 +195,14 @@ class FuelRow(widgets.VBox):
 
     def _apply_library(self, new_id: str) -> None:
         study = self.state.study
-        data = study.data
-        slots = fuel_slots(study)
         old_id = self._slot().fuel.id
-        changes: dict[str, Any] = {self.path: new_id}
-        remove: list[str] = []
-        copied = []
-        for table in FUEL_TABLES:
-            entries = data.get(table, {})
-            if new_id not in entries and old_id in entries:
-                changes[f"{table}.{new_id}"] = entries[old_id]
-                copied.append(table)
-        still_used = {s.fuel.id for s in slots if s.path != self.path}
-        if old_id not in still_used and old_id != new_id:
-            remove = [f"{t}.{old_id}" for t in FUEL_TABLES if t in data]
-        error = self.state.apply_many(changes, remove=tuple(remove))
+        still_used = {s.fuel.id for s in fuel_slots(study) if s.path != self.path} | {
+            f.id for f in pilot_fuels(study)}
+        error, note = switch_fuel(self.state, (self.path,), old_id, new_id, still_used)
         show_error(self.error, error)
         if error is None:
             self._refresh()
-            if copied:
-                self.note.value = (
-                    f"<i>{esc(', '.join(copied))} of {esc(new_id)} copied from {esc(old_id)}: "
-                    "check them in the economics panel.</i>")
+            self.note.value = note
 
     def _blend_changed(self, _change: dict[str, Any]) -> None:
         if self.choice.value != BLEND:
@@ -223,6 +263,79 @@ class ConversionRow(widgets.HBox):
             self.kinds.value = f"<i>{esc(kinds_text(self.state.study, self.option_id))}</i>"
 
 
+#: Dropdown value meaning "no pilot_fuel key: the pilot is the fuel the class burns today".
+TODAY_PILOT = "(the class's fuel today)"
+
+
+def pilot_choices() -> list[str]:
+    """Library fuels that can be a dual-fuel engine's pilot (compression-ignition fuels)."""
+    out = []
+    for fid in list_fuels():
+        try:
+            if fuel_regime(load_fuel(fid)) == "compression-ignition":
+                out.append(fid)
+        except InputError:  # a broken user fuel file: the fuel rows say why
+            continue
+    return out
+
+
+class PilotRow(widgets.HBox):
+    """The pilot fuel of one candidate (or of one of its classes): used where the candidate's
+    conversion is ``dual-fuel-ci``, greyed out otherwise."""
+
+    def __init__(self, state: StudyState, slot: OptionSlot) -> None:
+        self.state = state
+        self.path = slot.path
+        self.option_id = slot.option.id
+        self.one_class = slot.path.endswith(f".pilot_fuel.{slot.class_id}")
+        raw = state.study.get(slot.path) if _has(state.study, slot.path) else None
+        choices = pilot_choices()
+        value = raw if isinstance(raw, str) else TODAY_PILOT
+        self.choice = widgets.Dropdown(
+            options=[TODAY_PILOT, *choices, *([value] if value not in (TODAY_PILOT, *choices)
+                                              else [])],
+            value=value, description="pilot fuel", layout=widgets.Layout(width="320px"))
+        self.error = error_widget()
+        self.note = widgets.HTML("")
+        self.choice.observe(self._changed, names="value")
+        state.on_change(lambda _state: self._refresh())
+        self._refresh()
+        super().__init__([self.choice, self.error, self.note],
+                         layout=widgets.Layout(flex_flow="row wrap"))
+
+    def _pilots(self) -> dict[str, Fuel]:
+        option = next(o for o in self.state.study.inputs.options if o.id == self.option_id)
+        return {cid: co.pilot_fuel for cid, co in option.per_class.items()
+                if co.pilot_fuel is not None}
+
+    def _refresh(self) -> None:
+        pilots = self._pilots()
+        self.choice.disabled = not pilots
+        self.note.value = (f"<i>{esc('; '.join(f'{c}: {f.id}' for c, f in pilots.items()))}</i>"
+                           if pilots else "<i>dual-fuel-ci only</i>")
+
+    def _changed(self, change: dict[str, Any]) -> None:
+        study = self.state.study
+        pilots = self._pilots()
+        old = next(iter(pilots.values()))
+        used = {s.fuel.id for s in fuel_slots(study)} | {
+            co.pilot_fuel.id for o in study.inputs.options if o.id != self.option_id
+            for co in o.per_class.values() if co.pilot_fuel is not None}
+        if change["new"] == TODAY_PILOT:
+            error = self.state.apply_many({}, remove=(self.path, *_dropped(
+                study.data, old.id, used))) if _has(study, self.path) else None
+        else:
+            option = next(o for o in study.inputs.options if o.id == self.option_id)
+            converted = [cid for cid, co in option.per_class.items() if co.converts]
+            # a pilot belongs to dual-fuel classes only: per class where the others differ
+            paths = [self.path] if self.one_class or set(pilots) == set(converted) else [
+                f"{self.path}.{cid}" for cid in pilots]
+            error, note = switch_fuel(self.state, paths, old.id, change["new"], used)
+            if error is None and note:
+                self.note.value = f"{self.note.value} {note}"  # after the classes' pilots
+        show_error(self.error, error)
+
+
 def _has(study: Study, path: str) -> bool:
     try:
         study.get(path)
@@ -245,6 +358,8 @@ class CandidatesPanel(widgets.VBox):
         The editor of each fuel choice, by key path.
     conversions : dict of str to ConversionRow
         The conversion kind of each candidate (or candidate and class), by key path.
+    pilots : dict of str to PilotRow
+        The pilot fuel of each candidate (or candidate and class), by key path.
     """
 
     def __init__(self, state: StudyState) -> None:
@@ -253,7 +368,13 @@ class CandidatesPanel(widgets.VBox):
         self.conversions = {s.path: ConversionRow(state, s)
                             for s in option_slots(state.study, "conversion")
                             if not s.option.is_baseline}
+        self.pilots = {s.path: PilotRow(state, s)
+                       for s in option_slots(state.study, "pilot_fuel")
+                       if not s.option.is_baseline}
         super().__init__([widgets.HTML("<h3>Fuel candidates</h3>"), *self.rows.values(),
                           widgets.HTML("<b>Conversion kinds</b> (docs/study-file.md: the map, "
                                        "NOx setting, catalyst and slip each implies)"),
-                          *self.conversions.values()])
+                          *self.conversions.values(),
+                          widgets.HTML("<b>Pilot fuels</b> of dual-fuel candidates (the diesel "
+                                       "a <code>dual-fuel-ci</code> engine still burns)"),
+                          *self.pilots.values()])

@@ -94,23 +94,36 @@ class BoundField(widgets.HBox):
     control : ipywidgets.ValueWidget
         The editing widget (Text, Dropdown, IntText…).
     convert : callable, optional
-        Turns the widget's value into the raw study value (``to_raw`` for text fields).
+        Turns the widget's value into the raw study value (``to_raw`` for text fields); an
+        InputError it raises is shown beside the field.
+    empty_removes : bool, optional
+        An empty text takes the key out of the study (an optional entry such as a fuel tax).
     """
 
     def __init__(self, state: StudyState, path: str, title: str, control: widgets.ValueWidget,
-                 *, convert: Callable[[Any], Any] | None = None) -> None:
+                 *, convert: Callable[[Any], Any] | None = None,
+                 empty_removes: bool = False) -> None:
         self.state = state
         self.path = path
         self.control = control
         self.error = error_widget()
         self._convert = convert or (lambda v: v)
+        self._empty_removes = empty_removes
         control.add_class(css_class(path))
         control.observe(self._changed, names="value")
         super().__init__([label(title), control, self.error],
                          layout=widgets.Layout(align_items="center"))
 
     def _changed(self, change: dict[str, Any]) -> None:
-        show_error(self.error, self.state.apply(self.path, self._convert(change["new"])))
+        if self._empty_removes and not str(change["new"]).strip():
+            show_error(self.error, self.state.apply_many({}, remove=(self.path,)))
+            return
+        try:
+            value = self._convert(change["new"])
+        except InputError as exc:
+            show_error(self.error, InputError(self.path, exc.message))
+            return
+        show_error(self.error, self.state.apply(self.path, value))
 
 
 class UncertainField(widgets.HBox):

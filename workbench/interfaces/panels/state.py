@@ -20,6 +20,7 @@ from pathlib import Path
 from typing import Any
 
 from workbench.core.errors import InputError
+from workbench.study.fleet import Progress
 from workbench.study.results import StudyResult
 from workbench.study.runner import run
 from workbench.study.studyfile import Option, Study
@@ -52,6 +53,8 @@ class StudyState:
         The result of the last successful run.
     status : str
         What the last run did, or what the current run is doing.
+    vehicle_progress : tuple of int or None
+        (vehicles done, vehicles in all) of the last fleet run reported; None before any.
     """
 
     def __init__(self, study: Study, *, draws: int | None = None,
@@ -64,6 +67,8 @@ class StudyState:
         self.status = "not run yet"
         self._listeners: list[Listener] = []
         self._progress: list[Callable[[str], None]] = []
+        self._vehicles: list[Progress] = []
+        self.vehicle_progress: tuple[int, int] | None = None
         if run_now:
             self.rerun()
 
@@ -75,6 +80,16 @@ class StudyState:
         """Call ``callback(text)`` as each step of a run starts and when it ends."""
         self._progress.append(callback)
 
+    def on_vehicles(self, callback: Progress) -> None:
+        """Call ``callback(done, total)`` as each vehicle of a fleet run finishes (a class run
+        from its logs; the same callback ``workbench fleet run`` prints on the terminal)."""
+        self._vehicles.append(callback)
+
+    def _vehicle_done(self, done: int, total: int) -> None:
+        self.vehicle_progress = (done, total)
+        for callback in self._vehicles:
+            callback(done, total)
+
     def _say(self, text: str) -> None:
         self.status = text
         for callback in self._progress:
@@ -82,7 +97,8 @@ class StudyState:
 
     def _run(self, study: Study) -> StudyResult:
         start = time.perf_counter()
-        result = run(study, draws=self.draws, progress=lambda t: self._say(f"running: {t} …"))
+        result = run(study, draws=self.draws, progress=lambda t: self._say(f"running: {t} …"),
+                     vehicles=self._vehicle_done)
         self._say(f"up to date (last run {time.perf_counter() - start:.2f} s)")
         return result
 
@@ -176,7 +192,8 @@ def option_slots(study: Study, key: str) -> list[OptionSlot]:
     """Every place the options set ``key`` (``fuel``, ``aftertreatment``), baseline first.
 
     An option that gives the key as a table by class id has one slot per class; otherwise one
-    slot (also when the key is absent, so a panel can add it).
+    slot (also when the key is absent, so a panel can add it). A class an option gives another
+    drive (battery-electric) has no engine keys and no slot.
 
     Parameters
     ----------
@@ -197,11 +214,15 @@ def option_slots(study: Study, key: str) -> list[OptionSlot]:
     slots = []
     for prefix, table, option in zip(prefixes, tables, inputs.options, strict=True):
         raw = table.get(key)
+        engine = {cid for cid, co in option.per_class.items() if co.drive == "combustion"}
         if isinstance(raw, dict) and raw and set(raw) <= class_ids:
             slots += [OptionSlot(f"{option.name}: {cid}", f"{prefix}.{key}.{cid}", option, cid)
-                      for cid in raw]
+                      for cid in raw if cid in engine]
         else:
             converted = [cid for cid, co in option.per_class.items() if co.converts]
+            if converted and not set(converted) & engine:
+                continue
+            converted = [cid for cid in converted if cid in engine]
             slots.append(OptionSlot(option.name, f"{prefix}.{key}", option,
                                     (converted or list(option.per_class))[0]))
     return slots
