@@ -308,11 +308,10 @@ _rpm = to_rpm
 
 if numba is not None:
     # error_model="numpy": a division by zero gives inf/nan as on the reference path instead
-    # of a check (and a Python exception) in front of every division of the loop.
-    # fastmath only where rounding alone may move (fused multiply-add, x / y as x * (1 / y),
-    # the sign of zero); no reordering of sums, and NaN and inf keep their meaning (the
-    # range checks rely on them): the tests hold the results to the reference path.
-    _jit = numba.njit(cache=True, error_model="numpy", fastmath={"nsz", "contract", "arcp"})
+    # of a check (and a Python exception) in front of every division of the loop. No
+    # fastmath: fused multiply-adds would round differently in each compiled variant (array
+    # layouts), so the same trace could give numbers differing in the last bit.
+    _jit = numba.njit(cache=True, error_model="numpy")
     _rpm = _jit(to_rpm)
     _guess = _jit(_guess)
     _below = _jit(_below)
