@@ -107,3 +107,7 @@ def test_cell_search_on_an_uneven_grid_follows_searchsorted():
         f = grid ** 2
         assert f[cell] + at * (f[cell + 1] - f[cell]) == pytest.approx(
             np.interp(x, grid, f), rel=1e-12, abs=1e-12), x
+        # the cell or bin tried first (the last interval's) changes nothing
+        for hint in range(grid.size - 1):
+            assert fused._locate(grid, w, inv, x, hint) == (cell, at), (x, hint)
+            assert fused._bin(grid, w, x, hint) == fused._bin(grid, w, x), (x, hint)

@@ -102,20 +102,24 @@ def _below(grid: np.ndarray, inv_width: float, x: float) -> int:
     return i
 
 
-def _bin(edges: np.ndarray, inv_width: float, x: float) -> int:
-    """numpy.histogram's bin of ``x`` (-1 outside, the last bin closed on both sides)."""
+def _bin(edges: np.ndarray, inv_width: float, x: float, hint: int = 0) -> int:
+    """numpy.histogram's bin of ``x`` (-1 outside, the last bin closed on both sides); bin
+    ``hint`` is tried first (consecutive intervals mostly fall in one bin)."""
+    if edges[hint] <= x < edges[hint + 1]:
+        return hint
     if not (edges[0] <= x <= edges[edges.size - 1]):
         return -1
     return _below(edges, inv_width, x)
 
 
-def _locate(grid: np.ndarray, inv_width: float, inv_step: np.ndarray, x: float
-            ) -> tuple[int, float]:
+def _locate(grid: np.ndarray, inv_width: float, inv_step: np.ndarray, x: float,
+            hint: int = 0) -> tuple[int, float]:
     """Cell and position in it of ``x`` held at the ends of the axis: linear interpolation
     of values ``f`` on ``grid`` is ``f[i] + w (f[i + 1] - f[i])`` (numpy.interp, and scipy's
-    linear interpolator on a clipped point); ``inv_step``: one over each cell's width."""
+    linear interpolator on a clipped point); ``inv_step``: one over each cell's width. Cell
+    ``hint`` is tried first (consecutive intervals mostly stay in one cell)."""
     xc = min(max(x, grid[0]), grid[grid.size - 1])
-    i = _below(grid, inv_width, xc)
+    i = hint if grid[hint] <= xc < grid[hint + 1] else _below(grid, inv_width, xc)
     return i, (xc - grid[i]) * inv_step[i]
 
 
@@ -202,6 +206,7 @@ def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full,
     bad = -1
     idle_known = False
     idle_point = (0.0, False, False, 0)
+    a = b = hint_s = hint_t = 0  # the last cells and bins, tried first
     n_iv = t.size - 1
     for i0 in range(0, n_iv, BLOCK):
         m = min(BLOCK, n_iv - i0)
@@ -234,7 +239,7 @@ def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full,
                     for j in range(band_hi, under_lo - 1, -1):  # highest covering gear first
                         n_j = vm * n_per_v[j]
                         t_j = engine_side * per_ratio[j] + p_acc / max(n_j, idle)
-                        b, wb = _locate(m_speed, w_speed, inv_speed, n_j)
+                        b, wb = _locate(m_speed, w_speed, inv_speed, n_j, b)
                         full = m_full[b] + wb * d_full[b]
                         if t_j <= full:
                             gear = j
@@ -264,12 +269,12 @@ def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full,
             else:
                 # map lookup (EngineMap.fuel_power); the gear search located the gear's speed
                 if not (located and speed == geared):
-                    b, wb = _locate(m_speed, w_speed, inv_speed, speed)
+                    b, wb = _locate(m_speed, w_speed, inv_speed, speed, b)
                     full = m_full[b] + wb * d_full[b]
                 cap = min(full, t_top)
                 tq = min(torque, cap)
                 t_grid = max(tq, t_min)
-                a, wa = _locate(m_torque, w_torque, inv_torque, t_grid)
+                a, wa = _locate(m_torque, w_torque, inv_torque, t_grid, a)
                 e0 = m_eff[a, b] + wb * (m_eff[a, b + 1] - m_eff[a, b])
                 e1 = m_eff[a + 1, b] + wb * (m_eff[a + 1, b + 1] - m_eff[a + 1, b])
                 eff = e0 + wa * (e1 - e0)
@@ -279,9 +284,11 @@ def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full,
                     p = p_zero + (p - p_zero) * (tq / t_min)
                 oom = speed < s_lo or speed > s_hi or torque > cap
                 at_full = torque >= full
-                bs = _bin(s_edges, w_s_edges, _rpm(speed))
-                bt = _bin(t_edges, w_t_edges, max(torque, 0.0))
+                bs = _bin(s_edges, w_s_edges, _rpm(speed), hint_s)
+                bt = _bin(t_edges, w_t_edges, max(torque, 0.0), hint_t)
                 slot = bs * n_t + bt if bs >= 0 and bt >= 0 else outside
+                hint_s = max(bs, 0)
+                hint_t = max(bt, 0)
                 if idling:
                     idle_point = (p, oom, at_full, slot)
                     idle_known = True
