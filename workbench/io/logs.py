@@ -327,9 +327,10 @@ def _civil_days(y: int, mo: int, d: int) -> int:  # pragma: no cover - compiled 
     return era * 146097 + yoe * 365 + yoe // 4 - yoe // 100 + doy - 719468
 
 
-def _iso_ns(data: np.ndarray, offsets: np.ndarray,
+def _iso_seconds(data: np.ndarray, offsets: np.ndarray,
             out: np.ndarray) -> int:  # pragma: no cover - compiled by numba
-    """Nanoseconds since the epoch of ISO 8601 texts into ``out``, text ``i`` being the bytes
+    """Seconds since the epoch of ISO 8601 texts into ``out`` (float of the integer
+    nanoseconds over 1e9, as the general parsers' results), text ``i`` being the bytes
     ``data[offsets[i]:offsets[i + 1]]`` (Arrow's string layout): ``YYYY-MM-DDTHH:MM:SS`` (``T``
     or a space), up to nine decimals, then ``Z``, ``+HH:MM``, ``-HH:MM`` or nothing (UTC).
     Returns -1, or the first text of another form (the general parsers then take over). A
@@ -387,19 +388,19 @@ def _iso_ns(data: np.ndarray, offsets: np.ndarray,
                 zone = (zh * 60 + zm) * 60 * (1 if z == 43 else -1)
             else:
                 return i
-        out[i] = (base + sec - zone) * 1_000_000_000 + frac
+        out[i] = float((base + sec - zone) * 1_000_000_000 + frac) / 1e9
     return -1
 
 
 if numba is not None:
     _digits = numba.njit(cache=True, error_model="numpy")(_digits)
     _civil_days = numba.njit(cache=True, error_model="numpy")(_civil_days)
-    _iso_ns = numba.njit(cache=True, error_model="numpy")(_iso_ns)
+    _iso_seconds = numba.njit(cache=True, error_model="numpy")(_iso_seconds)
 
 
 def _fixed_iso_seconds(values: pd.Series) -> np.ndarray | None:
     """ISO 8601 text as epoch seconds by the compiled fixed-format pass over Arrow's string
-    buffers (:func:`_iso_ns`; a logger's stamps in a fraction of Arrow's general parser's
+    buffers (:func:`_iso_seconds`; a logger's stamps in a fraction of Arrow's general parser's
     time), or None when numba is missing, the column is not Arrow strings, has empty cells,
     or a text is of another form."""
     import pyarrow as pa
@@ -411,7 +412,7 @@ def _fixed_iso_seconds(values: pd.Series) -> np.ndarray | None:
     except (pa.ArrowInvalid, pa.ArrowTypeError):
         return None
     chunks = arr.chunks if isinstance(arr, pa.ChunkedArray) else [arr]
-    out = np.empty(len(values), dtype=np.int64)
+    out = np.empty(len(values))
     at = 0
     for c in chunks:
         if not (pa.types.is_string(c.type) or pa.types.is_large_string(c.type)) \
@@ -423,10 +424,10 @@ def _fixed_iso_seconds(values: pd.Series) -> np.ndarray | None:
         offsets = np.frombuffer(off_buf, dtype=np.int32 if pa.types.is_string(c.type)
                                 else np.int64)[c.offset:c.offset + len(c) + 1]
         data = np.frombuffer(data_buf, dtype=np.uint8)
-        if offsets[-1] > data.size or _iso_ns(data, offsets, out[at:at + len(c)]) >= 0:
+        if offsets[-1] > data.size or _iso_seconds(data, offsets, out[at:at + len(c)]) >= 0:
             return None
         at += len(c)
-    return out.astype(float) / 1e9
+    return out
 
 
 def _arrow_seconds(values: pd.Series) -> np.ndarray | None:
