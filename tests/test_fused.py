@@ -99,9 +99,15 @@ def test_cell_search_on_an_uneven_grid_follows_searchsorted():
         right = min(max(int(np.searchsorted(grid, x, "right")) - 1, 0), grid.size - 2)
         assert fused._below(grid, w, x) == right, x
         clipped = min(max(x, grid[0]), grid[-1])
-        left = min(max(int(np.searchsorted(grid, clipped, "left")) - 1, 0), grid.size - 2)
-        assert fused._cell(grid, w, inv, clipped)[0] == left, x
+        cell, at = fused._locate(grid, w, inv, x)
+        assert cell == min(max(int(np.searchsorted(grid, clipped, "right")) - 1, 0),
+                           grid.size - 2), x
         hist = np.histogram([x], bins=grid)[0]
         assert fused._bin(grid, w, x) == (int(np.argmax(hist)) if hist.any() else -1), x
-        assert fused._interp(grid, w, grid ** 2, x) == pytest.approx(
-            np.interp(x, grid, grid ** 2), rel=1e-12, abs=1e-12), x
+        f = grid ** 2
+        assert f[cell] + at * (f[cell + 1] - f[cell]) == pytest.approx(
+            np.interp(x, grid, f), rel=1e-12, abs=1e-12), x
+        # the cell or bin tried first (the last interval's) changes nothing
+        for hint in range(grid.size - 1):
+            assert fused._locate(grid, w, inv, x, hint) == (cell, at), (x, hint)
+            assert fused._bin(grid, w, x, hint) == fused._bin(grid, w, x), (x, hint)

@@ -10,7 +10,7 @@ import pytest
 from numpy.testing import assert_allclose
 
 from workbench.core.errors import InputError
-from workbench.io import demo_profiles
+from workbench.io import demo_profiles, logs
 from workbench.io.logs import list_vehicles, normalise, read_batches
 from workbench.io.maps import read_map
 from workbench.io.profiles import read_trace
@@ -276,6 +276,95 @@ def test_bad_timestamp_names_the_row(tmp_path):
     (log,) = list_vehicles(path).vehicles
     with pytest.raises(InputError, match=r"x.csv row 3.*not an ISO 8601"):
         list(read_batches(log))
+
+
+def test_bad_row_of_a_long_file_counts_within_the_file(tmp_path):
+    # vehicle B's second row is the file's row 5 (header row 1), not B's row 2 or 3
+    path = tmp_path / "fleet.csv"
+    path.write_text("vehicle,time_s,speed_km_per_h\nA,0,0\nB,0,36\nA,1,3.6\nB,1,fast\n")
+    logs = {v.vehicle: v for v in list_vehicles(path).vehicles}
+    assert len(list(read_batches(logs["A"]))) == 1
+    with pytest.raises(InputError, match=r"fleet.csv row 5: .*'fast' is not a number"):
+        list(read_batches(logs["B"]))
+
+
+def _long_log(rows: int, bad: int | None = None) -> str:
+    lines = ["vehicle,timestamp,speed_km_per_h,altitude_m"]
+    for i in range(rows):
+        stamp = pd.Timestamp("2026-03-01T08:00:00Z") + pd.Timedelta(seconds=i // 2)
+        speed = "fast" if i == bad else f"{(i * 7) % 90}.5"
+        lines.append(f"V{i % 2},{stamp.isoformat().replace('+00:00', 'Z')},{speed},{i % 13}")
+    return "\n".join(lines) + "\n"
+
+
+def test_fast_and_general_reading_agree(tmp_path):
+    # a plain file is read without looking for comments and spaces, and its stamps by the
+    # fixed-format pass; a comment line, a space after a separator, a stamp of another form
+    # (without seconds: the general parsers) take the other paths: same numbers
+    text = _long_log(6000)
+    (tmp_path / "plain.csv").write_text(text)
+    (tmp_path / "commented.csv").write_text("# exported by a logger\n" + text)
+    (tmp_path / "spaced.csv").write_text(text.replace(",V1,", ", V1,").replace("Z,", "Z, "))
+    (tmp_path / "bom.csv").write_text("\ufeff" + text.replace(
+        "2026-03-01T08:00:00Z", "2026-03-01T08:00Z", 1))
+    got = {}
+    for name in ("plain", "commented", "spaced", "bom"):
+        for log in list_vehicles(tmp_path / f"{name}.csv").vehicles:
+            b = list(read_batches(log, batch_rows=1000))
+            got[name, log.vehicle] = (np.concatenate([x.time for x in b]),
+                                      np.concatenate([x.speed for x in b]),
+                                      np.concatenate([x.extras["altitude"] for x in b]))
+    for v in ("V0", "V1"):
+        for a, *others in zip(*(got[name, v] for name in ("plain", "commented", "spaced",
+                                                          "bom")), strict=True):
+            assert a.size == 3000
+            for b in others:
+                assert_allclose(b, a, rtol=0, atol=0)
+    # 1 m/s = 3.6 km/h exactly (SI); epoch seconds of the first stamp from pandas
+    assert_allclose(got["plain", "V0"][1][:2], [0.5 / 3.6, 14.5 / 3.6])
+    assert got["plain", "V0"][0][0] == pd.Timestamp("2026-03-01T08:00:00Z").timestamp()
+
+
+def test_bad_value_deep_in_a_plain_file_names_its_row(tmp_path):
+    # the bad row is named in the file's count, in batches of 1000 rows
+    path = tmp_path / "long.csv"
+    path.write_text(_long_log(6000, bad=5001))
+    logs = {v.vehicle: v for v in list_vehicles(path).vehicles}
+    good = list(read_batches(logs["V0"], batch_rows=1000))
+    assert sum(b.time.size for b in good) == 3000
+    t = np.concatenate([b.time for b in good])
+    assert np.all(np.diff(t) == 1.0)
+    with pytest.raises(InputError, match=r"long.csv row 5003: .*'fast' is not a number"):
+        list(read_batches(logs["V1"], batch_rows=1000))
+
+
+def test_fixed_format_stamps_equal_pandas():
+    # reference: pandas.to_datetime(format="ISO8601", utc=True); years from 1700 to 2250, all
+    # the forms the fixed-format pass reads; other forms are left to the general parsers
+    rng = np.random.default_rng(7)
+    stamps = pd.to_datetime(rng.integers(pd.Timestamp("1700-01-01").value,
+                                         pd.Timestamp("2250-12-31").value, 3000))
+    forms = ("%Y-%m-%dT%H:%M:%S", "%Y-%m-%dT%H:%M:%S.%fZ", "%Y-%m-%d %H:%M:%S.%f+05:30",
+             "%Y-%m-%dT%H:%M:%S-11:45")
+    for form in forms:
+        text = pd.Series(stamps.strftime(form), dtype="str")
+        expected = pd.to_datetime(text, utc=True, format="ISO8601")
+        seconds = expected.dt.tz_localize(None).to_numpy("datetime64[ns]").astype(
+            np.int64) / 1e9
+        assert np.array_equal(logs._fixed_iso_seconds(text), seconds), form
+    assert logs._fixed_iso_seconds(pd.Series(["2024-02-29T00:00:00Z"], dtype="str")) == [
+        pd.Timestamp("2024-02-29T00:00:00Z").timestamp()]  # a leap day (Gregorian rule)
+    for other in ("2026-02-30T00:00:00", "1900-02-29T00:00:00", "2026-01-01T24:00:00",
+                  "2026-01-01T00:00:00.", "2026-01-01T00:00:00.1234567890",
+                  "2026-01-01T00:00:00+0100", "2026-01-01", "9999-01-01T00:00:00"):
+        assert logs._fixed_iso_seconds(pd.Series([other], dtype="str")) is None, other
+
+
+def test_timestamps_without_zone_are_utc(tmp_path):
+    path = tmp_path / "naive.csv"
+    path.write_text("timestamp,speed_km_per_h\n2026-03-01T08:00:00,0\n2026-03-01T08:00:01.5,36\n")
+    (b,) = list(read_batches(list_vehicles(path).vehicles[0]))
+    assert_allclose(b.time - pd.Timestamp("2026-03-01T08:00:00Z").timestamp(), [0.0, 1.5])
 
 
 def test_missing_source():

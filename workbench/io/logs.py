@@ -18,6 +18,7 @@ from __future__ import annotations
 
 import csv
 import glob
+import mmap
 import re
 from collections.abc import Iterator
 from dataclasses import dataclass
@@ -30,6 +31,11 @@ from workbench.core.errors import InputError
 from workbench.io.csvtext import read_file_bytes
 from workbench.io.profiles import _side_units as _profile_units
 from workbench.models.logs import LogBatch
+
+try:
+    import numba
+except ImportError:  # pragma: no cover - numba is a dependency; the fallback is for odd installs
+    numba = None
 
 #: Speed units: token -> factor to m/s (mph exact: NIST Handbook 44, Appendix C).
 SPEED_UNITS = {"km_per_h": 1.0 / 3.6, "kmh": 1.0 / 3.6, "kph": 1.0 / 3.6,
@@ -51,6 +57,9 @@ VEHICLE_NAMES = ("vehicle", "vehicle_id")
 _TIME_NAMES = ("timestamp", "datetime", "time", "elapsed")
 #: Rows read at a time from one CSV file per vehicle.
 CSV_CHUNK_ROWS = 1_000_000
+#: A CSV file of at most this many bytes per row of a batch is read at once (a logger row
+#: is 20 to 40 bytes).
+WHOLE_FILE_BYTES_PER_ROW = 64
 _SUFFIXES = (".csv", ".txt", ".parquet", ".pq")
 
 
@@ -224,14 +233,40 @@ def _dialect(path: Path) -> _Dialect:
                     header_line=lineno)
 
 
-def _read_csv(path: Path, d: _Dialect, usecols: list[str], chunksize: int | None
-              ) -> Iterator[pd.DataFrame]:
-    """The named columns, in chunks (types inferred: forcing text columns to ``str`` made
-    pandas' C parser five times slower)."""
+@dataclass(frozen=True)
+class _Body:
+    """What the data rows of a CSV file hold, from one scan (:func:`_body`)."""
+
+    comments: bool = True  # a ``#``: pandas looks for comments
+    spaces: bool = True  # a space: pandas skips spaces after separators
+
+
+def _body(path: Path, d: _Dialect) -> _Body:
+    """Whether the file has comments (lines before the header, or a ``#`` after it) and the
+    rows after the header a space (two scans of the mapped file for one byte each); without
+    them pandas' reader runs a third faster."""
     try:
-        reader = pd.read_csv(path, sep=d.sep, decimal=d.decimal, comment="#",
-                             encoding="utf-8", usecols=usecols, skip_blank_lines=True,
-                             skipinitialspace=True, chunksize=chunksize, engine="c")
+        with path.open("rb") as fh, mmap.mmap(fh.fileno(), 0, access=mmap.ACCESS_READ) as mm:
+            start = 0
+            for _ in range(d.header_line):
+                start = mm.find(b"\n", start) + 1
+            if start == 0:
+                return _Body()
+            return _Body(comments=d.header_line > 1 or mm.find(b"#", start) >= 0,
+                         spaces=mm.find(b" ", start) >= 0)
+    except (OSError, ValueError):  # an empty file cannot be mapped
+        return _Body()
+
+
+def _read_csv(path: Path, d: _Dialect, usecols: list[str] | None, chunksize: int | None,
+              body: _Body = _Body()) -> Iterator[pd.DataFrame]:
+    """The named columns, in chunks (types inferred: forcing text columns to ``str`` made
+    pandas' C parser five times slower); ``body``: what pandas must look for."""
+    try:
+        reader = pd.read_csv(path, sep=d.sep, decimal=d.decimal,
+                             comment="#" if body.comments else None, encoding="utf-8",
+                             usecols=usecols, skip_blank_lines=True,
+                             skipinitialspace=body.spaces, chunksize=chunksize, engine="c")
         if chunksize is None:
             yield reader
         else:
@@ -244,8 +279,16 @@ def _read_csv(path: Path, d: _Dialect, usecols: list[str], chunksize: int | None
                          ) from None
 
 
-def _numbers(values: pd.Series, where: str, first_row: int, name: str) -> np.ndarray:
-    """A column as floats; text with a decimal comma is read, other text named by row."""
+def _row(rows: int | np.ndarray, k: int) -> int:
+    """File row of value ``k``: ``rows`` is the row of the first value (the others follow),
+    or the row of each value (a vehicle's rows of a long file)."""
+    return int(rows[k]) if isinstance(rows, np.ndarray) else rows + k
+
+
+def _numbers(values: pd.Series, where: str, first_row: int | np.ndarray, name: str
+             ) -> np.ndarray:
+    """A column as floats; text with a decimal comma is read, other text named by row
+    (``first_row``: see :func:`_row`)."""
     if values.dtype.kind in "fiu":
         return values.to_numpy(dtype=float)
     text = values.astype("string").str.strip()
@@ -253,9 +296,138 @@ def _numbers(values: pd.Series, where: str, first_row: int, name: str) -> np.nda
     bad = out.isna() & text.notna() & (text != "")
     if bad.any():
         k = int(np.argmax(bad.to_numpy()))
-        raise InputError(f"{where} row {first_row + k}",
+        raise InputError(f"{where} row {_row(first_row, k)}",
                          f"{name} '{text.iloc[k]}' is not a number")
     return out.to_numpy(dtype=float, na_value=np.nan)
+
+
+def _digits(data: np.ndarray, at: int, n: int) -> int:  # pragma: no cover - compiled by numba
+    """The decimal number of the ``n`` bytes at ``data[at:]``, or -1 if one is not a digit."""
+    x = 0
+    for j in range(at, at + n):
+        c = np.int64(data[j]) - 48
+        if c < 0 or c > 9:
+            return -1
+        x = 10 * x + c
+    return x
+
+
+def _civil_days(y: int, mo: int, d: int) -> int:  # pragma: no cover - compiled by numba
+    """Days since 1970-01-01 of a date (proleptic Gregorian), -2**62 when it is no date or
+    outside the years 1678-2261 that int64 nanoseconds hold. H. Hinnant, "chrono-compatible
+    low-level date algorithms", days_from_civil (exact in integers)."""
+    leap = y % 4 == 0 and (y % 100 != 0 or y % 400 == 0)
+    month_days = 29 if mo == 2 and leap else (28 if mo == 2 else 30 + ((mo + mo // 8) % 2))
+    if not (1678 <= y <= 2261 and 1 <= mo <= 12 and 1 <= d <= month_days):
+        return -(1 << 62)
+    yy = y - (mo <= 2)
+    era = yy // 400
+    yoe = yy - era * 400
+    doy = (153 * (mo - 3 if mo > 2 else mo + 9) + 2) // 5 + d - 1
+    return era * 146097 + yoe * 365 + yoe // 4 - yoe // 100 + doy - 719468
+
+
+def _iso_seconds(data: np.ndarray, offsets: np.ndarray,
+            out: np.ndarray) -> int:  # pragma: no cover - compiled by numba
+    """Seconds since the epoch of ISO 8601 texts into ``out`` (float of the integer
+    nanoseconds over 1e9, as the general parsers' results), text ``i`` being the bytes
+    ``data[offsets[i]:offsets[i + 1]]`` (Arrow's string layout): ``YYYY-MM-DDTHH:MM:SS`` (``T``
+    or a space), up to nine decimals, then ``Z``, ``+HH:MM``, ``-HH:MM`` or nothing (UTC).
+    Returns -1, or the first text of another form (the general parsers then take over). A
+    text that starts as the previous one, to the minute, only has its seconds parsed."""
+    prev = -1  # start of the previous text, whose minute ``base`` holds [s]
+    base = 0
+    for i in range(out.size):
+        a = offsets[i]
+        b = offsets[i + 1]
+        if b - a < 19:
+            return i
+        same = prev >= 0
+        if same:
+            for j in range(16, -1, -1):  # the minute changes first
+                if data[a + j] != data[prev + j]:
+                    same = False
+                    break
+        if not same:
+            t = data[a + 10]
+            if data[a + 4] != 45 or data[a + 7] != 45 or data[a + 13] != 58 \
+                    or data[a + 16] != 58 or not (t == 84 or t == 32):
+                return i
+            days = _civil_days(_digits(data, a, 4), _digits(data, a + 5, 2),
+                               _digits(data, a + 8, 2))
+            h = _digits(data, a + 11, 2)
+            mi = _digits(data, a + 14, 2)
+            if days == -(1 << 62) or not (0 <= h <= 23 and 0 <= mi <= 59):
+                return i
+            base = days * 86400 + h * 3600 + mi * 60
+            prev = a
+        sec = _digits(data, a + 17, 2)
+        if not 0 <= sec <= 59:
+            return i
+        p = a + 19
+        frac = 0
+        if p < b and data[p] == 46:  # decimals
+            p += 1
+            scale = 100_000_000
+            while p < b and 48 <= data[p] <= 57 and scale > 0:
+                frac += (np.int64(data[p]) - 48) * scale
+                scale //= 10
+                p += 1
+            if p == a + 20 or (p < b and 48 <= data[p] <= 57):
+                return i  # a point without decimals, or more than nine
+        zone = 0
+        if p < b:
+            z = data[p]
+            if z == 90 and p + 1 == b:  # Z
+                p = b
+            elif (z == 43 or z == 45) and b - p == 6 and data[p + 3] == 58:
+                zh = _digits(data, p + 1, 2)
+                zm = _digits(data, p + 4, 2)
+                if not (0 <= zh <= 23 and 0 <= zm <= 59):
+                    return i
+                zone = (zh * 60 + zm) * 60 * (1 if z == 43 else -1)
+            else:
+                return i
+        out[i] = float((base + sec - zone) * 1_000_000_000 + frac) / 1e9
+    return -1
+
+
+if numba is not None:
+    _digits = numba.njit(cache=True, error_model="numpy")(_digits)
+    _civil_days = numba.njit(cache=True, error_model="numpy")(_civil_days)
+    _iso_seconds = numba.njit(cache=True, error_model="numpy")(_iso_seconds)
+
+
+def _fixed_iso_seconds(values: pd.Series) -> np.ndarray | None:
+    """ISO 8601 text as epoch seconds by the compiled fixed-format pass over Arrow's string
+    buffers (:func:`_iso_seconds`; a logger's stamps in a fraction of Arrow's general parser's
+    time), or None when numba is missing, the column is not Arrow strings, has empty cells,
+    or a text is of another form."""
+    import pyarrow as pa
+
+    if numba is None:
+        return None  # pragma: no cover - numba is a dependency
+    try:
+        arr = pa.array(values, from_pandas=True)  # pandas' own Arrow strings: no copy
+    except (pa.ArrowInvalid, pa.ArrowTypeError):
+        return None
+    chunks = arr.chunks if isinstance(arr, pa.ChunkedArray) else [arr]
+    out = np.empty(len(values))
+    at = 0
+    for c in chunks:
+        if not (pa.types.is_string(c.type) or pa.types.is_large_string(c.type)) \
+                or c.null_count:
+            return None
+        if len(c) == 0:
+            continue
+        _, off_buf, data_buf = c.buffers()
+        offsets = np.frombuffer(off_buf, dtype=np.int32 if pa.types.is_string(c.type)
+                                else np.int64)[c.offset:c.offset + len(c) + 1]
+        data = np.frombuffer(data_buf, dtype=np.uint8)
+        if offsets[-1] > data.size or _iso_seconds(data, offsets, out[at:at + len(c)]) >= 0:
+            return None
+        at += len(c)
+    return out
 
 
 def _arrow_seconds(values: pd.Series) -> np.ndarray | None:
@@ -280,20 +452,24 @@ def _arrow_seconds(values: pd.Series) -> np.ndarray | None:
     return None
 
 
-def _seconds(values: pd.Series, unit: str, where: str, first_row: int, name: str) -> np.ndarray:
-    """A time column as float seconds (elapsed or since the epoch)."""
+def _seconds(values: pd.Series, unit: str, where: str, first_row: int | np.ndarray, name: str
+             ) -> np.ndarray:
+    """A time column as float seconds (elapsed or since the epoch; ``first_row``: see
+    :func:`_row`)."""
     if unit in ISO_UNITS or values.dtype.kind == "M":
         if values.dtype.kind == "M":
             stamps = values
         else:
-            fast = _arrow_seconds(values)
+            fast = _fixed_iso_seconds(values)
+            if fast is None:
+                fast = _arrow_seconds(values)
             if fast is not None:
                 return fast
             stamps = pd.to_datetime(values, errors="coerce", utc=True, format="ISO8601")
             bad = stamps.isna() & values.notna()
             if bad.any():
                 k = int(np.argmax(bad.to_numpy()))
-                raise InputError(f"{where} row {first_row + k}",
+                raise InputError(f"{where} row {_row(first_row, k)}",
                                  f"{name} '{values.iloc[k]}' is not an ISO 8601 time "
                                  "(e.g. 2026-03-01T08:00:00Z)")
         if getattr(stamps.dt, "tz", None) is not None:
@@ -305,13 +481,37 @@ def _seconds(values: pd.Series, unit: str, where: str, first_row: int, name: str
     return _numbers(values, where, first_row, name) * factor
 
 
-def _batch(frame: pd.DataFrame, cols: Columns, where: str, first_row: int) -> LogBatch:
-    t = _seconds(frame[cols.time[0]], cols.time[1], where, first_row, cols.time[0])
-    v = _numbers(frame[cols.speed[0]], where, first_row, cols.speed[0]) * SPEED_UNITS[
+def _batch(frame: pd.DataFrame, cols: Columns, where: str, rows: int | np.ndarray
+           ) -> LogBatch:
+    """A frame's columns in SI (``rows``: file rows, see :func:`_row`)."""
+    t = _seconds(frame[cols.time[0]], cols.time[1], where, rows, cols.time[0])
+    v = _numbers(frame[cols.speed[0]], where, rows, cols.speed[0]) * SPEED_UNITS[
         cols.speed[1]]
-    extras = {q: _numbers(frame[raw], where, first_row, raw) * OTHER_UNITS[q][unit]
+    extras = {q: _numbers(frame[raw], where, rows, raw) * OTHER_UNITS[q][unit]
               for q, (raw, unit) in cols.extras.items()}
     return LogBatch(time=t, speed=v, extras=extras)
+
+
+def _csv_batches(path: Path, log: VehicleLog, batch_rows: int) -> Iterator[LogBatch]:
+    """One vehicle's batches of a CSV file; row numbers count within the file (all
+    vehicles' rows)."""
+    d = _dialect(path)
+    cols = resolve_columns(path, d.header)
+    row = d.header_line + 1
+    # pandas reads a whole file on two threads, by chunks or only some columns on one: a
+    # file of up to WHOLE_FILE_BYTES_PER_ROW * batch_rows bytes is read at once, and all its
+    # columns when it has no others
+    whole = path.stat().st_size <= WHOLE_FILE_BYTES_PER_ROW * batch_rows
+    usecols = None if sorted(cols.names) == sorted(d.header) else cols.names
+    for frame in _read_csv(path, d, usecols, None if whole else batch_rows, _body(path, d)):
+        n = len(frame)
+        if cols.vehicle:
+            keep = (frame[cols.vehicle].astype("string").str.strip() == log.vehicle).to_numpy(
+                dtype=bool, na_value=False)
+            yield _batch(frame[keep], cols, str(path), row + np.flatnonzero(keep))
+        else:
+            yield _batch(frame, cols, str(path), row)
+        row += n
 
 
 # ----------------------------------------------------------------------------- sources
@@ -525,15 +725,7 @@ def read_batches(log: VehicleLog, *, batch_rows: int = CSV_CHUNK_ROWS) -> Iterat
     """
     path = Path(log.path)
     if log.kind == "csv":
-        d = _dialect(path)
-        cols = resolve_columns(path, d.header)
-        row = d.header_line + 1
-        for frame in _read_csv(path, d, cols.names, batch_rows):
-            n = len(frame)
-            if cols.vehicle:
-                frame = frame[frame[cols.vehicle].astype("string").str.strip() == log.vehicle]
-            yield _batch(frame, cols, str(path), row)
-            row += n
+        yield from _csv_batches(path, log, batch_rows)
         return
     import pyarrow.compute as pc
     import pyarrow.parquet as pq
@@ -550,6 +742,9 @@ def read_batches(log: VehicleLog, *, batch_rows: int = CSV_CHUNK_ROWS) -> Iterat
     for b in batches:
         frame = b.to_pandas()
         if log.kind == "parquet" and log.shared:
-            frame = frame[frame[cols.vehicle].astype("string") == log.vehicle]
-        yield _batch(frame, cols, str(path), row)
+            keep = (frame[cols.vehicle].astype("string") == log.vehicle).to_numpy(
+                dtype=bool, na_value=False)
+            yield _batch(frame[keep], cols, str(path), row + np.flatnonzero(keep))
+        else:
+            yield _batch(frame, cols, str(path), row)
         row += b.num_rows

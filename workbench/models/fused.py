@@ -3,11 +3,14 @@
 :func:`trace_sums` runs a trace (in pieces) through a vehicle and an engine map and returns the
 energy sums of :class:`~workbench.models.engine.DutyEnergy` and the operating-point histograms
 (time and fuel energy per engine-speed × torque bin), built inside the loop: no gears × samples
-matrices, no interpolator objects, no second pass. With numba it is one compiled loop; without
-numba it falls back on the numpy reference path (:func:`~workbench.models.vehicle.road_load`,
+matrices, no interpolator objects, no second pass. With numba it is one compiled loop over
+blocks of intervals: the road load and the gears each speed allows are vectorised passes over
+the block, then gear choice, map lookup and histogram go interval by interval (each axis cell
+from a first guess on an even grid, corrected by comparisons). Without numba it falls back on
+the numpy reference path (:func:`~workbench.models.vehicle.road_load`,
 :func:`~workbench.models.vehicle.operating_points`, :meth:`EngineMap.fuel_power` and
-``numpy.histogram2d``), which defines the rules. Both give the same numbers (to ~1e-12; the
-tests hold them to 1e-9 on the demo profiles).
+``numpy.histogram2d``), which defines the rules. Both give the same numbers (to ~1e-15 on the
+demo profiles; the tests hold them to 1e-9).
 
 Histogram bins follow ``numpy.histogram2d``: engine speed in rev/min, torque clipped at 0, bins
 closed on the left, the last bin closed on both sides, values outside the edges left out.
@@ -99,40 +102,72 @@ def _below(grid: np.ndarray, inv_width: float, x: float) -> int:
     return i
 
 
-def _bin(edges: np.ndarray, inv_width: float, x: float) -> int:
-    """numpy.histogram's bin of ``x`` (-1 outside, the last bin closed on both sides)."""
+def _bin(edges: np.ndarray, inv_width: float, x: float, hint: int = 0) -> int:
+    """numpy.histogram's bin of ``x`` (-1 outside, the last bin closed on both sides); bin
+    ``hint`` is tried first (consecutive intervals mostly fall in one bin)."""
+    if edges[hint] <= x < edges[hint + 1]:
+        return hint
     if not (edges[0] <= x <= edges[edges.size - 1]):
         return -1
     return _below(edges, inv_width, x)
 
 
-def _interp(xp: np.ndarray, inv_width: float, fp: np.ndarray, x: float) -> float:
-    """numpy.interp at one point: linear, ends held."""
-    n = xp.size
-    if x <= xp[0]:
-        return fp[0]
-    if x >= xp[n - 1]:
-        return fp[n - 1]
-    j = _below(xp, inv_width, x)
-    return fp[j] + (x - xp[j]) * (fp[j + 1] - fp[j]) / (xp[j + 1] - xp[j])
-
-
-def _cell(grid: np.ndarray, inv_width: float, inv_step: np.ndarray,
-          x: float) -> tuple[int, float]:
-    """Cell and position of ``x`` (already clipped to the axis) as scipy's linear interpolator:
-    the last ``i`` with ``grid[i] < x``, clamped to the cells (``inv_step``: one over each
-    cell's width)."""
-    i = _guess(grid, inv_width, x)
-    while i > 0 and x <= grid[i]:
-        i -= 1
-    while i < grid.size - 2 and x > grid[i + 1]:
-        i += 1
-    return i, (x - grid[i]) * inv_step[i]
+def _locate(grid: np.ndarray, inv_width: float, inv_step: np.ndarray, x: float,
+            hint: int = 0) -> tuple[int, float]:
+    """Cell and position in it of ``x`` held at the ends of the axis: linear interpolation
+    of values ``f`` on ``grid`` is ``f[i] + w (f[i + 1] - f[i])`` (numpy.interp, and scipy's
+    linear interpolator on a clipped point); ``inv_step``: one over each cell's width. Cell
+    ``hint`` is tried first (consecutive intervals mostly stay in one cell)."""
+    xc = min(max(x, grid[0]), grid[grid.size - 1])
+    i = hint if grid[hint] <= xc < grid[hint + 1] else _below(grid, inv_width, xc)
+    return i, (xc - grid[i]) * inv_step[i]
 
 
 def _inv_width(grid: np.ndarray) -> float:
     """Cells per unit of a grid taken as uniform (the first guess of :func:`_below`)."""
     return (grid.size - 1) / (grid[grid.size - 1] - grid[0])
+
+
+#: Intervals per block: the road load and gear counts of a block are vectorised passes, then
+#: the gear choice, map and histograms go interval by interval (blocks stay in cache).
+BLOCK = 1024
+
+
+def _road(t, v, grade, payload, i0, m, mass0, crr, f_rot, aero_k, dt_b, vm_b,
+          force_b):  # pragma: no cover - compiled by numba
+    """Duration, mean speed and tractive force of intervals ``i0 .. i0 + m`` into the block
+    arrays (road_load's formula; one loop without branches, which the compiler vectorises)."""
+    for q in range(m):
+        i = i0 + q
+        dt = t[i + 1] - t[i]
+        vm = 0.5 * (v[i + 1] + v[i])
+        accel = (v[i + 1] - v[i]) / dt
+        mass = mass0 + (payload[i] if payload.size > 0 else 0.0)
+        if grade.size > 0:
+            g = grade[i]
+            slope = STANDARD_GRAVITY * (1.0 / math.sqrt(1.0 + g * g)) * (crr + g)
+        else:
+            slope = crr * STANDARD_GRAVITY
+        dt_b[q] = dt
+        vm_b[q] = vm
+        force_b[q] = mass * (f_rot * accel + slope) + aero_k * (vm * vm)
+
+
+def _gear_counts(vm_b, m, n_per_v, n_max, shift, over_b,
+                 band_b):  # pragma: no cover - compiled by numba
+    """Per interval, how many gears put the engine above ``n_max`` and how many at or above
+    ``shift``: gear speeds fall with the gear number, so these are runs from first gear and
+    the counts are the lowest gear under ``n_max`` and one past the highest at or above
+    ``shift`` (vectorised: no search, no branch)."""
+    for q in range(m):
+        over_b[q] = 0
+        band_b[q] = 0
+    for j in range(n_per_v.size):
+        c = n_per_v[j]
+        for q in range(m):
+            n_j = vm_b[q] * c
+            over_b[q] += n_j > n_max
+            band_b[q] += n_j >= shift
 
 
 def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full, s_edges,
@@ -147,123 +182,129 @@ def _kernel(t, v, grade, payload, par, ratios, m_speed, m_torque, m_eff, m_full,
     inv_eta = 1.0 / eta
     inv_speed = 1.0 / np.diff(m_speed)
     inv_torque = 1.0 / np.diff(m_torque)
+    d_full = np.diff(m_full)
     w_speed = _inv_width(m_speed)
     w_torque = _inv_width(m_torque)
     w_s_edges = _inv_width(s_edges)
     w_t_edges = _inv_width(t_edges)
-    has_grade = grade.size > 0
-    has_payload = payload.size > 0
     t_min = m_torque[0]
     t_top = m_torque[m_torque.size - 1]
     s_lo = m_speed[0]
     s_hi = m_speed[m_speed.size - 1]
     idle_torque = p_acc / idle
+    n_t = t_edges.size - 1
+    # histograms as one flat array of (seconds, fuel) pairs, a last slot for points outside
+    hist = np.zeros((seconds.size + 1, 2))
+    outside = seconds.size
+    dt_b = np.empty(BLOCK)
+    vm_b = np.empty(BLOCK)
+    force_b = np.empty(BLOCK)
+    over_b = np.empty(BLOCK, dtype=np.int64)
+    band_b = np.empty(BLOCK, dtype=np.int64)
     # sums in locals (registers), written back once
     s_dist = s_dur = s_wheel = s_brake = s_engine = s_fuel = s_idle = s_oom = s_full = 0.0
     bad = -1
     idle_known = False
-    idle_point = (0.0, False, False, -1, -1)
-    for i in range(t.size - 1):
-        dt = t[i + 1] - t[i]
-        vm = 0.5 * (v[i + 1] + v[i])
-        accel = (v[i + 1] - v[i]) / dt
-        mass = mass0 + (payload[i] if has_payload else 0.0)
-        aero = aero_k * (vm * vm)
-        if has_grade:
-            g = grade[i]
-            cos = 1.0 / math.sqrt(1.0 + g * g)
-            slope = STANDARD_GRAVITY * cos * (crr + g)
-        else:
-            slope = crr * STANDARD_GRAVITY
-        force = mass * (f_rot * accel + slope) + aero
-        work = force * vm * dt
-        s_dist += vm * dt
-        s_dur += dt
-        if work > 0.0:
-            s_wheel += work
-        elif work < 0.0:
-            s_brake -= work
-        wheel_torque = force * r
-        through = inv_eta if wheel_torque >= 0.0 else eta
-        engine_side = wheel_torque * through
-        # at a stop the engine idles (or is off) in any gear: no gear search
-        moving = vm >= STOP_SPEED
-        idling = not moving
-        overrun = False
-        if moving:
-            # gear speeds fall with the gear number: the gears under max_engine_speed are j >=
-            # under_lo, those also at or above shift_speed are under_lo <= j <= band_hi
-            under_lo = k
-            band_hi = -1
-            for j in range(k):
-                n_j = vm * n_per_v[j]
-                if n_j <= n_max:
-                    if under_lo == k:
-                        under_lo = j
-                    if n_j < shift:
-                        break  # and so are all higher gears
-                    band_hi = j
-            band_lo = under_lo if band_hi >= under_lo else -1
-            covered_hi = -1
-            if band_lo >= 0:
-                for j in range(band_hi, band_lo - 1, -1):  # highest covering gear first
-                    n_j = vm * n_per_v[j]
-                    t_j = engine_side * per_ratio[j] + p_acc / max(n_j, idle)
-                    if t_j <= _interp(m_speed, w_speed, m_full, n_j):
-                        covered_hi = j
-                        break
-            if under_lo == k:
-                bad = i
-                break
-            gear = covered_hi if covered_hi >= 0 else (band_lo if band_lo >= 0 else under_lo)
-            geared = vm * n_per_v[gear]
-            torque = engine_side * per_ratio[gear] + p_acc / max(geared, idle)
-            overrun = torque <= 0.0 and geared >= shift
-            idling = torque <= 0.0 and not overrun
-        if idling:
-            if off and not moving:
-                continue  # engine off: no fuel, no time idling
-            speed = idle
-            torque = idle_torque
-            s_idle += dt
-        elif overrun:
-            continue
-        else:
-            speed = max(geared, idle)
-        s_engine += speed * torque * dt
-        if idling and idle_known:  # the idle point is the same at every idling interval
-            p, oom, at_full, bs, bt = idle_point
-        else:
-            # map lookup (EngineMap.fuel_power)
-            n = min(max(speed, s_lo), s_hi)
-            b, wb = _cell(m_speed, w_speed, inv_speed, n)
-            full = m_full[b] + wb * (m_full[b + 1] - m_full[b])  # numpy.interp, ends held
-            cap = min(full, t_top)
-            tq = min(torque, cap)
-            t_grid = max(tq, t_min)
-            a, wa = _cell(m_torque, w_torque, inv_torque, min(max(t_grid, t_min), t_top))
-            eff = (m_eff[a, b] * (1.0 - wa) * (1.0 - wb) + m_eff[a, b + 1] * (1.0 - wa) * wb
-                   + m_eff[a + 1, b] * wa * (1.0 - wb) + m_eff[a + 1, b + 1] * wa * wb)
-            p = speed * t_grid / eff
-            if t_min > 0.0 and tq < t_min:
-                p_zero = p_idle * speed / idle
-                p = p_zero + (p - p_zero) * (tq / t_min)
-            oom = n != speed or torque > cap
-            at_full = torque >= full
-            bs = _bin(s_edges, w_s_edges, _rpm(speed))
-            bt = _bin(t_edges, w_t_edges, max(torque, 0.0))
+    idle_point = (0.0, False, False, 0)
+    a = b = hint_s = hint_t = 0  # the last cells and bins, tried first
+    n_iv = t.size - 1
+    for i0 in range(0, n_iv, BLOCK):
+        m = min(BLOCK, n_iv - i0)
+        _road(t, v, grade, payload, i0, m, mass0, crr, f_rot, aero_k, dt_b, vm_b, force_b)
+        _gear_counts(vm_b, m, n_per_v, n_max, shift, over_b, band_b)
+        for q in range(m):
+            dt = dt_b[q]
+            vm = vm_b[q]
+            force = force_b[q]
+            work = force * vm * dt
+            s_dist += vm * dt
+            s_dur += dt
+            s_wheel += max(work, 0.0)
+            s_brake -= min(work, 0.0)
+            wheel_torque = force * r
+            engine_side = wheel_torque * (inv_eta if wheel_torque >= 0.0 else eta)
+            # at a stop the engine idles (or is off) in any gear: no gear search
+            moving = vm >= STOP_SPEED
+            idling = not moving
+            overrun = False
+            located = False
+            if moving:
+                under_lo = over_b[q]  # the lowest gear under max_engine_speed
+                if under_lo == k:
+                    bad = i0 + q
+                    break
+                band_hi = band_b[q] - 1  # the highest gear at or above shift_speed
+                gear = under_lo
+                if band_hi >= under_lo:
+                    for j in range(band_hi, under_lo - 1, -1):  # highest covering gear first
+                        n_j = vm * n_per_v[j]
+                        t_j = engine_side * per_ratio[j] + p_acc / max(n_j, idle)
+                        b, wb = _locate(m_speed, w_speed, inv_speed, n_j, b)
+                        full = m_full[b] + wb * d_full[b]
+                        if t_j <= full:
+                            gear = j
+                            located = True
+                            break
+                if located:
+                    geared = n_j
+                    torque = t_j
+                else:
+                    geared = vm * n_per_v[gear]
+                    torque = engine_side * per_ratio[gear] + p_acc / max(geared, idle)
+                overrun = torque <= 0.0 and geared >= shift
+                idling = torque <= 0.0 and not overrun
             if idling:
-                idle_point = (p, oom, at_full, bs, bt)
-                idle_known = True
-        e = p * dt
-        s_fuel += e
-        if oom:
-            s_oom += dt
-        if at_full:
-            s_full += dt
-        if bs >= 0 and bt >= 0:
-            seconds[bs, bt] += dt
-            fuel[bs, bt] += e
+                if off and not moving:
+                    continue  # engine off: no fuel, no time idling
+                speed = idle
+                torque = idle_torque
+                s_idle += dt
+            elif overrun:
+                continue
+            else:
+                speed = max(geared, idle)
+            s_engine += speed * torque * dt
+            if idling and idle_known:  # the idle point is the same at every idling interval
+                p, oom, at_full, slot = idle_point
+            else:
+                # map lookup (EngineMap.fuel_power); the gear search located the gear's speed
+                if not (located and speed == geared):
+                    b, wb = _locate(m_speed, w_speed, inv_speed, speed, b)
+                    full = m_full[b] + wb * d_full[b]
+                cap = min(full, t_top)
+                tq = min(torque, cap)
+                t_grid = max(tq, t_min)
+                a, wa = _locate(m_torque, w_torque, inv_torque, t_grid, a)
+                e0 = m_eff[a, b] + wb * (m_eff[a, b + 1] - m_eff[a, b])
+                e1 = m_eff[a + 1, b] + wb * (m_eff[a + 1, b + 1] - m_eff[a + 1, b])
+                eff = e0 + wa * (e1 - e0)
+                p = speed * t_grid / eff
+                if t_min > 0.0 and tq < t_min:
+                    p_zero = p_idle * speed / idle
+                    p = p_zero + (p - p_zero) * (tq / t_min)
+                oom = speed < s_lo or speed > s_hi or torque > cap
+                at_full = torque >= full
+                bs = _bin(s_edges, w_s_edges, _rpm(speed), hint_s)
+                bt = _bin(t_edges, w_t_edges, max(torque, 0.0), hint_t)
+                slot = bs * n_t + bt if bs >= 0 and bt >= 0 else outside
+                hint_s = max(bs, 0)
+                hint_t = max(bt, 0)
+                if idling:
+                    idle_point = (p, oom, at_full, slot)
+                    idle_known = True
+            e = p * dt
+            s_fuel += e
+            s_oom += dt if oom else 0.0
+            s_full += dt if at_full else 0.0
+            hist[slot, 0] += dt
+            hist[slot, 1] += e
+        if bad >= 0:
+            break
+    flat_s = seconds.reshape(-1)
+    flat_f = fuel.reshape(-1)
+    for j in range(outside):
+        flat_s[j] += hist[j, 0]
+        flat_f[j] += hist[j, 1]
     for j, x in enumerate((s_dist, s_dur, s_wheel, s_brake, s_engine, s_fuel, s_idle, s_oom,
                            s_full)):
         sums[j] += x
@@ -274,15 +315,18 @@ _rpm = to_rpm
 
 if numba is not None:
     # error_model="numpy": a division by zero gives inf/nan as on the reference path instead
-    # of a check (and a Python exception) in front of every division of the loop
+    # of a check (and a Python exception) in front of every division of the loop. No
+    # fastmath: fused multiply-adds would round differently in each compiled variant (array
+    # layouts), so the same trace could give numbers differing in the last bit.
     _jit = numba.njit(cache=True, error_model="numpy")
     _rpm = _jit(to_rpm)
     _guess = _jit(_guess)
     _below = _jit(_below)
     _bin = _jit(_bin)
-    _interp = _jit(_interp)
-    _cell = _jit(_cell)
+    _locate = _jit(_locate)
     _inv_width = _jit(_inv_width)
+    _road = _jit(_road)
+    _gear_counts = _jit(_gear_counts)
     _kernel = _jit(_kernel)
 
 
