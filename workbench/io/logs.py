@@ -327,74 +327,84 @@ def _civil_days(y: int, mo: int, d: int) -> int:  # pragma: no cover - compiled 
     return era * 146097 + yoe * 365 + yoe // 4 - yoe // 100 + doy - 719468
 
 
+def _iso_stamp(data: np.ndarray, a: int, b: int, prev: int, base: int
+               ) -> tuple[float, int, int]:  # pragma: no cover - compiled by numba
+    """Seconds since the epoch of the ISO 8601 text ``data[a:b]`` (float of the integer
+    nanoseconds over 1e9, as the general parsers' results): ``YYYY-MM-DDTHH:MM:SS`` (``T`` or
+    a space), up to nine decimals, then ``Z``, ``+HH:MM``, ``-HH:MM`` or nothing (UTC).
+    ``prev``: start of an earlier text whose minute ``base`` [s] holds, or -1; a text that
+    starts as that one, to the minute, only has its seconds parsed. Returns (seconds, start
+    of the text whose minute the returned base holds, base), the start -2 when the text is of
+    another form (the general parsers then take over)."""
+    if b - a < 19:
+        return 0.0, -2, base
+    same = prev >= 0
+    if same:
+        for j in range(16, -1, -1):  # the minute changes first
+            if data[a + j] != data[prev + j]:
+                same = False
+                break
+    if not same:
+        t = data[a + 10]
+        if data[a + 4] != 45 or data[a + 7] != 45 or data[a + 13] != 58 \
+                or data[a + 16] != 58 or not (t == 84 or t == 32):
+            return 0.0, -2, base
+        days = _civil_days(_digits(data, a, 4), _digits(data, a + 5, 2),
+                           _digits(data, a + 8, 2))
+        h = _digits(data, a + 11, 2)
+        mi = _digits(data, a + 14, 2)
+        if days == -(1 << 62) or not (0 <= h <= 23 and 0 <= mi <= 59):
+            return 0.0, -2, base
+        base = days * 86400 + h * 3600 + mi * 60
+        prev = a
+    sec = _digits(data, a + 17, 2)
+    if not 0 <= sec <= 59:
+        return 0.0, -2, base
+    p = a + 19
+    frac = 0
+    if p < b and data[p] == 46:  # decimals
+        p += 1
+        scale = 100_000_000
+        while p < b and 48 <= data[p] <= 57 and scale > 0:
+            frac += (np.int64(data[p]) - 48) * scale
+            scale //= 10
+            p += 1
+        if p == a + 20 or (p < b and 48 <= data[p] <= 57):
+            return 0.0, -2, base  # a point without decimals, or more than nine
+    zone = 0
+    if p < b:
+        z = data[p]
+        if z == 90 and p + 1 == b:  # Z
+            p = b
+        elif (z == 43 or z == 45) and b - p == 6 and data[p + 3] == 58:
+            zh = _digits(data, p + 1, 2)
+            zm = _digits(data, p + 4, 2)
+            if not (0 <= zh <= 23 and 0 <= zm <= 59):
+                return 0.0, -2, base
+            zone = (zh * 60 + zm) * 60 * (1 if z == 43 else -1)
+        else:
+            return 0.0, -2, base
+    return float((base + sec - zone) * 1_000_000_000 + frac) / 1e9, prev, base
+
+
 def _iso_seconds(data: np.ndarray, offsets: np.ndarray,
-            out: np.ndarray) -> int:  # pragma: no cover - compiled by numba
-    """Seconds since the epoch of ISO 8601 texts into ``out`` (float of the integer
-    nanoseconds over 1e9, as the general parsers' results), text ``i`` being the bytes
-    ``data[offsets[i]:offsets[i + 1]]`` (Arrow's string layout): ``YYYY-MM-DDTHH:MM:SS`` (``T``
-    or a space), up to nine decimals, then ``Z``, ``+HH:MM``, ``-HH:MM`` or nothing (UTC).
-    Returns -1, or the first text of another form (the general parsers then take over). A
-    text that starts as the previous one, to the minute, only has its seconds parsed."""
-    prev = -1  # start of the previous text, whose minute ``base`` holds [s]
+                 out: np.ndarray) -> int:  # pragma: no cover - compiled by numba
+    """Seconds since the epoch of ISO 8601 texts into ``out`` (:func:`_iso_stamp`), text
+    ``i`` being the bytes ``data[offsets[i]:offsets[i + 1]]`` (Arrow's string layout).
+    Returns -1, or the first text of another form (the general parsers then take over)."""
+    prev = -1
     base = 0
     for i in range(out.size):
-        a = offsets[i]
-        b = offsets[i + 1]
-        if b - a < 19:
+        out[i], prev, base = _iso_stamp(data, offsets[i], offsets[i + 1], prev, base)
+        if prev == -2:
             return i
-        same = prev >= 0
-        if same:
-            for j in range(16, -1, -1):  # the minute changes first
-                if data[a + j] != data[prev + j]:
-                    same = False
-                    break
-        if not same:
-            t = data[a + 10]
-            if data[a + 4] != 45 or data[a + 7] != 45 or data[a + 13] != 58 \
-                    or data[a + 16] != 58 or not (t == 84 or t == 32):
-                return i
-            days = _civil_days(_digits(data, a, 4), _digits(data, a + 5, 2),
-                               _digits(data, a + 8, 2))
-            h = _digits(data, a + 11, 2)
-            mi = _digits(data, a + 14, 2)
-            if days == -(1 << 62) or not (0 <= h <= 23 and 0 <= mi <= 59):
-                return i
-            base = days * 86400 + h * 3600 + mi * 60
-            prev = a
-        sec = _digits(data, a + 17, 2)
-        if not 0 <= sec <= 59:
-            return i
-        p = a + 19
-        frac = 0
-        if p < b and data[p] == 46:  # decimals
-            p += 1
-            scale = 100_000_000
-            while p < b and 48 <= data[p] <= 57 and scale > 0:
-                frac += (np.int64(data[p]) - 48) * scale
-                scale //= 10
-                p += 1
-            if p == a + 20 or (p < b and 48 <= data[p] <= 57):
-                return i  # a point without decimals, or more than nine
-        zone = 0
-        if p < b:
-            z = data[p]
-            if z == 90 and p + 1 == b:  # Z
-                p = b
-            elif (z == 43 or z == 45) and b - p == 6 and data[p + 3] == 58:
-                zh = _digits(data, p + 1, 2)
-                zm = _digits(data, p + 4, 2)
-                if not (0 <= zh <= 23 and 0 <= zm <= 59):
-                    return i
-                zone = (zh * 60 + zm) * 60 * (1 if z == 43 else -1)
-            else:
-                return i
-        out[i] = float((base + sec - zone) * 1_000_000_000 + frac) / 1e9
     return -1
 
 
 if numba is not None:
     _digits = numba.njit(cache=True, error_model="numpy")(_digits)
     _civil_days = numba.njit(cache=True, error_model="numpy")(_civil_days)
+    _iso_stamp = numba.njit(cache=True, error_model="numpy")(_iso_stamp)
     _iso_seconds = numba.njit(cache=True, error_model="numpy")(_iso_seconds)
 
 
