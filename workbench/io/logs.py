@@ -511,9 +511,10 @@ _POW10 = np.array([10.0 ** k for k in range(23)])
 
 def _count_lines(data: np.ndarray, a: int, b: int) -> int:  # pragma: no cover - compiled
     """Lines of ``data[a:b]`` (a last one without its newline counted)."""
-    n = 0
-    for i in range(a, b):
-        n += data[i] == 10
+    piece = data[a:b]  # from 0: no negative index to wrap, the loop vectorises
+    n = np.int64(0)
+    for i in range(piece.size):
+        n += np.int64(piece[i] == 10)
     return n + (b > a and data[b - 1] != 10)
 
 
@@ -549,8 +550,8 @@ def _plain_rows(data: np.ndarray, a: int, b: int, role: np.ndarray, iso: int, po
             dest = role[c]
             if dest < 0:
                 while i < b and data[i] != 44 and data[i] != 10:
-                    if data[i] < 32 or data[i] > 126:
-                        return -1
+                    if data[i] < 32 or data[i] > 126 or data[i] == 34 or data[i] == 35:
+                        return -1  # a control or non-ASCII byte, a quote, a comment
                     i += 1
             elif c == iso:
                 while i < b and data[i] != 44 and data[i] != 10:
@@ -601,24 +602,22 @@ if numba is not None:
 
 
 def _plain_body(path: Path, d: _Dialect, cols: Columns) -> tuple[np.ndarray, int] | None:
-    """The mapped bytes of a plain CSV file (``,`` separator, no quotes, carriage returns or
-    ``#`` after the header, unique header names, no vehicle column) and where its rows start;
-    None for any other file (read by pandas)."""
+    """The mapped bytes of a CSV file that may be plain (``,`` separator, unique header
+    names, no vehicle column; :func:`_plain_rows` finds what else is not) and where its rows
+    start; None for any other file (read by pandas)."""
     if numba is None or d.sep != "," or cols.vehicle or len(set(d.header)) != len(d.header):
         return None
     try:
         with path.open("rb") as fh:
-            data = np.memmap(fh, dtype=np.uint8, mode="r")
+            mm = mmap.mmap(fh.fileno(), 0, access=mmap.ACCESS_READ)
     except (OSError, ValueError):  # an empty file cannot be mapped
         return None
-    mm = data._mmap
+    data = np.frombuffer(mm, dtype=np.uint8)  # holds the map open
     start = 0
     for _ in range(d.header_line):
         start = mm.find(b"\n", start) + 1
         if start == 0:
             return None
-    if any(mm.find(ch, start) >= 0 for ch in (b'"', b"#", b"\r")):
-        return None
     return data, start
 
 
