@@ -483,6 +483,7 @@ def test_plain_reader_numbers_correctly_rounded(tmp_path):
     lambda t, s: t.replace(",77.5,", ",fast,"),  # a bad number: pandas names its row
     lambda t, s: t.replace(",77.5,", ",12345678901234567890,"),  # 20 digits
     lambda t, s: t.replace(",77.5,", ",9007199254740993,"),  # above 2**53
+    lambda t, s: t.replace(",77.5,", ",-0,"),  # minus zero without a point
     lambda t, s: t.replace(",77.5,", ",1.5,2,"),  # a field too many: pandas names its row
     lambda t, s: t.replace(",77.5,", ","),  # a field short
     lambda t, s: t.replace(",77.5,", ",77.5,\n"),  # a blank line

@@ -572,15 +572,17 @@ def _plain_rows(data: np.ndarray, a: int, b: int, role: np.ndarray, iso: int, po
                     m = 10 * m + (np.int64(data[i]) - 48)
                     nd += 1
                     i += 1
-                if i < b and data[i] == 46:
+                point = i < b and data[i] == 46
+                if point:
                     i += 1
                     while i < b and 48 <= data[i] <= 57:
                         m = 10 * m + (np.int64(data[i]) - 48)
                         nd += 1
                         k += 1
                         i += 1
-                if nd == 0 or nd > 19 or m >= 9007199254740992 or k > 22:
-                    return -1
+                if nd == 0 or nd > 19 or m >= 9007199254740992 or k > 22 \
+                        or (neg and m == 0 and not point):
+                    return -1  # "-0" is 0.0 in a column of integers, -0.0 among decimals
                 v = float(m) / pow10[k]
                 out[dest, r] = -v if neg else v
             if c < ncols - 1:
