@@ -496,6 +496,7 @@ def test_plain_reader_numbers_correctly_rounded(tmp_path):
     lambda t, s: t.replace(s, s[:-3] + "61Z"),  # a bad stamp: pandas names its row
     lambda t, s: t.replace(s, s[:-4] + "Z"),  # no seconds: the general parsers
     lambda t, s: t.rstrip("\n"),  # no newline at the end: read alike
+    lambda t, s: t[:t.index("\n") + 1],  # the header alone
 ])
 @pytest.mark.parametrize("at", [10, 2500])
 def test_plain_reader_leaves_other_files_to_pandas(tmp_path, edit, at):

@@ -20,7 +20,6 @@ import csv
 import glob
 import itertools
 import mmap
-import os
 import re
 from collections.abc import Iterator
 from concurrent.futures import ThreadPoolExecutor
@@ -620,7 +619,7 @@ def _plain_body(path: Path, d: _Dialect, cols: Columns) -> tuple[np.ndarray, int
         start = mm.find(b"\n", start) + 1
         if start == 0:
             return None
-    return data, start
+    return (data, start) if start < data.size else None  # rows, or pandas' empty frame
 
 
 def _plain_batches(path: Path, d: _Dialect, cols: Columns, data: np.ndarray, start: int,
@@ -631,7 +630,7 @@ def _plain_batches(path: Path, d: _Dialect, cols: Columns, data: np.ndarray, sta
     names = [cols.time[0], cols.speed[0], *(raw for raw, _ in cols.extras.values())]
     role = np.array([names.index(h) if h in names else -1 for h in d.header], dtype=np.int64)
     iso = d.header.index(cols.time[0]) if cols.time[1] in ISO_UNITS else -1
-    workers = os.cpu_count() or 1
+    workers = numba.config.NUMBA_NUM_THREADS  # one per core; 1 in a fleet's workers
     at = start
     while at < data.size:
         end = data.size if batch_rows is None else _skip_lines(data, at, data.size, batch_rows)
