@@ -613,13 +613,15 @@ def _plain_body(path: Path, d: _Dialect, cols: Columns) -> tuple[np.ndarray, int
             mm = mmap.mmap(fh.fileno(), 0, access=mmap.ACCESS_READ)
     except (OSError, ValueError):  # an empty file cannot be mapped
         return None
-    data = np.frombuffer(mm, dtype=np.uint8)  # holds the map open
     start = 0
     for _ in range(d.header_line):
         start = mm.find(b"\n", start) + 1
         if start == 0:
-            return None
-    return (data, start) if start < data.size else None  # rows, or pandas' empty frame
+            break
+    if not 0 < start < mm.size():  # no rows: pandas' empty frame
+        mm.close()
+        return None
+    return np.frombuffer(mm, dtype=np.uint8), start  # the array holds the map open
 
 
 def _plain_batches(path: Path, d: _Dialect, cols: Columns, data: np.ndarray, start: int,
