@@ -48,6 +48,13 @@ def test_no2_molar_mass_is_the_iupac_one():
     assert_allclose(c.M_NO2 / 46.005 - 1.0, 1.087e-5, rtol=1e-3)
 
 
+def test_faraday_is_avogadro_times_the_elementary_charge():
+    # F = N_A e with e = 1.602 176 634e-19 C, exact since the 2019 SI (SI Brochure, 9th ed.,
+    # Table 1); per kmol like GAS_CONSTANT, and the value Cantera uses (ct.faraday, C/kmol).
+    assert_allclose(c.FARADAY, 6.02214076e26 * 1.602176634e-19, rtol=1e-15)
+    assert round(c.FARADAY / 1e3, 5) == 96485.33212
+
+
 def test_rpm_and_other_exact_factors():
     # 1 rev/min = 2 pi rad / 60 s (definition): 3000 rpm = 314.159 265 rad/s.
     assert_allclose(3000 * c.RPM, 100 * math.pi, rtol=1e-15)
@@ -75,7 +82,8 @@ def test_the_two_phi_ranges_have_two_names():
 
 # The values that must live only in core/constants.py (as number literals in code; docstrings,
 # messages and tests may quote them).
-_ONE_HOME = {288.15, 273.15, 298.15, 101325.0, 9.80665, 46.0055, 46.005, 8314.462618, 3.6e6}
+_ONE_HOME = {288.15, 273.15, 298.15, 101325.0, 9.80665, 46.0055, 46.005, 8314.462618, 3.6e6,
+             96485332.12331001, 96485.33212331001, 96485.0}
 
 
 def _literals(path: Path) -> list[tuple[int, float]]:

@@ -74,3 +74,9 @@ J_PER_KWH = 3.6e6
 #: N and O (IUPAC 1995 table, as printed to five decimals in the CRC Handbook; from memory).
 #: NOx masses are reported "as NO2" (the regulatory convention, e.g. UN ECE R49 / R83).
 M_NO2 = 46.0055
+
+#: Faraday constant [C/kmol]: N_A e, exact since the 2019 redefinition of the SI
+#: (N_A = 6.022 140 76e23 /mol, e = 1.602 176 634e-19 C; SI Brochure, 9th ed., Table 1), per
+#: kmol like :data:`GAS_CONSTANT` (96 485.332 12 C/mol; the value Cantera uses). A cell that
+#: passes a current I consumes I / (2 F) kmol/s of hydrogen (two electrons per H2).
+FARADAY = 96_485_332.123310018

@@ -68,6 +68,15 @@ LABELS = {
     "system_energy_density_mj_per_l": "tank system energy per litre [MJ/L]",
     "tank_volume_l": "tank volume [L]", "tank_system_mass_kg": "tank system mass [kg]",
     "range_km": "range [km]", "low_value": "low value", "high_value": "high value",
+    "stack_kw": "fuel-cell system power [kW]", "fuel_cell_mass_kg": "fuel-cell system mass [kg]",
+    "rated_system_efficiency": "system efficiency at rated power [%]",
+    "mean_system_efficiency": "system efficiency over the duty [%]",
+    "h2_kg_per_100km": "hydrogen [kg/100 km]", "tank_pressure_bar": "tank pressure [bar]",
+    "tank": "tank type", "tank_h2_kg": "usable hydrogen [kg]",
+    "tank_mass_kg": "empty tank mass [kg]", "buffer_kwh": "buffer battery [kWh]",
+    "buffer_mass_kg": "buffer battery mass [kg]",
+    "buffer_fits": "buffer holds the duty's swing", "pathway": "hydrogen pathway",
+    "h2_co2e_kg_per_kg": "CO2e of making the hydrogen [kg/kg]",
     "npv_at_low": "NPV at low [{cur}]", "npv_at_high": "NPV at high [{cur}]",
     "swing": "swing [{cur}]", "nominal_value": "value now",
     "breakeven_value": "value where the NPV is zero",
@@ -142,6 +151,7 @@ TABLE_TITLES = {
     "vehicles": "Each vehicle of a class run from its logs",
     "calibration": "The model against the fuel cards",
     "battery": "Battery-electric options: pack, payload and charging",
+    "fuel_cell": "Fuel-cell drives: stack, hydrogen and tank",
     "programme_years": "Capital, grants, financing and fuel tax by year",
     "phasing": "Conversions by year", "funding": "Grants, loans and fuel tax",
     "stations": "Refuelling stations",
@@ -269,6 +279,11 @@ def reader_table(name: str, result: StudyResult, table: pd.DataFrame | None = No
         t["vehicle_class"] = t["vehicle_class"].map(names.vehicle_class)
     if "fuel" in t:
         t["fuel"] = t["fuel"].map(lambda f: " / ".join(names.fuel(x) for x in str(f).split("/")))
+    if "pathway" in t:  # a hydrogen pathway's id, or "study file" for a figure given
+        from workbench.models.fuelcell import HYDROGEN_PATHWAYS  # Cantera: only when needed
+
+        t["pathway"] = t["pathway"].map(
+            lambda p: HYDROGEN_PATHWAYS[p].name if p in HYDROGEN_PATHWAYS else p)
     if name == "stations":
         t["classes"] = t["classes"].map(
             lambda ids: ", ".join(names.vehicle_class(x) for x in str(ids).split(", ")))

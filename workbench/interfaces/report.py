@@ -56,6 +56,13 @@ BATTERY_CAUTION = (
     "servicing, garaging and fire precautions are for trained and licensed people, and local "
     "electrical, building and fire codes decide what is allowed."
 )
+#: The caution added when an option runs on hydrogen fuel cells.
+HYDROGEN_CAUTION = (
+    "Fuel-cell vehicles carry hydrogen at 350-700 bar, which burns with a nearly invisible "
+    "flame, and a high-voltage DC bus: vehicles, tanks, filling stations and the garages that "
+    "service them (ventilation, gas detection) are for licensed practitioners, and local codes "
+    "decide what is allowed."
+)
 
 #: The line shown when the study says its data are invented.
 DEMO_NOTICE = (
@@ -276,7 +283,8 @@ def _caveats(result: StudyResult) -> str:
     if result.fictional:
         items.insert(0, DEMO_NOTICE)
     lis = "".join(f"<li>{_esc(i)}</li>" for i in items)
-    caution = SAFETY_CAUTION + (" " + BATTERY_CAUTION if len(result.battery) else "")
+    caution = (SAFETY_CAUTION + (" " + BATTERY_CAUTION if len(result.battery) else "")
+               + (" " + HYDROGEN_CAUTION if len(result.fuel_cell) else ""))
     return (f"<ul>{lis}</ul><p class=\"caution\" id=\"safety\"><strong>Safety:</strong> "
             f"{caution}</p>")
 
@@ -322,15 +330,27 @@ def _decisions_html(result: StudyResult) -> str:
             f'<div class="scroll">{_table_html(reader_table("class_decisions", result))}</div>')
 
 
-def _battery_html(result: StudyResult) -> str:
-    """The battery-electric options' packs, payload loss and charging check (none: empty)."""
-    if result.battery.empty:
+#: What each new drive's table says, before the table.
+DRIVE_TABLES = {
+    "battery": "Each pack is sized for the range at the end of its life on the class's own "
+               "duty, carrying its own mass; the payload lost is the pack's mass less the "
+               "combustion powertrain it replaces.",
+    "fuel_cell": "The fuel cell meets the motor's demand on the class's own duty up to its "
+                 "rated power, the buffer battery the peaks and the regenerated braking; the "
+                 "hydrogen tank is sized for the range and carried with the stack and buffer. "
+                 "Efficiencies are on the hydrogen's lower heating value.",
+}
+
+
+def _drive_html(result: StudyResult, name: str) -> str:
+    """A new drive's table (``battery``, ``fuel_cell``) with its note (none: empty)."""
+    table = result.tables()[name]
+    if table.empty:
         return ""
-    return ('<h3 id="battery">Battery-electric options: pack, payload and charging</h3>'
-            "<p>Each pack is sized for the range at the end of its life on the class's own "
-            "duty, carrying its own mass; the payload lost is the pack's mass less the "
-            "combustion powertrain it replaces.</p>"
-            f'<div class="scroll">{_table_html(reader_table("battery", result))}</div>')
+    return (f'<h3 id="{name}">{_esc(TABLE_TITLES[name])}</h3><p>{_esc(DRIVE_TABLES[name])}</p>'
+            f'<div class="scroll">{_table_html(reader_table(name, result))}</div>')
+
+
 def programme_html(result: StudyResult) -> str:
     """The programme's phasing, grants, loans, fuel tax and stations as HTML (report and
     panels); empty when the study has none of them."""
@@ -433,7 +453,8 @@ def html_report(
 <div class="scroll">{side}</div>
 <h3>Per vehicle class</h3>
 {per_class}
-{_battery_html(result)}
+{_drive_html(result, "battery")}
+{_drive_html(result, "fuel_cell")}
 <h2 id="classes">A decision per class</h2>
 {_decisions_html(result)}
 <h2 id="programme">Phasing, funding and refuelling</h2>

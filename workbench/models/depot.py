@@ -26,7 +26,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-from workbench.core.constants import MOLAR_VOLUME_STANDARD
+from workbench.core.constants import MOLAR_VOLUME_STANDARD, T_STANDARD
 from workbench.core.fuels import Fuel
 from workbench.models.storage.compressed import compressed_gas_density
 
@@ -140,7 +140,7 @@ def buffer_volume(mass: float, density_store: float, density_min: float) -> floa
 
 def cng_station(fuel: Fuel, daily_mass: float, fills: float, *, window: float,
                 peak_factor: float = 2.0, storage_pressure: float = 25e6,
-                fill_pressure: float = 20e6, temperature: float = 288.15,
+                fill_pressure: float = 20e6, temperature: float = T_STANDARD,
                 hose_flow: float = 20.0 / 60.0, handling: float = 300.0) -> CNGStation:
     """Size a compressed-gas depot station.
 

@@ -143,8 +143,11 @@ def study_names(inputs: StudyInputs) -> Names:
     Names
     """
     fuels = {fid: fuel.name or fid for fid, fuel in study_fuels(inputs.options).items()}
-    if any(co.electric is not None for o in inputs.options for co in o.per_class.values()):
-        fuels[ELECTRICITY] = "grid electricity"
+    for co in (co for o in inputs.options for co in o.per_class.values()):
+        if co.electric is not None:
+            fuels[ELECTRICITY] = "grid electricity"
+        if co.fuel_cell is not None:
+            fuels[co.fuel_cell.hydrogen.id] = co.fuel_cell.hydrogen.name
     return Names(candidates={o.id: o.name for o in inputs.options},
                  classes={c.id: c.name for c in inputs.classes}, fuels=fuels)
 

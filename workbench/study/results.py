@@ -99,6 +99,15 @@ COLUMNS: dict[str, tuple[str, ...]] = {
         "energy_kwh_per_km", "regen_share_of_braking", "peak_power_kw", "charging_power_kw",
         "charging_hours", "charging_window_h", "charging_fits", "charging_message",
     ),
+    # one row per fuel-cell candidate x vehicle class: the stack, its efficiency, the buffer,
+    # the hydrogen tank for the range and the mass the vehicle carries
+    "fuel_cell": (
+        "candidate", "vehicle_class", "stack_kw", "fuel_cell_mass_kg",
+        "rated_system_efficiency", "mean_system_efficiency", "h2_kg_per_100km", "range_km",
+        "tank_pressure_bar", "tank", "tank_h2_kg", "tank_volume_l", "tank_mass_kg",
+        "tank_system_mass_kg", "buffer_kwh", "buffer_mass_kg", "buffer_fits", "added_mass_kg",
+        "payload_loss_kg", "payload_kg", "pathway", "h2_co2e_kg_per_kg",
+    ),
     # one row per candidate x Monte Carlo draw
     "monte_carlo": ("candidate", "draw", "npv_vs_baseline"),
     # one row per candidate x uncertain input: one-at-a-time sensitivity of NPV
@@ -201,7 +210,8 @@ class StudyResult:
         (``workbench.study.runner.calibration_rows``); ``fuel_use`` each fuel an option burns
         on a class (a dual-fuel engine's gas and pilot apart: energy share, fuel per 100 km,
         CO2e; grid electricity of a battery-electric drive); ``battery`` each battery-electric
-        option's pack on a class (capacity, mass, payload loss, charging check);
+        option's pack on a class (capacity, mass, payload loss, charging check); ``fuel_cell``
+        each fuel-cell option on a class (stack, efficiency, buffer, hydrogen tank, mass);
         ``programme_years`` each candidate's capital, grants, financing and fuel tax by year,
         ``phasing`` the share of each class converted each year, ``funding`` each candidate's
         grants, loan and fuel-tax change, ``stations`` its refuelling station
@@ -254,6 +264,8 @@ class StudyResult:
         columns=list(COLUMNS["fuel_use"])))
     battery: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
         columns=list(COLUMNS["battery"])))
+    fuel_cell: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
+        columns=list(COLUMNS["fuel_cell"])))
     programme_years: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
         columns=list(COLUMNS["programme_years"])))
     phasing: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(

@@ -60,6 +60,7 @@ from workbench.models.engine import (
     run_duty,
 )
 from workbench.models.engine_out import engine_out_per_m
+from workbench.models.fuelcell import FuelCellSizing, size_fuel_cell_vehicle
 from workbench.models.nox import DEFAULT_ENGINE_OUT
 from workbench.models.pollutants import pollutant_factors
 from workbench.models.storage import tank_for_range
@@ -200,6 +201,14 @@ class ElectricPhysics:
 
 
 @dataclass(frozen=True)
+class FuelCellPhysics:
+    """A fuel-cell drive on a class: hydrogen over the class's duty with the tank for the range
+    on board (``sizing.use``: buffer flows; ``sizing.tank``: the tank)."""
+
+    sizing: FuelCellSizing
+
+
+@dataclass(frozen=True)
 class ClassPhysics:
     """Everything about one option on one vehicle class that does not involve money; the
     per-metre figures are totals over the energy carriers it buys (:attr:`fuels`, and grid
@@ -228,6 +237,7 @@ class ClassPhysics:
     duty: DutyRun | None  # the engine's duty run; None without an engine
     storage: dict[str, float]  # the fuel tank; empty without a fuel
     electric: ElectricPhysics | None = None
+    fuel_cell: FuelCellPhysics | None = None
 
 
 def _settings(c: FleetClass) -> DutySettings:
@@ -444,11 +454,42 @@ def electric_physics(c: FleetClass, co: ClassOption, base: ClassOption, months: 
         duty=None, storage={}, electric=ElectricPhysics(sizing, charging))
 
 
+def fuel_cell_physics(c: FleetClass, co: ClassOption, base: ClassOption, months: int,
+                      nox_damage_cost: float) -> ClassPhysics:
+    """All physics of a fuel-cell drive on one class (arguments as :func:`class_physics`).
+
+    The motor's DC demand on the class's trace (as a battery-electric drive's) is met by the
+    fuel-cell system and its buffer battery; the hydrogen tank is sized for the option's range
+    at its pressure and carried with the stack and buffer
+    (:func:`workbench.models.fuelcell.size_fuel_cell_vehicle`). The energy bought is the
+    hydrogen's LHV per metre. Only water leaves the vehicle: tailpipe CO2, CH4, N2O, NOx, PM,
+    CO and hydrocarbons are zero.
+    """
+    h = co.fuel_cell
+    assert h is not None and isinstance(c.profile_data, DutyTrace)  # the study checked both
+    sizing = size_fuel_cell_vehicle(c.vehicle_data, c.profile_data, h.drive, h.system, h.buffer,
+                                    h.range, pressure=h.tank_pressure, mass_saved=h.mass_saved,
+                                    settings=_settings(c))
+    use = sizing.use
+    prog = programme_nox(co.aftertreatment, 0.0, distance_per_month=c.km_per_year.nominal / 12,
+                         months=months, fleet_size=c.count, nox_damage_cost=nox_damage_cost)
+    return ClassPhysics(
+        sheet=None, fuels=(), fuel_energy_per_m=use.energy_per_m,
+        fuel_mass_per_m=use.hydrogen_per_m, fuel_volume_per_m=float("nan"), co2_ttw_per_m=0.0,
+        ch4_per_m=0.0, tailpipe_co2e_per_m=0.0, engine_out_nox_per_m=0.0,
+        nox_source="fuel-cell drive: no combustion, no tailpipe NOx",
+        pm_per_m=0.0, co_per_m=0.0, nmhc_per_m=0.0, monthly=prog.monthly, yearly=prog.yearly,
+        replacements=0, best_interval_months=months, best_total_cost=0.0,
+        share_out_of_map=0.0, share_full_load=use.over_power_time / use.drive.duration,
+        duty=None, storage={}, fuel_cell=FuelCellPhysics(sizing))
+
+
 #: The energy model of each drive a study may name (``studyfile.DRIVES``): the one place a
 #: drive's physics is chosen. Each takes the arguments of :func:`class_physics`.
 DRIVES: dict[str, Callable[[FleetClass, ClassOption, ClassOption, int, float], ClassPhysics]] = {
     "combustion": combustion_physics,
     "battery-electric": electric_physics,
+    "fuel-cell": fuel_cell_physics,
 }
 
 
@@ -684,10 +725,10 @@ def _response(inputs: StudyInputs, c: FleetClass, co: ClassOption, field: str, u
 
 
 def _energies(ph: ClassPhysics) -> np.ndarray:
-    """Energy per distance of each carrier an option-class buys (its fuels, then grid
-    electricity), shape (carriers,) [J/m]."""
-    grid = [] if ph.electric is None else [ph.fuel_energy_per_m]
-    return np.array([f.per_m.fuel_energy_per_m for f in ph.fuels] + grid)
+    """Energy per distance of each carrier an option-class buys (its fuels, then a drive's
+    grid electricity or hydrogen), shape (carriers,) [J/m]."""
+    drive = [] if ph.electric is None and ph.fuel_cell is None else [ph.fuel_energy_per_m]
+    return np.array([f.per_m.fuel_energy_per_m for f in ph.fuels] + drive)
 
 
 def _vary(c: FleetClass, co: ClassOption, field: str, value: float
@@ -757,6 +798,12 @@ def _lines(plan: Plan, params: Mapping[str, np.ndarray], n: int) -> dict[str, ec
                     upstream_by_year=True),)
                 own_capital = own_capital + val(e.charger_capital)
                 own_upkeep = own_upkeep + val(e.charger_upkeep_per_year)
+            if (fc := co.fuel_cell) is not None:  # hydrogen, its production's CO2e upstream
+                lhv = fuel_sheet(fc.hydrogen).lhv_mass
+                parts += (econ.EnergyPart(
+                    energy[:, len(ph.fuels)], val(fc.price_value) * price_factor(fc.price,
+                                                                                 fc.hydrogen),
+                    val(fc.escalation), val(fc.co2e_per_kg) / lhv),)
             v = co.new_vehicle
             phasing = None
             if co.converts and co.phasing is not None:

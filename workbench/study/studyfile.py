@@ -25,7 +25,8 @@ from __future__ import annotations
 import copy
 import math
 import re
-from collections.abc import Callable, Iterable, Mapping
+from collections.abc import Callable, Iterable, Iterator, Mapping
+from contextlib import contextmanager
 from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
@@ -34,6 +35,7 @@ import numpy as np
 import tomlkit
 import tomlkit.items
 
+from workbench.core.constants import J_PER_KWH
 from workbench.core.errors import InputError
 from workbench.core.fuels import BASES, Fuel, blend, load_fuel
 from workbench.core.paths import DATA
@@ -73,6 +75,7 @@ from workbench.models.economics import DISTRIBUTION_PARAMETERS, Correlation, Dis
 from workbench.models.electric import BatteryPack, EfficiencyCurve, ElectricDrive, tariff_price
 from workbench.models.engine import EngineMap
 from workbench.models.engine_out import DEFAULT_REFERENCE_FUEL
+from workbench.models.fuelcell import HYDROGEN_PATHWAYS, BufferBattery, FuelCellSystem
 from workbench.models.nox import ENGINE_PRESETS, EngineOutNOx
 from workbench.models.storage.state import storage_spec
 from workbench.models.vehicle import Vehicle
@@ -165,7 +168,7 @@ class FleetClass:
 #: Drives an option may give a class: the conversions of :mod:`workbench.models.conversion`
 #: keep the combustion engine; any other drive replaces the class's vehicles by new ones
 #: (``NewVehicleInputs``) and has its own energy model (``workbench.study.runner.DRIVES``).
-DRIVES = ("combustion", "battery-electric")
+DRIVES = ("combustion", "battery-electric", "fuel-cell")
 #: The id grid electricity goes by where a fuel's id stands in the result tables.
 ELECTRICITY = "electricity"
 
@@ -206,6 +209,25 @@ class ElectricInputs:
         """Grid CO2e intensity in each programme year 0 … H [kg/J]."""
         years, values = zip(*self.grid_co2e, strict=True)
         return [float(v) for v in np.interp(start_year + np.arange(horizon + 1), years, values)]
+
+
+@dataclass(frozen=True)
+class FuelCellInputs:
+    """What a fuel-cell option gives one class: motor, fuel-cell system, buffer, tank, hydrogen."""
+
+    drive: ElectricDrive  # motor, reducer, regeneration, heating (charging not used)
+    system: FuelCellSystem
+    buffer: BufferBattery
+    range: float  # distance between fills [m]
+    mass_saved: float  # combustion powertrain mass the vehicle does without [kg]
+    tank_pressure: float  # nominal storage pressure at 15 °C, absolute [Pa]
+    hydrogen: Fuel  # the hydrogen fuel sheet (heating value, molar mass)
+    price: Price  # the hydrogen price's basis (per kg, per MJ ...)
+    price_value: Uncertain  # its value [currency per basis]
+    escalation: Uncertain  # of the hydrogen price [1/year]
+    pathway: str  # HYDROGEN_PATHWAYS id, or "study file" for a figure given
+    co2e_per_kg: Uncertain  # CO2e of producing the hydrogen [kg CO2e/kg H2]
+    co2e_source: str
 
 
 @dataclass(frozen=True)
@@ -255,6 +277,7 @@ class ClassOption:
     #: option that names ``purchase_price``); None for a conversion.
     new_vehicle: NewVehicleInputs | None = None
     electric: ElectricInputs | None = None  # drive = "battery-electric"
+    fuel_cell: FuelCellInputs | None = None  # drive = "fuel-cell"
     #: A dual-fuel engine's gas share against load (``gas_substitution``; the kind's curve
     #: when not given).
     substitution: Substitution = DEFAULT_SUBSTITUTION
@@ -267,8 +290,8 @@ class ClassOption:
     @property
     def fuels(self) -> tuple[Fuel, ...]:
         """The fuels it buys: its fuel, and a dual-fuel engine's pilot after it (none for a
-        battery-electric drive)."""
-        if self.drive == "battery-electric":
+        drive without an engine: battery-electric, fuel-cell)."""
+        if self.drive != "combustion":
             return ()
         return (self.fuel,) if self.pilot_fuel is None else (self.fuel, self.pilot_fuel)
 
@@ -1084,6 +1107,9 @@ def all_uncertain(inputs: StudyInputs) -> list[Uncertain]:
                 e = co.electric
                 out += [e.charger_capital, e.charger_upkeep_per_year, e.escalation]
                 out += [u for _, u, _ in e.tariff]
+            if co.fuel_cell is not None:
+                h = co.fuel_cell
+                out += [h.price_value, h.escalation, h.co2e_per_kg]
             out += [u for _, u in co.varied]
     out += [u for _, u in inputs.prices.values()]
     out += [u for _, u in inputs.fuel_tax.values()]
@@ -1284,7 +1310,7 @@ def _option(r: _Reader, classes: tuple[FleetClass, ...], baseline: Option | None
             "engine_out_nox", "lambda_overall", "methane_slip", "aftertreatment",
             "programme_capital", "programme_upkeep_per_year", "conversion", "pilot_fuel",
             "gas_substitution", "phasing", "grant", "programme_grant", "loan", "station",
-            "drive", *NEW_VEHICLE_KEYS, *ELECTRIC_KEYS), "an option")
+            "drive", *NEW_VEHICLE_KEYS, *ELECTRIC_KEYS, *FUEL_CELL_KEYS), "an option")
     if baseline is None:
         for key in ("phasing", "grant", "programme_grant", "loan", "station"):
             if r.has(key):
@@ -1333,6 +1359,17 @@ ELECTRIC_KEYS = ("motor_power", "motor_efficiency", "reducer_efficiency", "regen
                  "charger_power", "chargers_per_vehicle", "charger_capital",
                  "charger_upkeep_per_year", "charging_window", "electricity_price",
                  "charging_shares", "electricity_escalation", "grid_co2e", "grid_co2e_source")
+#: Keys of the electric motor, which every drive without an engine has.
+MOTOR_KEYS = ("motor_power", "motor_efficiency", "reducer_efficiency", "regen_share",
+              "hvac_power", "range", "mass_saved")
+#: Keys of a fuel-cell drive (``drive = "fuel-cell"`` only).
+FUEL_CELL_KEYS = (*MOTOR_KEYS, "stack_power", "rated_cell_voltage", "fuel_utilisation",
+                  "bop_base_share", "bop_load_share", "fuel_cell_specific_power",
+                  "buffer_capacity", "buffer_power", "buffer_round_trip_efficiency",
+                  "tank_pressure", "hydrogen_price", "hydrogen_escalation", "hydrogen_pathway",
+                  "hydrogen_co2e", "hydrogen_co2e_source")
+#: The keys of each drive without an engine.
+DRIVE_KEYS = {"battery-electric": ELECTRIC_KEYS, "fuel-cell": FUEL_CELL_KEYS}
 #: Keys of a combustion engine, which a battery-electric class has not got.
 COMBUSTION_KEYS = ("fuel", "conversion", "engine", "engine_map", "derate", "efficiency_offset",
                    "engine_out_nox", "lambda_overall", "methane_slip", "aftertreatment",
@@ -1363,11 +1400,17 @@ def _drive_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOpt
         return next((k for k in keys if _per_class(r, k, c.id, class_ids, None) is not None),
                     None)
 
-    if drive == "combustion":
-        other = given(ELECTRIC_KEYS)
+    def not_of(drive: str) -> None:
+        other = given(k for keys in DRIVE_KEYS.values() for k in keys
+                      if k not in DRIVE_KEYS.get(drive, ()))
         if other is not None:
-            raise InputError(_class_at(r, other, class_ids, c.id), 'belongs to drive = '
-                             '"battery-electric"; name that drive or leave it out')
+            owner = " or ".join(f'drive = "{d}"' for d, keys in DRIVE_KEYS.items()
+                                if other in keys)
+            raise InputError(_class_at(r, other, class_ids, c.id),
+                             f"belongs to {owner}; name that drive or leave it out")
+
+    not_of(drive)
+    if drive == "combustion":
         co = _class_option(r, c, class_ids, base, base_dir, currency)
         new = given(NEW_VEHICLE_KEYS)
         if new is None:
@@ -1382,7 +1425,12 @@ def _drive_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOpt
         raise InputError(_class_at(r, other, class_ids, c.id), f"a {drive} vehicle has no "
                          f"combustion engine; leave {other} out (its energy is set by the "
                          "drive's keys)")
-    return _electric_option(r, c, class_ids, base, currency, where)
+    if not isinstance(c.profile_data, DutyTrace):
+        raise InputError(where, f"a {drive} drive runs on a speed trace; class {c.id}'s "
+                         "profile is not one (a time-at-mode table or logs): give the class a "
+                         "trace profile")
+    read = _electric_option if drive == "battery-electric" else _fuel_cell_option
+    return read(r, c, class_ids, base, currency)
 
 
 def _new_vehicle(r: _Reader, c: FleetClass, class_ids: set[str],
@@ -1403,14 +1451,9 @@ def _new_vehicle(r: _Reader, c: FleetClass, class_ids: set[str],
 
 
 def _electric_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOption,
-                     currency: str, where_drive: str) -> ClassOption:
+                     currency: str) -> ClassOption:
     """A battery-electric drive on a class, checked: the combustion fields keep the
     baseline's (the vehicles replaced), the drive, pack, chargers and electricity are read."""
-    if not isinstance(c.profile_data, DutyTrace):
-        raise InputError(where_drive, f"a battery-electric drive runs on a speed trace; class "
-                         f"{c.id}'s profile is not one (a time-at-mode table or logs): give "
-                         "the class a trace profile")
-
     def at(key: str) -> str:
         return _class_at(r, key, class_ids, c.id)
 
@@ -1424,53 +1467,23 @@ def _electric_option(r: _Reader, c: FleetClass, class_ids: set[str], base: Class
         return _uncertain(raw(key, 0.0), parse, at(key), 0.0, unit=(unit, 1.0))
 
     defaults: list[tuple[str, str, str, str]] = []
-    model = "models/electric.py default"
-    for key, label, unit, scale in (("reducer_efficiency", "reduction gear efficiency", "%", 100),
-                                    ("regen_share", "regeneration share of braking", "%", 100),
-                                    ("charging_efficiency", "charging efficiency", "%", 100),
-                                    ("depth_of_discharge", "depth of discharge", "%", 100),
-                                    ("end_of_life_health", "end-of-life capacity", "%", 100),
-                                    ("specific_energy", "pack specific energy", "Wh/kg",
-                                     1 / 3600)):
-        if raw(key, None) is None:
-            value = (ElectricDrive.__dataclass_fields__ | BatteryPack.__dataclass_fields__)[
-                key].default
-            defaults.append((label, f"{value * scale:g}", unit, f"{model} (docs/electric.md)"))
-    curve_raw = raw("motor_efficiency", None)
-    if curve_raw is None:
-        curve = EfficiencyCurve.typical()
-        defaults.append(("motor and inverter efficiency", "typical curve, 70-93 %", "",
-                         f"{model} TYPICAL_MOTOR_CURVE (docs/electric.md)"))
-    else:
-        curve = EfficiencyCurve.constant(_fixed(curve_raw, "[]", at("motor_efficiency"), None,
-                                                0.01, 1.0))
-    try:
-        drive = ElectricDrive(
-            motor_power=_fixed(raw("motor_power", ...), "[power]", at("motor_power"), None,
-                               1.0, 1e7),
-            motor_efficiency=curve,
-            reducer_efficiency=share("reducer_efficiency", 0.97),
-            regen_share=share("regen_share", 0.6),
-            hvac_power=_fixed(raw("hvac_power", "0 W"), "[power]", at("hvac_power"), None,
-                              0.0, 1e5),
-            charging_efficiency=share("charging_efficiency", 0.88))
+    _defaults(raw, defaults, (("charging_efficiency", "charging efficiency", "%", 100),
+                              ("depth_of_discharge", "depth of discharge", "%", 100),
+                              ("end_of_life_health", "end-of-life capacity", "%", 100),
+                              ("specific_energy", "pack specific energy", "Wh/kg", 1 / 3600)),
+              ElectricDrive.__dataclass_fields__ | BatteryPack.__dataclass_fields__,
+              _ELECTRIC_MODEL)
+    with _model_keys(at, r.path, {}):  # a share of 0 where the model needs more
+        drive = _motor(raw, at, defaults, charging_efficiency=share("charging_efficiency", 0.88))
         pack = BatteryPack(
             depth_of_discharge=share("depth_of_discharge", 0.9),
             end_of_life_health=share("end_of_life_health", 0.8),
             specific_energy=_fixed(raw("specific_energy", "140 Wh/kg"), "J/kg",
                                    at("specific_energy"), None, 3600.0, 3600.0 * 2000))
-    except InputError as exc:  # the model's own check (a share of 0): name the study's key
-        if exc.where.startswith(r.path):
-            raise
-        raise InputError(at(exc.where), exc.message) from None
     window = _fixed(raw("charging_window", "8 h"), "[time]", at("charging_window"), None,
                     60.0, 86400.0)
     electric = ElectricInputs(
-        drive=drive, pack=pack,
-        range=_fixed(raw("range", f"{c.range / 1e3:g} km"), "[length]", at("range"), None,
-                     1.0, MAX_RANGE),
-        mass_saved=_fixed(raw("mass_saved", "0 kg"), "[mass]", at("mass_saved"), None, 0.0,
-                          c.vehicle_data.mass * 0.9),
+        drive=drive, pack=pack, **_range_mass(raw, at, c),
         charger_power=_fixed(raw("charger_power", "22 kW"), "[power]", at("charger_power"),
                              None, 100.0, 1e7),
         chargers_per_vehicle=_fixed(raw("chargers_per_vehicle", 1.0), "[]",
@@ -1493,9 +1506,86 @@ def _electric_option(r: _Reader, c: FleetClass, class_ids: set[str], base: Class
     if raw("charging_window", None) is None:
         defaults.append(("charging window", "8", "h", "overnight at the depot, common "
                          "practice, no source"))
+    return _new_drive(r, c, class_ids, base, currency, defaults, electric=electric)
+
+
+_ELECTRIC_MODEL = "models/electric.py default (docs/electric.md)"
+
+
+def _defaults(raw: Callable[[str, Any], Any], defaults: list[tuple[str, str, str, str]],
+              keys: Iterable[tuple[str, str, str, float]], fields: Mapping[str, Any],
+              source: str) -> None:
+    """Note the model default of each (key, label, unit, scale) the study leaves out."""
+    for key, label, unit, scale in keys:
+        if raw(key, None) is None:
+            defaults.append((label, f"{fields[key].default * scale:g}", unit, source))
+
+
+@contextmanager
+def _model_keys(at: Callable[[str], str], option: str,
+                keys: Mapping[str, str]) -> Iterator[None]:
+    """Name the study key of a model's own check (a share of 0 where the model needs more):
+    an InputError whose ``where`` is a model field, not a key path of the ``option`` already,
+    gets the key's path (``keys`` maps fields whose key differs)."""
+    try:
+        yield
+    except InputError as exc:
+        if exc.where.startswith(option):
+            raise
+        raise InputError(at(keys.get(exc.where, exc.where)), exc.message) from None
+
+
+def _motor(raw: Callable[[str, Any], Any], at: Callable[[str], str],
+           defaults: list[tuple[str, str, str, str]], **extra: float) -> ElectricDrive:
+    """The motor, reducer, regeneration and heating of a drive without an engine (the
+    :data:`MOTOR_KEYS`), its defaults noted; ``extra`` are further ElectricDrive fields."""
+    _defaults(raw, defaults, (("reducer_efficiency", "reduction gear efficiency", "%", 100),
+                              ("regen_share", "regeneration share of braking", "%", 100)),
+              ElectricDrive.__dataclass_fields__, _ELECTRIC_MODEL)
+    curve_raw = raw("motor_efficiency", None)
+    if curve_raw is None:
+        curve = EfficiencyCurve.typical()
+        defaults.append(("motor and inverter efficiency", "typical curve, 70-93 %", "",
+                         "models/electric.py default TYPICAL_MOTOR_CURVE (docs/electric.md)"))
+    else:
+        curve = EfficiencyCurve.constant(_fixed(curve_raw, "[]", at("motor_efficiency"), None,
+                                                0.01, 1.0))
+    return ElectricDrive(
+        motor_power=_fixed(raw("motor_power", ...), "[power]", at("motor_power"), None,
+                           1.0, 1e7),
+        motor_efficiency=curve,
+        reducer_efficiency=_fixed(raw("reducer_efficiency", 0.97), "[]",
+                                  at("reducer_efficiency"), None, 0.0, 1.0),
+        regen_share=_fixed(raw("regen_share", 0.6), "[]", at("regen_share"), None, 0.0, 1.0),
+        hvac_power=_fixed(raw("hvac_power", "0 W"), "[power]", at("hvac_power"), None,
+                          0.0, 1e5), **extra)
+
+
+def _range_mass(raw: Callable[[str, Any], Any], at: Callable[[str], str],
+                c: FleetClass) -> dict[str, float]:
+    """``range`` (the class's by default) and ``mass_saved`` of a drive without an engine."""
+    return {"range": _fixed(raw("range", f"{c.range / 1e3:g} km"), "[length]", at("range"),
+                            None, 1.0, MAX_RANGE),
+            "mass_saved": _fixed(raw("mass_saved", "0 kg"), "[mass]", at("mass_saved"), None,
+                                 0.0, c.vehicle_data.mass * 0.9)}
+
+
+def _new_drive(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOption,
+               currency: str, defaults: list[tuple[str, str, str, str]],
+               **drive: Any) -> ClassOption:
+    """A class's vehicles replaced by new ones without a combustion engine: the combustion
+    fields keep the baseline's (the vehicles replaced) with nothing burnt; ``drive`` is the
+    drive's own inputs (``electric=`` or ``fuel_cell=``)."""
+    def at(key: str) -> str:
+        return _class_at(r, key, class_ids, c.id)
+
+    def raw(key: str, default: Any) -> Any:
+        return _per_class(r, key, c.id, class_ids, default)
+
+    name = "battery-electric" if "electric" in drive else "fuel-cell"
     zero = Uncertain(0.0, None, at("conversion_cost"), currency)
     return ClassOption(**{
-        **base.__dict__, "converts": True, "drive": "battery-electric",
+        **base.__dict__, "converts": True, "drive": name,
         "derate": 0.0, "efficiency_offset": 0.0, "conversion_cost": zero,
         "upkeep_change_per_year": _uncertain(raw("upkeep_change_per_year", 0.0),
                                              _money_per_year, at("upkeep_change_per_year"),
@@ -1508,7 +1598,119 @@ def _electric_option(r: _Reader, c: FleetClass, class_ids: set[str], base: Class
         "aftertreatment": DEVICE_PRESETS["none"], "varied": (), "conversion": "none",
         "derived_map": False, "defaults": tuple(defaults), "notices": (),
         "derate_against": None, "pilot_fuel": None, **_phasing_and_grant(r, c, class_ids),
-        "new_vehicle": _new_vehicle(r, c, class_ids, currency), "electric": electric})
+        "new_vehicle": _new_vehicle(r, c, class_ids, currency), **drive})
+
+
+#: Largest hydrogen production CO2e [kg CO2e/kg H2] (grid electrolysis on coal power is about
+#: 55 x 1 kg/kWh; from memory).
+MAX_H2_CO2E = 100.0
+
+
+def _fuel_cell_option(r: _Reader, c: FleetClass, class_ids: set[str], base: ClassOption,
+                      currency: str) -> ClassOption:
+    """A fuel-cell drive on a class, checked: the motor (as a battery-electric drive's), the
+    fuel-cell system, its buffer battery, the hydrogen tank's pressure, the hydrogen's price
+    and the CO2e of its production (a pathway of ``models/fuelcell.py`` or a figure)."""
+    def at(key: str) -> str:
+        return _class_at(r, key, class_ids, c.id)
+
+    def raw(key: str, default: Any) -> Any:
+        return _per_class(r, key, c.id, class_ids, default)
+
+    def share(key: str, default: float, low: float = 0.0) -> float:
+        return _fixed(raw(key, default), "[]", at(key), None, low, 1.0)
+
+    defaults: list[tuple[str, str, str, str]] = []
+    source = "models/fuelcell.py default (docs/fuel-cell.md)"
+    _defaults(raw, defaults, (
+        ("rated_cell_voltage", "cell voltage at rated power", "V", 1.0),
+        ("fuel_utilisation", "fuel utilisation", "%", 100),
+        ("bop_base_share", "balance of plant, base", "% of rated", 100),
+        ("bop_load_share", "balance of plant, with load", "% of gross", 100)),
+        FuelCellSystem.__dataclass_fields__, source)
+    if raw("fuel_cell_specific_power", None) is None:
+        defaults.append(("fuel-cell system specific power", "650", "W/kg", source))
+    def quantity(key: str, default: Any, dimension: str, low: float, high: float,
+                 unit: tuple[str, float]) -> float:
+        value = _fixed(raw(key, default), dimension, at(key))
+        _check_range(value, at(key), low, high, unit)
+        return value
+
+    with _model_keys(at, r.path, {"round_trip_efficiency": "buffer_round_trip_efficiency"}):
+        drive = _motor(raw, at, defaults)
+        system = FuelCellSystem(
+            rated_power=quantity("stack_power", ..., "[power]", 1e3, 1e7, ("kW", 1e-3)),
+            rated_cell_voltage=_fixed(raw("rated_cell_voltage", 0.6), "[]",
+                                      at("rated_cell_voltage"), None, 0.3, 1.2),
+            fuel_utilisation=share("fuel_utilisation", 0.95),
+            bop_base_share=share("bop_base_share", 0.01),
+            bop_load_share=share("bop_load_share", 0.08),
+            specific_power=quantity("fuel_cell_specific_power", "650 W/kg", "W/kg", 10.0, 1e4,
+                                    ("W/kg", 1.0)))
+        buffer = BufferBattery(
+            capacity=quantity("buffer_capacity", "2 kWh", "[energy]", 0.01 * J_PER_KWH,
+                              1e3 * J_PER_KWH, ("kWh", 1 / J_PER_KWH)),
+            power=quantity("buffer_power", f"{drive.motor_power / 1e3:g} kW", "[power]", 100.0,
+                           1e7, ("kW", 1e-3)),
+            round_trip_efficiency=share("buffer_round_trip_efficiency", 0.90))
+    for key, label, value, unit in (("buffer_capacity", "buffer battery capacity", "2", "kWh"),
+                                    ("buffer_power", "buffer battery power",
+                                     f"{drive.motor_power / 1e3:g}", "kW (the motor's)"),
+                                    ("buffer_round_trip_efficiency",
+                                     "buffer battery round trip", "90", "%"),
+                                    ("tank_pressure", "hydrogen tank pressure", "700", "bar")):
+        if raw(key, None) is None:
+            defaults.append((label, value, unit, source if key != "buffer_power" else
+                             "common practice, no source: the buffer can feed the motor"))
+    hydrogen = load_fuel("hydrogen")
+    price_raw = raw("hydrogen_price", ...)
+    if price_raw is ...:
+        raise InputError(at("hydrogen_price"), 'is required: the price of hydrogen at the '
+                         'pump, e.g. hydrogen_price = "9.5 per kg"')
+    price, price_value = _fuel_price(price_raw, at("hydrogen_price"), currency, hydrogen)
+    co2e, pathway, co2e_source = _hydrogen_co2e(raw, at, defaults)
+    fuel_cell = FuelCellInputs(
+        drive=drive, system=system, buffer=buffer, **_range_mass(raw, at, c),
+        tank_pressure=quantity("tank_pressure", "700 bar", "[pressure]", 100e5, 700e5,
+                               ("bar", 1e-5)),
+        hydrogen=hydrogen, price=price, price_value=price_value,
+        escalation=_uncertain(raw("hydrogen_escalation", 0.0), _fraction,
+                              at("hydrogen_escalation"), -0.5, 1.0, PERCENT),
+        pathway=pathway, co2e_per_kg=co2e, co2e_source=co2e_source)
+    return _new_drive(r, c, class_ids, base, currency, defaults, fuel_cell=fuel_cell)
+
+
+def _hydrogen_co2e(raw: Callable[[str, Any], Any], at: Callable[[str], str],
+                   defaults: list[tuple[str, str, str, str]]) -> tuple[Uncertain, str, str]:
+    """CO2e of producing the hydrogen [kg CO2e/kg H2], its pathway id and source: a pathway of
+    :data:`workbench.models.fuelcell.HYDROGEN_PATHWAYS` (grey by default, noted), or a
+    figure given as ``hydrogen_co2e`` with ``hydrogen_co2e_source``."""
+    given = raw("hydrogen_co2e", None)
+    named = raw("hydrogen_pathway", None)
+    if given is not None and named is not None:
+        raise InputError(at("hydrogen_co2e"), "give hydrogen_pathway or hydrogen_co2e, not both")
+    if given is not None:
+        def kg_per_kg(value: Any, w: str) -> float:
+            return read_number(value, w, what="a number of kg CO2e per kg of hydrogen")
+
+        co2e = _uncertain(given, kg_per_kg, at("hydrogen_co2e"), 0.0, MAX_H2_CO2E,
+                          unit=("kg CO2e/kg H2", 1.0))
+        source = raw("hydrogen_co2e_source", None)
+        if source is None:
+            raise InputError(at("hydrogen_co2e_source"), "is required with hydrogen_co2e: "
+                             "where the figure comes from (a certificate, a supplier)")
+        return co2e, "study file", _fixed_text(source, at("hydrogen_co2e_source"))
+    if raw("hydrogen_co2e_source", None) is not None:
+        raise InputError(at("hydrogen_co2e_source"), "belongs to hydrogen_co2e; give the "
+                         "figure or leave the source out")
+    pathway_id = _choice(named if named is not None else "grey-smr", at("hydrogen_pathway"),
+                         HYDROGEN_PATHWAYS, "hydrogen pathway")
+    pathway = HYDROGEN_PATHWAYS[pathway_id]
+    if named is None:
+        defaults.append(("hydrogen pathway", pathway_id, f"{pathway.co2e_per_kg:g} kg CO2e/kg",
+                         "grey unless the study names one; " + pathway.source))
+    return (Uncertain(pathway.co2e_per_kg, None, at("hydrogen_pathway"), "kg CO2e/kg H2"),
+            pathway_id, pathway.source)
 
 
 def _fixed_text(value: Any, where: str) -> str:
@@ -1533,7 +1735,7 @@ def _tariff(raw: Any, shares_raw: Any, where: str, where_shares: str, currency: 
                 raise InputError(w2, f"{_short(v)} is not per energy; price electricity per "
                                  'kWh, e.g. "0.21 per kWh"')
             return p.value
-        return _uncertain(value, parse, w, 0.0, unit=(f"{currency}/kWh", 3.6e6))
+        return _uncertain(value, parse, w, 0.0, unit=(f"{currency}/kWh", J_PER_KWH))
 
     bands = isinstance(raw, Mapping) and "kind" not in raw
     if not bands:
@@ -1906,6 +2108,12 @@ def _station(raw: Any, where: str, classes: tuple[FleetClass, ...],
             "fill_pressure", "hose_flow", "handling", "autonomy_days", "fill_limit",
             *_STATION_DEPOT, *_STATION_OFF), "a station")
     served = [c.id for c in classes if c.id in set(converts) and per_class[c.id].converts]
+    drives = {per_class[cid].drive for cid in served} - {"combustion"}
+    if drives:
+        raise InputError(where, f"sizes gas stations for engines; a {' or '.join(sorted(drives))}"
+                         " drive's chargers or hydrogen station are not sized here: give a "
+                         "hydrogen station's cost as programme_capital and its upkeep as "
+                         "programme_upkeep_per_year, and leave station out")
     fuels = {per_class[cid].fuel.id: per_class[cid].fuel for cid in served}
     if len(fuels) != 1:
         raise InputError(where, f"a station dispenses one fuel; the candidate's classes run on "
@@ -2105,30 +2313,36 @@ def _prices(r: _Reader, fuels: Mapping[str, Fuel], currency: str,
             role = f" ({pilots[fid]})" if fid in pilots else ""
             raise InputError(where, f'is required: the price of {fid}{role}, e.g. '
                              f'{fid} = "1.45 per L" in [prices]')
-        bases: list[Price] = []
-
-        def parse(value: Any, w: str, _bases: list[Price] = bases) -> float:
-            price = parse_price(value, where=w, currency=currency)
-            if _bases and price.basis != _bases[0].basis:
-                raise InputError(w, "every value of one price's distribution needs the same "
-                                 "basis (all per L, or all per kg …)")
-            _bases.append(price)
-            return price.value
-
-        unc = _uncertain(raw, parse, where, 0.0)
-        check_price_basis(bases[0], liquid=sold_as_liquid(fuels[fid]),
-                          gas=fuels[fid].is_gas)  # the basis must fit the fuel
-        if bases[0].basis == "energy" and not fuels[fid].is_gas and not any(
-                HEATING_VALUE_MARK.search(b.text) for b in bases):
-            raise InputError(where, f"{bases[0].text!r} prices a liquid fuel per energy; "
-                             "add the heating value (LHV or HHV) so it cannot be an electricity "
-                             "tariff by mistake, or price it per L or per kg")
-        m = re.match(r"\s*(?:[A-Z]{3}\s*)?([-+0-9.eE]+)\s*(?:[A-Z]{3}\s*)?(.*)$", bases[0].text)
-        amount = float(m.group(1)) if m else 0.0
-        if m and bases[0].value > 0 and amount > 0:
-            unc = replace(unc, unit=m.group(2).strip(), scale=amount / bases[0].value)
-        out[fid] = (bases[0], unc)
+        out[fid] = _fuel_price(raw, where, currency, fuels[fid])
     return out
+
+
+def _fuel_price(raw: Any, where: str, currency: str, fuel: Fuel) -> tuple[Price, Uncertain]:
+    """A fuel's price (a price or a distribution of prices on one basis), its basis checked
+    against the fuel; the value shown in the unit the study wrote."""
+    bases: list[Price] = []
+
+    def parse(value: Any, w: str) -> float:
+        price = parse_price(value, where=w, currency=currency)
+        if bases and price.basis != bases[0].basis:
+            raise InputError(w, "every value of one price's distribution needs the same "
+                             "basis (all per L, or all per kg …)")
+        bases.append(price)
+        return price.value
+
+    unc = _uncertain(raw, parse, where, 0.0)
+    check_price_basis(bases[0], liquid=sold_as_liquid(fuel),
+                      gas=fuel.is_gas)  # the basis must fit the fuel
+    if bases[0].basis == "energy" and not fuel.is_gas and not any(
+            HEATING_VALUE_MARK.search(b.text) for b in bases):
+        raise InputError(where, f"{bases[0].text!r} prices a liquid fuel per energy; "
+                         "add the heating value (LHV or HHV) so it cannot be an electricity "
+                         "tariff by mistake, or price it per L or per kg")
+    m = re.match(r"\s*(?:[A-Z]{3}\s*)?([-+0-9.eE]+)\s*(?:[A-Z]{3}\s*)?(.*)$", bases[0].text)
+    amount = float(m.group(1)) if m else 0.0
+    if m and bases[0].value > 0 and amount > 0:
+        unc = replace(unc, unit=m.group(2).strip(), scale=amount / bases[0].value)
+    return bases[0], unc
 
 
 def sold_as_liquid(fuel: Fuel) -> bool:

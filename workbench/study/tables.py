@@ -109,12 +109,12 @@ def physics_tables(plan: Plan) -> dict[str, pd.DataFrame]:
     -------
     dict of str to DataFrame
         ``nox_monthly``, ``storage``, ``operating_points``, ``flame``, ``catalyst``,
-        ``duty`` and ``battery``.
+        ``duty``, ``battery`` and ``fuel_cell``.
     """
     return {"nox_monthly": _nox_monthly_table(plan), "storage": _storage_table(plan),
             "operating_points": _operating_points_table(plan), "flame": _flame_table(plan),
             "catalyst": _catalyst_table(plan), "duty": _duty_table(plan.inputs),
-            "battery": _battery_table(plan)}
+            "battery": _battery_table(plan), "fuel_cell": _fuel_cell_table(plan)}
 
 
 def _empty(name: str) -> pd.DataFrame:
@@ -145,7 +145,8 @@ def _per_km_rows(plan: Plan, lines: Mapping[str, econ.OptionLines],
             ph = plan.physics[o.id, c.id]
             cost = econ.cost_per_m(line, rate=rate, carbon_price=carbon)
             co2e_m = econ.co2e_per_m(line)
-            one = len(ph.fuels) == 1  # litres or kg of two fuels do not add: see fuel_use
+            # litres or kg of two fuels do not add (see fuel_use); a fuel cell's are hydrogen
+            one = len(ph.fuels) == 1 or ph.fuel_cell is not None
             rows.append({
                 "candidate": o.id, "vehicle_class": c.id,
                 "fuel": "/".join(_carriers(o.per_class[c.id])),
@@ -204,12 +205,26 @@ def _fuel_use_table(plan: Plan, lines: Mapping[str, econ.OptionLines]) -> pd.Dat
                     "fuel_energy_mj_per_km": plan.physics[o.id, c.id].fuel_energy_per_m * 1e-3,
                     "co2_ttw_g_per_km": 0.0, "ch4_g_per_km": 0.0, "co2e_ttw_g_per_km": 0.0,
                     "co2e_wtw_g_per_km": upstream * 1e6})
+            if (fc := plan.physics[o.id, c.id].fuel_cell) is not None:  # only water leaves
+                upstream = econ.co2e_per_m(replace(line, parts=line.parts[-1:],
+                                                   tailpipe_co2e_per_m=0.0))
+                rows.append({
+                    "candidate": o.id, "vehicle_class": c.id,
+                    "fuel": o.per_class[c.id].fuel_cell.hydrogen.id, "role": "fuel-cell",
+                    "energy_share": 1.0,
+                    "fuel_energy_mj_per_km": plan.physics[o.id, c.id].fuel_energy_per_m * 1e-3,
+                    "fuel_kg_per_100km": fc.sizing.use.hydrogen_per_m * 1e5,
+                    "co2_ttw_g_per_km": 0.0, "ch4_g_per_km": 0.0, "co2e_ttw_g_per_km": 0.0,
+                    "co2e_wtw_g_per_km": upstream * 1e6})
     return frame("fuel_use", rows)
 
 
 def _carriers(co: ClassOption) -> tuple[str, ...]:
-    """Ids of the energy carriers an option buys for a class: its fuels, or electricity."""
-    return tuple(f.id for f in co.fuels) + ((ELECTRICITY,) if co.electric is not None else ())
+    """Ids of the energy carriers an option buys for a class: its fuels, electricity or a fuel
+    cell's hydrogen."""
+    drive = ((ELECTRICITY,) if co.electric is not None else
+             (co.fuel_cell.hydrogen.id,) if co.fuel_cell is not None else ())
+    return tuple(f.id for f in co.fuels) + drive
 
 
 def _battery_table(plan: Plan) -> pd.DataFrame:
@@ -235,6 +250,35 @@ def _battery_table(plan: Plan) -> pd.DataFrame:
             "charging_window_h": ch.window / 3600.0, "charging_fits": ch.fits,
             "charging_message": ch.message})
     return frame("battery", rows)
+
+
+def _fuel_cell_table(plan: Plan) -> pd.DataFrame:
+    """One row per fuel-cell option x class: stack, efficiency, buffer, hydrogen tank, mass."""
+    rows = []
+    for (oid, cid), ph in plan.physics.items():
+        if ph.fuel_cell is None:
+            continue
+        h = next(o for o in plan.inputs.options if o.id == oid).per_class[cid].fuel_cell
+        s = ph.fuel_cell.sizing
+        use, tank, system = s.use, s.tank, h.system
+        rows.append({
+            "candidate": oid, "vehicle_class": cid, "stack_kw": system.rated_power / 1e3,
+            "fuel_cell_mass_kg": system.mass,
+            "rated_system_efficiency": float(system.operate(system.rated_power)
+                                             .system_efficiency),
+            "mean_system_efficiency": use.mean_efficiency,
+            "h2_kg_per_100km": use.hydrogen_per_m * 1e5, "range_km": h.range / 1e3,
+            "tank_pressure_bar": h.tank_pressure / 1e5, "tank": tank.tank.id,
+            "tank_h2_kg": float(tank.usable_fuel_mass),
+            "tank_volume_l": float(tank.tank_volume) * 1e3,
+            "tank_mass_kg": float(tank.tank_mass),
+            "tank_system_mass_kg": float(tank.system_mass),
+            "buffer_kwh": h.buffer.capacity / J_PER_KWH, "buffer_mass_kg": h.buffer.mass,
+            "buffer_fits": use.buffer_fits,
+            "added_mass_kg": s.added_mass, "payload_loss_kg": max(s.added_mass, 0.0),
+            "payload_kg": s.vehicle.payload, "pathway": h.pathway,
+            "h2_co2e_kg_per_kg": h.co2e_per_kg.nominal})
+    return frame("fuel_cell", rows)
 
 
 def _candidates_table(plan: Plan, det: econ.Money, per_km: list[dict],
@@ -563,6 +607,12 @@ def _assumptions(study: Study, draws: int) -> dict[str, str]:
             "zero CO2, CH4, N2O, NOx, PM, CO and hydrocarbons (nothing burns on board); brake "
             "and tyre wear particles are not counted for any drive; the grid's CO2e per kWh "
             "drawn is counted well to wheel, year by year")
+    if any(co.fuel_cell is not None for o in i.options for co in o.per_class.values()):
+        out["fuel-cell tailpipe"] = (
+            "only water: zero CO2, CH4, N2O, NOx, PM, CO and hydrocarbons; the CO2e of making "
+            "the hydrogen (its pathway, to the plant gate) is counted well to wheel. Hydrogen "
+            "at 350-700 bar: tanks, stations and garages follow local codes and licensed "
+            "practice")
     per_class = [co for o in i.candidates for co in o.per_class.values() if co.converts]
     if any(co.phasing is not None for co in per_class):
         out["phased conversions"] = ("a vehicle converted in year j runs converted from year "
