@@ -7,11 +7,17 @@ Listing the vehicles, streaming and cleaning every one's log, or reading the fue
 gives trips and fills whose numbers are all finite, or ends in one ``InputError`` naming the
 file (and row). Common practice, no source.
 
+Plain files (``,``, numbers and stamps of the forms the compiled plain reader takes, now and
+then a cell it leaves to pandas) are read both ways: the same numbers bit for bit, or the same
+message.
+
 Each test runs 300 examples (the suite's profile has 1000): a log is listed, read and cleaned
 per example, about ten times a profile's cost, and the module stays near 15 s.
 """
 
 from __future__ import annotations
+
+import datetime as dt
 
 import pytest
 from fuzzing import (
@@ -24,6 +30,7 @@ from fuzzing import (
 )
 from hypothesis import given, settings
 from hypothesis import strategies as st
+from test_logs import _assert_same, _read_both
 
 from workbench.io import demo_fleet
 from workbench.io.fuelcards import read_fuel_cards
@@ -95,3 +102,40 @@ def test_log_random_bytes(data, suffix):
 @given(st.binary(max_size=300))
 def test_fuel_card_random_bytes(data):
     _check_cards(data)
+
+
+#: Cells of a plain file: numbers of the plain reader's forms, and a few it leaves to pandas.
+PLAIN_NUMBERS = st.one_of(
+    st.from_regex(r"\A[+-]?[0-9]{1,9}(\.[0-9]{0,10})?\Z"),
+    st.from_regex(r"\A-?\.[0-9]{1,17}\Z"),
+    st.floats(allow_nan=False, allow_infinity=False).map(repr),
+    st.sampled_from(["", "nan", "1e5", "-", ".", "1.5e-3", "99999999999999999999", " 1"]),
+)
+PLAIN_STAMPS = st.one_of(
+    st.datetimes(min_value=dt.datetime(1700, 1, 1), max_value=dt.datetime(2250, 1, 1)).map(
+        lambda t: t.isoformat() + "Z"),
+    st.datetimes().map(lambda t: t.strftime("%Y-%m-%d %H:%M:%S")),
+    st.sampled_from(["2026-03-01T08:00Z", "2026-02-30T08:00:00Z", "x", ""]),
+)
+
+
+@st.composite
+def plain_files(draw) -> tuple[bytes, int]:
+    """A plain logger CSV (header, rows, maybe a text column) and a batch size."""
+    time = draw(st.sampled_from(["timestamp", "time_s", "epoch_ms", "time_min"]))
+    names = [time, "speed_mph", *draw(st.lists(st.sampled_from(["altitude_ft", "note"]),
+                                               unique=True))]
+    order = draw(st.permutations(names))
+    rows = draw(st.lists(st.fixed_dictionaries({
+        n: PLAIN_STAMPS if n == "timestamp" else st.sampled_from(["a", "b-c", ""])
+        if n == "note" else PLAIN_NUMBERS for n in names}), min_size=1, max_size=30))
+    text = ",".join(order) + "\n" + "".join(",".join(r[n] for n in order) + "\n"
+                                           for r in rows)
+    return text.encode(), draw(st.sampled_from([7, 1000]))
+
+
+@FEW
+@given(plain_files())
+def test_plain_files_read_alike_both_ways(case):
+    data, batch_rows = case
+    _assert_same(*_read_both(fresh_file(TMP, "plain.csv", data), batch_rows))

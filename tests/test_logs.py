@@ -386,3 +386,139 @@ def test_trips_stream_before_the_log_ends():
     stream = clean_log(batches(), LogRules(smoothing=0.0), LogTally(), name="x")
     next(stream)
     assert consumed == [0, 1]  # the first trip is out once the second batch shows the gap
+
+
+def _read_both(path: Path, batch_rows: int = logs.CSV_CHUNK_ROWS, vehicle: str | None = None):
+    """Batches of a file by the plain reader when it takes the file, and by pandas alone;
+    each ('error', message) when reading raises."""
+    log = logs.VehicleLog(vehicle or path.stem, str(path), "csv")
+
+    def read():
+        try:
+            return list(read_batches(log, batch_rows=batch_rows))
+        except InputError as exc:
+            return ("error", str(exc))
+
+    fast = read()
+    plain, logs._plain_body = logs._plain_body, lambda *a: None
+    try:
+        general = read()
+    finally:
+        logs._plain_body = plain
+    return fast, general
+
+
+def _columns(batches) -> dict[str, np.ndarray]:
+    out = {"time": np.concatenate([b.time for b in batches]),
+           "speed": np.concatenate([b.speed for b in batches])}
+    for q in batches[0].extras:
+        out[q] = np.concatenate([b.extras[q] for b in batches])
+    return out
+
+
+def _assert_same(fast, general) -> None:
+    if isinstance(general, tuple) or not general:
+        assert fast == general
+        return
+    a, b = _columns(fast), _columns(general)
+    assert a.keys() == b.keys()
+    for k in a:  # bit for bit (NaN never: the plain reader leaves those files to pandas)
+        assert a[k].tobytes() == b[k].tobytes(), k
+
+
+def test_plain_reader_equals_pandas_on_the_shipped_example():
+    # the shipped example (workbench/data/fleet): every file the plain reader takes (all but
+    # the ';' one) gives pandas' numbers bit for bit; the broken vehicle the same message
+    from workbench.io import demo_fleet
+
+    taken = 0
+    for path in sorted((demo_fleet.DATA / "logs").glob("*.csv")):
+        d = logs._dialect(path)
+        taken += logs._plain_body(path, d, logs.resolve_columns(path, d.header)) is not None
+        _assert_same(*_read_both(path))
+    assert taken == 12
+
+
+def _plain_numbers(rng: np.random.Generator, n: int) -> list[str]:
+    """Number texts of the forms the plain reader takes: signs, no or up to 17 decimals,
+    leading zeros, a point without digits on one side, up to 19 digits."""
+    out = []
+    for _ in range(n):
+        whole = str(rng.integers(0, 10 ** int(rng.integers(0, 10))))
+        frac = "".join(map(str, rng.integers(0, 10, int(rng.integers(0, 18)))))
+        sign = rng.choice(["", "", "-", "+"])
+        form = rng.integers(0, 5)
+        text = (whole if form == 0 else f"{whole}." if form == 1 else f".{frac or 0}"
+                if form == 2 else f"0{whole}.{frac}" if form == 3 else f"{whole}.{frac}")
+        digits = sum(ch.isdigit() for ch in text)
+        out.append(sign + (text if digits <= 19 else text[:19]))
+    return out
+
+
+def test_plain_reader_numbers_correctly_rounded(tmp_path):
+    # reference: Python's float(text), correctly rounded (IEEE 754-2008 clause 5.12.2;
+    # David Gay's algorithm in CPython); the plain reader's m / 10**k is exact to the last
+    # bit (W. D. Clinger, PLDI 1990, fast path). pandas' default ("high") parser gives the
+    # same bits on these texts
+    rng = np.random.default_rng(11)
+    n = 40_000  # > 1 MB: the file is read in pieces on threads
+    speed, alt = _plain_numbers(rng, n), _plain_numbers(rng, n)
+    elapsed = np.cumsum(rng.integers(1, 2000, n)) / 1000
+    path = tmp_path / "plain.csv"
+    path.write_text("time_s,note,speed_m_per_s,altitude_ft\n" + "".join(
+        f"{t:.3f},x{i % 7}-y,{s},{a}\n" for i, (t, s, a) in enumerate(
+            zip(elapsed, speed, alt, strict=True))))
+    assert path.stat().st_size > 1 << 20
+    fast, general = _read_both(path)
+    _assert_same(fast, general)
+    got = _columns(fast)
+    assert got["speed"].tobytes() == np.array([float(s) for s in speed]).tobytes()
+    assert got["altitude"].tobytes() == (np.array([float(a) for a in alt]) * 0.3048).tobytes()
+
+
+@pytest.mark.parametrize("edit", [
+    lambda t, s: t.replace(",77.5,", ",7.75e1,"),  # an exponent
+    lambda t, s: t.replace(",77.5,", ",,"),  # an empty cell
+    lambda t, s: t.replace(",77.5,", ",NaN,"),  # NaN text
+    lambda t, s: t.replace(",77.5,", ",fast,"),  # a bad number: pandas names its row
+    lambda t, s: t.replace(",77.5,", ",12345678901234567890,"),  # 20 digits
+    lambda t, s: t.replace(",77.5,", ",9007199254740993,"),  # above 2**53
+    lambda t, s: t.replace(",77.5,", ",-0,"),  # minus zero without a point
+    lambda t, s: t.replace(",77.5,", ",1.5,2,"),  # a field too many: pandas names its row
+    lambda t, s: t.replace(",77.5,", ","),  # a field short
+    lambda t, s: t.replace(",77.5,", ",77.5,\n"),  # a blank line
+    lambda t, s: t.replace(",77.5,", ',"77.5",'),  # quotes
+    lambda t, s: t.replace(",77.5,", ",77.5 ,"),  # a space
+    lambda t, s: t.replace(",77.5,", ",77.5#,"),  # a comment
+    lambda t, s: t.replace(",77.5,", ",7\u00e9,"),  # not ASCII
+    lambda t, s: t.replace("\n", "\r\n"),  # carriage returns
+    lambda t, s: t.replace(s, s.replace("T", " ")),  # a stamp of another form, read alike
+    lambda t, s: t.replace(s, s[:-3] + "61Z"),  # a bad stamp: pandas names its row
+    lambda t, s: t.replace(s, s[:-4] + "Z"),  # no seconds: the general parsers
+    lambda t, s: t.rstrip("\n"),  # no newline at the end: read alike
+    lambda t, s: t[:t.index("\n") + 1],  # the header alone
+])
+@pytest.mark.parametrize("at", [10, 2500])
+def test_plain_reader_leaves_other_files_to_pandas(tmp_path, edit, at):
+    # whatever the plain reader does not take, in the first batch or a later one, pandas
+    # reads (from the first row not yet read), with its numbers and its messages naming the
+    # row
+    stamps = [f"2026-03-01T08:{i // 60:02d}:{i % 60:02d}Z" for i in range(3000)]
+    text = "timestamp,speed_km_per_h,altitude_m\n" + "".join(
+        f"{s},{77.5 if i == at else i % 50 + 0.5},{i % 9}.25\n" for i, s in enumerate(stamps))
+    path = tmp_path / "edited.csv"
+    path.write_text(edit(text, stamps[at]))
+    for batch_rows in (logs.CSV_CHUNK_ROWS, 1000):
+        _assert_same(*_read_both(path, batch_rows))
+
+
+def test_plain_reader_batches_are_bounded(tmp_path):
+    # a file above the whole-file limit is read in batches of at most batch_rows rows
+    path = tmp_path / "long.csv"
+    path.write_text("time_epoch_ms,speed_mph\n" + "".join(
+        f"{1772352000000 + 1000 * i},{i % 80}.{i % 7}\n" for i in range(5000)))
+    d = logs._dialect(path)
+    assert logs._plain_body(path, d, logs.resolve_columns(path, d.header)) is not None
+    fast, general = _read_both(path, batch_rows=700)
+    assert [b.time.size for b in fast] == [700] * 7 + [100]
+    _assert_same(fast, general)

@@ -18,9 +18,11 @@ from __future__ import annotations
 
 import csv
 import glob
+import itertools
 import mmap
 import re
 from collections.abc import Iterator
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -327,74 +329,84 @@ def _civil_days(y: int, mo: int, d: int) -> int:  # pragma: no cover - compiled 
     return era * 146097 + yoe * 365 + yoe // 4 - yoe // 100 + doy - 719468
 
 
+def _iso_stamp(data: np.ndarray, a: int, b: int, prev: int, base: int
+               ) -> tuple[float, int, int]:  # pragma: no cover - compiled by numba
+    """Seconds since the epoch of the ISO 8601 text ``data[a:b]`` (float of the integer
+    nanoseconds over 1e9, as the general parsers' results): ``YYYY-MM-DDTHH:MM:SS`` (``T`` or
+    a space), up to nine decimals, then ``Z``, ``+HH:MM``, ``-HH:MM`` or nothing (UTC).
+    ``prev``: start of an earlier text whose minute ``base`` [s] holds, or -1; a text that
+    starts as that one, to the minute, only has its seconds parsed. Returns (seconds, start
+    of the text whose minute the returned base holds, base), the start -2 when the text is of
+    another form (the general parsers then take over)."""
+    if b - a < 19:
+        return 0.0, -2, base
+    same = prev >= 0
+    if same:
+        for j in range(16, -1, -1):  # the minute changes first
+            if data[a + j] != data[prev + j]:
+                same = False
+                break
+    if not same:
+        t = data[a + 10]
+        if data[a + 4] != 45 or data[a + 7] != 45 or data[a + 13] != 58 \
+                or data[a + 16] != 58 or not (t == 84 or t == 32):
+            return 0.0, -2, base
+        days = _civil_days(_digits(data, a, 4), _digits(data, a + 5, 2),
+                           _digits(data, a + 8, 2))
+        h = _digits(data, a + 11, 2)
+        mi = _digits(data, a + 14, 2)
+        if days == -(1 << 62) or not (0 <= h <= 23 and 0 <= mi <= 59):
+            return 0.0, -2, base
+        base = days * 86400 + h * 3600 + mi * 60
+        prev = a
+    sec = _digits(data, a + 17, 2)
+    if not 0 <= sec <= 59:
+        return 0.0, -2, base
+    p = a + 19
+    frac = 0
+    if p < b and data[p] == 46:  # decimals
+        p += 1
+        scale = 100_000_000
+        while p < b and 48 <= data[p] <= 57 and scale > 0:
+            frac += (np.int64(data[p]) - 48) * scale
+            scale //= 10
+            p += 1
+        if p == a + 20 or (p < b and 48 <= data[p] <= 57):
+            return 0.0, -2, base  # a point without decimals, or more than nine
+    zone = 0
+    if p < b:
+        z = data[p]
+        if z == 90 and p + 1 == b:  # Z
+            p = b
+        elif (z == 43 or z == 45) and b - p == 6 and data[p + 3] == 58:
+            zh = _digits(data, p + 1, 2)
+            zm = _digits(data, p + 4, 2)
+            if not (0 <= zh <= 23 and 0 <= zm <= 59):
+                return 0.0, -2, base
+            zone = (zh * 60 + zm) * 60 * (1 if z == 43 else -1)
+        else:
+            return 0.0, -2, base
+    return float((base + sec - zone) * 1_000_000_000 + frac) / 1e9, prev, base
+
+
 def _iso_seconds(data: np.ndarray, offsets: np.ndarray,
-            out: np.ndarray) -> int:  # pragma: no cover - compiled by numba
-    """Seconds since the epoch of ISO 8601 texts into ``out`` (float of the integer
-    nanoseconds over 1e9, as the general parsers' results), text ``i`` being the bytes
-    ``data[offsets[i]:offsets[i + 1]]`` (Arrow's string layout): ``YYYY-MM-DDTHH:MM:SS`` (``T``
-    or a space), up to nine decimals, then ``Z``, ``+HH:MM``, ``-HH:MM`` or nothing (UTC).
-    Returns -1, or the first text of another form (the general parsers then take over). A
-    text that starts as the previous one, to the minute, only has its seconds parsed."""
-    prev = -1  # start of the previous text, whose minute ``base`` holds [s]
+                 out: np.ndarray) -> int:  # pragma: no cover - compiled by numba
+    """Seconds since the epoch of ISO 8601 texts into ``out`` (:func:`_iso_stamp`), text
+    ``i`` being the bytes ``data[offsets[i]:offsets[i + 1]]`` (Arrow's string layout).
+    Returns -1, or the first text of another form (the general parsers then take over)."""
+    prev = -1
     base = 0
     for i in range(out.size):
-        a = offsets[i]
-        b = offsets[i + 1]
-        if b - a < 19:
+        out[i], prev, base = _iso_stamp(data, offsets[i], offsets[i + 1], prev, base)
+        if prev == -2:
             return i
-        same = prev >= 0
-        if same:
-            for j in range(16, -1, -1):  # the minute changes first
-                if data[a + j] != data[prev + j]:
-                    same = False
-                    break
-        if not same:
-            t = data[a + 10]
-            if data[a + 4] != 45 or data[a + 7] != 45 or data[a + 13] != 58 \
-                    or data[a + 16] != 58 or not (t == 84 or t == 32):
-                return i
-            days = _civil_days(_digits(data, a, 4), _digits(data, a + 5, 2),
-                               _digits(data, a + 8, 2))
-            h = _digits(data, a + 11, 2)
-            mi = _digits(data, a + 14, 2)
-            if days == -(1 << 62) or not (0 <= h <= 23 and 0 <= mi <= 59):
-                return i
-            base = days * 86400 + h * 3600 + mi * 60
-            prev = a
-        sec = _digits(data, a + 17, 2)
-        if not 0 <= sec <= 59:
-            return i
-        p = a + 19
-        frac = 0
-        if p < b and data[p] == 46:  # decimals
-            p += 1
-            scale = 100_000_000
-            while p < b and 48 <= data[p] <= 57 and scale > 0:
-                frac += (np.int64(data[p]) - 48) * scale
-                scale //= 10
-                p += 1
-            if p == a + 20 or (p < b and 48 <= data[p] <= 57):
-                return i  # a point without decimals, or more than nine
-        zone = 0
-        if p < b:
-            z = data[p]
-            if z == 90 and p + 1 == b:  # Z
-                p = b
-            elif (z == 43 or z == 45) and b - p == 6 and data[p + 3] == 58:
-                zh = _digits(data, p + 1, 2)
-                zm = _digits(data, p + 4, 2)
-                if not (0 <= zh <= 23 and 0 <= zm <= 59):
-                    return i
-                zone = (zh * 60 + zm) * 60 * (1 if z == 43 else -1)
-            else:
-                return i
-        out[i] = float((base + sec - zone) * 1_000_000_000 + frac) / 1e9
     return -1
 
 
 if numba is not None:
     _digits = numba.njit(cache=True, error_model="numpy")(_digits)
     _civil_days = numba.njit(cache=True, error_model="numpy")(_civil_days)
+    _iso_stamp = numba.njit(cache=True, error_model="numpy")(_iso_stamp)
     _iso_seconds = numba.njit(cache=True, error_model="numpy")(_iso_seconds)
 
 
@@ -492,26 +504,202 @@ def _batch(frame: pd.DataFrame, cols: Columns, where: str, rows: int | np.ndarra
     return LogBatch(time=t, speed=v, extras=extras)
 
 
+#: Exact powers of ten as floats (10**22 is the largest: 5**22 < 2**53).
+_POW10 = np.array([10.0 ** k for k in range(23)])
+
+
+def _count_lines(data: np.ndarray, a: int, b: int) -> int:  # pragma: no cover - compiled
+    """Lines of ``data[a:b]`` (a last one without its newline counted)."""
+    piece = data[a:b]  # from 0: no negative index to wrap, the loop vectorises
+    n = np.int64(0)
+    for i in range(piece.size):
+        n += np.int64(piece[i] == 10)
+    return n + (b > a and data[b - 1] != 10)
+
+
+def _skip_lines(data: np.ndarray, a: int, b: int, n: int) -> int:  # pragma: no cover
+    """Where the ``n`` lines from ``data[a]`` end (``b`` at the latest)."""
+    for i in range(a, b):
+        if data[i] == 10:
+            n -= 1
+            if n == 0:
+                return i + 1
+    return b
+
+
+def _plain_rows(data: np.ndarray, a: int, b: int, role: np.ndarray, iso: int, pow10: np.ndarray,
+                out: np.ndarray, row0: int) -> int:  # pragma: no cover - compiled by numba
+    """Parse the lines of ``data[a:b]`` (a plain CSV body: ``,`` between fields, one line a
+    row, ``\\n`` at the ends) into ``out[role[c], row0 + i]``; column ``c`` is skipped when
+    ``role[c] < 0`` and read as ISO 8601 (:func:`_iso_stamp`) when ``c == iso``. A number is
+    ``[+-]digits[.digits]`` of at most 19 digits: mantissa ``m`` < 2**53 and ``k`` <= 22
+    decimals give ``m / 10**k`` correctly rounded, both being exact floats (W. D. Clinger,
+    "How to read floating point numbers accurately", PLDI 1990, the fast path). Returns the
+    rows read, or -1 at anything else (an exponent, more digits, an empty cell, text, a
+    byte outside printable ASCII in a skipped cell, another field count): the general reader
+    then takes the file."""
+    ncols = role.size
+    i = a
+    r = row0
+    prev = -1
+    base = 0
+    while i < b:
+        for c in range(ncols):
+            s = i
+            dest = role[c]
+            if dest < 0:
+                while i < b and data[i] != 44 and data[i] != 10:
+                    if data[i] < 32 or data[i] > 126 or data[i] == 34 or data[i] == 35:
+                        return -1  # a control or non-ASCII byte, a quote, a comment
+                    i += 1
+            elif c == iso:
+                while i < b and data[i] != 44 and data[i] != 10:
+                    i += 1
+                v, prev, base = _iso_stamp(data, s, i, prev, base)
+                if prev == -2:
+                    return -1
+                out[dest, r] = v
+            else:
+                neg = False
+                if i < b and (data[i] == 45 or data[i] == 43):
+                    neg = data[i] == 45
+                    i += 1
+                m = np.int64(0)
+                nd = 0
+                k = 0
+                while i < b and 48 <= data[i] <= 57:
+                    m = 10 * m + (np.int64(data[i]) - 48)
+                    nd += 1
+                    i += 1
+                point = i < b and data[i] == 46
+                if point:
+                    i += 1
+                    while i < b and 48 <= data[i] <= 57:
+                        m = 10 * m + (np.int64(data[i]) - 48)
+                        nd += 1
+                        k += 1
+                        i += 1
+                if nd == 0 or nd > 19 or m >= 9007199254740992 or k > 22 \
+                        or (neg and m == 0 and not point):
+                    return -1  # "-0" is 0.0 in a column of integers, -0.0 among decimals
+                v = float(m) / pow10[k]
+                out[dest, r] = -v if neg else v
+            if c < ncols - 1:
+                if i >= b or data[i] != 44:
+                    return -1
+                i += 1
+        if i < b:
+            if data[i] != 10:
+                return -1
+            i += 1
+        r += 1
+    return r - row0
+
+
+if numba is not None:
+    _count_lines = numba.njit(cache=True, nogil=True)(_count_lines)
+    _skip_lines = numba.njit(cache=True, nogil=True)(_skip_lines)
+    _plain_rows = numba.njit(cache=True, nogil=True, error_model="numpy")(_plain_rows)
+
+
+def _plain_body(path: Path, d: _Dialect, cols: Columns) -> tuple[np.ndarray, int] | None:
+    """The mapped bytes of a CSV file that may be plain (``,`` separator, unique header
+    names, no vehicle column; :func:`_plain_rows` finds what else is not) and where its rows
+    start; None for any other file (read by pandas)."""
+    if numba is None or d.sep != "," or cols.vehicle or len(set(d.header)) != len(d.header):
+        return None
+    try:
+        with path.open("rb") as fh:
+            mm = mmap.mmap(fh.fileno(), 0, access=mmap.ACCESS_READ)
+    except (OSError, ValueError):  # an empty file cannot be mapped
+        return None
+    start = 0
+    for _ in range(d.header_line):
+        start = mm.find(b"\n", start) + 1
+        if start == 0:
+            break
+    if not 0 < start < mm.size():  # no rows: pandas' empty frame
+        mm.close()
+        return None
+    return np.frombuffer(mm, dtype=np.uint8), start  # the array holds the map open
+
+
+def _plain_batches(path: Path, d: _Dialect, cols: Columns, data: np.ndarray, start: int,
+                   batch_rows: int | None) -> Iterator[tuple[int, LogBatch | None]]:
+    """Batches of a plain file (:func:`_plain_body`) by the compiled reader, the file's
+    pieces on threads; ``(rows read, batch)``, the batch None when the reader cannot take the
+    rest (from there the general reader reads)."""
+    names = [cols.time[0], cols.speed[0], *(raw for raw, _ in cols.extras.values())]
+    role = np.array([names.index(h) if h in names else -1 for h in d.header], dtype=np.int64)
+    iso = d.header.index(cols.time[0]) if cols.time[1] in ISO_UNITS else -1
+    workers = numba.config.NUMBA_NUM_THREADS  # one per core; 1 in a fleet's workers
+    at = start
+    while at < data.size:
+        end = data.size if batch_rows is None else _skip_lines(data, at, data.size, batch_rows)
+        cuts = [at]
+        for k in range(1, workers if end - at > 1 << 20 else 1):
+            cut = _skip_lines(data, max(at + (end - at) * k // workers, cuts[-1]), end, 1)
+            if cut < end:
+                cuts.append(cut)
+        cuts.append(end)
+        pieces = list(itertools.pairwise(cuts))
+        with ThreadPoolExecutor(len(pieces)) as pool:
+            counts = [f.result() for f in [pool.submit(_count_lines, data, a, b)
+                                           for a, b in pieces]]
+            out = np.empty((len(names), sum(counts)))
+            rows = np.cumsum([0, *counts])
+            got = [f.result() for f in [pool.submit(_plain_rows, data, a, b, role, iso, _POW10,
+                                                    out, r0)
+                                        for (a, b), r0 in zip(pieces, rows, strict=False)]]
+        if got != counts:
+            yield 0, None
+            return
+        t = out[0] * (1.0 if iso >= 0 else ELAPSED_UNITS.get(cols.time[1])
+                      or EPOCH_UNITS[cols.time[1]])
+        extras = {q: out[2 + j] * OTHER_UNITS[q][unit]
+                  for j, (q, (_, unit)) in enumerate(cols.extras.items())}
+        yield rows[-1], LogBatch(time=t, speed=out[1] * SPEED_UNITS[cols.speed[1]],
+                                 extras=extras)
+        at = end
+
+
 def _csv_batches(path: Path, log: VehicleLog, batch_rows: int) -> Iterator[LogBatch]:
     """One vehicle's batches of a CSV file; row numbers count within the file (all
-    vehicles' rows)."""
+    vehicles' rows). A plain file (:func:`_plain_body`) is read by the compiled reader
+    (:func:`_plain_rows`); any other, or the rest of one it cannot read, by pandas."""
     d = _dialect(path)
     cols = resolve_columns(path, d.header)
-    row = d.header_line + 1
-    # pandas reads a whole file on two threads, by chunks or only some columns on one: a
-    # file of up to WHOLE_FILE_BYTES_PER_ROW * batch_rows bytes is read at once, and all its
-    # columns when it has no others
+    # a file of up to WHOLE_FILE_BYTES_PER_ROW * batch_rows bytes is read at once
     whole = path.stat().st_size <= WHOLE_FILE_BYTES_PER_ROW * batch_rows
+    done = 0  # rows read by the compiled reader
+    plain = _plain_body(path, d, cols)
+    if plain is not None:
+        for n, batch in _plain_batches(path, d, cols, *plain, None if whole else batch_rows):
+            if batch is None:
+                break
+            done += n
+            yield batch
+        else:
+            return
+    row = d.header_line + 1
+    # pandas reads a whole file on two threads, by chunks or only some columns on one: all
+    # the columns when the file has no others
     usecols = None if sorted(cols.names) == sorted(d.header) else cols.names
     for frame in _read_csv(path, d, usecols, None if whole else batch_rows, _body(path, d)):
         n = len(frame)
+        if done >= n:  # read already
+            done -= n
+            row += n
+            continue
+        if done:
+            frame, row, done = frame.iloc[done:], row + done, 0
         if cols.vehicle:
             keep = (frame[cols.vehicle].astype("string").str.strip() == log.vehicle).to_numpy(
                 dtype=bool, na_value=False)
             yield _batch(frame[keep], cols, str(path), row + np.flatnonzero(keep))
         else:
             yield _batch(frame, cols, str(path), row)
-        row += n
+        row += len(frame)
 
 
 # ----------------------------------------------------------------------------- sources
