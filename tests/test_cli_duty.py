@@ -106,6 +106,24 @@ def test_dual_fuel_splits_the_energy_between_gas_and_pilot(capsys):
     co2_all = m_gas * moles_c * 44.009 / ng.molar_mass()
     assert gas["co2_ttw_g_per_km"] == pytest.approx(co2_all - ch4 * 44.009 / 16.043, rel=1e-4)
     assert pilot["ch4_g_per_km"] == diesel["ch4_g_per_km"] == 0.0
+    for f in (diesel, gas, pilot):  # fossil fuels: all their CO2 is fossil
+        assert f["co2_ttw_fossil_g_per_km"] == f["co2_ttw_g_per_km"]
+        assert f["co2_ttw_biogenic_g_per_km"] == 0.0
+
+
+def test_biogenic_co2_is_split_off(capsys):
+    # E85's carbon: the fuel file's biogenic share (docs/renewables.md); the split is
+    # co2 (1 - b) and co2 b (IPCC 2006 Guidelines vol. 2 ch. 3: biogenic CO2 reported apart)
+    code, out, err = run(capsys, "duty", "fuel", "taxi-shift", "--vehicle", "taxi", "--map",
+                         "taxi-si-1.8l", "--fuel", "gasoline", "--fuel", "e85", "--json")
+    assert code == 0, err
+    _, e85 = json.loads(out)["fuels"]
+    b = load_fuel("e85").biogenic_carbon_share
+    assert 0.6 < b < 0.9  # about 80 % ethanol by volume, most of the carbon (from memory)
+    assert e85["co2_ttw_biogenic_g_per_km"] == pytest.approx(b * e85["co2_ttw_g_per_km"],
+                                                             rel=1e-12)
+    assert e85["co2_ttw_fossil_g_per_km"] == pytest.approx((1 - b) * e85["co2_ttw_g_per_km"],
+                                                           rel=1e-12)
 
 
 def test_fuel_text(capsys):

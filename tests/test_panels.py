@@ -246,6 +246,21 @@ def test_library_fuel_change_moves_the_price(app):
     assert app.study.get("prices.diesel") != lpg_price
 
 
+def test_a_fuel_change_drops_a_pathway_the_new_fuel_has_not(app):
+    # the demo's biomethane option names a pathway of the biomethane sheet; fossil natural gas
+    # has no such pathway, so the key goes and natural gas's [upstream] entry applies
+    row = app.candidates.rows["candidates[3].fuel"]
+    assert app.study.get("candidates[3].pathway") == "biowaste-closed-digestate"
+    row.choice.value = "natural-gas"
+    assert row.error.value == ""
+    assert "pathway" not in app.study.data["candidates"][3]
+    assert "pathway biowaste-closed-digestate removed" in row.note.value
+    assert "biomethane" not in app.study.get("prices")  # no option buys it any more
+    pk = app.state.result.per_km.set_index(["candidate", "vehicle_class"])
+    np.testing.assert_allclose(pk.loc[("biomethane-fleet", "van"), "co2e_wtw_g_per_km"],
+                               pk.loc[("cng-fleet", "van"), "co2e_wtw_g_per_km"], rtol=1e-12)
+
+
 # ----------------------------------------------------------------------------- duty and map
 
 

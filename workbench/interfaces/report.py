@@ -31,7 +31,13 @@ import workbench
 from workbench.core.text import escape_html as _esc
 from workbench.core.text import sha256_hex
 from workbench.interfaces.charts import MapSource, all_figures
-from workbench.interfaces.present import TABLE_TITLES, reader_table, side_by_side, significant
+from workbench.interfaces.present import (
+    TABLE_TITLES,
+    column_label,
+    reader_table,
+    side_by_side,
+    significant,
+)
 from workbench.interfaces.summary import (
     best_mix_text,
     best_option,
@@ -317,10 +323,15 @@ def defaults_html(result: StudyResult) -> str:
     """Every default the run took, with value and source, as HTML (report and panels)."""
     if result.defaults.empty:
         return "<p>The study gave every value the run used.</p>"
+    shown = reader_table("defaults", result)
+    option = column_label("candidate", result.currency)
+    rest = [c for c in shown.columns if c != option]
+    # a default several options take alike (same class, value and source) is one row
+    shown = shown.groupby(rest, sort=False)[option].agg("; ".join).reset_index()[shown.columns]
     return ("<p>The study did not give these values; the run took typical defaults. "
-            "Replace them with the fleet's own where known.</p>"
-            f'<div class="scroll" id="defaults-table">'
-            f'{_table_html(reader_table("defaults", result))}</div>')
+            "Replace them with the fleet's own where known; a row names every option that "
+            "takes it.</p>"
+            f'<div class="scroll" id="defaults-table">{_table_html(shown)}</div>')
 
 
 def _decisions_html(result: StudyResult) -> str:

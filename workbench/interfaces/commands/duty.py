@@ -16,7 +16,9 @@ from workbench.core.paths import DATA
 from workbench.interfaces.cli import STDIO, LazyChoices, add_fuels_option, command, finite_float
 
 if TYPE_CHECKING:
+    from workbench.core.fuels import Fuel
     from workbench.models.duty import DutySettings, DutyTrace, ModeTable
+    from workbench.models.engine import FuelPerDistance
 
 #: Demo kind -> (data sub-directory, file suffix).
 _DEMOS = {"profile": ("profiles", ".csv"), "vehicle": ("vehicles", ".toml"),
@@ -177,6 +179,17 @@ def settings_from(args: argparse.Namespace) -> DutySettings:
         raise InputError(options.get(exc.where, exc.where), exc.message) from None
 
 
+def _tailpipe(use: FuelPerDistance, fuel: Fuel, ch4_per_m: float) -> dict[str, float]:
+    """A fuel's JSON keys per km: its use, slipped methane, and CO2 split into fossil and
+    biogenic (``workbench.models.emissions.split_co2``; the biogenic part is reported apart)."""
+    from workbench.models.emissions import split_co2
+
+    fossil, biogenic = split_co2(use.co2_ttw_per_m, fuel.biogenic_carbon_share)
+    return use.trade_units() | {"co2_ttw_fossil_g_per_km": fossil * 1e6,
+                                "co2_ttw_biogenic_g_per_km": biogenic * 1e6,
+                                "ch4_g_per_km": ch4_per_m * 1e6}
+
+
 def _fuel(args: argparse.Namespace) -> None:
     from workbench.core.fuels import load_fuel
     from workbench.interfaces.cli import print_json
@@ -252,14 +265,13 @@ def _fuel(args: argparse.Namespace) -> None:
                 replace(phys.energy, fuel_energy=total * share), fuel, sheet), fuel, slip)
             pilot = fuel_per_distance_for(replace(phys.energy, fuel_energy=total * (1 - share)),
                                           fuels[0], reference)
-            rows.append(record | gas.trade_units() | {"ch4_g_per_km": ch4 * 1e6})
+            rows.append(record | _tailpipe(gas, fuel, ch4))
             rows.append({"fuel": f"{fuels[0].id} pilot", "conversion": kind.name,
                          "derate": derate, "efficiency_offset": offset,
-                         "gas_energy_share": share} | pilot.trade_units()
-                        | {"ch4_g_per_km": 0.0})
+                         "gas_energy_share": share} | _tailpipe(pilot, fuels[0], 0.0))
         else:
             use, ch4 = slipped(fuel_per_distance_for(phys.energy, fuel, sheet), fuel, slip)
-            rows.append(record | use.trade_units() | {"ch4_g_per_km": ch4 * 1e6})
+            rows.append(record | _tailpipe(use, fuel, ch4))
     energy = first.energy
     record = {
         "profile": args.profile,

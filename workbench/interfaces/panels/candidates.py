@@ -78,7 +78,8 @@ def sheet_html(fuel: Fuel) -> str:
 
 
 def switch_fuel(state: StudyState, paths: Sequence[str], old_id: str, new_id: str,
-                still_used: set[str]) -> tuple[InputError | None, str]:
+                still_used: set[str], *, remove: tuple[str, ...] = ()
+                ) -> tuple[InputError | None, str]:
     """Write a library fuel's id at key paths, with the price tables that follow a fuel.
 
     The new fuel takes the old one's ``prices``, ``escalation`` and ``upstream`` entries where
@@ -94,6 +95,8 @@ def switch_fuel(state: StudyState, paths: Sequence[str], old_id: str, new_id: st
         The fuel there now and the one picked.
     still_used : set of str
         Ids of the fuels the study's other choices burn.
+    remove : tuple of str, optional
+        Other key paths to delete in the same step.
 
     Returns
     -------
@@ -108,8 +111,8 @@ def switch_fuel(state: StudyState, paths: Sequence[str], old_id: str, new_id: st
         if new_id not in entries and old_id in entries:
             changes[f"{table}.{new_id}"] = entries[old_id]
             copied.append(table)
-    remove = _dropped(data, old_id, still_used | {new_id})
-    error = state.apply_many(changes, remove=remove)
+    error = state.apply_many(changes, remove=(*remove, *_dropped(data, old_id,
+                                                                  still_used | {new_id})))
     note = (f"<i>{esc(', '.join(copied))} of {esc(new_id)} copied from {esc(old_id)}: check "
             "them in the economics panel.</i>") if copied and error is None else ""
     return error, note
@@ -198,11 +201,21 @@ class FuelRow(widgets.VBox):
         old_id = self._slot().fuel.id
         still_used = {s.fuel.id for s in fuel_slots(study) if s.path != self.path} | {
             f.id for f in pilot_fuels(study)}
-        error, note = switch_fuel(self.state, (self.path,), old_id, new_id, still_used)
+        # a production pathway named on the option belongs to the old fuel's sheet: it goes
+        # when the new fuel has none of that name (the new fuel's [upstream] entry applies)
+        pathway = f"{self.path.split('.fuel', 1)[0]}.pathway"
+        names = study.get(pathway) if _has(study, pathway) else None
+        names = list(names.values()) if isinstance(names, dict) else [names] if names else []
+        known = {p.name for p in load_fuel(new_id).pathways}
+        dropped = (pathway,) if any(n not in known for n in names) else ()
+        error, note = switch_fuel(self.state, (self.path,), old_id, new_id, still_used,
+                                  remove=dropped)
         show_error(self.error, error)
         if error is None:
             self._refresh()
-            self.note.value = note
+            self.note.value = note + (
+                f" <i>pathway {esc(', '.join(names))} removed: {esc(new_id)} has no such "
+                "pathway, so its [upstream] entry applies.</i>" if dropped else "")
 
     def _blend_changed(self, _change: dict[str, Any]) -> None:
         if self.choice.value != BLEND:
