@@ -76,19 +76,33 @@ def test_the_class_mean_is_drawn_with_its_standard_error(fleet_study, result):
     assert 1.0 < agg.effective_vehicles <= agg.vehicles
 
 
-def test_spread_between_vehicles_widens_the_monte_carlo(fleet_study, result, monkeypatch):
+def test_spread_between_vehicles_moves_the_npv_of_options_that_convert_the_taxis(
+        fleet_study, result, monkeypatch):
     # The same study with the class mean's uncertainty drawn and without (draws=400 both,
-    # same seed): it adds variance to each candidate's NPV (a normal factor, sd > 0, on fuel).
+    # same seed: every other input draws the same numbers). The factor scales the taxis' fuel
+    # energy on every option, so it moves the NPV of each candidate that converts the taxis
+    # draw by draw, and cancels for a candidate that leaves them as they are (electric vans).
+    # (Comparing the two NPV spreads would test sampling noise: the class mean's standard
+    # error is small beside the prices' spread.)
     mc = result.monte_carlo
     assert len(mc) > 0
     from workbench.study import runner
 
     monkeypatch.setattr(runner, "_vehicle_spread", lambda plan: {})
     without = run(fleet_study, draws=400).monte_carlo
-    col = "npv_vs_baseline"
-    for cand in mc["candidate"].unique():
-        assert np.std(mc[mc["candidate"] == cand][col]) > np.std(
-            without[without["candidate"] == cand][col])
+    key = ["candidate", "draw"]
+    both = mc.merge(without, on=key, suffixes=("", "_without"))
+    assert len(both) == len(mc)
+    diff = both["npv_vs_baseline"] - both["npv_vs_baseline_without"]
+    inputs = fleet_study.inputs
+    for cand in inputs.candidates:
+        d = diff[both["candidate"] == cand.id].to_numpy()
+        if cand.per_class["taxi"].converts:
+            assert np.std(d) > 1e-3 * np.std(both.loc[both["candidate"] == cand.id,
+                                                      "npv_vs_baseline_without"])
+        else:
+            assert_allclose(d, 0.0, atol=1e-6 * np.abs(
+                both.loc[both["candidate"] == cand.id, "npv_vs_baseline"]).max())
 
 
 def test_vehicles_table_is_each_vehicle_on_the_baseline_fuel(fleet_study, result):
