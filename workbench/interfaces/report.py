@@ -249,8 +249,9 @@ def _job(result: StudyResult) -> str:
 def _summary(result: StudyResult) -> str:
     if result.candidates["is_baseline"].astype(bool).all():
         return "<p>The study has no candidate to compare.</p>"
-    parts = [f'<p class="best">{_esc(best_option(result))} {_esc(best_mix_text(result))}</p>']
-    for v in verdicts(result):
+    vs = verdicts(result)
+    parts = [f'<p class="best">{_esc(best_option(result, vs))} {_esc(best_mix_text(result))}</p>']
+    for v in vs:
         classes = "".join(f"<li>{_esc(line)}</li>" for line in v.per_class)
         em_class = ' class="raised"' if v.raises_emissions else ""
         parts.append(
@@ -327,7 +328,11 @@ def defaults_html(result: StudyResult) -> str:
     option = column_label("candidate", result.currency)
     rest = [c for c in shown.columns if c != option]
     # a default several options take alike (same class, value and source) is one row
-    shown = shown.groupby(rest, sort=False)[option].agg("; ".join).reset_index()[shown.columns]
+    rows: dict[tuple[str, ...], list[str]] = {}
+    for r in shown.to_dict("records"):
+        rows.setdefault(tuple(r[c] for c in rest), []).append(r[option])
+    shown = pd.DataFrame([{option: "; ".join(names), **dict(zip(rest, key, strict=True))}
+                          for key, names in rows.items()], columns=shown.columns)
     return ("<p>The study did not give these values; the run took typical defaults. "
             "Replace them with the fleet's own where known; a row names every option that "
             "takes it.</p>"

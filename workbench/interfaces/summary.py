@@ -10,6 +10,9 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import Any
+
+import pandas as pd
 
 from workbench.interfaces.present import money, percent, significant
 from workbench.study.results import StudyResult
@@ -97,6 +100,7 @@ def verdicts(result: StudyResult) -> list[Verdict]:
                                                                       ascending=False)
     horizon = len(result.cash_flows["year"].unique()) - 1 if len(result.cash_flows) else 0
     draws = int(result.monte_carlo["draw"].nunique()) if len(result.monte_carlo) else 0
+    per_km, battery = _rows(result.per_km), _rows(result.battery)
     out = []
     for _, row in others.iterrows():
         cid = row["candidate"]
@@ -117,7 +121,8 @@ def verdicts(result: StudyResult) -> list[Verdict]:
         emissions = (f"Well-to-wheel CO2e {co2}{' — RAISED' if co2_up else ''}; tailpipe NOx "
                      f"{nox}{' — RAISED' if nox_up else ''}, fleet average per km.")
         out.append(Verdict(cid, row["name"], word, headline, emissions, _drivers(result, cid),
-                           _breakeven(result, cid), _per_class(result, cid),
+                           _breakeven(result, cid),
+                           _per_class(result, cid, base["candidate"], per_km, battery),
                            co2_up or nox_up))
     return out
 
@@ -149,35 +154,38 @@ def _breakeven(result: StudyResult, cid: str) -> str:
     return "The NPV is zero at: " + "; ".join(parts) + "."
 
 
-def _per_class(result: StudyResult, cid: str) -> tuple[str, ...]:
-    pk = result.per_km
-    base_id = result.candidates.loc[result.candidates["is_baseline"].astype(bool),
-                                    "candidate"].iloc[0]
+def _rows(table: pd.DataFrame) -> dict[tuple[str, str], dict[str, Any]]:
+    """A table's rows by (candidate, vehicle class), for lookups in a loop (a boolean mask
+    per lookup made the panel's summary the slowest part of an edit)."""
+    return {(r["candidate"], r["vehicle_class"]): r for r in table.to_dict("records")}
+
+
+def _per_class(result: StudyResult, cid: str, base_id: str,
+               per_km: dict[tuple[str, str], dict[str, Any]],
+               battery: dict[tuple[str, str], dict[str, Any]]) -> tuple[str, ...]:
     lines = []
-    for vclass in dict.fromkeys(pk["vehicle_class"]):
-        b = pk[(pk["candidate"] == base_id) & (pk["vehicle_class"] == vclass)]
-        c = pk[(pk["candidate"] == cid) & (pk["vehicle_class"] == vclass)]
-        if b.empty or c.empty or b["fuel"].iloc[0] == c["fuel"].iloc[0]:
+    for vclass in dict.fromkeys(result.per_km["vehicle_class"]):
+        b, c = per_km.get((base_id, vclass)), per_km.get((cid, vclass))
+        if b is None or c is None or b["fuel"] == c["fuel"]:
             continue
-        b, c = b.iloc[0], c.iloc[0]
         cost, _ = _change(c["cost_per_km"], b["cost_per_km"], f"{result.currency}/km")
         co2, _ = _change(c["co2e_wtw_g_per_km"], b["co2e_wtw_g_per_km"], "g/km")
         nox, _ = _change(c["nox_g_per_km"], b["nox_g_per_km"], "g/km")
-        bat = result.battery[(result.battery["candidate"] == cid)
-                             & (result.battery["vehicle_class"] == vclass)]
-        pack = "" if bat.empty else (
-            f" Battery {significant(bat['capacity_kwh'].iloc[0])} kWh, "
-            f"{significant(bat['energy_kwh_per_km'].iloc[0])} kWh/km from the grid, payload "
-            f"lost {significant(bat['payload_loss_kg'].iloc[0])} kg.")
+        bat = battery.get((cid, vclass))
+        pack = "" if bat is None else (
+            f" Battery {significant(bat['capacity_kwh'])} kWh, "
+            f"{significant(bat['energy_kwh_per_km'])} kWh/km from the grid, payload "
+            f"lost {significant(bat['payload_loss_kg'])} kg.")
         lines.append(f"{result.names.vehicle_class(vclass)} on "
                      f"{result.names.fuel(c['fuel'])}: cost {cost}, CO2e {co2}, NOx {nox}."
                      + pack)
     return tuple(lines)
 
 
-def best_option(result: StudyResult) -> str:
-    """One sentence naming the option with the highest NPV, or keeping today's fleet."""
-    vs = verdicts(result)
+def best_option(result: StudyResult, vs: list[Verdict] | None = None) -> str:
+    """One sentence naming the option with the highest NPV, or keeping today's fleet
+    (``vs``: the result's :func:`verdicts`, when already made)."""
+    vs = verdicts(result) if vs is None else vs
     paying = [v for v in vs if v.word in ("pays", "likely pays")]
     if not paying:
         return "No candidate is likely to pay: keeping the fleet as it is costs least."

@@ -133,8 +133,9 @@ def verdict_html(result: StudyResult) -> str:
 
     Each verdict is a ``<div class="wb-verdict" data-candidate=...>``; user text is escaped.
     """
-    parts = [f"<p><b>{esc(best_option(result))}</b></p>"]
-    for v in verdicts(result):
+    vs = verdicts(result)
+    parts = [f"<p><b>{esc(best_option(result, vs))}</b></p>"]
+    for v in vs:
         colour = "#a33a00" if v.raises_emissions else "inherit"
         parts.append(f'<div class="wb-verdict" data-candidate="{esc(v.candidate)}" '
                      f'style="margin:4px 0 8px"><b>{esc(v.name)}: {esc(v.word)}.</b> '

@@ -296,7 +296,8 @@ def break_even(f: Callable[[Any], Any], x0: float | ArrayLike, *, steps: int = 4
     Notes
     -----
     Secant step: :math:`x_{k+1} = x_k - f(x_k) (x_k - x_{k-1}) / (f(x_k) - f(x_{k-1}))`;
-    a function whose last two outputs no longer differ stops moving.
+    a function whose last two outputs no longer differ stops moving, and so does one whose
+    output at the latest step is within 1e-12 of its size at the two starts (rounding).
     """
     xa = np.asarray(x0, dtype=float)
     scalar = xa.ndim == 0
@@ -306,11 +307,16 @@ def break_even(f: Callable[[Any], Any], x0: float | ArrayLike, *, steps: int = 4
 
     xb = np.where(xa != 0.0, xa * 1.25, 1.0)
     ya, yb = at(xa), at(xb)
+    scale = np.maximum(np.maximum(np.abs(ya), np.abs(yb)), 1.0)
     root = np.full(xa.shape, np.nan)
     moving = np.ones(xa.shape, dtype=bool)
-    for _ in range(steps):
+    for k in range(steps):
+        # a flat function never crosses; a root found to rounding (|f| ~ 1e-12 of the
+        # function's own size: a linear f after one step) needs no more calls
         moving &= ~(np.abs(yb - ya) <= 1e-12 * np.maximum(np.maximum(np.abs(ya), np.abs(yb)),
                                                           1.0))
+        if k:
+            moving &= ~(np.abs(yb) <= 1e-12 * scale)
         if not moving.any():
             break
         with np.errstate(divide="ignore", invalid="ignore"):
