@@ -6,7 +6,8 @@ every vehicle (read, clean, fused kernel, histograms) with one worker (in proces
 pool of two (twice: the first pool also starts the fork server the workers come from), and a
 dask ``LocalCluster`` of two single-threaded worker processes on 127.0.0.1.
 Prints wall times, throughput in raw samples per second, peak resident memory of this process
-and of the largest worker, the speed-up from 1 to 2 workers (target >= 1.7) and the time
+and of the largest dask worker (the process pool's workers are the fork server's children, out
+of this process's reach), the speed-up from 1 to 2 workers (target >= 1.7) and the time
 extrapolated to 100 vehicle-years of continuous 1 Hz data (100 x 365 x 86,400 samples). Then
 times reading one vehicle's CSV export (ISO timestamps; a plain file, read by the compiled
 reader) with ``read_batches`` against the baseline, a bare ``pandas.read_csv(file)`` of the
@@ -104,11 +105,16 @@ def _engines(args: argparse.Namespace, logs: Path, vehicle, engine_map, size_mb:
     same = abs(two.aggregate.energy_per_m / one.aggregate.energy_per_m - 1.0)
     print(f"same class result            {same:8.1e}  relative difference")
     if not args.skip_dask:
+        import dask
         from distributed import Client, LocalCluster
 
-        with LocalCluster(n_workers=2, threads_per_worker=1, processes=True, host="127.0.0.1",
-                          dashboard_address=None, env=SINGLE_THREAD_ENV) as cluster, \
-                Client(cluster) as client:
+        # dask's nanny starts workers with MALLOC_TRIM_THRESHOLD_ set, which turns off glibc's
+        # dynamic mmap threshold: every chunk-sized array is then mapped and faulted in afresh,
+        # and the pipeline ran 2-2.5x slower per vehicle (docs/fleet-logs.md)
+        with dask.config.set({"distributed.nanny.pre-spawn-environ": {}}), \
+                LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
+                             host="127.0.0.1", dashboard_address=None,
+                             env=SINGLE_THREAD_ENV) as cluster, Client(cluster) as client:
             client.run(lambda: None)
             _, t3_cold = timed(client, None)  # each worker imports the pipeline, loads numba's
             dask_run, t3 = timed(client, None)  # compiled cache: as the first pool above
@@ -120,8 +126,9 @@ def _engines(args: argparse.Namespace, logs: Path, vehicle, engine_map, size_mb:
     print(f"100 vehicle-years at 1 Hz    {target / (samples / t2) / 3600:8.2f} h with 2 workers "
           f"(extrapolated from {samples / 1e6:.0f} M samples)")
     print(f"peak memory: this process    {_peak_mb(resource.RUSAGE_SELF):8.0f} MB")
-    print(f"peak memory: largest worker  {_peak_mb(resource.RUSAGE_CHILDREN):8.0f} MB  "
-          "(target < 2 GB)")
+    if not args.skip_dask:  # the pool's workers are the fork server's children, not ours
+        print(f"peak memory: largest dask worker {_peak_mb(resource.RUSAGE_CHILDREN):4.0f} MB  "
+              "(target < 2 GB; the same pipeline as a pool worker)")
 
 
 def _best(readers: dict, repeat: int) -> dict[str, tuple[float, float]]:

@@ -212,12 +212,25 @@ def _context() -> multiprocessing.context.BaseContext:
     return ctx
 
 
+def _largest_first(jobs: list[VehicleJob]) -> list[int]:
+    """The jobs' indices, biggest file first: the longest jobs start first and the short
+    ones fill in at the end, so the workers finish together (longest-processing-time-first
+    scheduling; R. L. Graham, SIAM J. Appl. Math. 17, 1969, from memory)."""
+    def size(i: int) -> int:
+        try:
+            return os.stat(jobs[i].log.path).st_size
+        except OSError:  # read and reported by the worker
+            return 0
+
+    return sorted(range(len(jobs)), key=lambda i: -size(i))
+
+
 def _pool(jobs: list[VehicleJob], workers: int, progress: Progress | None
           ) -> list[VehicleSummary | str]:
     out: list[VehicleSummary | str | None] = [None] * len(jobs)
     with _single_thread_env(), ProcessPoolExecutor(max_workers=workers,
                                                    mp_context=_context()) as pool:
-        futures = {pool.submit(summarise_vehicle, job): i for i, job in enumerate(jobs)}
+        futures = {pool.submit(summarise_vehicle, jobs[i]): i for i in _largest_first(jobs)}
         for done, fut in enumerate(as_completed(futures), start=1):
             out[futures[fut]] = fut.result()
             if progress:
@@ -240,8 +253,9 @@ def _dask(jobs: list[VehicleJob], scheduler: Any, progress: Progress | None
         raise InputError("scheduler", f"cannot reach the dask scheduler {scheduler!r} "
                                       f"({exc.__class__.__name__}); check the address") from None
     try:
-        futures = client.map(summarise_vehicle, jobs, pure=False)
-        index = {f.key: i for i, f in enumerate(futures)}
+        order = _largest_first(jobs)
+        futures = client.map(summarise_vehicle, [jobs[i] for i in order], pure=False)
+        index = {f.key: i for i, f in zip(order, futures, strict=True)}
         out: list[VehicleSummary | str | None] = [None] * len(jobs)
         for done, fut in enumerate(dask_completed(futures), start=1):
             out[index[fut.key]] = fut.result()
